@@ -1,0 +1,158 @@
+"""Findings: the one result model every writer reads.
+
+A finding is one rule evaluated for one cap. The engine produces them as a columnar pandas frame
+(fast over 100,000 caps); :class:`Finding` is the frozen record view of one row for writers that
+iterate.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from enum import Enum
+from typing import Any
+
+import pandas as pd
+
+
+class Severity(str, Enum):
+    """Ordered severities of the brief; ``rank`` 0 is the worst."""
+
+    UNSAFE = "unsafe"
+    NON_COMPLIANT = "non-compliant"
+    QUERY = "query"
+    ADVISORY = "advisory"
+    OK = "ok"
+
+    @property
+    def rank(self) -> int:
+        return SEVERITY_ORDER.index(self.value)
+
+    @classmethod
+    def parse(cls, text: str) -> "Severity":
+        try:
+            return cls(str(text).strip().lower())
+        except ValueError:
+            raise ValueError(
+                f"unknown severity {text!r}; expected one of {', '.join(SEVERITY_ORDER)}"
+            ) from None
+
+
+SEVERITY_ORDER: tuple[str, ...] = ("unsafe", "non-compliant", "query", "advisory", "ok")
+COMMENT_SEVERITIES: tuple[str, ...] = ("unsafe", "non-compliant", "query", "advisory")
+
+FINDING_COLUMNS: tuple[str, ...] = (
+    "cap",
+    "rule",
+    "title",
+    "severity",
+    "clause",
+    "value",
+    "limit",
+    "unit",
+    "utilisation",
+    "message",
+    "action",
+    "src_file",
+    "src_sheet",
+    "src_page",
+    "src_row",
+)
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One rule for one cap. Units are the output units of the brief (mm, mm², kN, MPa, degrees)."""
+
+    cap: str
+    rule: str
+    severity: Severity
+    clause: str
+    value: float | None
+    limit: float | None
+    unit: str
+    utilisation: float | None
+    message: str
+    title: str = ""
+    action: str = ""
+    source: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def key(self) -> str:
+        """Stable comment key used across revisions: cap mark + rule id."""
+        return comment_key(self.cap, self.rule)
+
+
+def comment_key(cap: str, rule: str) -> str:
+    return f"{cap}/{rule}"
+
+
+def _none_if_nan(v: Any) -> Any:
+    if v is None:
+        return None
+    try:
+        if pd.isna(v):
+            return None
+    except (TypeError, ValueError):
+        return v
+    return v
+
+
+def source_of(row: pd.Series | dict) -> dict[str, Any]:
+    page = _none_if_nan(row.get("src_page"))
+    r = _none_if_nan(row.get("src_row"))
+    return {
+        "file": _none_if_nan(row.get("src_file")),
+        "sheet": _none_if_nan(row.get("src_sheet")),
+        "page": int(page) if page is not None else None,
+        "row": int(r) if r is not None else None,
+    }
+
+
+def describe_source(src: dict[str, Any]) -> str:
+    """'page 2, row 7' / 'sheet Caps, row 4' / 'row 4'."""
+    parts = []
+    if src.get("page") is not None:
+        parts.append(f"page {src['page']}")
+    elif src.get("sheet"):
+        parts.append(f"sheet {src['sheet']}")
+    if src.get("row") is not None:
+        parts.append(f"row {src['row']}")
+    return ", ".join(parts)
+
+
+def iter_findings(frame: pd.DataFrame):
+    """Yield :class:`Finding` records from a findings frame (in its order)."""
+    for row in frame.to_dict("records"):
+        yield Finding(
+            cap=str(row["cap"]),
+            rule=str(row["rule"]),
+            severity=Severity(row["severity"]),
+            clause=str(row["clause"]),
+            value=_none_if_nan(row["value"]),
+            limit=_none_if_nan(row["limit"]),
+            unit=str(row["unit"]),
+            utilisation=_none_if_nan(row["utilisation"]),
+            message=str(row["message"]),
+            title=str(row.get("title", "")),
+            action=str(row.get("action", "") or ""),
+            source=source_of(row),
+        )
+
+
+def sort_findings(frame: pd.DataFrame) -> pd.DataFrame:
+    """The one sort order used everywhere: severity (worst first), cap, rule."""
+    rank = frame["severity"].map({s: i for i, s in enumerate(SEVERITY_ORDER)})
+    out = frame.assign(_rank=rank).sort_values(["_rank", "cap", "rule"], kind="stable")
+    return out.drop(columns="_rank").reset_index(drop=True)
+
+
+def count_by_severity(frame: pd.DataFrame) -> dict[str, int]:
+    counts = frame["severity"].value_counts()
+    return {s: int(counts.get(s, 0)) for s in COMMENT_SEVERITIES}
+
+
+def worst_by_cap(frame: pd.DataFrame) -> pd.Series:
+    """Worst severity per cap (index: cap mark)."""
+    rank = frame["severity"].map({s: i for i, s in enumerate(SEVERITY_ORDER)})
+    worst = rank.groupby(frame["cap"], sort=False).min()
+    return worst.map(lambda i: SEVERITY_ORDER[int(i)])

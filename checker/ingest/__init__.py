@@ -1,0 +1,1 @@
+"""Reading schedules: CSV, XLSX and PDF into the canonical schedule frame."""
