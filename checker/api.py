@@ -1,12 +1,12 @@
 """Python API: ``checker.review(path_or_frame, profile=...)`` -> :class:`Review`.
 
-Filled in by the spine; writers (checker/report) and the revision cycle read a Review and never
-re-compute.
+Writers (checker/report) and the revision cycle read a Review and never re-compute.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -44,7 +44,93 @@ class Review:
         return self._working(mark)
 
     def quantity(self, mark: str, name: str) -> float:
-        idx = np.flatnonzero(self.caps["mark"].to_numpy() == mark)
+        idx = np.flatnonzero(self.caps["mark"].astype(str).to_numpy() == str(mark))
         if idx.size == 0 or name not in self.quantities:
             return float("nan")
         return float(self.quantities[name][idx[0]])
+
+    def summary(self) -> dict[str, Any]:
+        from checker.findings import count_by_severity
+
+        return {
+            "rows_read": self.rows_read,
+            "caps_checked": len(self.caps),
+            "rows_rejected": len(self.rejected),
+            "findings": count_by_severity(self.findings),
+        }
+
+
+def _numeric_params(params: dict[str, Any]) -> dict[str, float]:
+    return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
+
+
+def check_schedule(schedule, ruleset, submission: str) -> Review:
+    """Derive every quantity once, evaluate every rule, and wrap it all in a Review."""
+    from checker.ruleset.derive import derive
+    from checker.ruleset.evaluate import evaluate, working_lines
+
+    caps = schedule.caps.reset_index(drop=True)
+    params = dict(ruleset.profile.params)
+    derived = derive(caps, schedule.coords, params)
+    env: dict[str, Any] = dict(derived.q)
+    env.update(_numeric_params(params))
+    findings = evaluate(ruleset, env, caps)
+
+    marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
+    pile_xy: dict[str, np.ndarray] = {}
+    if len(caps):
+        X, Y, mask = derived.X, derived.Y, derived.mask
+        for i, m in enumerate(marks.tolist()):
+            sel = mask[i]
+            pile_xy[m] = np.column_stack([X[i][sel], Y[i][sel]])
+
+    def working(mark: str):
+        idx = np.flatnonzero(marks == str(mark))
+        if idx.size == 0:
+            return []
+        return working_lines(ruleset, env, int(idx[0]), findings[findings["cap"] == str(mark)])
+
+    return Review(
+        findings=findings,
+        caps=caps,
+        rejected=list(schedule.rejected),
+        rows_read=int(schedule.rows_read),
+        profile_name=ruleset.profile.name,
+        profile_params=params,
+        profile_sources=dict(ruleset.profile.sources),
+        rules=list(ruleset.rules),
+        submission=submission,
+        rules_dir=", ".join(ruleset.folders),
+        pile_xy=pile_xy,
+        quantities=dict(derived.q),
+        notes=list(getattr(schedule, "notes", []) or []),
+        _working=working,
+    )
+
+
+def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,
+           overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
+           coords: str | Path | None = None, pdf_strategy: str = "auto",
+           max_pages: int | None = None, progress=None) -> Review:
+    """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
+
+    Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
+    Raises ``checker.ingest.errors.IngestError`` when nothing can be read, and
+    ``checker.ruleset.loader.RuleFileError`` when a rule or profile file is refused.
+    """
+    from checker.ingest.schedule import read_schedule, schedule_from_frame
+    from checker.ruleset.loader import load_ruleset
+
+    ruleset = load_ruleset(profile, rules_dir, overrides)
+    if isinstance(source, pd.DataFrame):
+        sched = schedule_from_frame(source, mapping=mapping)
+        name = "<dataframe>"
+    else:
+        kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords}
+        if str(source).lower().endswith(".pdf"):
+            kwargs.update(pdf_strategy=pdf_strategy, max_pages=max_pages)
+            if progress is not None:
+                kwargs["progress"] = progress
+        sched = read_schedule(source, **kwargs)
+        name = Path(source).name
+    return check_schedule(sched, ruleset, name)

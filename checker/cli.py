@@ -1,0 +1,311 @@
+"""The ``capcheck`` command: argument parsing, wiring and exit codes; no engineering logic here."""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+from rich.console import Console
+from rich.text import Text
+
+from checker.findings import SEVERITY_ORDER
+
+EXIT_OK = 0            # nothing at or above --fail-on
+EXIT_FINDINGS = 1      # something at or above --fail-on
+EXIT_UNREADABLE = 2    # the input (schedule, rule file, option) cannot be read at all
+EXIT_INTERNAL = 3      # a fault in capcheck itself; the message says how to report it
+
+SAMPLE_DIR = Path(__file__).resolve().parent.parent / "sample_submissions"
+
+
+def _kv(text: str) -> tuple[str, str]:
+    if "=" not in text:
+        raise argparse.ArgumentTypeError(f"--set needs name=value, not '{text}'")
+    k, v = text.split("=", 1)
+    return k.strip(), v.strip()
+
+
+def _common(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--profile", default="uk-na", help="parameter profile: uk-na (default), ec2, or a .toml file")
+    p.add_argument("--rules", dest="rules_dir", metavar="DIR", help="folder of extra or replacement rule files and profiles")
+    p.add_argument("--set", dest="overrides", action="append", type=_kv, default=[], metavar="NAME=VALUE",
+                   help="override a profile parameter, e.g. --set pile_tolerance=100 (repeatable)")
+
+
+def _input(p: argparse.ArgumentParser) -> None:
+    p.add_argument("file", help="the schedule: .csv, .xlsx or .pdf")
+    p.add_argument("--mapping", metavar="FILE", help="TOML file mapping headings as written to capcheck fields")
+    p.add_argument("--coords", metavar="FILE", help="CSV of explicit pile coordinates: mark, x, y (mm)")
+    p.add_argument("--pdf-strategy", choices=("auto", "lines", "text"), default="auto",
+                   help="force the PDF table strategy (default: chosen per page)")
+    p.add_argument("--max-pages", type=int, default=200, help="refuse PDFs with more pages than this (default 200)")
+    p.add_argument("-q", "--quiet", action="store_true", help="no progress bar")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    ap = argparse.ArgumentParser(
+        prog="capcheck",
+        description="Independent check of reinforced-concrete pile cap schedules to EN 1992-1-1. "
+                    "An aid to a competent checking engineer, never a statement that a design is safe.",
+    )
+    sub = ap.add_subparsers(dest="command", metavar="COMMAND")
+
+    c = sub.add_parser("check", help="check a schedule and list the findings")
+    _input(c)
+    _common(c)
+    c.add_argument("--format", choices=("text", "json"), default="text", help="stdout format")
+    c.add_argument("-o", "--output", action="append", default=[], metavar="FILE",
+                   help="write a file; the format follows the extension: .json .xlsx .html .csv .md (repeatable)")
+    c.add_argument("--fail-on", choices=SEVERITY_ORDER[:-1], default="unsafe",
+                   help="exit 1 when a finding at or above this severity exists (default unsafe)")
+    c.add_argument("--all", action="store_true", help="list passed checks too")
+    c.add_argument("--working", action="store_true", help="include the working in the JSON")
+    c.add_argument("--force", action="store_true", help="overwrite existing output files")
+    c.add_argument("--previous", metavar="SHEET", help="the previous revision's comment sheet (.xlsx) to carry responses from")
+    c.add_argument("--project", metavar="FILE", help="TOML file with project, submission, revision, checker")
+    c.add_argument("--revision", help="revision label for the comment sheet")
+    c.add_argument("--checker", dest="checker_name", help="checker's name for the comment sheet")
+
+    e = sub.add_parser("explain", help="print the working of every check for one cap")
+    _input(e)
+    _common(e)
+    e.add_argument("--cap", required=True, metavar="MARK", help="the cap mark")
+
+    r = sub.add_parser("rules", help="list the loaded rules and their limits in the active profile")
+    _common(r)
+
+    k = sub.add_parser("columns", help="preview how a schedule's headings and rows are read")
+    _input(k)
+    k.add_argument("--rows", type=int, default=5, help="how many rows to show (default 5)")
+
+    d = sub.add_parser("demo", help="check the bundled sample submission and write its outputs")
+    d.add_argument("--out", metavar="DIR", help="output folder (default: a new capcheck-demo folder here)")
+    _common(d)
+    return ap
+
+
+def _progress(args, console_err: Console):
+    if getattr(args, "quiet", False) or not sys.stdout.isatty() or not str(args.file).lower().endswith(".pdf"):
+        return None, None
+    from rich.progress import BarColumn, Progress, TextColumn
+
+    prog = Progress(TextColumn("reading PDF"), BarColumn(), TextColumn("{task.completed}/{task.total} pages"),
+                    console=console_err, transient=True)
+    task = {"id": None}
+
+    def cb(done: int, total: int) -> None:
+        if total <= 3:
+            return
+        if task["id"] is None:
+            prog.start()
+            task["id"] = prog.add_task("pdf", total=total)
+        prog.update(task["id"], completed=done)
+
+    return cb, prog
+
+
+def _review(args, console_err: Console):
+    from checker.api import review
+
+    cb, prog = _progress(args, console_err)
+    try:
+        return review(args.file, profile=args.profile, rules_dir=args.rules_dir,
+                      overrides=dict(args.overrides), mapping=args.mapping, coords=args.coords,
+                      pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb)
+    finally:
+        if prog is not None:
+            prog.stop()
+
+
+def _exit_for(review, fail_on: str) -> int:
+    if len(review.caps) == 0:
+        return EXIT_UNREADABLE
+    worst_allowed = SEVERITY_ORDER.index(fail_on)
+    ranks = review.findings["severity"].map(SEVERITY_ORDER.index)
+    return EXIT_FINDINGS if (ranks <= worst_allowed).any() else EXIT_OK
+
+
+def _meta(args) -> dict:
+    meta: dict = {}
+    if getattr(args, "project", None):
+        import tomllib
+
+        try:
+            meta.update(tomllib.loads(Path(args.project).read_text(encoding="utf-8")))
+        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
+            raise _UsageError(f"--project {args.project}: cannot be read ({exc})") from None
+    if getattr(args, "revision", None):
+        meta["revision"] = args.revision
+    if getattr(args, "checker_name", None):
+        meta["checker"] = args.checker_name
+    return meta
+
+
+class _UsageError(Exception):
+    pass
+
+
+def write_files(review, paths: list[str], *, force: bool, meta: dict, previous_path: str | None,
+                console_err: Console) -> list[Path]:
+    if not paths:
+        return []
+    try:
+        from checker.report import write_outputs
+    except ImportError:
+        write_outputs = None
+    previous = None
+    if previous_path:
+        from checker.revision import carry_over, read_previous_sheet
+
+        previous = carry_over(review, read_previous_sheet(previous_path))
+    if write_outputs is not None:
+        return write_outputs(review, paths, force=force, meta=meta, previous=previous)
+    # until the sheet writers exist: JSON only
+    from checker.report.json_out import write_json
+
+    out = []
+    for p in map(Path, paths):
+        if p.suffix.lower() != ".json":
+            raise _UsageError(f"-o {p}: only .json can be written in this version")
+        if p.exists() and not force:
+            raise _UsageError(f"-o {p}: the file exists; use --force to overwrite it")
+        write_json(review, p)
+        out.append(p)
+    return out
+
+
+def cmd_check(args, out: Console, err: Console) -> int:
+    rv = _review(args, err)
+    meta = _meta(args)
+    if args.format == "json":
+        from checker.report.json_out import dumps
+
+        sys.stdout.write(dumps(rv, working=args.working) + "\n")
+    else:
+        from checker.report.terminal import print_findings
+
+        print_findings(rv, out, show_ok=args.all)
+    written = write_files(rv, args.output, force=args.force, meta=meta, previous_path=args.previous,
+                          console_err=err)
+    for p in written:
+        err.print(f"wrote {p}")
+    return _exit_for(rv, args.fail_on)
+
+
+def cmd_explain(args, out: Console, err: Console) -> int:
+    from checker.report.terminal import print_working
+
+    rv = _review(args, err)
+    marks = rv.caps["mark"].astype(str).tolist()
+    if args.cap not in marks:
+        rejected = [r for r in rv.rejected if args.cap in " ".join(r["errors"])]
+        hint = f" (it was rejected: {'; '.join(rejected[0]['errors'])})" if rejected else ""
+        err.print(Text(f"capcheck: cap '{args.cap}' is not in {rv.submission}{hint}. "
+                       f"Caps checked: {', '.join(marks[:30])}", style="red"))
+        return EXIT_UNREADABLE
+    print_working(rv, args.cap, out)
+    return EXIT_OK
+
+
+def cmd_rules(args, out: Console, err: Console) -> int:
+    from checker.report.terminal import print_rules
+    from checker.ruleset.loader import load_ruleset
+
+    rs = load_ruleset(args.profile, args.rules_dir, dict(args.overrides))
+    print_rules(rs, out)
+    return EXIT_OK
+
+
+def cmd_columns(args, out: Console, err: Console) -> int:
+    from checker.report.preview import print_preview
+
+    return print_preview(args, out, err)
+
+
+def _demo_dir(base: Path) -> Path:
+    if not base.exists():
+        return base
+    for i in range(2, 1000):
+        cand = base.with_name(f"{base.name}-{i}")
+        if not cand.exists():
+            return cand
+    raise _UsageError(f"{base}: too many demo folders here; remove some or use --out")
+
+
+def cmd_demo(args, out: Console, err: Console) -> int:
+    from checker.api import review
+    from checker.report.terminal import print_findings, print_summary
+
+    sample = SAMPLE_DIR / "harbourside-rev-A.csv"
+    if not sample.exists():
+        raise _UsageError(f"the sample submission {sample} is missing from this installation")
+    folder = Path(args.out) if args.out else _demo_dir(Path.cwd() / "capcheck-demo")
+    folder.mkdir(parents=True, exist_ok=True)
+    rv = review(sample, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides))
+    print_findings(rv, out)
+    stem = folder / "harbourside-rev-A"
+    exts = [".json", ".xlsx", ".html", ".csv", ".md"]
+    try:
+        import checker.report  # noqa: F401
+        from checker.report import write_outputs  # noqa: F401
+    except ImportError:
+        exts = [".json"]
+    meta = {"project": "Harbourside Logistics Hub (fictitious)", "revision": "A",
+            "submission": sample.name, "checker": "demo"}
+    written = write_files(rv, [str(stem) + e for e in exts], force=True, meta=meta, previous_path=None,
+                          console_err=err)
+    sample_b = SAMPLE_DIR / "harbourside-rev-B.csv"
+    sheet_a = stem.with_suffix(".xlsx")
+    if sample_b.exists() and sheet_a.exists():
+        rv_b = review(sample_b, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides))
+        stem_b = folder / "harbourside-rev-B"
+        meta_b = dict(meta, revision="B", submission=sample_b.name)
+        written += write_files(rv_b, [str(stem_b) + e for e in exts], force=True, meta=meta_b,
+                               previous_path=str(sheet_a), console_err=err)
+        out.print("\n[bold]Revision B of the sample (partly fixed):[/bold]")
+        print_summary(rv_b, out)
+    out.print(f"\n[bold]Demo outputs written to {folder}[/bold]")
+    for p in written:
+        out.print(f"  {p}")
+    return EXIT_OK
+
+
+COMMANDS = {"check": cmd_check, "explain": cmd_explain, "rules": cmd_rules, "columns": cmd_columns,
+            "demo": cmd_demo}
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not args.command:
+        parser.print_help()
+        return EXIT_UNREADABLE
+    out = Console(highlight=False)
+    err = Console(stderr=True, highlight=False)
+    from checker.ingest.errors import IngestError
+    from checker.ruleset.loader import RuleFileError
+
+    try:
+        return COMMANDS[args.command](args, out, err)
+    except (IngestError, RuleFileError, _UsageError) as exc:
+        err.print(Text.assemble(("capcheck: ", "bold red"), str(exc)))
+        return EXIT_UNREADABLE
+    except KeyboardInterrupt:
+        err.print("capcheck: interrupted")
+        return EXIT_UNREADABLE
+    except OSError as exc:
+        err.print(Text.assemble(("capcheck: ", "bold red"), f"{exc.filename or ''}: {exc.strerror or exc}"))
+        return EXIT_UNREADABLE
+    except Exception as exc:  # never a traceback for the user; CAPCHECK_DEBUG=1 shows it
+        if os.environ.get("CAPCHECK_DEBUG"):
+            raise
+        err.print(Text.assemble(("capcheck: internal error ", "bold red"),
+                                f"({type(exc).__name__}: {exc}). Nothing was written. "
+                                "Re-run with CAPCHECK_DEBUG=1 and report the output."))
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":
+    sys.exit(main())

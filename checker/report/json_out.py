@@ -1,0 +1,83 @@
+"""The JSON contract of the brief: ``capcheck.findings/1``."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+from typing import Any
+
+from checker.caution import CAUTION
+from checker.findings import count_by_severity, source_of
+
+SCHEMA = "capcheck.findings/1"
+
+
+def _num(v: Any) -> float | None:
+    if v is None:
+        return None
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    if math.isnan(f):
+        return None
+    if math.isinf(f):
+        return None
+    return round(f, 6)
+
+
+def to_document(review, *, working: bool = False) -> dict[str, Any]:
+    f = review.findings
+    results = []
+    work_by_cap: dict[str, dict[str, list[str]]] = {}
+    for row in f.to_dict("records"):
+        item = {
+            "cap": str(row["cap"]),
+            "rule": row["rule"],
+            "severity": row["severity"],
+            "clause": row["clause"],
+            "value": _num(row["value"]),
+            "limit": _num(row["limit"]),
+            "unit": row["unit"],
+            "utilisation": _num(row["utilisation"]),
+            "message": row["message"],
+            "source": source_of(row),
+        }
+        if row.get("action"):
+            item["action"] = row["action"]
+        if working:
+            cap = item["cap"]
+            if cap not in work_by_cap:
+                per_rule: dict[str, list[str]] = {}
+                for line in review.working(cap):
+                    per_rule.setdefault(line.rule, []).append(line.text.strip())
+                work_by_cap[cap] = per_rule
+            item["working"] = work_by_cap[cap].get(item["rule"], [])
+        results.append(item)
+    return {
+        "schema": SCHEMA,
+        "submission": review.submission,
+        "profile": review.profile_name,
+        "caution": CAUTION,
+        "summary": {
+            "rows_read": int(review.rows_read),
+            "caps_checked": int(len(review.caps)),
+            "rows_rejected": int(len(review.rejected)),
+            "findings": count_by_severity(f) if len(f) else {
+                "unsafe": 0, "non-compliant": 0, "query": 0, "advisory": 0},
+        },
+        "results": results,
+        "rejected": [
+            {"source": r["source"], "errors": list(r["errors"])} for r in review.rejected
+        ],
+    }
+
+
+def dumps(review, *, working: bool = False) -> str:
+    return json.dumps(to_document(review, working=working), indent=2, ensure_ascii=False)
+
+
+def write_json(review, path: Path, *, working: bool = True) -> None:
+    """Write the JSON document to ``path`` (the caller handles atomic replacement)."""
+    Path(path).write_text(dumps(review, working=working) + "\n", encoding="utf-8")

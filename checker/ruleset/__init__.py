@@ -1,0 +1,1 @@
+"""The rule engine: rule and profile files, the expression language, derivation and evaluation."""

@@ -1,0 +1,314 @@
+"""Load and check rule files and parameter profiles.
+
+Layering, lowest first: the packaged rule files and the profile (which may extend another), a
+``--rules DIR`` folder (its rule files replace packaged rules of the same id and add new ones; its
+profiles are found before the packaged ones), and ``--set name=value`` on the command line.
+Everything is checked when it loads: a refused file names the file, the rule id and the reason.
+"""
+
+from __future__ import annotations
+
+import os
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from pydantic import ValidationError
+
+from checker.findings import SEVERITY_ORDER
+from checker.ruleset.catalogue import QUANTITIES
+from checker.ruleset.expr import Expression, ExprError, compile_expression
+from checker.ruleset.schema import CheckSpec, OverrideSpec, ProfileFile, RuleFile, RuleSpec
+from checker.ruleset.templates import Template, TemplateError, parse_template
+
+MAX_RULE_FILE_BYTES = 512 * 1024
+RESULT_NAMES = {"value", "limit", "utilisation", "unit", "label", "severity"}
+
+
+class RuleFileError(ValueError):
+    """A rule or profile file was refused; the message names the file, the rule and the reason."""
+
+
+def packaged_rules_dir() -> Path:
+    """The top-level ``rules/`` folder of the project (``CAPCHECK_RULES`` overrides)."""
+    env = os.environ.get("CAPCHECK_RULES")
+    if env:
+        return Path(env)
+    here = Path(__file__).resolve().parent.parent.parent / "rules"
+    return here
+
+
+@dataclass(frozen=True)
+class CompiledCheck:
+    label: str
+    value: Expression
+    compare: str
+    limit: Expression
+    applies: Expression | None
+    message: Template | None
+    action: Template | None
+
+
+@dataclass(frozen=True)
+class CompiledOverride:
+    when: Expression
+    severity: str
+    note: str
+
+
+@dataclass(frozen=True)
+class Rule:
+    id: str
+    title: str
+    clause: str
+    severity: str
+    unit: str
+    group: str
+    applies: Expression | None
+    not_applicable: str
+    checks: tuple[CompiledCheck, ...]
+    message: Template
+    ok_message: Template | None
+    action: Template
+    working: tuple[Template, ...]
+    overrides: tuple[CompiledOverride, ...]
+    file: str
+
+    @property
+    def names(self) -> set[str]:
+        out: set[str] = set()
+        for c in self.checks:
+            out |= c.value.names | c.limit.names
+        return out
+
+
+@dataclass(frozen=True)
+class Profile:
+    name: str
+    title: str
+    params: dict[str, float | str]
+    sources: dict[str, str]
+    severity: dict[str, str] = field(default_factory=dict)
+    disable: tuple[str, ...] = ()
+    files: tuple[str, ...] = ()
+
+    def describe(self, name: str) -> str:
+        v = self.params[name]
+        src = self.sources.get(name, "")
+        return f"{name} = {v}" + (f" ({src})" if src else "")
+
+
+def _read_toml(path: Path) -> dict:
+    try:
+        size = path.stat().st_size
+    except OSError as exc:
+        raise RuleFileError(f"{path}: cannot be read ({exc.strerror})") from None
+    if size > MAX_RULE_FILE_BYTES:
+        raise RuleFileError(f"{path}: {size} bytes is larger than the {MAX_RULE_FILE_BYTES} bytes allowed")
+    try:
+        return tomllib.loads(path.read_text(encoding="utf-8"))
+    except UnicodeDecodeError:
+        raise RuleFileError(f"{path}: is not UTF-8 text") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise RuleFileError(f"{path}: not valid TOML ({exc})") from None
+    except RecursionError:
+        raise RuleFileError(f"{path}: nested too deeply") from None
+
+
+def _pydantic_reason(exc: ValidationError) -> str:
+    parts = []
+    for err in exc.errors()[:5]:
+        loc = ".".join(str(x) for x in err["loc"])
+        parts.append(f"{loc}: {err['msg']}")
+    return "; ".join(parts)
+
+
+def _rule_id_at(raw: dict, loc: tuple) -> str:
+    try:
+        if loc and loc[0] == "rule" and isinstance(loc[1], int):
+            rid = raw["rule"][loc[1]].get("id")
+            return str(rid) if rid is not None else f"rule #{loc[1] + 1}"
+    except (KeyError, IndexError, TypeError, AttributeError):
+        pass
+    return "?"
+
+
+def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
+    where = f"{file}: rule '{spec.id}'"
+
+    def expr(text: str | None, what: str) -> Expression:
+        if text is None:
+            raise RuleFileError(f"{where}: {what} is missing")
+        try:
+            return compile_expression(text, known)
+        except ExprError as exc:
+            raise RuleFileError(f"{where}: {what} '{text[:80]}' refused: {exc}") from None
+
+    def tmpl(text: str, what: str, extra: set[str] = RESULT_NAMES) -> Template:
+        try:
+            return parse_template(text, known | extra)
+        except TemplateError as exc:
+            raise RuleFileError(f"{where}: {what}: {exc}") from None
+
+    if spec.check and (spec.value or spec.limit or spec.compare):
+        raise RuleFileError(f"{where}: give either value/compare/limit or [[rule.check]] entries, not both")
+    if not spec.check and not (spec.value and spec.limit and spec.compare):
+        raise RuleFileError(f"{where}: value, compare and limit are all needed")
+    checks = []
+    for i, c in enumerate(spec.checks()):
+        label = c.label or spec.title
+        checks.append(
+            CompiledCheck(
+                label=label,
+                value=expr(c.value, f"check {i + 1} value"),
+                compare=c.compare,
+                limit=expr(c.limit, f"check {i + 1} limit"),
+                applies=expr(c.applies, f"check {i + 1} applies") if c.applies else None,
+                message=tmpl(c.message, f"check {i + 1} message") if c.message else None,
+                action=tmpl(c.action, f"check {i + 1} action") if c.action else None,
+            )
+        )
+    overrides = tuple(
+        CompiledOverride(expr(o.when, "override when"), o.severity, o.note) for o in spec.override
+    )
+    return Rule(
+        id=spec.id,
+        title=spec.title,
+        clause=spec.clause,
+        severity=spec.severity,
+        unit=spec.unit,
+        group=spec.group,
+        applies=expr(spec.applies, "applies") if spec.applies else None,
+        not_applicable=spec.not_applicable,
+        checks=tuple(checks),
+        message=tmpl(spec.message, "message"),
+        ok_message=tmpl(spec.ok_message, "ok_message") if spec.ok_message else None,
+        action=tmpl(spec.action, "action"),
+        working=tuple(tmpl(w, f"working line {i + 1}", set()) for i, w in enumerate(spec.working)),
+        overrides=overrides,
+        file=file,
+    )
+
+
+def load_rule_file(path: Path, known: set[str]) -> list[Rule]:
+    raw = _read_toml(path)
+    try:
+        spec = RuleFile.model_validate(raw)
+    except ValidationError as exc:
+        first = exc.errors()[0]
+        rid = _rule_id_at(raw, tuple(first["loc"]))
+        raise RuleFileError(f"{path}: rule '{rid}': {_pydantic_reason(exc)}") from None
+    seen: set[str] = set()
+    rules = []
+    for r in spec.rule:
+        if r.id in seen:
+            raise RuleFileError(f"{path}: rule '{r.id}': the id is used twice in this file")
+        seen.add(r.id)
+        rules.append(_compile_rule(r, known, str(path)))
+    return rules
+
+
+def _profile_paths(name_or_path: str, search: list[Path]) -> Path:
+    p = Path(name_or_path)
+    if p.suffix == ".toml" and p.exists():
+        return p
+    for folder in search:
+        cand = folder / "profiles" / f"{name_or_path}.toml"
+        if cand.exists():
+            return cand
+    names = sorted({f.stem for folder in search for f in (folder / "profiles").glob("*.toml")})
+    raise RuleFileError(f"profile '{name_or_path}' not found; available: {', '.join(names) or 'none'}")
+
+
+def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str] | None = None,
+                 _depth: int = 0) -> Profile:
+    if _depth > 5:
+        raise RuleFileError(f"profile '{name_or_path}': 'extends' goes more than 5 levels deep")
+    path = _profile_paths(name_or_path, search)
+    raw = _read_toml(path)
+    try:
+        spec = ProfileFile.model_validate(raw)
+    except ValidationError as exc:
+        raise RuleFileError(f"{path}: {_pydantic_reason(exc)}") from None
+    params: dict[str, float | str] = {}
+    sources: dict[str, str] = {}
+    severity: dict[str, str] = {}
+    disable: list[str] = []
+    files: list[str] = []
+    if spec.extends:
+        base = load_profile(spec.extends, search, None, _depth + 1)
+        params.update(base.params)
+        sources.update(base.sources)
+        severity.update(base.severity)
+        disable.extend(base.disable)
+        files.extend(base.files)
+    for k, p in spec.params.items():
+        if not k.isidentifier() or k.startswith("_"):
+            raise RuleFileError(f"{path}: parameter '{k}' is not a plain name")
+        if k in QUANTITIES:
+            raise RuleFileError(f"{path}: parameter '{k}' has the name of a schedule quantity")
+        params[k] = p.value
+        sources[k] = "; ".join(x for x in (p.clause, p.note) if x)
+    for rid, sev in spec.severity.items():
+        if sev not in SEVERITY_ORDER or sev == "ok":
+            raise RuleFileError(f"{path}: severity for '{rid}' must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        severity[rid] = sev
+    disable.extend(spec.disable)
+    files.append(str(path))
+    for k, text in (overrides or {}).items():
+        if k not in params:
+            raise RuleFileError(f"--set {k}: no such parameter in profile '{spec.name}'")
+        old = params[k]
+        if isinstance(old, str):
+            params[k] = text
+        else:
+            try:
+                params[k] = float(text)
+            except ValueError:
+                raise RuleFileError(f"--set {k}={text}: a number is needed") from None
+        sources[k] = "set on the command line"
+    return Profile(spec.name, spec.title, params, sources, severity, tuple(disable), tuple(files))
+
+
+@dataclass(frozen=True)
+class RuleSet:
+    rules: tuple[Rule, ...]
+    profile: Profile
+    folders: tuple[str, ...]
+
+    def get(self, rule_id: str) -> Rule:
+        for r in self.rules:
+            if r.id == rule_id:
+                return r
+        raise KeyError(rule_id)
+
+
+def load_ruleset(profile: str = "uk-na", rules_dir: str | Path | None = None,
+                 overrides: dict[str, str] | None = None) -> RuleSet:
+    """Load the packaged rules, then ``rules_dir`` on top, and resolve the profile."""
+    search = []
+    if rules_dir is not None:
+        extra = Path(rules_dir)
+        if not extra.is_dir():
+            raise RuleFileError(f"--rules {extra}: not a folder")
+        search.append(extra)
+    search.append(packaged_rules_dir())
+    prof = load_profile(profile, search, overrides)
+    known = set(QUANTITIES) | set(k for k, v in prof.params.items() if not isinstance(v, str))
+    by_id: dict[str, Rule] = {}
+    for folder in reversed(search):  # packaged first, user folder replaces by id
+        for f in sorted(folder.glob("*.toml")):
+            for r in load_rule_file(f, known):
+                if r.id in by_id and by_id[r.id].file.startswith(str(folder)):
+                    raise RuleFileError(f"{f}: rule '{r.id}': the id is already defined in {by_id[r.id].file}")
+                by_id[r.id] = r
+    if not by_id:
+        raise RuleFileError(f"no rule files found in {', '.join(str(s) for s in search)}")
+    rules = []
+    for r in by_id.values():
+        if r.id in prof.disable:
+            continue
+        if r.id in prof.severity:
+            r = Rule(**{**r.__dict__, "severity": prof.severity[r.id]})
+        rules.append(r)
+    return RuleSet(tuple(rules), prof, tuple(str(s) for s in search))

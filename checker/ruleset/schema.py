@@ -1,0 +1,132 @@
+"""Pydantic models of a rule file and a profile file (the declarative part of capcheck).
+
+Rule file (``rules/*.toml``)::
+
+    [[rule]]
+    id = "pile-spacing"               # stable id, part of the JSON contract
+    title = "Pile spacing"
+    clause = "common practice"        # or e.g. "EN 1992-1-1:2004 9.2.1.1(1), Eq. (9.1N)"
+    severity = "non-compliant"        # severity when the check is not met
+    unit = "mm"                       # output unit of value and limit (kN / kNm convert from N / N·mm)
+    applies = "piles >= 2"            # optional; where false the result is ok, "not applicable"
+    not_applicable = "single pile"    # the reason printed then
+    value = "spacing_min"             # what the cap has or what acts
+    compare = ">="                    # one of >=, >, <=, <
+    limit = "spacing_factor * pile_dia"
+    message = "Closest pile centres {value:.0f} mm; at least {limit:.0f} mm required"
+    action = "Increase the pile spacing to at least {limit:.0f} mm"
+    working = ["s_min = {spacing_min:.0f} mm"]
+
+A rule may instead hold several ``[[rule.check]]`` entries (each with label, value, compare, limit,
+optional applies and message); the governing check (highest utilisation) gives the result, so each
+rule still yields exactly one result per cap. ``[[rule.override]]`` entries (``when``, ``severity``,
+``note``) change the severity of a failing result where their condition holds, e.g. a failing
+anchorage becomes a query when the bar shape was not stated.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Literal
+
+from pydantic import BaseModel, ConfigDict, Field, field_validator
+
+from checker.findings import SEVERITY_ORDER
+
+RULE_ID = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
+Compare = Literal[">=", ">", "<=", "<"]
+UNITS = ("mm", "mm²", "kN", "kNm", "MPa", "degrees", "%", "count", "")
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class CheckSpec(_Strict):
+    label: str = ""
+    value: str
+    compare: Compare
+    limit: str
+    applies: str | None = None
+    message: str | None = None
+    action: str | None = None
+
+
+class OverrideSpec(_Strict):
+    when: str
+    severity: str
+    note: str = ""
+
+    @field_validator("severity")
+    @classmethod
+    def _sev(cls, v: str) -> str:
+        if v not in SEVERITY_ORDER or v == "ok":
+            raise ValueError(f"severity must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        return v
+
+
+class RuleSpec(_Strict):
+    id: str
+    title: str = Field(min_length=1, max_length=120)
+    clause: str = Field(min_length=1, max_length=200)
+    severity: str
+    unit: str = ""
+    group: str = ""
+    applies: str | None = None
+    not_applicable: str = "does not apply to this cap"
+    value: str | None = None
+    compare: Compare | None = None
+    limit: str | None = None
+    message: str = Field(default="{value} against {limit}", max_length=600)
+    ok_message: str | None = Field(default=None, max_length=600)
+    action: str = Field(default="", max_length=600)
+    working: list[str] = Field(default_factory=list, max_length=40)
+    check: list[CheckSpec] = Field(default_factory=list, max_length=12)
+    override: list[OverrideSpec] = Field(default_factory=list, max_length=8)
+
+    @field_validator("id")
+    @classmethod
+    def _id(cls, v: str) -> str:
+        if not RULE_ID.match(v) or len(v) > 40:
+            raise ValueError("a rule id is lower-case words joined by '-', e.g. 'pile-spacing'")
+        return v
+
+    @field_validator("severity")
+    @classmethod
+    def _severity(cls, v: str) -> str:
+        if v not in SEVERITY_ORDER or v == "ok":
+            raise ValueError(f"severity must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        return v
+
+    @field_validator("unit")
+    @classmethod
+    def _unit(cls, v: str) -> str:
+        if v not in UNITS:
+            allowed = ", ".join(u or "(none)" for u in UNITS)
+            raise ValueError(f"unit must be one of {allowed}")
+        return v
+
+    def checks(self) -> list[CheckSpec]:
+        """The rule's checks: the list, or the single check written at the top level."""
+        if self.check:
+            return list(self.check)
+        return [CheckSpec(value=self.value, compare=self.compare, limit=self.limit)]  # type: ignore[arg-type]
+
+
+class RuleFile(_Strict):
+    rule: list[RuleSpec] = Field(default_factory=list, max_length=200)
+
+
+class ParamSpec(_Strict):
+    value: float | str
+    clause: str = ""
+    note: str = ""
+
+
+class ProfileFile(_Strict):
+    name: str
+    title: str = ""
+    extends: str | None = None
+    params: dict[str, ParamSpec] = Field(default_factory=dict)
+    severity: dict[str, str] = Field(default_factory=dict)
+    disable: list[str] = Field(default_factory=list)
