@@ -88,8 +88,9 @@ def evaluate_rule(rule: Rule, env: dict, n: int) -> RuleResult:
     missing = USE & (np.isnan(V) | np.isnan(L))
     failing = USE & ~missing & ~OKc
     # governing check: failing first (by utilisation), then missing, then the highest utilisation
-    score = np.where(failing, 3e30 + np.nan_to_num(U, nan=0, posinf=1e30),
-                     np.where(missing, 2e30, np.where(USE, np.nan_to_num(U, nan=0, posinf=1e30), -1.0)))
+    cat = np.where(failing, 3, np.where(missing, 2, np.where(USE, 1, 0)))
+    best = cat.max(axis=0)
+    score = np.where(cat == best, np.nan_to_num(U, nan=0.0, posinf=1e300, neginf=-1e300), -np.inf)
     g = np.argmax(score, axis=0)
     cols = np.arange(n)
     any_use = USE.any(axis=0)

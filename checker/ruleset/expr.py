@@ -192,7 +192,7 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
 
     if isinstance(node, ast.Call):
         if not isinstance(node.func, ast.Name):
-            raise ExprError("only the listed functions may be called (no attribute access)")
+            raise ExprError("calling anything but the listed functions is not allowed (no attribute access)")
         fname = node.func.id
         if fname not in FUNCTIONS:
             raise ExprError(
