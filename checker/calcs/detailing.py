@@ -1,0 +1,215 @@
+"""Reinforcement quantities and detailing limits: EN 1992-1-1:2004 4.4.1, 8.2, 9.2.1.1, and the
+bending-theory alternative of reference §8 (for the working only).
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+# EN 1992-1-1:2004 Table 4.4N, cmin,dur for reinforcing steel, structural class S4 (recommended
+# values), from memory [M]. The UK NA refers to BS 8500-1 instead; these are the EN values.
+CMIN_DUR_S4 = {
+    "X0": 10.0,
+    "XC1": 15.0, "XC2": 25.0, "XC3": 25.0, "XC4": 30.0,
+    "XD1": 35.0, "XS1": 35.0,
+    "XD2": 40.0, "XS2": 40.0,
+    "XD3": 45.0, "XS3": 45.0,
+}
+_EXPOSURE_RE = re.compile(r"X0|X[CDS]\d")
+
+
+def bar_area(n, phi):
+    """Derived: area of n bars of diameter φ, n·πφ²/4
+
+    Args:
+        n: number of bars [count]
+        phi: bar diameter [mm]
+
+    Returns:
+        area [mm²]
+    """
+    phi = np.asarray(phi, dtype=float)
+    return np.asarray(n, dtype=float) * np.pi * phi * phi / 4.0
+
+
+def layer_centres(width, cover, phi, n):
+    """Derived: centres of n bars spread across a width, (width − 2·cover − φ)/(n − 1)
+
+    Args:
+        width: dimension across the bars [mm]
+        cover: side cover to the outer bars [mm]
+        phi: bar diameter [mm]
+        n: number of bars, NaN or < 2 gives NaN [count]
+
+    Returns:
+        bar centres [mm]
+    """
+    n = np.asarray(n, dtype=float)
+    gaps = np.where(n >= 2.0, n - 1.0, np.nan)
+    return (np.asarray(width, dtype=float) - 2.0 * cover - phi) / gaps
+
+
+def bar_count_from_centres(width, cover, phi, centres):
+    """Derived: bars of a layer given at stated centres, floor((width − 2·cover − φ)/s) + 1
+
+    Args:
+        width: dimension across the bars [mm]
+        cover: side cover [mm]
+        phi: bar diameter [mm]
+        centres: stated centres s [mm]
+
+    Returns:
+        number of bars [count]
+    """
+    return np.floor((np.asarray(width, dtype=float) - 2.0 * cover - phi) / centres + 1e-9) + 1.0
+
+
+def clear_spacing(centres, phi):
+    """Derived: clear distance between adjacent parallel bars, centres − φ
+
+    Args:
+        centres: bar centres [mm]
+        phi: bar diameter [mm]
+
+    Returns:
+        clear spacing [mm]
+    """
+    return np.asarray(centres, dtype=float) - phi
+
+
+def min_clear_spacing(phi, dg=20.0, k1=1.0, k2=5.0):
+    """EN 1992-1-1:2004 8.2(2)
+
+    Minimum clear spacing of bars max(k1 φ, dg + k2, 20 mm); recommended k1 = 1, k2 = 5 mm
+    [V: S14].
+
+    Args:
+        phi: bar diameter [mm]
+        dg: maximum aggregate size [mm]
+        k1: recommended 1 [-]
+        k2: recommended 5 [mm]
+
+    Returns:
+        minimum clear spacing [mm]
+    """
+    return np.maximum(np.maximum(k1 * np.asarray(phi, dtype=float), dg + k2), 20.0)
+
+
+def as_min(fctm, fyk, bt, d):
+    """EN 1992-1-1:2004 9.2.1.1(1), Eq. (9.1N)
+
+    Minimum tension reinforcement As,min = max(0.26 fctm/fyk, 0.0013) bt d [V: S5, S14].
+
+    Args:
+        fctm: mean tensile strength [MPa]
+        fyk: characteristic yield strength [MPa]
+        bt: mean width of the tension zone [mm]
+        d: effective depth [mm]
+
+    Returns:
+        As,min [mm²]
+    """
+    ratio = np.maximum(0.26 * np.asarray(fctm, dtype=float) / fyk, 0.0013)
+    return ratio * bt * np.asarray(d, dtype=float)
+
+
+def as_max(ac):
+    """EN 1992-1-1:2004 9.2.1.1(3)
+
+    Maximum tension reinforcement outside laps As,max = 0.04 Ac (recommended) [V: S14; M EN].
+
+    Args:
+        ac: concrete cross-section area [mm²]
+
+    Returns:
+        As,max [mm²]
+    """
+    return 0.04 * np.asarray(ac, dtype=float)
+
+
+def cmin_dur(exposure):
+    """EN 1992-1-1:2004 4.4.1.2(5), Table 4.4N
+
+    Minimum cover for durability cmin,dur, reinforcing steel, structural class S4 [M]: X0 10,
+    XC1 15, XC2/XC3 25, XC4 30, XD1/XS1 35, XD2/XS2 40, XD3/XS3 45 mm (from memory). Where the
+    text names several classes the largest value is taken; unknown or blank gives NaN. The UK
+    NA takes cmin,dur from BS 8500-1 instead.
+
+    Args:
+        exposure: exposure class text per cap, e.g. "XC2" or "XC2, XS1" [-]
+
+    Returns:
+        cmin,dur [mm]
+    """
+    text = np.char.upper(np.asarray(exposure, dtype=str))  # None / NaN become harmless text
+    uniq, inv = np.unique(text.ravel(), return_inverse=True)
+    vals = np.array([max([CMIN_DUR_S4.get(c, np.nan) for c in _EXPOSURE_RE.findall(u)] or [np.nan])
+                     for u in uniq], dtype=float)  # over the distinct class texts only
+    return vals[inv].reshape(text.shape)
+
+
+def nominal_cover_required(cmin_dur, phi, delta_c_dev=10.0, k1=40.0):
+    """EN 1992-1-1:2004 4.4.1.1(2), Eq. (4.1)
+
+    Cover required: cnom = cmin + Δcdev with cmin = max(cmin,b = φ, cmin,dur, 10 mm) (4.4.1.2,
+    Eq. 4.2), and for concrete cast on prepared ground including blinding cnom ≥ k1 = 40 mm
+    (4.4.1.3(4), recommended) [M]. A missing cmin,dur (no exposure class) drops that term.
+
+    Args:
+        cmin_dur: durability minimum, NaN if not known [mm]
+        phi: bar diameter for cmin,b [mm]
+        delta_c_dev: allowance for deviation, recommended 10 [mm]
+        k1: minimum nominal cover on blinding, recommended 40 [mm]
+
+    Returns:
+        cnom required [mm]
+    """
+    cmin = np.fmax(np.maximum(np.asarray(phi, dtype=float), 10.0), cmin_dur)
+    return np.maximum(cmin + delta_c_dev, k1)
+
+
+def moment_at_column_face(coord, reaction, mask, column_size):
+    """Common practice: bending moment at the column face, Σ R_i (|c_i| − c/2) on the worse side
+
+    Bending-theory alternative (reference §8; 9.8.1(2) [M]) [CP]: the cap as a wide beam
+    cantilevering from the column face, loaded by the pile reactions on one side.
+
+    Args:
+        coord: pile coordinates along the span (n, m) [mm]
+        reaction: pile reactions (n, m) [N]
+        mask: real piles (n, m) [-]
+        column_size: column dimension along the span (n,) [mm]
+
+    Returns:
+        M at the column face [N·mm]
+    """
+    lever = np.maximum(np.abs(coord) - 0.5 * np.asarray(column_size, dtype=float)[:, None], 0.0)
+    m = np.where(mask, reaction * lever, 0.0)
+    pos = np.sum(np.where(coord > 0, m, 0.0), axis=1)
+    neg = np.sum(np.where(coord < 0, m, 0.0), axis=1)
+    return np.maximum(pos, neg)
+
+
+def bending_steel(moment, b, d, fck, fyd):
+    """Common practice: rectangular-block bending steel As = M/(fyd z) (reference §8)
+
+    K = M/(b d² fck), z = d[0.5 + √(0.25 − K/1.134)] ≤ 0.95 d (Concrete Centre How-to formula)
+    [M]; NaN where K > 0.2835 (no real z; compression steel would be needed well before).
+
+    Args:
+        moment: design moment [N·mm]
+        b: width [mm]
+        d: effective depth [mm]
+        fck: characteristic cylinder strength [MPa]
+        fyd: design yield strength [MPa]
+
+    Returns:
+        As [mm²]
+    """
+    d = np.asarray(d, dtype=float)
+    K = np.asarray(moment, dtype=float) / (b * d * d * fck)
+    disc = 0.25 - K / 1.134
+    z = np.minimum(d * (0.5 + np.sqrt(np.where(disc >= 0, disc, np.nan))), 0.95 * d)
+    return moment / (fyd * z)

@@ -1,0 +1,366 @@
+"""Strut-and-tie model of a pile cap: tie forces, strut angles, node stresses and limits.
+
+Truss (product brief, reference decision 5): top node at the column centre, lever arm z = the
+effective depth d of the tie's layer, pile nodes at the pile centres, an orthogonal mesh of ties
+along x and y. The column-width allowance (the load spread over the column area, giving the
+(3l² − a²) forms) is an option, never the default.
+
+General method [D] (reference §6 derivation): split the column load into elements dN at (u, v)
+over the column area; each goes to the piles by the rigid-cap shares 1/n + u·x_i/Σx² (+ v·y_i/Σy²),
+and each element-to-pile strut has the horizontal run (x_i − u). Integrating over a column
+symmetric about its centre gives the horizontal force at pile i
+
+    H_x,i = x_i · (R_i − N·E[u²]/Σx²) / d_x,       H_y,i = y_i · (R_i − N·E[v²]/Σy²) / d_y,
+
+with E[u²] = 0 for the point node, a²/12 over a rectangle of side a, D²/16 over a circle.
+This reproduces the closed forms (tests): 2 piles N(3l² − a²)/(12 l d); 4 piles per side
+N(3l² − a²)/(24 l d); 3 piles per side of the triangle N(2l² − a²)/(18 l d) [D only, not
+published]; and with a = 0: N l/(4d), N l/(8d), N l/(9d).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+def column_second_moment(size, column_round=False):
+    """Derived: mean square offset E[u²] of a column load spread uniformly over the column
+
+    Rectangle of side a along the axis: a²/12; circle of diameter D: D²/16 [D].
+
+    Args:
+        size: column dimension along the axis considered (circle: D) [mm]
+        column_round: True for a circular column [-]
+
+    Returns:
+        E[u²] [mm²]
+    """
+    a = np.asarray(size, dtype=float)
+    return np.where(np.asarray(column_round, dtype=bool), a * a / 16.0, a * a / 12.0)
+
+
+def pile_node_force(coord, reaction, mask, n_ed, lever_arm, spread_u2=0.0):
+    """Derived: horizontal strut force at each pile node, H_i = c_i (R_i − N·E[u²]/Σc²)/z
+
+    See the module docstring for the derivation [D]. ``coord`` is the pile coordinate along
+    the tie direction measured from the column centre (x for x-ties, y for y-ties). The
+    spread term is dropped where Σc² = 0 (every pile on the other axis: c_i = 0 anyway).
+
+    Args:
+        coord: pile coordinates along the tie direction (n, m) [mm]
+        reaction: pile reactions R_i (n, m) [N]
+        mask: real piles (n, m) [-]
+        n_ed: column load that is spread over the column (n,) [N]
+        lever_arm: z = effective depth of the tie layer (n,) [mm]
+        spread_u2: E[u²] of the column load, 0 for the point node (n,) [mm²]
+
+    Returns:
+        H_i, positive outward (same sign as c_i), (n, m) [N]
+    """
+    c = np.where(mask, coord, 0.0)
+    scc = (c * c).sum(axis=1)
+    spread = np.where(scc > 0, np.asarray(n_ed, dtype=float) * spread_u2 / np.where(scc > 0, scc, 1.0), 0.0)
+    H = coord * (reaction - spread[:, None]) / np.asarray(lever_arm, dtype=float)[:, None]
+    return np.where(mask, H, np.nan)
+
+
+def tie_steel_required(tie_force, fyd):
+    """EN 1992-1-1:2004 6.5.3(1)
+
+    Tie reinforcement required, As,req = T/fyd (design strength of the tie) [M].
+
+    Args:
+        tie_force: T [N]
+        fyd: design yield strength [MPa]
+
+    Returns:
+        As,req [mm²]
+    """
+    return np.asarray(tie_force, dtype=float) / fyd
+
+
+def distinct_lines(coord, active, tol=1.0):
+    """Derived: number of distinct pile lines per cap among the active piles
+
+    Coordinates closer than ``tol`` are one line (sorted, gaps > tol start a new line) [D].
+
+    Args:
+        coord: pile coordinates across the bars (n, m) [mm]
+        active: piles to count (n, m) [-]
+        tol: merge tolerance [mm]
+
+    Returns:
+        number of lines (n,) [count]
+    """
+    s = np.sort(np.where(active, coord, np.inf), axis=1)
+    fin = np.isfinite(s)
+    new = np.ones_like(fin)
+    s0 = np.where(fin, s, 0.0)
+    new[:, 1:] = (s0[:, 1:] - s0[:, :-1]) > tol
+    return (fin & new).sum(axis=1).astype(float)
+
+
+def tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, cover):
+    """Common practice: steel counted in a tie row, BS 8110 3.11.4.2 distribution (reference G5)
+
+    Where the pile spacing is at most 3φ the whole layer is shared equally between the tie
+    rows; otherwise only the bars within 1.5φ each side of the pile line count (reference §4 G5,
+    §6; [V: S15, S16], 9.8.1(3) [M]) [CP]. Uniformly spaced bars are assumed: the band's share is
+    As_total × (band width inside the bar spread) / (bar spread W − 2·cover).
+    Bands of rows closer than 3φ are not merged (a possible double count, e.g. the y-rows of a
+    3-pile cap with s/2 < 3φ).
+
+    Args:
+        row_coord: coordinate of the row's pile line across the bars (n, m) [mm]
+        as_total: area of the whole layer (n,) [mm²]
+        rows: number of tie rows in the direction (n,) [count]
+        spacing_le_3phi: 1.0 where the least pile spacing ≤ 3φ (n,) [-]
+        pile_dia: pile diameter φ (n,) [mm]
+        width: cap dimension across the bars (W for x bars) (n,) [mm]
+        cover: side cover to the bar ends (n,) [mm]
+
+    Returns:
+        steel counted for the row of each pile, (n, m) [mm²]
+    """
+    half = (0.5 * np.asarray(width, dtype=float) - cover)[:, None]
+    b = (1.5 * np.asarray(pile_dia, dtype=float))[:, None]
+    band = np.clip(row_coord + b, -half, half) - np.clip(row_coord - b, -half, half)
+    band_share = as_total[:, None] * band / (2.0 * half)
+    rows_s = np.where(rows > 0, rows, np.nan)
+    equal_share = (as_total / rows_s)[:, None]
+    return np.where(np.asarray(spacing_le_3phi, dtype=bool)[:, None], equal_share, band_share)
+
+
+def tie_rows_check(H, row_coord, mask, as_total, fyd, spacing_le_3phi, pile_dia, width, cover,
+                   tol=1.0):
+    """Common practice: tie rows of one direction and the governing row's utilisation
+
+    The rows are the distinct pile lines (coordinate across the bars, merged within ``tol``)
+    that carry a horizontal force H ≠ 0. A row's tie force is the largest |H| at its piles;
+    its steel is :func:`tie_band_steel`; utilisation T_row/(fyd As_row). The governing row is
+    the one with the largest utilisation [CP].
+
+    Args:
+        H: horizontal node forces along the tie direction (n, m) [N]
+        row_coord: pile coordinates across the bars (n, m) [mm]
+        mask: real piles (n, m) [-]
+        as_total: area of the whole layer (n,) [mm²]
+        fyd: design yield strength (n,) [MPa]
+        spacing_le_3phi: 1.0 where the least pile spacing ≤ 3φ (n,) [-]
+        pile_dia, width, cover: as :func:`tie_band_steel` (n,) [mm]
+        tol: merge tolerance for pile lines [mm]
+
+    Returns:
+        dict of (n,) arrays: ``T`` governing row force [N], ``as_req`` [mm²], ``as_prov`` [mm²],
+        ``util`` [-], ``rows`` [count], ``t_total`` sum of the row forces [N];
+        NaN (rows 0) where the direction has no tie
+    """
+    absH = np.abs(H)
+    active = mask & np.isfinite(absH) & (absH > 0.0)
+    rows = distinct_lines(row_coord, active, tol)
+    rc = np.where(active, row_coord, np.nan)
+    aH = np.where(active, absH, 0.0)
+    t_row = np.zeros_like(aH)  # the row force seen at pile i: max |H| over its row
+    first = active.copy()       # one representative pile per row (the first slot of the line)
+    buf = np.empty_like(aH)
+    same = np.empty_like(aH, dtype=bool)
+    for j in range(H.shape[1]):  # over pile slots (at most a few), never over caps
+        np.subtract(rc[:, j:j + 1], rc, out=buf)
+        np.abs(buf, out=buf)
+        np.less_equal(buf, tol, out=same)
+        np.maximum(t_row, aH[:, j:j + 1], out=t_row, where=same)
+        first[:, j + 1:] &= ~same[:, j + 1:]
+    as_row = tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, cover)
+    fyd = np.asarray(fyd, dtype=float)
+    util = t_row / (fyd[:, None] * as_row)
+    key = np.where(active, np.where(np.isnan(util), np.inf, util), -np.inf)
+    g = np.argmax(key, axis=1)[:, None]
+    has = rows > 0
+    T = np.where(has, np.take_along_axis(t_row, g, axis=1)[:, 0], np.nan)
+    as_prov = np.where(has, np.take_along_axis(as_row, g, axis=1)[:, 0], np.nan)
+    u = np.where(has, np.take_along_axis(util, g, axis=1)[:, 0], np.nan)
+    t_total = np.where(has, np.sum(np.where(first, t_row, 0.0), axis=1), np.nan)
+    return {"T": T, "as_req": tie_steel_required(T, fyd), "as_prov": as_prov, "util": u,
+            "rows": rows, "t_total": t_total}
+
+
+def resolve_onto_ties(hx, hy, u1x, u1y, u2x, u2y):
+    """Derived: resolve a node's outward horizontal force onto two ties meeting at the node
+
+    Solves T1·u1 + T2·u2 = −H, with u1, u2 unit vectors from the node along the ties (towards
+    the neighbouring nodes); tension positive [D]. For an equilateral triangle the two ties
+    make 60° and T = F/√3 for an outward radial force F (2 T cos 30° = F).
+
+    Args:
+        hx, hy: outward horizontal force at the node [N]
+        u1x, u1y: unit vector along tie 1 [-]
+        u2x, u2y: unit vector along tie 2 [-]
+
+    Returns:
+        (T1, T2) tie forces [N]
+    """
+    det = u1x * u2y - u1y * u2x
+    t1 = (-hx * u2y + hy * u2x) / det
+    t2 = (-hy * u1x + hx * u1y) / det
+    return t1, t2
+
+
+def triangle_side_ties(X, Y, Hx, Hy):
+    """Derived: tie forces along the three sides of a 3-pile cap from the pile-node forces
+
+    Each pile node's horizontal force (Hx, Hy) is resolved onto the two sides meeting there
+    (:func:`resolve_onto_ties`); a side's force is the larger of its two end values [D]. For
+    the equilateral layout with the point node this gives N l/(9d) per side; with the column
+    allowance N(2l² − a²)/(18 l d) [D only].
+
+    Args:
+        X, Y: centres of the three piles (n, 3) [mm]
+        Hx, Hy: node forces (n, 3) [N]
+
+    Returns:
+        side forces (n, 3), side k joining piles k and k+1 (mod 3) [N]
+    """
+    ends = []
+    for i in range(3):  # the three corners of a triangle, not caps
+        j, k = (i + 1) % 3, (i + 2) % 3
+        e1x, e1y = X[:, j] - X[:, i], Y[:, j] - Y[:, i]
+        e2x, e2y = X[:, k] - X[:, i], Y[:, k] - Y[:, i]
+        l1, l2 = np.hypot(e1x, e1y), np.hypot(e2x, e2y)
+        t1, t2 = resolve_onto_ties(Hx[:, i], Hy[:, i], e1x / l1, e1y / l1, e2x / l2, e2y / l2)
+        ends.append((t1, t2))  # t1 on side (i, j), t2 on side (k, i)
+    # side s joins s and s+1: seen from corner s as its t1, from corner s+1 as its t2
+    sides = [np.fmax(ends[s][0], ends[(s + 1) % 3][1]) for s in range(3)]
+    return np.stack(sides, axis=1)
+
+
+def strut_angle(radial_distance, lever_arm):
+    """Derived: inclination of the strut from the top node to a pile node, θ = atan(z/r)
+
+    Reference §6: θ = atan(d / horizontal run to the pile centre) [D]; 90° for a pile under
+    the column centre.
+
+    Args:
+        radial_distance: horizontal run r_i from the column centre to the pile centre [mm]
+        lever_arm: z [mm]
+
+    Returns:
+        θ [degrees]
+    """
+    return np.degrees(np.arctan2(np.asarray(lever_arm, dtype=float), radial_distance))
+
+
+def cot_theta(theta_deg):
+    """Derived: cot θ of a strut angle (compared with the cot θ ≤ 2.5 practice limit)
+
+    Args:
+        theta_deg: strut angle [degrees]
+
+    Returns:
+        cot θ [-]
+    """
+    t = np.radians(np.asarray(theta_deg, dtype=float))
+    return np.cos(t) / np.sin(t)
+
+
+def column_area(column_x, column_y, column_round=False):
+    """Derived: plan area of the column, cx·cy or πD²/4
+
+    Args:
+        column_x, column_y: column dimensions (circle: D) [mm]
+        column_round: True for a circular column [-]
+
+    Returns:
+        A_col [mm²]
+    """
+    cx = np.asarray(column_x, dtype=float)
+    return np.where(np.asarray(column_round, dtype=bool), np.pi * cx * cx / 4.0,
+                    cx * np.asarray(column_y, dtype=float))
+
+
+def pile_design_diameter(d_nom, uncased=False):
+    """EN 1992-1-1:2004 2.3.4.2(2)
+
+    Design diameter of cast-in-place piles without permanent casing [V: S25]: d_nom − 20 for
+    d_nom < 400; 0.95 d_nom for 400 ≤ d_nom ≤ 1000; d_nom − 50 above. Other piles: d_nom
+    (reference decision 8).
+
+    Args:
+        d_nom: nominal (stated) pile diameter [mm]
+        uncased: True for a cast-in-place pile without permanent casing [-]
+
+    Returns:
+        design diameter [mm]
+    """
+    d = np.asarray(d_nom, dtype=float)
+    red = np.where(d < 400.0, d - 20.0, np.where(d <= 1000.0, 0.95 * d, d - 50.0))
+    return np.where(np.asarray(uncased, dtype=bool), red, d)
+
+
+def bearing_stress(force, area):
+    """EN 1992-1-1:2004 6.5.4(4)
+
+    Node bearing stress on a loaded face, σ = F/A (the stress compared with σRd,max) [M].
+
+    Args:
+        force: force on the face [N]
+        area: face area [mm²]
+
+    Returns:
+        σ [MPa]
+    """
+    return np.asarray(force, dtype=float) / area
+
+
+def strut_face_stress(force, area, theta_deg):
+    """Derived: node stress on the face normal to an inclined strut, σ = F/(A sin²θ)
+
+    A strut of force C = F/sinθ reaching a horizontal node face A meets it over A·sinθ
+    normal to its axis, so σ = F/(A sin²θ) (reference decision 6) [D]. It rises as the strut
+    flattens.
+
+    Args:
+        force: vertical force on the node (pile reaction, column load) [N]
+        area: horizontal node face (pile head, column) [mm²]
+        theta_deg: strut inclination to the horizontal [degrees]
+
+    Returns:
+        σ [MPa]
+    """
+    s = np.sin(np.radians(np.asarray(theta_deg, dtype=float)))
+    return np.asarray(force, dtype=float) / (area * s * s)
+
+
+def node_limit(k, nu_prime, fcd):
+    """EN 1992-1-1:2004 6.5.4(4), Eq. (6.60)
+
+    Design strength of a node, σRd,max = k ν' fcd; k1 = 1.0 (CCC, Eq. 6.60), k2 = 0.85 (CCT,
+    Eq. 6.61), k3 = 0.75 (CTT, Eq. 6.62), recommended values [V: S22; M for the NA entry].
+
+    Args:
+        k: node factor k1, k2 or k3 [-]
+        nu_prime: ν' = 1 − fck/250 [-]
+        fcd: design compressive strength (αcc = alpha_cc_flex) [MPa]
+
+    Returns:
+        σRd,max [MPa]
+    """
+    return k * np.asarray(nu_prime, dtype=float) * fcd
+
+
+def pile_node_factor(n_piles, k1=1.0, k2=0.85, k3=0.75):
+    """EN 1992-1-1:2004 6.5.4(4)
+
+    Node factor for the pile node (reference decision 6): CCT (k2) where the ties are anchored
+    in one direction (2-pile caps), CTT (k3) where they are anchored in two (3 to 6 piles).
+    A 1-pile cap anchors no tie at the pile: CCC (k1) [D].
+
+    Args:
+        n_piles: number of piles [count]
+        k1, k2, k3: node factors, recommended 1.0 / 0.85 / 0.75 [-]
+
+    Returns:
+        k [-] (NaN where n_piles is NaN)
+    """
+    n = np.asarray(n_piles, dtype=float)
+    k = np.where(n <= 1.0, k1, np.where(n <= 2.0, k2, k3))
+    return np.where(np.isnan(n), np.nan, k)
