@@ -1,0 +1,687 @@
+"""RawTable(s) -> the canonical schedule frame (DEVELOPERS.md) and the rejected rows.
+
+Column by column: headings are mapped (:mod:`checker.ingest.headings`), numeric columns are
+converted with pandas (only the cells pandas cannot read go through the parsers, each distinct text
+once), notation columns map their distinct values through :mod:`checker.ingest.notation`. A
+combined ``L x W x D`` column is split, spacing forms of bar notation get their bar count
+(:func:`~checker.ingest.notation.bars_from_spacing`), defaults are applied (fyk 500), units are
+converted to internal units, provenance columns are attached and the frame goes through
+:func:`checker.model.validate_frame`.
+
+A row with bad cells is rejected with all its reasons; the other rows go on. Each reason names the
+field, the heading as written and the cell value. A repeated mark rejects the later row.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from typing import Any, Callable, Iterable, Sequence
+
+import numpy as np
+import pandas as pd
+
+from checker.ingest.headings import (
+    SCHEDULE_FIELDS,
+    HeadingMap,
+    HeadingReport,
+    match_headings,
+    resolve_mapping,
+)
+from checker.ingest.notation import (
+    BLANK_TEXT,
+    NotationError,
+    bars_from_spacing,
+    clean_text,
+    concrete_from_fck,
+    parse_bars,
+    parse_column,
+    parse_concrete,
+    parse_number,
+    parse_size,
+    parse_steel_grade,
+)
+from checker.ingest.raw import RawTable
+from checker.model import FIELDS, FRAME_COLUMNS, validate_frame
+
+#: fields a schedule must give (pile_spacing only for 2 or more piles; the model checks that)
+REQUIRED_SOURCES: tuple[str, ...] = (
+    "mark", "piles", "pile_dia", "cap_length", "cap_width", "cap_depth", "column", "n_ed", "concrete",
+    "cover", "bars_x", "bars_y",
+)
+
+#: model field -> the ingest fields it is derived from (its errors are not repeated when they fail)
+DERIVED_FROM: dict[str, tuple[str, ...]] = {
+    "nx": ("bars_x", "cap_width", "cover"), "phi_x": ("bars_x",), "sx": ("bars_x",),
+    "ny": ("bars_y", "cap_length", "cover"), "phi_y": ("bars_y",), "sy": ("bars_y",),
+    "column_x": ("column",), "column_y": ("column",), "column_round": ("column",),
+    "fck": ("concrete",), "concrete": ("fck",),
+    "cap_length": ("size", "plan"), "cap_width": ("size", "plan"), "cap_depth": ("size",),
+}
+
+_TEXT_FIELDS = ("mark", "exposure", "pile_type", "method")
+_NUMERIC_KINDS = ("length", "force", "moment", "stress", "area", "count")
+_BAR_ENDS = {
+    **dict.fromkeys(("straight", "str", "straight bars", "none"), "straight"),
+    **dict.fromkeys(("bent", "bent up", "bent-up", "bend", "bends", "l", "l-bar", "l-bars", "l bars", "u",
+                     "u-bar", "u-bars", "u bars", "bob", "bobbed"), "bent"),
+    **dict.fromkeys(("hooked", "hook", "hooks", "hooked bars"), "hooked"),
+}
+
+
+@dataclass
+class _Errors:
+    """Row problems collected column-wise: (field, row positions, messages)."""
+
+    items: list[tuple[str, np.ndarray, list[str]]] = field(default_factory=list)
+
+    def add(self, fld: str, rows: Iterable[int] | np.ndarray, msgs: Sequence[str]) -> None:
+        rows = np.asarray(list(rows) if not isinstance(rows, np.ndarray) else rows, dtype=np.int64)
+        if rows.size:
+            self.items.append((fld, rows, list(msgs)))
+
+    def fields_by_row(self) -> dict[int, set[str]]:
+        out: dict[int, set[str]] = {}
+        for fld, rows, _ in self.items:
+            for r in rows.tolist():
+                out.setdefault(r, set()).add(fld)
+        return out
+
+
+@dataclass
+class FrameResult:
+    caps: pd.DataFrame                  # canonical frame, index 0..n-1
+    rejected: list[dict]                # {"source": {...}, "errors": [...]}
+    reports: list[HeadingReport]        # heading matches, one per table
+    notes: list[str]
+    rows_read: int
+
+
+# --------------------------------------------------------------------------------------------
+# Column converters (each distinct value parsed once)
+# --------------------------------------------------------------------------------------------
+
+
+def _factorize(col: pd.Series) -> tuple[np.ndarray, np.ndarray]:
+    try:
+        return pd.factorize(col.astype(object), use_na_sentinel=True)
+    except TypeError:                                   # unhashable cells: compare as text
+        return pd.factorize(col.map(lambda v: v if v is None else str(v)), use_na_sentinel=True)
+
+
+def _is_blank(v: Any) -> bool:
+    if v is None:
+        return True
+    if isinstance(v, float):
+        return v != v
+    if isinstance(v, str):
+        t = v.strip()
+        if len(t) > 6:                      # the placeholders are short
+            return False
+        if t.isascii():
+            return t.lower() in BLANK_TEXT
+        return clean_text(t).lower() in BLANK_TEXT
+    try:
+        return bool(pd.isna(v))
+    except (TypeError, ValueError):
+        return False
+
+
+def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int
+                ) -> tuple[list[np.ndarray], np.ndarray, np.ndarray, list[str | None]]:
+    """Apply ``fn`` (returning a tuple of ``width`` values) to each distinct non-blank cell.
+
+    Returns (arrays per output, blank mask, codes, error text per distinct value).
+    """
+    codes, uniq = _factorize(col)
+    outs = [np.empty(len(uniq) + 1, dtype=object) for _ in range(width)]
+    for o in outs:
+        o[:] = None
+    errs: list[str | None] = [None] * (len(uniq) + 1)
+    blank_u = np.zeros(len(uniq) + 1, dtype=bool)
+    blank_u[-1] = True
+    for k, u in enumerate(uniq):
+        if _is_blank(u):
+            blank_u[k] = True
+            continue
+        try:
+            res = fn(u)
+        except NotationError as exc:
+            errs[k] = str(exc)
+            continue
+        for o, v in zip(outs, res):
+            o[k] = v
+    return [o[codes] for o in outs], blank_u[codes], codes, errs
+
+
+def _error_rows(codes: np.ndarray, errs: list[str | None]) -> tuple[np.ndarray, list[str]]:
+    bad_u = np.array([e is not None for e in errs], dtype=bool)
+    rows = np.flatnonzero(bad_u[codes])
+    return rows, [errs[c] for c in codes[rows]]  # type: ignore[misc]
+
+
+def _numeric(col: pd.Series, kind: str, scale: float) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """A numeric column -> (values in internal units, error row positions, error texts)."""
+    if col.dtype.kind in "fiu":
+        return col.to_numpy(dtype=float) * scale, np.empty(0, np.int64), []
+    inferred = pd.api.types.infer_dtype(col, skipna=True)
+    if inferred in ("integer", "floating", "mixed-integer-float", "empty"):
+        return pd.to_numeric(col, errors="coerce").to_numpy(dtype=float) * scale, np.empty(0, np.int64), []
+    obj = col.astype(object)
+    num = pd.to_numeric(obj, errors="coerce").to_numpy(dtype=float) * scale
+    left = np.isnan(num) & obj.notna().to_numpy()
+    if inferred not in ("string",):                      # bools and dates are not figures
+        odd = obj.map(lambda v: isinstance(v, (bool, np.bool_)) or hasattr(v, "year")).to_numpy(dtype=bool)
+        left |= odd
+        num[odd] = np.nan
+    if not left.any():
+        return num, np.empty(0, np.int64), []
+    idx = np.flatnonzero(left)
+    sub = obj.iloc[idx]
+
+    def one(v: Any) -> tuple[float]:
+        if isinstance(v, (bool, np.bool_)) or hasattr(v, "year"):
+            raise NotationError(f"{str(v)!r} is not a number")
+        return (parse_number(v if isinstance(v, str) else v, kind, scale),)
+
+    (vals,), blank, codes, errs = _map_unique(sub, one, 1)
+    num[idx] = np.where(blank, np.nan, pd.to_numeric(pd.Series(vals, dtype=object), errors="coerce"))
+    erows, emsgs = _error_rows(codes, errs)
+    return num, idx[erows], emsgs
+
+
+def _text(v: Any) -> str:
+    if isinstance(v, float) and v == int(v) and abs(v) < 1e15:
+        return str(int(v))
+    if isinstance(v, str):
+        if v.isascii() and "  " not in v and "\t" not in v and "\n" not in v:
+            return v.strip()
+        return clean_text(v)
+    return clean_text(v)
+
+
+def _text_column(col: pd.Series, transform: Callable[[str], str] | None = None
+                 ) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    def one(v: Any) -> tuple[str]:
+        t = _text(v)
+        return ((transform(t) if transform else t),)
+
+    (vals,), blank, codes, errs = _map_unique(col, one, 1)
+    vals = np.where(blank, "", vals)
+    erows, emsgs = _error_rows(codes, errs)
+    return vals.astype(object), erows, emsgs
+
+
+def _bar_ends(text: str) -> str:
+    key = " ".join(text.lower().replace("_", " ").split())
+    if key in _BAR_ENDS:
+        return _BAR_ENDS[key]
+    raise NotationError(f"{text!r} is not a bar end detail; expected straight, bent or hooked")
+
+
+# --------------------------------------------------------------------------------------------
+# One table
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass
+class _Parsed:
+    values: dict[str, np.ndarray]       # canonical field (and '_text_*' helpers) -> array
+    given: dict[str, np.ndarray]        # ingest field -> cell not blank
+    errors: _Errors
+    labels: dict[str, str]              # ingest/model field -> label for messages
+    n: int
+
+
+def _label(fld: str, heading: str | None) -> str:
+    return f"{fld} (column {heading!r})" if heading else fld
+
+
+def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
+    """Parse the mapped columns of one table. ``cells`` columns are positions 0..k-1."""
+    n = len(cells)
+    errors = _Errors()
+    values: dict[str, np.ndarray] = {}
+    given: dict[str, np.ndarray] = {}
+    labels: dict[str, str] = {}
+    nan = np.full(n, np.nan)
+
+    def err(fld: str, rows: np.ndarray, msgs: Sequence[str]) -> None:
+        errors.add(fld, rows, [f"{labels[fld]}: {m}" for m in msgs])
+
+    for m in report.matches:
+        fld, kind = m.field, SCHEDULE_FIELDS[m.field]
+        col = cells.iloc[:, m.column]
+        labels[fld] = _label(fld, m.heading)
+        if kind in _NUMERIC_KINDS and fld not in ("column", "size", "plan"):
+            v, rows, msgs = _steel(col) if fld == "fyk" else _numeric(col, kind, m.scale)
+            values[fld] = v
+            given[fld] = ~np.isnan(v)
+            given[fld][rows] = True
+            err(fld, rows, msgs)
+        elif fld in _TEXT_FIELDS or fld == "bar_ends":
+            transform = {"exposure": str.upper, "bar_ends": _bar_ends}.get(fld)
+            v, rows, msgs = _text_column(col, transform)
+            values[fld] = v
+            given[fld] = v != ""
+            given[fld][rows] = True
+            err(fld, rows, msgs)
+        elif fld == "concrete":
+            (name, fck), blank, codes, errs = _map_unique(col, lambda u: tuple(parse_concrete(u)[:2]), 2)
+            values["concrete"] = _texts(name)
+            values["_fck_class"] = _floats(fck)
+            given[fld] = ~blank
+            err(fld, *_error_rows(codes, errs))
+        elif fld in ("bars_x", "bars_y"):
+            suffix = fld[-1]
+
+            def bar(u: Any) -> tuple:
+                spec = parse_bars(u)
+                return (_text(u), spec.count, spec.dia, spec.centres)
+
+            (text, count, dia, centres), blank, codes, errs = _map_unique(col, bar, 4)
+            values[fld] = _texts(text)
+            values[f"_text_{fld}"] = _texts(_as_text(col, codes, blank))
+            values[f"_count_{suffix}"] = _floats(count)
+            values[f"phi_{suffix}"] = _floats(dia)
+            values[f"s{suffix}"] = _floats(centres)
+            given[fld] = ~blank
+            err(fld, *_error_rows(codes, errs))
+        elif fld == "column":
+            (cx, cy, rnd), blank, codes, errs = _map_unique(col, lambda u: tuple(parse_column(u, m.scale)), 3)
+            values["_col_x"], values["_col_y"] = _floats(cx), _floats(cy)
+            values["_col_round"] = pd.Series(rnd, dtype=object).eq(True).to_numpy(dtype=bool)
+            values["_text_column"] = _texts(_as_text(col, codes, blank))
+            given[fld] = ~blank
+            err(fld, *_error_rows(codes, errs))
+        elif fld in ("size", "plan"):
+            parts = 3 if fld == "size" else 2
+            outs, blank, codes, errs = _map_unique(col, lambda u: parse_size(u, m.scale, parts), parts)
+            for name, arr in zip(("cap_length", "cap_width", "cap_depth"), outs):
+                values[f"_{fld}_{name}"] = _floats(arr)
+            given[fld] = ~blank
+            err(fld, *_error_rows(codes, errs))
+
+    # ---- combined and derived fields -------------------------------------------------------
+    out: dict[str, np.ndarray] = {}
+    for f in ("piles", "pile_dia", "pile_spacing", "n_ed", "mx_ed", "my_ed", "cover", "embedment",
+              "pile_capacity", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y"):
+        out[f] = values.get(f, nan).copy()
+    for f in ("cap_length", "cap_width", "cap_depth"):
+        v = values.get(f, nan).copy()
+        for combo in ("size", "plan"):
+            alt = values.get(f"_{combo}_{f}")
+            if alt is None:
+                continue
+            both = ~np.isnan(v) & ~np.isnan(alt) & ~np.isclose(v, alt)
+            if both.any():
+                rows = np.flatnonzero(both)
+                err(f, rows, [f"{_fmtn(v[r])} mm disagrees with {_fmtn(alt[r])} mm in {labels[combo]}"
+                              for r in rows])
+            v = np.where(np.isnan(v), alt, v)
+            labels.setdefault(f, labels[combo])
+        out[f] = v
+    if "_col_x" in values:
+        out["column_x"], out["column_y"] = values["_col_x"], values["_col_y"]
+        for f in ("column_x", "column_y"):
+            if f in values:
+                out[f] = np.where(np.isnan(out[f]), values[f], out[f])
+        out["column_round"] = values["_col_round"]
+        out["_text_column"] = values["_text_column"]
+    else:
+        out["column_x"] = values.get("column_x", nan)
+        out["column_y"] = values.get("column_y", nan)
+        out["column_round"] = np.zeros(n, dtype=bool)
+        if "column_x" in values or "column_y" in values:
+            given["column"] = ~np.isnan(out["column_x"]) | ~np.isnan(out["column_y"])
+            labels["column"] = labels.get("column_x") or labels["column_y"]
+    for f in ("column_x", "column_y", "column_round"):
+        if "column" in labels:
+            labels.setdefault(f, f"{f} (column {_heading_of(labels['column'])!r})")
+    # concrete and fck: the class gives fck; a bare fck column gives the class
+    fck_col = values.get("fck")
+    if "concrete" in values:
+        out["concrete"] = values["concrete"]
+        cls_fck = values["_fck_class"]
+        out["fck"] = cls_fck if fck_col is None else np.where(np.isnan(fck_col), cls_fck, fck_col)
+    elif fck_col is not None:
+        lookup: dict[float, str] = {}
+        for u in pd.unique(fck_col[~np.isnan(fck_col)]):
+            try:
+                lookup[u] = concrete_from_fck(u).name
+            except NotationError as exc:
+                rows = np.flatnonzero(fck_col == u)
+                err("fck", rows, [str(exc)] * rows.size)
+        out["concrete"] = pd.Series(fck_col).map(lookup).fillna("").to_numpy(dtype=object)
+        out["fck"] = fck_col
+        given["concrete"] = ~np.isnan(fck_col)
+        labels["concrete"] = labels["fck"]
+    else:
+        out["concrete"], out["fck"] = np.full(n, "", dtype=object), nan
+    out["fyk"] = np.where(np.isnan(values["fyk"]), 500.0, values["fyk"]) if "fyk" in values else np.full(n, 500.0)
+    for f in ("exposure", "pile_type", "method", "bar_ends", "mark"):
+        out[f] = values.get(f, np.full(n, "", dtype=object))
+    for s, width_field in (("x", "cap_width"), ("y", "cap_length")):
+        bars = f"bars_{s}"
+        out[bars] = values.get(bars, np.full(n, "", dtype=object))
+        if bars in values:
+            out[f"_text_{bars}"] = values[f"_text_{bars}"]
+        count = values.get(f"_count_{s}", nan)
+        phi = values.get(f"phi_{s}", nan)
+        cen = values.get(f"s{s}", nan)
+        derived = bars_from_spacing(out[width_field], out["cover"], phi, cen)
+        out[f"n{s}"] = np.where(np.isnan(count), derived, count)
+        out[f"phi_{s}"], out[f"s{s}"] = phi, cen
+    for f in REQUIRED_SOURCES:
+        if f in ("cap_length", "cap_width", "cap_depth"):
+            given[f] = ~np.isnan(out[f])
+    return _Parsed(out, given, errors, labels, n)
+
+
+def _required_missing(f: str, have: np.ndarray, has_col: np.ndarray, labels: dict[str, str],
+                      errors: _Errors) -> None:
+    """Blank required cells, or no column for a required field, as row errors."""
+    blank = np.flatnonzero(~have & has_col)
+    nocol = np.flatnonzero(~have & ~has_col)
+    lab = labels.get(f, f)
+    if f in ("cap_length", "cap_width", "cap_depth") and lab.startswith(("size ", "plan ")):
+        fld, msg = lab.split(" ", 1)[0], f"{lab}: missing"
+    else:
+        fld, msg = f, f"{lab}: missing"
+    errors.add(fld, blank, [msg] * blank.size)
+    errors.add(f, nocol, [f"{f}: not given (no column of the schedule maps to it; see capcheck columns)"]
+               * nocol.size)
+
+
+def _as_text(col: pd.Series, codes: np.ndarray, blank: np.ndarray) -> np.ndarray:
+    """The cells as written (text) for messages, each distinct value converted once."""
+    _, uniq = _factorize(col)
+    shown = np.array([_text(u) for u in uniq] + [""], dtype=object)
+    return np.where(blank, "", shown[codes])
+
+
+def _texts(arr: np.ndarray) -> np.ndarray:
+    return pd.Series(arr, dtype=object).fillna("").to_numpy(dtype=object)
+
+
+def _heading_of(label: str) -> str:
+    m = re.search(r"\(column '(.*)'\)$", label)
+    return m.group(1) if m else label
+
+
+def _floats(arr: np.ndarray) -> np.ndarray:
+    return pd.to_numeric(pd.Series(arr, dtype=object), errors="coerce").to_numpy(dtype=float)
+
+
+def _fmtn(v: float) -> str:
+    return str(int(v)) if v == int(v) else f"{v:g}"
+
+
+def _steel(col: pd.Series) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    if col.dtype.kind in "fiu":
+        return col.to_numpy(dtype=float), np.empty(0, np.int64), []
+    (vals,), blank, codes, errs = _map_unique(col, lambda u: (parse_steel_grade(u),), 1)
+    v = np.where(blank, np.nan, _floats(vals))
+    rows, msgs = _error_rows(codes, errs)
+    return v, rows, msgs
+
+
+# --------------------------------------------------------------------------------------------
+# Coordinates of explicit pile groups
+# --------------------------------------------------------------------------------------------
+
+
+def coords_frame(cells: pd.DataFrame, headings: Sequence[str], row_numbers: Sequence[int], *, file: str,
+                 mapping: HeadingMap | None = None) -> tuple[pd.DataFrame, dict[str, list[str]], list[str]]:
+    """A ``mark, x, y`` table -> (frame mark, x, y [mm], problems per mark, notes)."""
+    report = match_headings(list(headings), mapping, "coords")
+    by = report.by_field
+    notes = list(report.notes)
+    missing = [f for f in ("mark", "x", "y") if f not in by]
+    if missing:
+        from checker.ingest.errors import IngestError
+        raise IngestError(f"{file}: the pile coordinates table needs columns mark, x and y; "
+                          f"missing {', '.join(missing)}")
+    marks, _, _ = _text_column(cells.iloc[:, by["mark"].column])
+    problems: dict[str, list[str]] = {}
+    xy = {}
+    bad = np.zeros(len(cells), bool)
+    for f in ("x", "y"):
+        m = by[f]
+        v, rows, msgs = _numeric(cells.iloc[:, m.column], "length", m.scale)
+        xy[f] = v
+        for r, msg in zip(rows.tolist(), msgs):
+            problems.setdefault(str(marks[r]), []).append(
+                f"coordinates {file} row {row_numbers[r]}: {f} (column {m.heading!r}): {msg}")
+            bad[r] = True
+        miss = np.isnan(v) & ~bad
+        for r in np.flatnonzero(miss & (marks != "")).tolist():
+            problems.setdefault(str(marks[r]), []).append(
+                f"coordinates {file} row {row_numbers[r]}: {f} (column {m.heading!r}): missing")
+            bad[r] = True
+    no_mark = np.flatnonzero(marks == "")
+    if no_mark.size:
+        notes.append(f"{file}: {no_mark.size} coordinate row(s) without a mark ignored (rows "
+                     f"{', '.join(str(row_numbers[r]) for r in no_mark[:5])}{' ...' if no_mark.size > 5 else ''})")
+    keep = (marks != "") & ~bad
+    df = pd.DataFrame({"mark": marks[keep], "x": xy["x"][keep], "y": xy["y"][keep]})
+    return df.reset_index(drop=True), problems, notes
+
+
+def _apply_coords(out: dict[str, np.ndarray], coords: pd.DataFrame, problems: dict[str, list[str]],
+                  errors: _Errors, labels: dict[str, str], notes: list[str], given: dict[str, np.ndarray]) -> None:
+    """Explicit groups: piles from the count of positions; pile_spacing (if blank) the least c/c."""
+    marks = pd.Series(out["mark"], dtype=object)
+    groups = {m: g[["x", "y"]].to_numpy(float) for m, g in coords.groupby("mark", sort=False)}
+    pos = {}
+    for i, m in enumerate(marks.tolist()):
+        if m in groups or m in problems:
+            pos.setdefault(m, []).append(i)
+    unknown = [m for m in list(groups) + list(problems) if m not in pos]
+    if unknown:
+        notes.append(f"pile coordinates given for marks not in the schedule: {', '.join(sorted(set(unknown))[:10])}")
+    for m, rows in pos.items():
+        for r in rows:
+            if m in problems:
+                errors.add("piles", [r], problems[m])
+                continue
+            xy = groups[m]
+            count = len(xy)
+            stated = out["piles"][r]
+            if not np.isnan(stated) and stated != count:
+                errors.add("piles", [r], [f"{labels.get('piles', 'piles')}: {_fmtn(stated)} but the pile "
+                                          f"coordinates give {count} positions for {m!r}"])
+                continue
+            out["piles"][r] = count
+            given["piles"][r] = True
+            if count >= 2:
+                d = np.sqrt(((xy[:, None, :] - xy[None, :, :]) ** 2).sum(-1))
+                least = float(d[np.triu_indices(count, 1)].min())
+                if least <= 0:
+                    errors.add("piles", [r], [f"pile coordinates for {m!r}: two piles at the same position"])
+                    continue
+                if np.isnan(out["pile_spacing"][r]):
+                    out["pile_spacing"][r] = least
+                    notes.append(f"{m}: pile_spacing taken as the least pile centres from the coordinates, "
+                                 f"{_fmtn(round(least, 1))} mm")
+
+
+# --------------------------------------------------------------------------------------------
+# Whole schedule
+# --------------------------------------------------------------------------------------------
+
+
+def cells_of(table: RawTable) -> pd.DataFrame:
+    """The cells of a RawTable as a DataFrame with positional columns (ragged rows padded)."""
+    width = max([len(table.headings)] + [len(r) for r in table.rows]) if table.rows else len(table.headings)
+    rows = table.rows
+    if any(len(r) != width for r in rows):
+        rows = [list(r) + [None] * (width - len(r)) for r in rows]
+    df = pd.DataFrame(rows, dtype=object, columns=range(width)) if rows else \
+        pd.DataFrame({i: pd.Series([], dtype=object) for i in range(width)})
+    return df
+
+
+def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
+                coords: pd.DataFrame | None = None, coord_problems: dict[str, list[str]] | None = None,
+                cells: Sequence[pd.DataFrame] | None = None) -> FrameResult:
+    """RawTable(s) of one schedule -> :class:`FrameResult` (canonical caps, rejected rows, reports).
+
+    ``coords`` (mark, x, y [mm]) gives explicit pile groups: their ``piles`` is the count of positions
+    and a blank ``pile_spacing`` becomes the least pile centres. ``coord_problems`` (mark -> messages)
+    rejects the caps whose coordinates could not be read. ``cells`` (one DataFrame per table with
+    positional columns) saves re-building the cells when the caller has them already.
+    """
+    if isinstance(tables, RawTable):
+        tables = [tables]
+    hmap = resolve_mapping(mapping)
+    reports: list[HeadingReport] = []
+    notes: list[str] = []
+    parts: list[_Parsed] = []
+    prov: list[pd.DataFrame] = []
+    for k, table in enumerate(tables):
+        grid = cells[k] if cells is not None else cells_of(table)
+        report = match_headings(table.headings, hmap, "schedule")
+        reports.append(report)
+        for note in report.notes:
+            if note not in notes:
+                notes.append(note)
+        for i, h in enumerate(table.headings):
+            if not str(h or "").strip() and i < grid.shape[1] and grid.iloc[:, i].notna().any():
+                notes.append(f"{table.file}: column {i + 1} has no heading; not read")
+        parts.append(_parse_cells(grid, report))
+        n = len(grid)
+        prov.append(pd.DataFrame({
+            "src_file": np.full(n, table.file, dtype=object),
+            "src_sheet": np.full(n, table.sheet, dtype=object),
+            "src_page": np.array(list(table.pages), dtype=object) if len(table.pages) == n
+            else np.full(n, None, dtype=object),
+            "src_row": np.array(list(table.row_numbers), dtype=object) if len(table.row_numbers) == n
+            else np.arange(1, n + 1).astype(object),
+        }))
+    n_total = sum(p.n for p in parts)
+
+    # ---- concatenate the tables ------------------------------------------------------------
+    keys = list(FIELDS) + sorted({k for p in parts for k in p.values if k.startswith("_text_")})
+    out: dict[str, np.ndarray] = {}
+    for f in keys:
+        arrays = []
+        for p in parts:
+            if f in p.values:
+                arrays.append(p.values[f])
+            else:
+                arrays.append(np.full(p.n, "", dtype=object))
+        out[f] = np.concatenate(arrays) if arrays else np.empty(0)
+    errors = _Errors()
+    labels: dict[str, str] = {}
+    given: dict[str, np.ndarray] = {}
+    has_col: dict[str, np.ndarray] = {}
+    offset = 0
+    for p in parts:
+        for fld, rows, msgs in p.errors.items:
+            errors.add(fld, rows + offset, msgs)
+        for k, v in p.labels.items():
+            labels.setdefault(k, v)
+        offset += p.n
+    for f in REQUIRED_SOURCES:
+        given[f] = np.concatenate([p.given.get(f, np.zeros(p.n, bool)) for p in parts]) if parts else np.zeros(0, bool)
+        has_col[f] = np.concatenate([np.full(p.n, f in p.given) for p in parts]) if parts else np.zeros(0, bool)
+    provenance = pd.concat(prov, ignore_index=True) if prov else pd.DataFrame(
+        {c: pd.Series([], dtype=object) for c in ("src_file", "src_sheet", "src_page", "src_row")})
+
+    if coords is not None or coord_problems:
+        _apply_coords(out, coords if coords is not None else pd.DataFrame(columns=["mark", "x", "y"]),
+                      coord_problems or {}, errors, labels, notes, given)
+    for f in REQUIRED_SOURCES:
+        _required_missing(f, given[f], has_col[f], labels, errors)
+
+    # ---- duplicate marks: the later row is rejected --------------------------------------------
+    marks = pd.Series(out["mark"], dtype=object)
+    dup = (marks.duplicated(keep="first") & (marks != "")).to_numpy()
+    if dup.any():
+        rows = np.flatnonzero(dup)
+        first_pos = pd.Series(np.arange(n_total)).groupby(marks.to_numpy()).transform("first").to_numpy()
+        lab = labels.get("mark", "mark")
+        errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of {_where(provenance, first_pos[r])}; "
+                                  "each cap needs its own mark" for r in rows])
+
+    # ---- the model's constraints ---------------------------------------------------------------
+    frame = pd.DataFrame({f: out[f] for f in FIELDS})
+    for c in provenance.columns:
+        frame[c] = provenance[c].to_numpy(dtype=object)
+    _, vmsgs = validate_frame(frame)
+
+    per_row: dict[int, list[tuple[str, str]]] = {}
+    for fld, rows, msgs in errors.items:
+        for r, msg in zip(rows.tolist(), msgs):
+            per_row.setdefault(r, []).append((fld, msg))
+    for r, msgs in vmsgs.items():
+        have = {f for f, _ in per_row.get(r, [])}
+        for msg in msgs:
+            fld, _, rest = msg.partition(":")
+            if fld in have or any(s in have for s in DERIVED_FROM.get(fld, ())):
+                continue
+            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels)}:{rest}"))
+
+    bad_rows = sorted(per_row)
+    keep = np.ones(n_total, dtype=bool)
+    keep[np.asarray(bad_rows, dtype=np.int64)] = False
+    rejected = [{"source": _source(provenance, r), "errors": list(dict.fromkeys(m for _, m in per_row[r]))}
+                for r in bad_rows]
+    caps = _canonical(frame.loc[keep].reset_index(drop=True))
+    return FrameResult(caps, rejected, reports, notes, n_total)
+
+
+_FROM_TEXT = {"nx": "bars_x", "phi_x": "bars_x", "sx": "bars_x", "ny": "bars_y", "phi_y": "bars_y",
+              "sy": "bars_y", "column_x": "column", "column_y": "column", "column_round": "column"}
+
+
+def _derived_label(fld: str, r: int, out: dict[str, np.ndarray], labels: dict[str, str]) -> str:
+    """'nx (from 'H25@150' in column 'Bars X')' for fields read out of a notation cell."""
+    src = _FROM_TEXT.get(fld)
+    text = out.get(f"_text_{src}") if src else None
+    if src and text is not None and src in labels and text[r] != "":
+        return f"{fld} (from {text[r]!r} in column {_heading_of(labels[src])!r})"
+    return labels.get(fld, fld)
+
+
+def _canonical(df: pd.DataFrame) -> pd.DataFrame:
+    """Column order and dtypes of the canonical frame (DEVELOPERS.md)."""
+    out = {}
+    for c in FRAME_COLUMNS:
+        spec = FIELDS.get(c)
+        col = df[c]
+        if spec is None:
+            out[c] = col.astype(object)
+        elif spec.kind in ("float", "int"):
+            out[c] = col.astype(float)
+        elif spec.kind == "bool":
+            out[c] = col.astype(bool)
+        else:
+            out[c] = col.astype(object).fillna("").astype(str)
+    return pd.DataFrame(out)
+
+
+def _source(prov: pd.DataFrame, r: int) -> dict[str, Any]:
+    page = prov["src_page"].iat[r]
+    row = prov["src_row"].iat[r]
+    return {"file": prov["src_file"].iat[r], "sheet": prov["src_sheet"].iat[r],
+            "page": None if page is None or page != page else int(page),
+            "row": None if row is None or row != row else int(row)}
+
+
+def _where(prov: pd.DataFrame, r: int) -> str:
+    s = _source(prov, r)
+    parts = []
+    if s["page"] is not None:
+        parts.append(f"page {s['page']}")
+    elif s["sheet"]:
+        parts.append(f'sheet "{s["sheet"]}"')
+    parts.append(f"row {s['row']}")
+    return ", ".join(parts)
+
+
+def frame_from_table(table: RawTable, *, mapping: Any = None) -> tuple[pd.DataFrame, list[dict]]:
+    """One RawTable -> (canonical frame, rejected rows)."""
+    res = build_frame(table, mapping=mapping)
+    return res.caps, res.rejected

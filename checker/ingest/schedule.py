@@ -1,0 +1,188 @@
+"""Public entry points of ingest: a schedule file or a DataFrame -> :class:`Schedule`.
+
+``read_schedule(path)`` reads CSV/TXT, XLSX/XLSM or PDF (the PDF reader is imported only when a PDF
+is read); ``schedule_from_frame(df)`` reads a DataFrame whose columns are headings as written.
+Both return the canonical schedule frame (DEVELOPERS.md), the rejected rows with their reasons,
+and what is needed to explain the reading (heading matches, notes, the raw tables).
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Sequence
+
+import numpy as np
+import pandas as pd
+
+from checker.ingest.errors import IngestError
+from checker.ingest.frame import build_frame, cells_of, coords_frame
+from checker.ingest.headings import HeadingMatch, HeadingReport, count_known, resolve_mapping
+from checker.ingest.raw import RawTable
+from checker.ingest.tabular import MIN_KNOWN, read_csv, read_xlsx
+
+TABULAR_EXTENSIONS = (".csv", ".txt", ".tsv")
+WORKBOOK_EXTENSIONS = (".xlsx", ".xlsm")
+
+
+@dataclass
+class Schedule:
+    caps: pd.DataFrame                  # canonical frame (DEVELOPERS.md), index 0..n-1
+    rejected: list[dict]                # [{"source": {"file","sheet","page","row"}, "errors": [...]}]
+    rows_read: int                      # == len(caps) + len(rejected)
+    matches: list[HeadingMatch]         # heading -> field matches (each distinct heading once)
+    unmapped: list[str]                 # headings not used (each once)
+    coords: pd.DataFrame | None         # mark, x, y [mm] for explicit pile groups
+    notes: list[str]                    # e.g. 'sheet "Notes" skipped: no schedule headings'
+    tables: list[RawTable] = field(default_factory=list)
+    reports: list[HeadingReport] = field(default_factory=list)   # per schedule table
+
+
+def _is_coords_table(table: RawTable, hmap: Any) -> bool:
+    return count_known(table.headings, "schedule", hmap) < MIN_KNOWN and \
+        count_known(table.headings, "coords", hmap) >= 3
+
+
+def _table_label(t: RawTable) -> str:
+    if t.pages and t.pages[0] is not None:
+        return f"{t.file}, page {t.pages[0]}"
+    if t.sheet:
+        return f'{t.file}, sheet "{t.sheet}"'
+    return t.file
+
+
+def _read_coords_file(path: str | os.PathLike, hmap: Any) -> RawTable:
+    ext = Path(path).suffix.lower()
+    if ext not in TABULAR_EXTENSIONS:
+        raise IngestError(f"{path}: pile coordinates are read from a .csv file (mark, x, y), "
+                          f"not {ext or '(no extension)'}")
+    tables, _ = read_csv(path, mapping=hmap, vocabulary="coords")
+    return tables[0]
+
+
+def _coords_from(source: Any, hmap: Any) -> tuple[pd.DataFrame, dict[str, list[str]], list[str]]:
+    if isinstance(source, pd.DataFrame):
+        grid = source.set_axis(range(source.shape[1]), axis=1).astype(object)
+        return coords_frame(grid, [str(c) for c in source.columns], list(range(2, len(source) + 2)),
+                            file="<coordinates>", mapping=hmap)
+    table = source if isinstance(source, RawTable) else _read_coords_file(source, hmap)
+    return coords_frame(cells_of(table), table.headings, table.row_numbers, file=table.file, mapping=hmap)
+
+
+def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
+              cells: Sequence[pd.DataFrame] | None = None) -> Schedule:
+    schedule_tables: list[RawTable] = []
+    schedule_cells: list[pd.DataFrame] = []
+    coord_tables: list[RawTable] = []
+    for k, t in enumerate(tables):
+        if _is_coords_table(t, hmap):
+            coord_tables.append(t)
+        elif count_known(t.headings, "schedule", hmap) >= MIN_KNOWN:
+            schedule_tables.append(t)
+            if cells is not None:
+                schedule_cells.append(cells[k])
+        else:
+            notes.append(f"{_table_label(t)}: table skipped: no schedule headings")
+    if not schedule_tables:
+        where = tables[0].file if tables else "the document"
+        raise IngestError(f"{where}: no schedule table found (a table with at least {MIN_KNOWN} headings "
+                          "such as Mark, Piles, Pile dia, Cap depth, Column, NEd, Concrete, Cover, Bars X)")
+    coord_df, problems, cnotes = None, None, []
+    source = coords if coords is not None else (coord_tables[0] if coord_tables else None)
+    if coords is not None and coord_tables:
+        notes.append(f"{_table_label(coord_tables[0])}: pile coordinates taken from {coords!s} instead")
+    if source is not None:
+        coord_df, problems, cnotes = _coords_from(source, hmap)
+        notes.extend(cnotes)
+    res = build_frame(schedule_tables, mapping=hmap, coords=coord_df, coord_problems=problems,
+                      cells=schedule_cells if cells is not None else None)
+    matches: list[HeadingMatch] = []
+    seen: set[tuple] = set()
+    unmapped: list[str] = []
+    for rep in res.reports:
+        for m in rep.matches:
+            key = (m.heading, m.field, m.unit, m.how)
+            if key not in seen:
+                seen.add(key)
+                matches.append(m)
+        for u in rep.unmapped:
+            if u not in unmapped:
+                unmapped.append(u)
+    notes.extend(n for n in res.notes if n not in notes)
+    return Schedule(caps=res.caps, rejected=res.rejected, rows_read=res.rows_read, matches=matches,
+                    unmapped=unmapped, coords=coord_df, notes=notes, tables=list(tables), reports=res.reports)
+
+
+def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
+                  coords: str | Path | None = None, pdf_strategy: str = "auto",
+                  max_pages: int | None = None) -> Schedule:
+    """Read a pile cap schedule file.
+
+    ``.csv``/``.txt`` and ``.xlsx``/``.xlsm`` are read by :mod:`checker.ingest.tabular`, ``.pdf`` by
+    :func:`checker.ingest.pdf.read_pdf_tables` (``pdf_strategy``, ``max_pages`` are passed on).
+    ``mapping``: a TOML heading mapping file (see :mod:`checker.ingest.headings`). ``coords``: a CSV
+    (or XLSX) of pile positions ``mark, x, y`` [mm from the column centre] for explicit groups; a
+    workbook's own coordinates sheet is used when this is not given.
+
+    Raises :class:`IngestError` when the document cannot be read at all; rows that cannot be read are
+    in ``Schedule.rejected``.
+    """
+    name = str(path)
+    p = Path(path)
+    if not p.exists():
+        raise IngestError(f"{name}: file not found")
+    if p.is_dir():
+        raise IngestError(f"{name}: is a folder, not a schedule file")
+    hmap = resolve_mapping(mapping)
+    ext = p.suffix.lower()
+    if ext in TABULAR_EXTENSIONS:
+        tables, notes = read_csv(path, mapping=hmap)
+    elif ext in WORKBOOK_EXTENSIONS:
+        tables, notes = read_xlsx(path, mapping=hmap)
+    elif ext == ".pdf":
+        from checker.ingest.pdf import read_pdf_tables
+
+        tables, notes = read_pdf_tables(name, strategy=pdf_strategy, max_pages=max_pages)
+        notes = list(notes)
+    elif ext == ".xls":
+        raise IngestError(f"{name}: the old .xls format is not read; save the workbook as .xlsx or .csv")
+    else:
+        raise IngestError(f"{name}: unknown file type {ext or '(no extension)'!r}; capcheck reads .csv, .txt, "
+                          ".xlsx, .xlsm and .pdf")
+    return _assemble(list(tables), list(notes), hmap, coords)
+
+
+def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mapping: Any = None,
+                        coords: Any = None) -> Schedule:
+    """Read a DataFrame whose columns are schedule headings as written (canonical names also map).
+
+    Cells are read like spreadsheet cells, in the input units of the brief unless a heading says
+    otherwise (``n_ed`` in kN, moments in kNm, lengths in mm) - so this is not the way to re-read a
+    canonical frame, whose forces are already in N. Row numbers are reported as if the frame were a
+    sheet with its headings in row 1 (first data row = row 2).
+    """
+    if not isinstance(df, pd.DataFrame):
+        raise IngestError(f"{source}: expected a pandas DataFrame, got {type(df).__name__}")
+    hmap = resolve_mapping(mapping)
+    headings = ["" if c is None else str(c) for c in df.columns]
+    grid = df.set_axis(range(df.shape[1]), axis=1)
+    n = len(df)
+    table = _FrameTable(file=source, sheet=None, headings=headings, rows=[], pages=[None] * n,
+                        row_numbers=list(range(2, n + 2)))
+    table.grid = grid
+    return _assemble([table], [], hmap, coords, cells=[grid])
+
+
+class _FrameTable(RawTable):
+    """A RawTable over a DataFrame: ``rows`` are built only when someone asks for them."""
+
+    grid: pd.DataFrame | None = None
+
+    def __getattribute__(self, name: str) -> Any:
+        if name == "rows":
+            d = object.__getattribute__(self, "__dict__")
+            if not d.get("rows") and d.get("grid") is not None:
+                d["rows"] = d["grid"].astype(object).where(d["grid"].notna(), None).to_numpy().tolist()
+            return d.get("rows", [])
+        return object.__getattribute__(self, name)
