@@ -122,7 +122,9 @@ def tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, 
     Returns:
         steel counted for the row of each pile, (n, m) [mm²]
     """
-    half = (0.5 * np.asarray(width, dtype=float) - cover)[:, None]
+    as_total = np.asarray(as_total, dtype=float)
+    rows = np.asarray(rows, dtype=float)
+    half = (0.5 * np.asarray(width, dtype=float) - np.asarray(cover, dtype=float))[:, None]
     b = (1.5 * np.asarray(pile_dia, dtype=float))[:, None]
     band = np.clip(row_coord + b, -half, half) - np.clip(row_coord - b, -half, half)
     band_share = as_total[:, None] * band / (2.0 * half)
