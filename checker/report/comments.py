@@ -1,0 +1,384 @@
+"""Findings -> numbered check comments: the one model every comment writer (XLSX, CSV, Markdown,
+HTML) reads, so that the sheet, the tables and the report can never disagree.
+
+A comment is a finding whose severity is not ``ok``. Without a previous sheet the comments are
+numbered 1..n in the findings order (severity, cap, rule). With a :class:`checker.revision.RevisionResult`
+every carried comment keeps its number, status and the designer's response; comments whose finding
+has gone stay on the sheet (closed or superseded) with a note; new comments are numbered after the
+highest number used so far.
+
+Nothing here re-computes a check: the figures are the findings' own ``value``, ``limit``, ``unit``
+and ``utilisation``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import pandas as pd
+
+from checker.findings import (
+    SEVERITY_ORDER,
+    comment_key,
+    describe_source,
+    sort_findings,
+    source_of,
+)
+
+if TYPE_CHECKING:  # pragma: no cover
+    from checker.api import Review
+    from checker.revision import RevisionResult
+
+COMMENT_HEADINGS: tuple[str, ...] = (
+    "No.",
+    "Cap",
+    "Check",
+    "Clause",
+    "Found",
+    "Severity",
+    "Action required",
+    "Source",
+    "Designer response",
+    "Checker status",
+    "Key",
+)
+
+STATUSES: tuple[str, ...] = ("open", "closed", "superseded")
+
+# Workbook layout shared by the sheet writer and the revision reader.
+COVER_SHEET = "Cover"
+COMMENTS_SHEET = "Comments"
+ALL_CHECKS_SHEET = "All checks"
+REJECTED_SHEET = "Rejected rows"
+DATA_SHEET = "capcheck-data"          # hidden: the tool's own figures per key, for the next revision
+DATA_MARKER = "capcheck.sheet/1"
+DATA_COLUMNS: tuple[str, ...] = (
+    "key",
+    "no",
+    "cap",
+    "rule",
+    "severity",
+    "tool_severity",
+    "tool_utilisation",
+    "value",
+    "limit",
+    "unit",
+    "message",
+    "state",
+    "status_written",
+    "basis_severity",
+    "basis_utilisation",
+)
+
+# What each severity means, in the words of this project (cover sheet legend, report legend).
+SEVERITY_MEANING: dict[str, str] = {
+    "unsafe": "a strength check is not met",
+    "non-compliant": "a detailing rule is breached",
+    "query": "cannot be verified from the submission, or the designer's figure disagrees with the re-check",
+    "advisory": "good practice, for the designer's consideration",
+    "ok": "the listed check was met on the figures submitted",
+}
+
+# Short statement printed beside the caution wherever the results are summarised.
+NOT_A_SAFETY_CLAIM = (
+    "capcheck never claims that a design is safe; it reports only whether each listed check was met "
+    "on the figures submitted."
+)
+
+
+# ---- presentation shared by the writers (this project's own palette and short texts) ----
+# Severity colours (fill, text). Chosen for this project: a warm scale from brick red (strength
+# check not met) to pale green (met), readable when printed in greyscale.
+SEVERITY_FILL: dict[str, str] = {
+    "unsafe": "B3261E",
+    "non-compliant": "F4A259",
+    "query": "F6D55C",
+    "advisory": "A8D5E2",
+    "ok": "C5E1A5",
+}
+SEVERITY_TEXT: dict[str, str] = {
+    "unsafe": "FFFFFF",
+    "non-compliant": "1F1F1F",
+    "query": "1F1F1F",
+    "advisory": "1F1F1F",
+    "ok": "1F1F1F",
+}
+STATUS_MUTED = "7F7F7F"     # text colour of closed / superseded comments
+HEADER_FILL = "2F3E46"      # table heading rows
+HEADER_TEXT = "FFFFFF"
+CAUTION_FILL = "FFF4E0"
+
+# A shortened caution for printed headers and footers (Excel limits them to 255 characters).
+SHORT_CAUTION = (
+    "An aid to an independent check only: it does not replace the judgement of a competent, "
+    "qualified engineer and never claims a design is safe. Full caution on the Cover sheet."
+)
+
+
+def _nan_to_none(v: Any) -> Any:
+    if v is None:
+        return None
+    try:
+        if pd.isna(v):
+            return None
+    except (TypeError, ValueError):
+        return v
+    return v
+
+
+def _float_or_none(v: Any) -> float | None:
+    v = _nan_to_none(v)
+    if v is None or v == "":
+        return None
+    try:
+        return float(v)
+    except (TypeError, ValueError):
+        return None
+
+
+def format_number(v: float | None) -> str:
+    """Figures as a checker writes them: 1800, 42.5, 0.35."""
+    if v is None:
+        return ""
+    if not math.isfinite(v):
+        return "n/a"
+    a = abs(v)
+    if a >= 100 or float(v).is_integer():
+        return f"{v:.0f}"
+    if a >= 10:
+        return f"{v:.1f}"
+    return f"{v:.2f}"
+
+
+def format_unit(unit: str) -> str:
+    unit = (unit or "").strip()
+    if unit.lower() in ("degrees", "degree", "deg"):
+        return "°"
+    return unit
+
+
+def _with_unit(v: float, unit: str) -> str:
+    u = format_unit(unit)
+    if not u:
+        return format_number(v)
+    return f"{format_number(v)}{u}" if u == "°" else f"{format_number(v)} {u}"
+
+
+def format_utilisation(u: float | None) -> str:
+    if u is None:
+        return ""
+    if not math.isfinite(u):
+        return "n/a"
+    return f"{u:.2f}"
+
+
+def figures_text(value: Any, limit: Any, unit: str, utilisation: Any) -> str:
+    """'value 120 mm; limit 150 mm; utilisation 1.25' (parts that are not given are left out)."""
+    value, limit, utilisation = (_float_or_none(x) for x in (value, limit, utilisation))
+    parts = []
+    if value is not None:
+        parts.append(f"value {_with_unit(value, unit)}")
+    if limit is not None:
+        parts.append(f"limit {_with_unit(limit, unit)}")
+    if utilisation is not None:
+        parts.append(f"utilisation {format_utilisation(utilisation)}")
+    return "; ".join(parts)
+
+
+def found_text(message: str, value: Any, limit: Any, unit: str, utilisation: Any) -> str:
+    message = (message or "").strip()
+    figs = figures_text(value, limit, unit, utilisation)
+    if message and figs:
+        return f"{message} ({figs})"
+    return message or figs
+
+
+def check_text(rule: str, title: str) -> str:
+    title = (title or "").strip()
+    return f"{rule}: {title}" if title else rule
+
+
+@dataclass
+class Comment:
+    """One numbered comment on the sheet (one finding, or one carried row of a previous sheet)."""
+
+    no: int
+    key: str
+    cap: str
+    rule: str
+    check: str
+    clause: str
+    found: str
+    severity: str
+    action: str
+    source: str
+    response: str = ""
+    status: str = "open"
+    note: str = ""                 # revision note ("new in revision 2", "closed in revision 2: ...")
+    outcome: str = "new"           # new / still-open / closed / reopened / superseded / stays-closed ...
+    value: float | None = None
+    limit: float | None = None
+    unit: str = ""
+    utilisation: float | None = None
+    message: str = ""
+    state: str = "present"         # present / gone / cap-removed / not-rechecked / manual
+    tool_severity: str = ""        # what the tool reports for the key in this review ("ok" once met)
+    tool_utilisation: float | None = None
+    basis_severity: str = ""       # figures a hand-closed comment was closed on (to judge "worse")
+    basis_utilisation: float | None = None
+
+    @property
+    def found_cell(self) -> str:
+        """The Found text with the revision note in front of it."""
+        if self.note:
+            return f"[{self.note}] {self.found}".strip()
+        return self.found
+
+    def cells(self) -> list[Any]:
+        """Values in :data:`COMMENT_HEADINGS` order."""
+        return [
+            self.no,
+            self.cap,
+            self.check,
+            self.clause,
+            self.found_cell,
+            self.severity,
+            self.action,
+            self.source,
+            self.response,
+            self.status,
+            self.key,
+        ]
+
+
+def _records(frame: pd.DataFrame) -> list[dict[str, Any]]:
+    if frame is None or len(frame) == 0:
+        return []
+    return sort_findings(frame).to_dict("records")
+
+
+def _comment_from_finding(row: dict[str, Any], no: int) -> Comment:
+    cap, rule = str(row["cap"]), str(row["rule"])
+    value, limit = _float_or_none(row.get("value")), _float_or_none(row.get("limit"))
+    util = _float_or_none(row.get("utilisation"))
+    unit = str(_nan_to_none(row.get("unit")) or "")
+    message = str(_nan_to_none(row.get("message")) or "")
+    return Comment(
+        no=no,
+        key=comment_key(cap, rule),
+        cap=cap,
+        rule=rule,
+        check=check_text(rule, str(_nan_to_none(row.get("title")) or "")),
+        clause=str(_nan_to_none(row.get("clause")) or ""),
+        found=found_text(message, value, limit, unit, util),
+        severity=str(row["severity"]),
+        action=str(_nan_to_none(row.get("action")) or ""),
+        source=describe_source(source_of(row)),
+        value=value,
+        limit=limit,
+        unit=unit,
+        utilisation=util,
+        message=message,
+        state="present",
+        tool_severity=str(row["severity"]),
+        tool_utilisation=util,
+    )
+
+
+def comment_findings(review: "Review") -> list[dict[str, Any]]:
+    """The findings rows that become comments (severity != ok), in the one sort order."""
+    return [r for r in _records(review.findings) if str(r["severity"]) != "ok"]
+
+
+def build_comments(review: "Review", revision: "RevisionResult | None" = None) -> list[Comment]:
+    """Turn a Review's findings into numbered comments, carrying a previous revision if given.
+
+    Returns the comments in comment-number order.
+    """
+    rows = comment_findings(review)
+    if revision is None:
+        return [_comment_from_finding(r, i) for i, r in enumerate(rows, start=1)]
+
+    current = {comment_key(str(r["cap"]), str(r["rule"])): r for r in rows}
+    all_results = {comment_key(str(r["cap"]), str(r["rule"])): r for r in _records(review.findings)}
+    out: list[Comment] = []
+    for key, entry in revision.entries.items():
+        prev = entry.previous
+        if key in current:
+            c = _comment_from_finding(current[key], entry.no)
+        else:
+            c = Comment(
+                no=entry.no,
+                key=key,
+                cap=prev.cap if prev else key.split("/", 1)[0],
+                rule=prev.rule if prev else key.split("/", 1)[-1],
+                check=prev.check if prev else key,
+                clause=prev.clause if prev else "",
+                found=prev.found if prev else "",
+                severity=prev.severity if prev else "",
+                action=prev.action if prev else "",
+                source=prev.source if prev else "",
+                utilisation=prev.utilisation if prev else None,
+                message=prev.message if prev else "",
+                state=entry.state,
+                tool_severity=prev.tool_severity if prev else "",
+                tool_utilisation=prev.tool_utilisation if prev else None,
+            )
+            met = all_results.get(key)
+            if entry.state == "gone" and met is not None:
+                c.tool_severity = str(met["severity"])
+                c.tool_utilisation = _float_or_none(met.get("utilisation"))
+                figs = figures_text(met.get("value"), met.get("limit"), str(met.get("unit") or ""),
+                                    met.get("utilisation"))
+                was = f"revision {revision.previous.revision}: {c.found}" if c.found else ""
+                c.found = "; ".join(p for p in (f"now {figs}" if figs else "", was) if p)
+            elif entry.state == "cap-removed":
+                c.tool_severity, c.tool_utilisation = "", None
+        c.status = entry.status
+        c.response = entry.response
+        c.note = entry.note
+        c.outcome = entry.outcome
+        c.basis_severity = entry.basis_severity
+        c.basis_utilisation = entry.basis_utilisation
+        out.append(c)
+    for prev in revision.extra:
+        out.append(
+            Comment(
+                no=prev.no if prev.no is not None else 0,
+                key="",
+                cap=prev.cap,
+                rule=prev.rule,
+                check=prev.check,
+                clause=prev.clause,
+                found=prev.found,
+                severity=prev.severity,
+                action=prev.action,
+                source=prev.source,
+                response=prev.response,
+                status=prev.status or "open",
+                note="",
+                outcome="manual",
+                utilisation=prev.utilisation,
+                message=prev.message,
+                state="manual",
+            )
+        )
+    out.sort(key=lambda c: (c.no if c.no else 10**9))
+    return out
+
+
+def count_by_status(comments: list[Comment]) -> dict[str, int]:
+    counts = {s: 0 for s in STATUSES}
+    for c in comments:
+        counts[c.status] = counts.get(c.status, 0) + 1
+    return counts
+
+
+def severity_rank(severity: str) -> int:
+    """0 = worst; unknown or empty severities rank after ``ok``."""
+    try:
+        return SEVERITY_ORDER.index(str(severity).strip().lower())
+    except ValueError:
+        return len(SEVERITY_ORDER)

@@ -1,0 +1,384 @@
+"""The review report: one self-contained HTML file (inline CSS and inline SVG, no script, no
+network), printable on A4 with one cap per page.
+
+Contents: the caution, the submission facts, summary counts, the legend of severity colours, a
+table of caps with their worst severity, and per cap a plan sketch to scale (see
+:mod:`checker.report.svg`), that cap's results (comments first, with their comment numbers and
+statuses, then the passed checks) and the working lines of ``review.working(mark)``; finally the
+rejected rows, if any.
+"""
+
+from __future__ import annotations
+
+import re
+from html import escape
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+from checker.caution import CAUTION
+from checker.findings import (
+    SEVERITY_ORDER,
+    comment_key,
+    count_by_severity,
+    describe_source,
+    sort_findings,
+    source_of,
+    worst_by_cap,
+)
+from checker.report.comments import (
+    HEADER_FILL,
+    NOT_A_SAFETY_CLAIM,
+    SEVERITY_FILL,
+    SEVERITY_MEANING,
+    SEVERITY_TEXT,
+    SHORT_CAUTION,
+    STATUSES,
+    Comment,
+    check_text,
+    count_by_status,
+    format_number,
+    found_text,
+)
+from checker.report.svg import cap_sketch, targets_of
+from checker.report.writefile import write_atomic
+
+if TYPE_CHECKING:  # pragma: no cover
+    from checker.api import Review
+    from checker.revision import RevisionResult
+
+
+def _css() -> str:
+    sev_rules = "\n".join(
+        f".sev-{s} {{ background: #{SEVERITY_FILL[s]}; color: #{SEVERITY_TEXT[s]}; }}"
+        for s in SEVERITY_ORDER
+    )
+    return f"""
+:root {{ --ink: #1F2A30; --muted: #5F6B72; --rule: #C9CFD2; --head: #{HEADER_FILL}; }}
+* {{ box-sizing: border-box; }}
+body {{ font: 10.5pt/1.4 Helvetica, Arial, sans-serif; color: var(--ink); margin: 0 auto;
+        max-width: 1040px; padding: 18px 24px; background: #FFFFFF; }}
+h1 {{ font-size: 20pt; margin: 0 0 4px; color: var(--head); }}
+h2 {{ font-size: 14pt; margin: 18px 0 8px; color: var(--head); border-bottom: 2px solid var(--head);
+      padding-bottom: 2px; }}
+h3 {{ font-size: 11pt; margin: 14px 0 6px; color: var(--head); }}
+.caution {{ background: #FFF4E0; border-left: 5px solid #C98A1B; padding: 8px 12px; margin: 10px 0;
+            font-size: 9.5pt; }}
+.caution.small {{ font-size: 8pt; padding: 4px 8px; margin-top: 12px; }}
+dl.meta {{ display: grid; grid-template-columns: max-content 1fr max-content 1fr; gap: 2px 14px;
+           margin: 8px 0; font-size: 10pt; }}
+dl.meta dt {{ font-weight: bold; }}
+dl.meta dd {{ margin: 0; }}
+.chips {{ display: flex; flex-wrap: wrap; gap: 8px; margin: 6px 0; }}
+.chip {{ border-radius: 4px; padding: 6px 10px; min-width: 110px; border: 1px solid rgba(0,0,0,.15); }}
+.chip b {{ display: block; font-size: 16pt; line-height: 1.1; }}
+.chip.plain {{ background: #F2F4F5; }}
+table {{ border-collapse: collapse; width: 100%; margin: 6px 0; font-size: 9.5pt; }}
+th, td {{ border: 1px solid var(--rule); padding: 3px 6px; text-align: left; vertical-align: top; }}
+th {{ background: var(--head); color: #FFFFFF; font-weight: bold; }}
+td.num {{ text-align: right; white-space: nowrap; }}
+td.sev, span.sev {{ font-weight: bold; white-space: nowrap; }}
+span.sev {{ padding: 1px 6px; border-radius: 3px; font-size: 9pt; }}
+{sev_rules}
+tr.passed td {{ color: var(--muted); }}
+tr.passed td.sev {{ color: #1F1F1F; }}
+tr.closed td, tr.superseded td {{ color: var(--muted); font-style: italic; }}
+.legend td:first-child {{ width: 130px; }}
+section.cap {{ margin-top: 26px; }}
+.cap-body {{ display: grid; grid-template-columns: minmax(300px, 480px) 1fr; gap: 16px; align-items: start; }}
+figure.sketch {{ margin: 0; border: 1px solid var(--rule); padding: 6px; background: #FFFFFF; }}
+figure.sketch svg {{ display: block; width: 100%; height: auto; }}
+figure.sketch figcaption {{ font-size: 8.5pt; color: var(--muted); margin-top: 4px; }}
+.facts {{ font-size: 9.5pt; }}
+.facts table td:first-child {{ font-weight: bold; width: 40%; }}
+pre.work {{ font: 8.5pt/1.35 "DejaVu Sans Mono", Menlo, Consolas, monospace; background: #F6F7F8;
+            border: 1px solid var(--rule); padding: 6px 8px; white-space: pre-wrap; margin: 2px 0 8px; }}
+.work-rule {{ font-weight: bold; font-size: 9pt; margin-top: 6px; }}
+a {{ color: #1F5F8B; }}
+nav.toc a {{ text-decoration: none; }}
+@page {{ size: A4 portrait; margin: 13mm 12mm 14mm 12mm; }}
+@media print {{
+  body {{ max-width: none; padding: 0; font-size: 9.5pt; }}
+  * {{ -webkit-print-color-adjust: exact; print-color-adjust: exact; }}
+  section.cap, section.rejected {{ break-before: page; page-break-before: always; margin-top: 0; }}
+  h2, h3 {{ break-after: avoid; page-break-after: avoid; }}
+  figure.sketch, tr, pre.work {{ break-inside: avoid; page-break-inside: avoid; }}
+  thead {{ display: table-header-group; }}
+  a {{ color: inherit; text-decoration: none; }}
+  .cap-body {{ grid-template-columns: 88mm 1fr; }}
+}}
+"""
+
+
+def _sev(sev: str) -> str:
+    s = escape(str(sev))
+    return f'<span class="sev sev-{s}">{s}</span>'
+
+
+def _anchor(mark: str, used: dict[str, str]) -> str:
+    if mark in used:
+        return used[mark]
+    base = "cap-" + (re.sub(r"[^A-Za-z0-9_-]", "_", mark) or "x")
+    a, i = base, 2
+    while a in used.values():
+        a, i = f"{base}-{i}", i + 1
+    used[mark] = a
+    return a
+
+
+def _cap_order(review: "Review") -> list[str]:
+    marks: list[str] = []
+    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
+        marks = [str(m) for m in review.caps["mark"]]
+    if len(review.findings):
+        for m in review.findings["cap"].astype(str):
+            if m not in marks:
+                marks.append(m)
+    seen: set[str] = set()
+    return [m for m in marks if not (m in seen or seen.add(m))]
+
+
+def _cap_row(review: "Review", mark: str) -> dict[str, Any]:
+    caps = review.caps
+    if caps is None or "mark" not in getattr(caps, "columns", ()):
+        return {}
+    sel = caps[caps["mark"].astype(str) == mark]
+    return sel.iloc[0].to_dict() if len(sel) else {}
+
+
+def _fmt(v: Any, unit: str = "") -> str:
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return escape(str(v)) if v not in (None, "") else "–"
+    if f != f:
+        return "–"
+    return escape(format_number(f) + (f" {unit}" if unit else ""))
+
+
+def _column_text(row: dict[str, Any]) -> str:
+    cx, cy = row.get("column_x"), row.get("column_y")
+    try:
+        cx, cy = float(cx), float(cy)
+    except (TypeError, ValueError):
+        return "–"
+    if cx != cx:
+        return "–"
+    if row.get("column_round") is True:
+        return f"D{format_number(cx)}"
+    return f"{format_number(cx)} x {format_number(cy)}"
+
+
+def _highlight_caption(rows: list[dict[str, Any]]) -> str:
+    names = {
+        "edge": "the pile nearest the edge and the edge distance",
+        "spacing": "the closest pair of piles and their spacing",
+        "struts": "the struts from the column to the piles",
+        "column": "the column",
+        "piles": "the piles",
+        "outside": "the pile(s) outside the cap",
+    }
+    parts = []
+    for r in rows:
+        if str(r["severity"]) == "ok":
+            continue
+        for t in targets_of(str(r["rule"])):
+            parts.append(f"{names[t]} ({escape(str(r['rule']))}, {escape(str(r['severity']))})")
+    if not parts:
+        return "Nothing highlighted: no finding on this cap points at a drawn element."
+    return "Highlighted: " + "; ".join(dict.fromkeys(parts)) + "."
+
+
+def _cap_section(review: "Review", mark: str, anchor: str, worst: str,
+                 by_key: dict[str, Comment]) -> str:
+    f = review.findings
+    rows = sort_findings(f[f["cap"].astype(str) == mark]).to_dict("records") if len(f) else []
+    info = _cap_row(review, mark)
+    out = [f'<section class="cap" id="{anchor}" data-cap="{escape(mark, quote=True)}">']
+    out.append(f"<h2>Cap {escape(mark)} {_sev(worst) if worst else ''}</h2>")
+    out.append('<div class="cap-body">')
+    out.append('<figure class="sketch">')
+    out.append(cap_sketch(review, mark, rows))
+    out.append(
+        "<figcaption>Plan, drawn to scale from the submitted geometry; dimensions in mm; x along L, "
+        f"y along W. {_highlight_caption(rows)}</figcaption>"
+    )
+    out.append("</figure>")
+    facts = [
+        ("Piles", _fmt(info.get("piles")) + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
+        ("Spacing s", _fmt(info.get("pile_spacing"), "mm") if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
+        ("Cap L × W × h", " × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth")) + " mm"),
+        ("Column", escape(_column_text(info))),
+        ("N_Ed", _fmt(float(info["n_ed"]) / 1000.0, "kN") if _is_num(info.get("n_ed")) else "–"),
+        ("Concrete", escape(str(info.get("concrete") or "–"))),
+        ("Bars x / y", escape(f"{info.get('bars_x') or '–'} / {info.get('bars_y') or '–'}")),
+        ("Cover", _fmt(info.get("cover"), "mm")),
+    ]
+    src = describe_source(source_of(info)) if info else ""
+    if src:
+        facts.append(("Schedule", escape(src)))
+    out.append('<div class="facts"><table>')
+    for k, v in facts:
+        out.append(f"<tr><td>{escape(k)}</td><td>{v}</td></tr>")
+    out.append("</table></div></div>")
+
+    out.append("<h3>Results</h3>")
+    if rows:
+        out.append('<table class="findings"><thead><tr><th>No.</th><th>Check</th><th>Severity</th>'
+                   "<th>Found</th><th>Clause</th><th>Action required</th><th>Status</th></tr></thead><tbody>")
+        for r in rows:
+            sev = str(r["severity"])
+            key = comment_key(mark, str(r["rule"]))
+            cm = by_key.get(key)
+            cls = "passed" if sev == "ok" else (cm.status if cm else "")
+            found = found_text(str(r.get("message") or ""), r.get("value"), r.get("limit"),
+                               str(r.get("unit") or ""), r.get("utilisation"))
+            action = str(r.get("action") or "")
+            action = "" if action == "nan" else action
+            status = escape(cm.status) if cm else ""
+            if cm and cm.note:
+                status += f'<br><small>{escape(cm.note)}</small>'
+            out.append(
+                f'<tr class="{cls}" data-rule="{escape(str(r["rule"]), quote=True)}">'
+                f'<td class="num">{cm.no if cm else ""}</td>'
+                f"<td>{escape(check_text(str(r['rule']), str(r.get('title') or '')))}</td>"
+                f'<td class="sev sev-{escape(sev)}">{escape(sev)}</td>'
+                f"<td>{escape(found)}</td><td>{escape(str(r.get('clause') or ''))}</td>"
+                f"<td>{escape(action)}</td><td>{status}</td></tr>"
+            )
+        out.append("</tbody></table>")
+    else:
+        out.append("<p>No results for this cap.</p>")
+    # comments carried from a previous revision whose finding is no longer reported
+    carried = [c for c in by_key.values() if c.cap == mark and c.state != "present"]
+    if carried:
+        out.append("<h3>Comments carried from the previous revision</h3>")
+        out.append('<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
+                   "<th>Note</th><th>Designer response</th></tr></thead><tbody>")
+        for c in sorted(carried, key=lambda c: c.no):
+            out.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.check)}</td>'
+                       f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td>"
+                       f"<td>{escape(c.response)}</td></tr>")
+        out.append("</tbody></table>")
+
+    out.append("<h3>Working</h3>")
+    try:
+        lines = list(review.working(mark))
+    except Exception as exc:  # the report is still written; the failure is shown, not hidden
+        out.append(f"<p>Working not available for this cap ({escape(type(exc).__name__)}: {escape(str(exc))}).</p>")
+        lines = None
+    if lines is not None:
+        if not lines:
+            out.append("<p>No working lines recorded for this cap.</p>")
+        groups: dict[str, list[str]] = {}
+        for ln in lines:
+            rule = str(getattr(ln, "rule", "") or "")
+            text = str(getattr(ln, "text", ln))
+            groups.setdefault(rule, []).append(text)
+        for rule, texts in groups.items():
+            if rule:
+                out.append(f'<div class="work-rule">{escape(rule)}</div>')
+            out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
+    out.append(f'<p class="caution small">{escape(SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report."))}</p>')
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _is_num(v: Any) -> bool:
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return False
+    return f == f
+
+
+def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
+                revision: "RevisionResult | None" = None) -> str:
+    f = review.findings
+    counts = count_by_severity(f) if len(f) else {s: 0 for s in SEVERITY_ORDER if s != "ok"}
+    n_ok = int((f["severity"] == "ok").sum()) if len(f) else 0
+    worst = worst_by_cap(f).to_dict() if len(f) else {}
+    marks = _cap_order(review)
+    by_key = {c.key: c for c in comments if c.key}
+    anchors: dict[str, str] = {}
+    title = f"Pile cap check report: {meta.get('submission', '')}"
+
+    h = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+         '<meta name="viewport" content="width=device-width, initial-scale=1">',
+         f"<title>{escape(title)}</title>", f"<style>{_css()}</style></head><body>"]
+    h.append('<header class="report-head">')
+    h.append("<h1>Pile cap check report</h1>")
+    h.append(f'<p class="caution" role="note"><strong>Caution.</strong> {escape(CAUTION)}<br>'
+             f"{escape(NOT_A_SAFETY_CLAIM)}</p>")
+    h.append('<dl class="meta">')
+    for label, key in (("Project", "project"), ("Submission", "submission"), ("Revision", "revision"),
+                       ("Date", "date"), ("Checker", "checker"), ("Profile", "profile"),
+                       ("Rule set", "rule_set")):
+        h.append(f"<dt>{label}</dt><dd>{escape(str(meta.get(key, '') or '–'))}</dd>")
+    h.append("</dl></header>")
+
+    h.append('<section class="summary"><h2>Summary</h2><div class="chips">')
+    for s in SEVERITY_ORDER:
+        n = counts.get(s, 0) if s != "ok" else n_ok
+        h.append(f'<div class="chip sev-{s}" data-severity="{s}"><b>{n}</b>{escape(s)}</div>')
+    h.append("</div><div class=\"chips\">")
+    n_caps = len(marks)
+    for label, n in (("rows read", review.rows_read), ("caps checked", n_caps),
+                     ("rows rejected", len(review.rejected or []))):
+        h.append(f'<div class="chip plain"><b>{n}</b>{label}</div>')
+    by_status = count_by_status(comments)
+    for st in STATUSES:
+        h.append(f'<div class="chip plain"><b>{by_status.get(st, 0)}</b>comments {st}</div>')
+    h.append("</div>")
+    if revision is not None:
+        h.append(f"<p><strong>Revision cycle:</strong> {escape(revision.summary())} "
+                 f"(previous sheet {escape(Path(revision.previous.path).name)}).</p>")
+    for note in review.notes or []:
+        h.append(f"<p class=\"note\">{escape(str(note))}</p>")
+    h.append("<h3>Legend</h3><table class=\"legend\"><tbody>")
+    for s in SEVERITY_ORDER:
+        h.append(f"<tr><td class=\"sev sev-{s}\">{s}</td><td>{escape(SEVERITY_MEANING[s])}</td></tr>")
+    h.append("</tbody></table></section>")
+
+    h.append('<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'
+             "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
+             + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
+             + "</tr></thead><tbody>")
+    for m in marks:
+        a = _anchor(m, anchors)
+        info = _cap_row(review, m)
+        per = f[f["cap"].astype(str) == m]["severity"].value_counts() if len(f) else {}
+        w = worst.get(m, "")
+        h.append(
+            f'<tr data-cap="{escape(m, quote=True)}"><td><a href="#{a}">{escape(m)}</a></td>'
+            f'<td class="num">{_fmt(info.get("piles"))}</td>'
+            f'<td>{" × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth"))}</td>'
+            f'<td class="sev sev-{escape(w)}">{escape(w) or "–"}</td>'
+            + "".join(f'<td class="num">{int(per.get(s, 0)) if len(per) else 0}</td>'
+                      for s in SEVERITY_ORDER if s != "ok")
+            + "</tr>"
+        )
+    h.append("</tbody></table></nav></section>")
+
+    for m in marks:
+        h.append(_cap_section(review, m, _anchor(m, anchors), worst.get(m, ""), by_key))
+
+    if review.rejected:
+        h.append('<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
+                 "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
+                 "<th>Page</th><th>Row</th><th>Reasons</th></tr></thead><tbody>")
+        for rej in review.rejected:
+            src = rej.get("source") or {}
+            errs = "<br>".join(escape(str(e)) for e in rej.get("errors") or [])
+            h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
+                     f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
+                     f"<td>{errs}</td></tr>")
+        h.append("</tbody></table></section>")
+
+    h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
+    h.append("</body></html>")
+    return "\n".join(h)
+
+
+def write_html(review: "Review", path: str | Path, comments: list[Comment], meta: dict[str, Any],
+               *, revision: "RevisionResult | None" = None, force: bool = False) -> Path:
+    return write_atomic(path, render_html(review, comments, meta, revision), force=force)

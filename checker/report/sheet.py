@@ -1,0 +1,481 @@
+"""The check-comment sheet (XLSX, openpyxl).
+
+Sheets, in order:
+
+* ``Cover``: project, submission, revision, date, checker, profile and rule set, counts by severity
+  and by status, the severity colour legend, the revision summary, the caution;
+* ``Comments``: one numbered row per comment (never per passed check), the designer-response
+  column left for the designer and a drop-down checker status;
+* ``All checks``: every result including the passed ones, for the record;
+* ``Rejected rows``: only when the schedule had rows that could not be read;
+* ``capcheck-data`` (hidden): the tool's own figures per key, read back by the next revision.
+
+Every visible sheet carries the caution: in its first row (repeated on every printed page) and in
+the printed footer.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import math
+from pathlib import Path
+from typing import TYPE_CHECKING, Any, Iterable
+
+from openpyxl import Workbook
+from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+from openpyxl.formatting.rule import FormulaRule
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.datavalidation import DataValidation
+from openpyxl.worksheet.worksheet import Worksheet
+
+from checker.caution import CAUTION
+from checker.findings import (
+    SEVERITY_ORDER,
+    comment_key,
+    count_by_severity,
+    describe_source,
+    sort_findings,
+    source_of,
+)
+from checker.report.comments import (
+    ALL_CHECKS_SHEET,
+    COMMENT_HEADINGS,
+    COMMENTS_SHEET,
+    COVER_SHEET,
+    DATA_COLUMNS,
+    DATA_MARKER,
+    DATA_SHEET,
+    NOT_A_SAFETY_CLAIM,
+    REJECTED_SHEET,
+    SEVERITY_MEANING,
+    STATUSES,
+    Comment,
+    check_text,
+    count_by_status,
+    CAUTION_FILL,
+    HEADER_FILL,
+    HEADER_TEXT,
+    SEVERITY_FILL,
+    SEVERITY_TEXT,
+    SHORT_CAUTION,
+    STATUS_MUTED,
+)
+from checker.report.writefile import write_atomic
+
+if TYPE_CHECKING:  # pragma: no cover
+    from checker.api import Review
+    from checker.revision import RevisionResult
+
+COMMENT_WIDTHS: dict[str, float] = {
+    "No.": 6,
+    "Cap": 10,
+    "Check": 24,
+    "Clause": 16,
+    "Found": 46,
+    "Severity": 14,
+    "Action required": 36,
+    "Source": 14,
+    "Designer response": 36,
+    "Checker status": 12,
+    "Key": 10,
+}
+
+ALL_CHECKS_HEADINGS: tuple[str, ...] = (
+    "Cap", "Rule", "Check", "Severity", "Clause", "Value", "Limit", "Unit", "Utilisation",
+    "Message", "Action required", "Source", "Key",
+)
+ALL_CHECKS_WIDTHS = (10, 18, 26, 14, 16, 10, 10, 7, 11, 48, 36, 14, 10)
+
+REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Reasons")
+REJECTED_WIDTHS = (30, 14, 7, 7, 80)
+
+SPARE_ROWS = 200          # drop-down and greying also cover rows a person adds below the comments
+HEADER_ROW = 2            # row 1 carries the caution on every table sheet
+FIRST_DATA_ROW = HEADER_ROW + 1
+
+_THIN = Side(style="thin", color="BFBFBF")
+_BORDER = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
+_WRAP_TOP = Alignment(wrap_text=True, vertical="top")
+_HEAD_FONT = Font(bold=True, color=HEADER_TEXT)
+_HEAD_FILL = PatternFill("solid", fgColor=HEADER_FILL)
+
+
+def severity_fill(severity: str) -> PatternFill | None:
+    colour = SEVERITY_FILL.get(str(severity))
+    return PatternFill("solid", fgColor=colour) if colour else None
+
+
+def severity_font(severity: str, **kw: Any) -> Font:
+    return Font(color=SEVERITY_TEXT.get(str(severity), "1F1F1F"), bold=severity == "unsafe", **kw)
+
+
+def _put(ws: Worksheet, row: int, column: int, value: Any):
+    """Write a cell; text is always stored as text (a response starting with '=' stays words,
+    never becomes a formula) and characters XLSX cannot hold are dropped."""
+    if isinstance(value, str):
+        value = ILLEGAL_CHARACTERS_RE.sub("", value)
+        if value == "":
+            value = None
+    c = ws.cell(row=row, column=column, value=value)
+    if isinstance(value, str) and value.startswith("="):
+        c.data_type = "s"
+    return c
+
+
+def _hf_escape(text: str) -> str:
+    return str(text).replace("&", "&&")
+
+
+def _estimate_lines(text: Any, width: float) -> int:
+    if text is None or text == "":
+        return 1
+    chars = max(int(width * 1.1), 4)
+    lines = 0
+    for part in str(text).split("\n"):
+        lines += max(1, math.ceil(len(part) / chars))
+    return lines
+
+
+def _fit_row_height(ws: Worksheet, row: int, values: Iterable[Any], widths: Iterable[float],
+                    line_height: float = 13.0, max_lines: int = 30) -> None:
+    lines = max((_estimate_lines(v, w) for v, w in zip(values, widths)), default=1)
+    ws.row_dimensions[row].height = line_height * min(max(lines, 1), max_lines) + 3
+
+
+def _print_setup(ws: Worksheet, meta: dict[str, Any], title_rows: str | None) -> None:
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_options.gridLines = False
+    ws.page_margins.left = ws.page_margins.right = 0.5
+    ws.page_margins.top = 0.7
+    ws.page_margins.bottom = 0.8
+    ws.page_margins.header = 0.3
+    ws.page_margins.footer = 0.3
+    if title_rows:
+        ws.print_title_rows = title_rows
+    head = f"{meta.get('project') or ''}".strip()
+    ws.oddHeader.left.text = _hf_escape(head)[:80]
+    ws.oddHeader.left.size = 8
+    ws.oddHeader.center.text = _hf_escape(f"Check comments: {meta.get('submission', '')}")[:90]
+    ws.oddHeader.center.size = 8
+    ws.oddHeader.right.text = _hf_escape(f"Revision {meta.get('revision', '')}, {meta.get('date', '')}")[:60]
+    ws.oddHeader.right.size = 8
+    ws.oddFooter.left.text = _hf_escape(SHORT_CAUTION)
+    ws.oddFooter.left.size = 7
+    ws.oddFooter.right.text = "&[Tab] &P / &N"
+    ws.oddFooter.right.size = 7
+
+
+def _caution_row(ws: Worksheet, ncols: int, widths: Iterable[float]) -> None:
+    ws.cell(row=1, column=1, value=f"Caution: {CAUTION}")
+    ws.merge_cells(start_row=1, start_column=1, end_row=1, end_column=ncols)
+    c = ws.cell(row=1, column=1)
+    c.alignment = Alignment(wrap_text=True, vertical="center")
+    c.font = Font(italic=True, size=9, color="5A3E00")
+    c.fill = PatternFill("solid", fgColor=CAUTION_FILL)
+    total = sum(widths)
+    ws.row_dimensions[1].height = 12.0 * max(2, math.ceil(len(CAUTION) / (total * 1.15))) + 6
+
+
+def _table_header(ws: Worksheet, headings: Iterable[str], widths: Iterable[float]) -> None:
+    for col, (h, w) in enumerate(zip(headings, widths), start=1):
+        c = ws.cell(row=HEADER_ROW, column=col, value=h)
+        c.font = _HEAD_FONT
+        c.fill = _HEAD_FILL
+        c.alignment = Alignment(wrap_text=True, vertical="center")
+        c.border = _BORDER
+        ws.column_dimensions[get_column_letter(col)].width = w
+    ws.row_dimensions[HEADER_ROW].height = 30
+    ws.freeze_panes = ws.cell(row=FIRST_DATA_ROW, column=1)
+
+
+def _num(v: Any) -> Any:
+    if v is None:
+        return None
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return v
+    if math.isnan(f):
+        return None
+    if math.isinf(f):
+        return "n/a"
+    return f
+
+
+# --------------------------------------------------------------------------------------------
+# sheets
+
+def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[str, Any],
+           revision: "RevisionResult | None") -> None:
+    ws.title = COVER_SHEET
+    ws.column_dimensions["A"].width = 24
+    ws.column_dimensions["B"].width = 16
+    ws.column_dimensions["C"].width = 70
+    ws["A1"] = "Pile cap check: comment sheet"
+    ws["A1"].font = Font(bold=True, size=16, color=HEADER_FILL)
+    ws.row_dimensions[1].height = 26
+    ws["A2"] = f"Caution: {CAUTION}"
+    ws.merge_cells("A2:C2")
+    ws["A2"].alignment = Alignment(wrap_text=True, vertical="center")
+    ws["A2"].font = Font(italic=True, size=10, color="5A3E00")
+    ws["A2"].fill = PatternFill("solid", fgColor=CAUTION_FILL)
+    ws.row_dimensions[2].height = 64
+
+    row = 4
+    n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
+        int(review.findings["cap"].nunique()) if len(review.findings) else 0)
+    fields = [
+        ("Project", meta.get("project", "")),
+        ("Submission", meta.get("submission", "")),
+        ("Revision", meta.get("revision", 1)),
+        ("Date", meta.get("date", "")),
+        ("Checker", meta.get("checker", "")),
+        ("Profile", meta.get("profile", "")),
+        ("Rule set", meta.get("rule_set", "")),
+        ("Rows read", review.rows_read),
+        ("Caps checked", n_caps),
+        ("Rows rejected", len(review.rejected or [])),
+    ]
+    if revision is not None:
+        fields.append(("Previous sheet", Path(revision.previous.path).name))
+        fields.append(("Revision summary", revision.summary()))
+    for label, value in fields:
+        ws.cell(row=row, column=1, value=label).font = Font(bold=True)
+        c = _put(ws, row, 2, value)
+        c.alignment = Alignment(horizontal="left", vertical="top", wrap_text=True)
+        if label == "Revision summary":
+            ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+            ws.row_dimensions[row].height = 30
+        elif isinstance(value, str) and len(value) > 14:
+            ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+        row += 1
+
+    row += 1
+    ws.cell(row=row, column=1, value="Findings by severity").font = Font(bold=True, size=12)
+    row += 1
+    for col, h in enumerate(("Severity", "Findings", "Meaning (legend of the colours)"), start=1):
+        c = ws.cell(row=row, column=col, value=h)
+        c.font, c.fill, c.border = _HEAD_FONT, _HEAD_FILL, _BORDER
+    row += 1
+    counts = count_by_severity(review.findings) if len(review.findings) else {}
+    n_ok = int((review.findings["severity"] == "ok").sum()) if len(review.findings) else 0
+    for sev in SEVERITY_ORDER:
+        c = ws.cell(row=row, column=1, value=sev)
+        c.fill = severity_fill(sev)
+        c.font = severity_font(sev)
+        c.border = _BORDER
+        n = counts.get(sev, 0) if sev != "ok" else n_ok
+        ws.cell(row=row, column=2, value=n).border = _BORDER
+        m = ws.cell(row=row, column=3, value=SEVERITY_MEANING[sev])
+        m.border, m.alignment = _BORDER, _WRAP_TOP
+        row += 1
+
+    row += 1
+    ws.cell(row=row, column=1, value="Comments by status").font = Font(bold=True, size=12)
+    row += 1
+    for col, h in enumerate(("Status", "Comments"), start=1):
+        c = ws.cell(row=row, column=col, value=h)
+        c.font, c.fill, c.border = _HEAD_FONT, _HEAD_FILL, _BORDER
+    row += 1
+    by_status = count_by_status(comments)
+    for st in STATUSES:
+        ws.cell(row=row, column=1, value=st).border = _BORDER
+        ws.cell(row=row, column=2, value=by_status.get(st, 0)).border = _BORDER
+        row += 1
+
+    row += 1
+    ws.cell(row=row, column=1, value="Statement").font = Font(bold=True)
+    c = ws.cell(row=row, column=2, value=NOT_A_SAFETY_CLAIM)
+    ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+    c.alignment = _WRAP_TOP
+    ws.row_dimensions[row].height = 30
+    row += 1
+    ws.cell(row=row, column=1, value="How to answer").font = Font(bold=True)
+    c = ws.cell(
+        row=row, column=2,
+        value=("Designer: write a response against each comment in 'Designer response'. Checker: set "
+               "'Checker status' from the drop-down (open / closed / superseded). Keep the 'Key' column "
+               "as it is: the next revision matches comments by it."),
+    )
+    ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+    c.alignment = _WRAP_TOP
+    ws.row_dimensions[row].height = 44
+    if review.notes:
+        row += 2
+        ws.cell(row=row, column=1, value="Notes").font = Font(bold=True)
+        for note in review.notes:
+            c = ws.cell(row=row, column=2, value=str(note))
+            ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+            c.alignment = _WRAP_TOP
+            row += 1
+    _print_setup(ws, meta, None)
+    ws.page_setup.orientation = "portrait"
+
+
+def _comments_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) -> None:
+    ws.title = COMMENTS_SHEET
+    widths = [COMMENT_WIDTHS[h] for h in COMMENT_HEADINGS]
+    ncols = len(COMMENT_HEADINGS)
+    _caution_row(ws, ncols, widths)
+    _table_header(ws, COMMENT_HEADINGS, widths)
+    sev_col = COMMENT_HEADINGS.index("Severity") + 1
+    key_col = COMMENT_HEADINGS.index("Key") + 1
+    status_col = COMMENT_HEADINGS.index("Checker status") + 1
+    row = FIRST_DATA_ROW
+    for cm in comments:
+        values = cm.cells()
+        for col, v in enumerate(values, start=1):
+            c = _put(ws, row, col, v)
+            c.alignment = _WRAP_TOP
+            c.border = _BORDER
+        sev = ws.cell(row=row, column=sev_col)
+        fill = severity_fill(cm.severity)
+        if fill is not None:
+            sev.fill = fill
+            sev.font = severity_font(cm.severity)
+        ws.cell(row=row, column=key_col).font = Font(size=7, color="595959")
+        _fit_row_height(ws, row, values, widths)
+        row += 1
+    last = row - 1
+    end = max(last, HEADER_ROW) + SPARE_ROWS
+    letter = get_column_letter(status_col)
+    dv = DataValidation(
+        type="list",
+        formula1='"' + ",".join(STATUSES) + '"',
+        allow_blank=True,
+        showErrorMessage=True,
+        errorTitle="Checker status",
+        error="Choose open, closed or superseded.",
+        showInputMessage=True,
+        promptTitle="Checker status",
+        prompt="open / closed / superseded",
+    )
+    dv.add(f"{letter}{FIRST_DATA_ROW}:{letter}{end}")
+    ws.add_data_validation(dv)
+    last_letter = get_column_letter(ncols)
+    ws.auto_filter.ref = f"A{HEADER_ROW}:{last_letter}{max(last, HEADER_ROW)}"
+    # Grey a comment once it is closed or superseded, also when a person changes the status later.
+    ws.conditional_formatting.add(
+        f"A{FIRST_DATA_ROW}:{last_letter}{end}",
+        FormulaRule(formula=[f'OR(${letter}{FIRST_DATA_ROW}="closed",${letter}{FIRST_DATA_ROW}="superseded")'],
+                    font=Font(color=STATUS_MUTED, italic=True)),
+    )
+    _print_setup(ws, meta, f"1:{HEADER_ROW}")
+
+
+def _all_checks_sheet(ws: Worksheet, review: "Review", meta: dict[str, Any]) -> None:
+    ws.title = ALL_CHECKS_SHEET
+    ncols = len(ALL_CHECKS_HEADINGS)
+    _caution_row(ws, ncols, ALL_CHECKS_WIDTHS)
+    _table_header(ws, ALL_CHECKS_HEADINGS, ALL_CHECKS_WIDTHS)
+    row = FIRST_DATA_ROW
+    frame = sort_findings(review.findings) if len(review.findings) else review.findings
+    sev_col = ALL_CHECKS_HEADINGS.index("Severity") + 1
+    for r in frame.to_dict("records"):
+        cap, rule = str(r["cap"]), str(r["rule"])
+        values = [
+            cap, rule, check_text(rule, str(r.get("title") or "")), str(r["severity"]),
+            str(r.get("clause") or ""), _num(r.get("value")), _num(r.get("limit")),
+            str(r.get("unit") or ""), _num(r.get("utilisation")), str(r.get("message") or ""),
+            str(r.get("action") or "") if str(r.get("action") or "") != "nan" else "",
+            describe_source(source_of(r)), comment_key(cap, rule),
+        ]
+        for col, v in enumerate(values, start=1):
+            c = _put(ws, row, col, v)
+            c.alignment = _WRAP_TOP
+            c.border = _BORDER
+            if col in (6, 7):
+                c.number_format = "0.0"
+            elif col == 9:
+                c.number_format = "0.00"
+        sev = ws.cell(row=row, column=sev_col)
+        fill = severity_fill(str(r["severity"]))
+        if fill is not None:
+            sev.fill = fill
+            sev.font = severity_font(str(r["severity"]))
+        ws.cell(row=row, column=ncols).font = Font(size=7, color="595959")
+        _fit_row_height(ws, row, values, ALL_CHECKS_WIDTHS)
+        row += 1
+    ws.auto_filter.ref = f"A{HEADER_ROW}:{get_column_letter(ncols)}{max(row - 1, HEADER_ROW)}"
+    _print_setup(ws, meta, f"1:{HEADER_ROW}")
+
+
+def _rejected_sheet(ws: Worksheet, rejected: list[dict[str, Any]], meta: dict[str, Any]) -> None:
+    ws.title = REJECTED_SHEET
+    _caution_row(ws, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
+    _table_header(ws, REJECTED_HEADINGS, REJECTED_WIDTHS)
+    row = FIRST_DATA_ROW
+    for rej in rejected:
+        src = rej.get("source") or {}
+        errors = rej.get("errors") or []
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"),
+                  "\n".join(str(e) for e in errors)]
+        for col, v in enumerate(values, start=1):
+            c = _put(ws, row, col, v)
+            c.alignment = _WRAP_TOP
+            c.border = _BORDER
+        _fit_row_height(ws, row, values, REJECTED_WIDTHS)
+        row += 1
+    ws.auto_filter.ref = f"A{HEADER_ROW}:{get_column_letter(len(REJECTED_HEADINGS))}{max(row - 1, HEADER_ROW)}"
+    _print_setup(ws, meta, f"1:{HEADER_ROW}")
+
+
+def _data_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) -> None:
+    ws.title = DATA_SHEET
+    ws.sheet_state = "hidden"
+    ws.append([DATA_MARKER, "revision", meta.get("revision", 1)])
+    ws.append(list(DATA_COLUMNS))
+    for cm in comments:
+        if not cm.key:
+            continue
+        rec = {
+            "key": cm.key,
+            "no": cm.no,
+            "cap": cm.cap,
+            "rule": cm.rule,
+            "severity": cm.severity,
+            "tool_severity": cm.tool_severity,
+            "tool_utilisation": _num(cm.tool_utilisation),
+            "value": _num(cm.value),
+            "limit": _num(cm.limit),
+            "unit": cm.unit,
+            "message": cm.message,
+            "state": cm.state,
+            "status_written": cm.status,
+            "basis_severity": cm.basis_severity if cm.status == "closed" else "",
+            "basis_utilisation": _num(cm.basis_utilisation) if cm.status == "closed" else None,
+        }
+        r = ws.max_row + 1
+        for col, name in enumerate(DATA_COLUMNS, start=1):
+            _put(ws, r, col, rec[name])
+
+
+def build_workbook(review: "Review", comments: list[Comment], meta: dict[str, Any],
+                   revision: "RevisionResult | None" = None) -> Workbook:
+    wb = Workbook()
+    _cover(wb.active, review, comments, meta, revision)
+    _comments_sheet(wb.create_sheet(), comments, meta)
+    _all_checks_sheet(wb.create_sheet(), review, meta)
+    if review.rejected:
+        _rejected_sheet(wb.create_sheet(), list(review.rejected), meta)
+    _data_sheet(wb.create_sheet(), comments, meta)
+    wb.active = 1  # open on the comments
+    wb.properties.title = f"Check comments: {meta.get('submission', '')}"
+    wb.properties.subject = "capcheck comment sheet"
+    wb.properties.keywords = DATA_MARKER
+    wb.properties.creator = "capcheck"
+    created = meta.get("date")
+    if isinstance(created, _dt.date):
+        wb.properties.created = _dt.datetime.combine(created, _dt.time())
+    return wb
+
+
+def write_sheet(review: "Review", path: str | Path, comments: list[Comment], meta: dict[str, Any],
+                *, revision: "RevisionResult | None" = None, force: bool = False) -> Path:
+    wb = build_workbook(review, comments, meta, revision)
+    return write_atomic(path, lambda fh: wb.save(fh), force=force)

@@ -1,0 +1,79 @@
+"""CSV and Markdown of the check comments (the same columns as the comment sheet) plus the caution.
+
+CSV layout: the first line is a single cell ``Caution: ...``; the second line holds the column
+headings; one comment per line after that (read it with ``pandas.read_csv(path, skiprows=1)``).
+The file is UTF-8 with a byte-order mark so that spreadsheet programs show ``mm²`` and ``°``
+correctly.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+from typing import Any
+
+from checker.caution import CAUTION
+from checker.report.comments import COMMENT_HEADINGS, NOT_A_SAFETY_CLAIM, Comment
+from checker.report.writefile import write_atomic
+
+
+def _cell_text(v: Any) -> str:
+    return "" if v is None else str(v)
+
+
+def comments_csv(comments: list[Comment]) -> str:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\r\n")
+    w.writerow([f"Caution: {CAUTION}"])
+    w.writerow(COMMENT_HEADINGS)
+    for c in comments:
+        w.writerow([_cell_text(v) for v in c.cells()])
+    return buf.getvalue()
+
+
+def _md_escape(v: Any) -> str:
+    text = _cell_text(v)
+    text = text.replace("\\", "\\\\").replace("|", "\\|")
+    text = text.replace("\r\n", "\n").replace("\n", "<br>")
+    return text
+
+
+def comments_markdown(comments: list[Comment], meta: dict[str, Any] | None = None,
+                      summary: str | None = None) -> str:
+    meta = meta or {}
+    lines = ["# Check comments", ""]
+    facts = [
+        ("Project", meta.get("project")),
+        ("Submission", meta.get("submission")),
+        ("Revision", meta.get("revision")),
+        ("Date", meta.get("date")),
+        ("Checker", meta.get("checker")),
+        ("Profile", meta.get("profile")),
+        ("Rule set", meta.get("rule_set")),
+    ]
+    for label, value in facts:
+        if value not in (None, ""):
+            lines.append(f"- **{label}:** {_md_escape(value)}")
+    if summary:
+        lines.append(f"- **Revision summary:** {_md_escape(summary)}")
+    lines += ["", f"> **Caution.** {CAUTION}", ">", f"> {NOT_A_SAFETY_CLAIM}", ""]
+    if not comments:
+        lines.append("No comments: every listed check was met on the figures submitted.")
+        lines.append("")
+        return "\n".join(lines)
+    lines.append("| " + " | ".join(COMMENT_HEADINGS) + " |")
+    lines.append("|" + "|".join("---:" if h == "No." else "---" for h in COMMENT_HEADINGS) + "|")
+    for c in comments:
+        lines.append("| " + " | ".join(_md_escape(v) for v in c.cells()) + " |")
+    lines.append("")
+    return "\n".join(lines)
+
+
+def write_csv(path: str | Path, comments: list[Comment], *, force: bool = False) -> Path:
+    return write_atomic(path, comments_csv(comments), force=force, encoding="utf-8-sig")
+
+
+def write_markdown(path: str | Path, comments: list[Comment], meta: dict[str, Any] | None = None,
+                   *, summary: str | None = None, force: bool = False) -> Path:
+    return write_atomic(path, comments_markdown(comments, meta, summary), force=force)

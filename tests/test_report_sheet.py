@@ -1,0 +1,250 @@
+"""The check-comment sheet read back with openpyxl (issue 5, item 1)."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import openpyxl
+import pytest
+
+sys.path.insert(0, str(Path(__file__).parent))
+
+from conftest_report import META, base_findings, make_review  # noqa: E402
+
+from checker.caution import CAUTION  # noqa: E402
+from checker.findings import count_by_severity  # noqa: E402
+from checker.report import load_project_file, resolve_meta, write_outputs  # noqa: E402
+from checker.report.comments import (  # noqa: E402
+    COMMENT_HEADINGS,
+    DATA_MARKER,
+    NOT_A_SAFETY_CLAIM,
+    SEVERITY_FILL,
+    build_comments,
+)
+
+DATA = Path(__file__).parent / "data" / "report"
+
+
+@pytest.fixture()
+def sheet(tmp_path):
+    rv = make_review()
+    (path,) = write_outputs(rv, [tmp_path / "comments.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    yield rv, wb
+    wb.close()
+
+
+def _rgb(cell) -> str:
+    return (cell.fill.fgColor.rgb or "")[-6:].upper()
+
+
+def _headings(ws, row=2):
+    return [c.value for c in ws[row] if c.value is not None]
+
+
+def test_sheets_in_order(sheet):
+    _, wb = sheet
+    assert wb.sheetnames == ["Cover", "Comments", "All checks", "Rejected rows", "capcheck-data"]
+    assert wb["capcheck-data"].sheet_state == "hidden"
+    assert wb["capcheck-data"]["A1"].value == DATA_MARKER
+    assert wb.active.title == "Comments"
+
+
+def test_comment_columns_and_rows(sheet):
+    rv, wb = sheet
+    ws = wb["Comments"]
+    assert tuple(_headings(ws)) == COMMENT_HEADINGS
+    rows = [r for r in ws.iter_rows(min_row=3, values_only=True) if r[0] is not None]
+    n_comments = int((rv.findings["severity"] != "ok").sum())
+    assert len(rows) == n_comments == 9
+    assert [r[0] for r in rows] == list(range(1, n_comments + 1))
+    # worst first, then cap, then rule (the one sort order)
+    assert [r[5] for r in rows[:2]] == ["unsafe", "unsafe"]
+    keys = [r[10] for r in rows]
+    assert keys[0] == "PC2/tie-steel-x" and len(set(keys)) == len(keys)
+    assert all(r[9] == "open" for r in rows)
+    assert all(r[8] is None for r in rows)   # designer response left empty
+    # no passed check becomes a comment
+    ok_keys = {f"{r['cap']}/{r['rule']}" for r in base_findings() if r["severity"] == "ok"}
+    assert not ok_keys & set(keys)
+
+
+def test_found_text_carries_the_figures(sheet):
+    _, wb = sheet
+    ws = wb["Comments"]
+    row = next(r for r in ws.iter_rows(min_row=3, values_only=True) if r[10] == "PC1/edge-distance")
+    found = row[4]
+    assert "value 100 mm" in found and "limit 150 mm" in found and "utilisation 1.50" in found
+    assert row[2] == "edge-distance: Cap edge beyond the pile face"
+    assert row[3] == "common practice"
+    assert row[6].startswith("Increase the cap")
+    assert row[7] == "row 3"
+    strut = next(r for r in ws.iter_rows(min_row=3, values_only=True) if r[10] == "PC2/strut-angle")
+    assert "value 41.2°" in strut[4] and "limit 45°" in strut[4]
+
+
+def test_severity_fills(sheet):
+    _, wb = sheet
+    ws = wb["Comments"]
+    seen = set()
+    for r in range(3, ws.max_row + 1):
+        sev = ws.cell(row=r, column=6).value
+        if sev is None:
+            continue
+        assert _rgb(ws.cell(row=r, column=6)) == SEVERITY_FILL[sev]
+        seen.add(sev)
+    assert seen == {"unsafe", "non-compliant", "query", "advisory"}
+    # the palette is distinct per severity
+    assert len(set(SEVERITY_FILL.values())) == len(SEVERITY_FILL)
+
+
+def test_status_drop_down(sheet):
+    _, wb = sheet
+    ws = wb["Comments"]
+    dvs = ws.data_validations.dataValidation
+    assert len(dvs) == 1
+    dv = dvs[0]
+    assert dv.type == "list"
+    assert dv.formula1 == '"open,closed,superseded"'
+    ranges = str(dv.sqref)
+    assert ranges.startswith("J3:J")
+    assert int(ranges.split(":J")[1]) >= 3 + 9  # covers every comment and spare rows below
+    assert ws["J2"].value == "Checker status"
+
+
+def test_freeze_filter_widths_wrap(sheet):
+    _, wb = sheet
+    ws = wb["Comments"]
+    assert ws.freeze_panes == "A3"
+    assert ws.auto_filter.ref.startswith("A2:K")
+    widths = {ws.cell(row=2, column=i).value: ws.column_dimensions[openpyxl.utils.get_column_letter(i)].width
+              for i in range(1, 12)}
+    assert widths["Key"] < widths["Found"] and widths["Key"] <= 12
+    assert widths["No."] < widths["Check"]
+    assert ws["E3"].alignment.wrap_text is True
+    assert ws["I3"].alignment.wrap_text is True
+
+
+def test_print_setup_on_every_table_sheet(sheet):
+    _, wb = sheet
+    for name in ("Comments", "All checks", "Rejected rows"):
+        ws = wb[name]
+        assert ws.page_setup.orientation == "landscape", name
+        assert int(ws.page_setup.paperSize) == int(ws.PAPERSIZE_A4) == 9, name
+        assert ws.print_title_rows.replace("$", "") == "1:2", name
+        assert ws.sheet_properties.pageSetUpPr.fitToPage is True
+    assert int(wb["Cover"].page_setup.paperSize) == 9
+
+
+def test_caution_on_every_visible_sheet(sheet):
+    _, wb = sheet
+    assert CAUTION in wb["Cover"]["A2"].value
+    for name in ("Comments", "All checks", "Rejected rows"):
+        ws = wb[name]
+        assert CAUTION in ws["A1"].value, name
+        assert "never claims a design is safe" in ws.oddFooter.left.text, name
+        assert len(ws.oddFooter.left.text) < 255
+    assert "never claims a design is safe" in wb["Cover"].oddFooter.left.text
+
+
+def test_cover(sheet):
+    rv, wb = sheet
+    ws = wb["Cover"]
+    labels = {r[0]: r[1] for r in ws.iter_rows(min_col=1, max_col=2, values_only=True) if r[0]}
+    assert labels["Project"] == META["project"]
+    assert labels["Submission"] == META["submission"]
+    assert labels["Revision"] == 1
+    assert labels["Date"] == "2026-12-02"
+    assert labels["Checker"] == META["checker"]
+    assert labels["Profile"] == "uk-na"
+    assert labels["Rule set"] == "rules/"
+    assert labels["Caps checked"] == 5
+    assert labels["Rows rejected"] == 1
+    counts = count_by_severity(rv.findings)
+    legend = {}
+    for r in range(1, ws.max_row + 1):
+        v = ws.cell(row=r, column=1).value
+        if v in SEVERITY_FILL:
+            legend[v] = (ws.cell(row=r, column=2).value, _rgb(ws.cell(row=r, column=1)))
+    assert set(legend) == set(SEVERITY_FILL)
+    for sev, n in counts.items():
+        assert legend[sev] == (n, SEVERITY_FILL[sev])
+    assert legend["ok"][0] == int((rv.findings["severity"] == "ok").sum())
+    texts = " ".join(str(c.value) for row in ws.iter_rows() for c in row if c.value is not None)
+    assert NOT_A_SAFETY_CLAIM in texts
+    assert "open" in labels and labels["open"] == 9
+
+
+def test_all_checks_has_every_result(sheet):
+    rv, wb = sheet
+    ws = wb["All checks"]
+    assert _headings(ws)[:4] == ["Cap", "Rule", "Check", "Severity"]
+    rows = [r for r in ws.iter_rows(min_row=3, values_only=True) if r[0] is not None]
+    assert len(rows) == len(rv.findings)
+    assert sum(1 for r in rows if r[3] == "ok") == int((rv.findings["severity"] == "ok").sum())
+    pc4 = [r for r in rows if r[0] == "PC4"]
+    assert {r[3] for r in pc4} == {"ok"}
+    assert ws.freeze_panes == "A3"
+    edge = next(r for r in rows if r[0] == "PC1" and r[1] == "edge-distance")
+    assert edge[5] == 100.0 and edge[6] == 150.0 and edge[8] == 1.5   # numbers stay numbers
+    inf_row = next(r for r in rows if r[0] == "PC5" and r[1] == "edge-distance")
+    assert inf_row[8] == "n/a"
+
+
+def test_rejected_rows_sheet(sheet):
+    _, wb = sheet
+    ws = wb["Rejected rows"]
+    assert _headings(ws) == ["File", "Sheet", "Page", "Row", "Reasons"]
+    row = next(ws.iter_rows(min_row=3, max_row=3, values_only=True))
+    assert row[0] == "ashgrove-caps-rev1.csv" and row[3] == 9
+    assert "six hundred" in row[4] and "cap_depth missing" in row[4]
+
+
+def test_no_rejected_sheet_when_none(tmp_path):
+    rv = make_review(rejected=[])
+    (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    assert "Rejected rows" not in wb.sheetnames
+
+
+def test_no_comments_still_a_valid_sheet(tmp_path):
+    rows = [r for r in base_findings() if r["severity"] == "ok"]
+    rv = make_review(rows)
+    (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    ws = wb["Comments"]
+    assert [c.value for c in ws[3]][:1] == [None]
+    assert wb["Comments"].data_validations.dataValidation[0].sqref is not None
+
+
+def test_text_that_looks_like_a_formula_stays_text(tmp_path):
+    rows = base_findings()
+    rows[1]["message"] = "=SUM(A1:A3) is what the designer wrote"
+    rows[1]["action"] = "provide\x07 more"   # control character XLSX cannot hold
+    rv = make_review(rows)
+    (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    cell = next(c for c in wb["Comments"]["E"] if c.value and "SUM" in str(c.value))
+    assert cell.data_type == "s"
+
+
+def test_comment_model_matches_sheet(sheet):
+    rv, wb = sheet
+    comments = build_comments(rv)
+    ws = wb["Comments"]
+    for cm, row in zip(comments, ws.iter_rows(min_row=3, values_only=True)):
+        assert list(row) == [v if v != "" else None for v in cm.cells()]
+
+
+def test_project_file_meta():
+    meta = load_project_file(DATA / "project.toml")
+    assert meta["project"].startswith("Ashgrove Lane")
+    assert meta["rule_set"] == "capcheck rules, uk-na profile"
+    assert meta["revision"] == "B"
+    rv = make_review()
+    m = resolve_meta(rv, meta)
+    assert m["date"] == "2026-12-09" and m["checker"] == "R. Example" and m["profile"] == "uk-na"
+    # the spine passes the TOML as it reads it: a [project] table must work too
+    m2 = resolve_meta(rv, {"project": {"name": "X"}, "revision": "C"})
+    assert m2["project"] == "X" and m2["revision"] == "C"

@@ -1,0 +1,61 @@
+"""CSV and Markdown of the comments (issue 5, item 2): same columns as the sheet, plus the caution."""
+
+from __future__ import annotations
+
+import csv
+import sys
+from pathlib import Path
+
+import pandas as pd
+
+sys.path.insert(0, str(Path(__file__).parent))
+
+from conftest_report import META, base_findings, make_review  # noqa: E402
+
+from checker.caution import CAUTION  # noqa: E402
+from checker.report import write_outputs  # noqa: E402
+from checker.report.comments import COMMENT_HEADINGS, build_comments  # noqa: E402
+
+
+def test_csv(tmp_path):
+    rv = make_review()
+    (path,) = write_outputs(rv, [tmp_path / "c.csv"], meta=META)
+    raw = path.read_bytes()
+    assert raw.startswith(b"\xef\xbb\xbf")   # BOM so that spreadsheet programs read UTF-8
+    with open(path, encoding="utf-8-sig", newline="") as fh:
+        rows = list(csv.reader(fh))
+    assert rows[0] == [f"Caution: {CAUTION}"]
+    assert tuple(rows[1]) == COMMENT_HEADINGS
+    comments = build_comments(rv)
+    assert len(rows) - 2 == len(comments) == 9
+    assert rows[2][0] == "1" and rows[2][10] == "PC2/tie-steel-x"
+    frame = pd.read_csv(path, skiprows=1, encoding="utf-8-sig")
+    assert list(frame.columns) == list(COMMENT_HEADINGS)
+    assert frame["Key"].is_unique
+    assert "mm²" in " ".join(frame["Found"])
+
+
+def test_markdown(tmp_path):
+    rows = base_findings()
+    rows[1]["message"] = "line one\nline two | with a pipe"
+    rv = make_review(rows)
+    (path,) = write_outputs(rv, [tmp_path / "c.md"], meta=META)
+    text = path.read_text(encoding="utf-8")
+    assert CAUTION in text
+    assert "never claims that a design is safe" in text
+    assert "| " + " | ".join(COMMENT_HEADINGS) + " |" in text
+    table = [ln for ln in text.splitlines() if ln.startswith("| ") and not ln.startswith("| No.")]
+    assert len(table) == 9
+    # every row keeps the column count: pipes inside cells are escaped, newlines become <br>
+    for ln in table:
+        cells = [c for c in ln.replace("\\|", "").split("|")][1:-1]
+        assert len(cells) == len(COMMENT_HEADINGS)
+    assert "line one<br>line two \\| with a pipe" in text
+    assert f"**Project:** {META['project']}" in text
+
+
+def test_markdown_without_comments(tmp_path):
+    rv = make_review([r for r in base_findings() if r["severity"] == "ok"])
+    (path,) = write_outputs(rv, [tmp_path / "c.md"], meta=META)
+    text = path.read_text(encoding="utf-8")
+    assert "No comments" in text and CAUTION in text
