@@ -1,0 +1,275 @@
+"""PDF -> RawTable(s), with pdfplumber.
+
+``read_pdf_tables`` reads every schedule table in a PDF. Per page it chooses how to read it from
+what the page holds (``strategy="auto"``):
+
+* a ruled grid (vertical and horizontal rules) -> pdfplumber's lines strategy (``pdf_ruled``);
+* otherwise the text layer with explicit edges (``pdf_unruled``): column edges in the whitespace
+  between the words' x-extents (or on vertical rules), row edges at the first-column marks and
+  at horizontal rules, so a table with horizontal rules only is read as text across and rules
+  down;
+* text that reads up or down the page (a landscape table drawn sideways) is turned upright first
+  and read from the text layer. Pages with a /Rotate entry are turned by pdfplumber already.
+
+``strategy="lines"`` or ``"text"`` forces one method on every page.
+
+A table is recognised by its heading row (at least three cells that look like schedule
+headings); a page without a heading row continues the table before it when its rows fit that
+table's columns. Bad documents raise :class:`IngestError` with a message for the user; a page that
+cannot be read becomes a note and the rest are still read.
+"""
+
+from __future__ import annotations
+
+import os
+from typing import Callable
+
+from checker.ingest.errors import IngestError
+from checker.ingest.pdf_model import Layout, PageTable
+from checker.ingest.pdf_text import build_lines, glyphs_from_chars, heading_matcher, text_direction
+from checker.ingest.raw import RawTable
+
+STRATEGIES = ("auto", "lines", "text")
+
+_NO_TEXT = ("{name} has no text to read: its pages are images (a scan or a picture of the "
+            "schedule). Reading scanned documents (OCR) is out of scope; ask for the PDF as "
+            "exported from the spreadsheet or drawing program, or for the schedule as CSV/XLSX.")
+
+
+def read_pdf_tables(path, *, strategy: str = "auto", max_pages: int | None = None,
+                    progress=None) -> tuple[list[RawTable], list[str]]:
+    """Read the schedule tables of a PDF.
+
+    Returns the tables found (one RawTable per table; a table running over several pages is one
+    RawTable whose ``pages`` and ``row_numbers`` say where each row is, rows counted from 1 within
+    the table on each page) and notes for the user (pages skipped, rows read with doubts).
+
+    ``progress(pages_done, pages_total)`` is called after each page.
+    Raises :class:`IngestError` when nothing can be read (no file, not a PDF, encrypted, damaged,
+    no text layer, no schedule table, more pages than ``max_pages``).
+    """
+    name = os.fspath(path) if not isinstance(path, str) else path
+    if strategy not in STRATEGIES:
+        raise IngestError(f"unknown PDF reading strategy '{strategy}': use one of "
+                          + ", ".join(STRATEGIES))
+    _check_file(name)
+    pdf = _open(name)
+    notes: list[str] = []
+    tables: list[RawTable] = []
+    try:
+        try:
+            pages = pdf.pages
+            total = len(pages)
+        except Exception as exc:
+            raise IngestError(_damaged(name, exc)) from None
+        if total == 0:
+            raise IngestError(f"{name}: the PDF has no pages (damaged or truncated?)")
+        if max_pages is not None and total > max_pages:
+            raise IngestError(
+                f"{name} has {total} pages, more than the limit of {max_pages} pages for a PDF "
+                f"schedule; raise the limit (--max-pages {total}) if this really is the schedule")
+        is_heading = heading_matcher()
+        pages_with_text = 0
+        failed: list[int] = []
+        prev: Layout | None = None      # layout of the table read last, for a continuation
+        current: RawTable | None = None
+        for page_no, page in enumerate(pages, start=1):
+            try:
+                page_tables, has_text, page_note = _read_page(page, page_no, strategy,
+                                                              is_heading, prev)
+            except IngestError:
+                raise
+            except Exception as exc:   # a damaged page: say so and read the others
+                failed.append(page_no)
+                notes.append(f"page {page_no}: could not be read ({_reason(exc)}); skipped")
+                page_tables, has_text, page_note = [], False, None
+                prev = None
+            finally:
+                try:
+                    page.close()
+                except Exception:
+                    pass
+                if progress is not None:
+                    try:
+                        progress(page_no, total)
+                    except Exception:
+                        pass
+            pages_with_text += bool(has_text)
+            if page_note:
+                notes.append(page_note)
+            got_rows = False
+            for pt in page_tables:
+                notes.extend(pt.notes)
+                if pt.headings is None:
+                    if current is None:
+                        continue
+                    notes.append(f"page {page_no}: no heading row; read as a continuation of "
+                                 f"the table from page {_first_page(current)}")
+                elif current is None or not _same_headings(current.headings, pt.headings) \
+                        or len(current.headings) != len(pt.headings):
+                    current = RawTable(file=name, sheet=None, headings=list(pt.headings),
+                                       rows=[], pages=[], row_numbers=[])
+                    tables.append(current)
+                current.rows.extend(pt.rows)
+                current.pages.extend([page_no] * len(pt.rows))
+                current.row_numbers.extend(pt.row_numbers)
+                got_rows = got_rows or bool(pt.rows)
+                prev = pt.layout
+            if not page_tables:
+                if has_text and not page_note:
+                    notes.append(f"page {page_no}: no schedule table, skipped")
+                prev = prev if page_tables else None
+            elif not got_rows and all(pt.headings is None for pt in page_tables):
+                notes.append(f"page {page_no}: no schedule table, skipped")
+    finally:
+        try:
+            pdf.close()
+        except Exception:
+            pass
+
+    if not tables:
+        if pages_with_text == 0 and not failed:
+            raise IngestError(_NO_TEXT.format(name=name))
+        if failed and pages_with_text == 0:
+            raise IngestError(f"{name}: no page could be read (the PDF looks damaged); "
+                              + "; ".join(notes[:3]))
+        raise IngestError(
+            f"no schedule table found in {name}: no page has a heading row with at least three "
+            f"schedule headings (such as mark, piles, pile diameter, cap size or depth, column, "
+            f"load, concrete, bars, cover). Check that this is the schedule, force a method "
+            f"with the PDF strategy option, or give the schedule as CSV/XLSX."
+            + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
+    for t in tables:
+        if not t.rows:
+            notes.append(f"table with headings {', '.join(repr(h) for h in t.headings[:4])}"
+                         f"... on page {_first_page(t) or '?'} has no rows")
+    return tables, notes
+
+
+# --------------------------------------------------------------------------------------------
+
+
+def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bool],
+               prev: Layout | None) -> tuple[list[PageTable], bool, str | None]:
+    chars = page.chars
+    if not chars:
+        if page.images:
+            return [], False, (f"page {page_no}: no text layer (a scanned image?); reading "
+                               f"scans (OCR) is out of scope, skipped")
+        if page.curves or page.rects or page.lines:
+            return [], False, (f"page {page_no}: no text to read (drawing only, or text drawn "
+                               f"as outlines), skipped")
+        return [], False, f"page {page_no}: blank, skipped"
+    rotation = text_direction(chars)
+    edges = page.edges if strategy != "text" else []
+    nh = sum(1 for e in edges if e["orientation"] == "h")
+    nv = len(edges) - nh
+    if strategy in ("auto", "lines") and rotation == 0 and nh >= 2 and nv >= 2:
+        from checker.ingest.pdf_ruled import find_ruled_tables
+
+        found = find_ruled_tables(page, page_no, is_heading, prev)
+        if found or strategy == "lines":
+            return found, True, None
+    if strategy == "lines":
+        return [], True, f"page {page_no}: no ruled schedule table (strategy 'lines'), skipped"
+
+    from checker.ingest.pdf_unruled import find_text_tables
+
+    w, h = float(page.width), float(page.height)
+    glyphs = glyphs_from_chars(chars, rotation, w, h)
+    lines, _ = build_lines(glyphs)
+    hrules, vrules = _rules(edges, rotation, w, h) if strategy == "auto" else ([], [])
+    if prev is not None and prev.rotation != rotation:
+        prev = None
+    found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules, prev=prev,
+                             rotation=rotation)
+    return found, True, None
+
+
+def _rules(edges, rotation: int, w: float, h: float):
+    """Page edges -> (horizontal rules (x0, x1, y), vertical rules (x, top, bottom)) in the
+    reading frame of the text."""
+    hr, vr = [], []
+    for e in edges:
+        horizontal = e["orientation"] == "h"
+        if rotation == 0:
+            if horizontal:
+                hr.append((e["x0"], e["x1"], e["top"]))
+            else:
+                vr.append((e["x0"], e["top"], e["bottom"]))
+        elif rotation == 90:        # frame x = h - top, frame y = x
+            if horizontal:
+                vr.append((h - e["top"], e["x0"], e["x1"]))
+            else:
+                hr.append((h - e["bottom"], h - e["top"], e["x0"]))
+        else:                       # 270: frame x = top, frame y = w - x
+            if horizontal:
+                vr.append((e["top"], w - e["x1"], w - e["x0"]))
+            else:
+                hr.append((e["top"], e["bottom"], w - e["x0"]))
+    return hr, vr
+
+
+def _same_headings(a: list[str], b: list[str]) -> bool:
+    norm = lambda xs: [" ".join(x.lower().split()) for x in xs]  # noqa: E731
+    return norm(a) == norm(b)
+
+
+def _first_page(t: RawTable) -> int | None:
+    return next((p for p in t.pages if p is not None), None)
+
+
+def _check_file(name: str) -> None:
+    if not os.path.exists(name):
+        raise IngestError(f"{name}: file not found")
+    if os.path.isdir(name):
+        raise IngestError(f"{name} is a folder, not a PDF file")
+    try:
+        with open(name, "rb") as fh:
+            head = fh.read(1024)
+    except OSError as exc:
+        raise IngestError(f"{name} cannot be read: {exc.strerror or exc}") from None
+    if not head:
+        raise IngestError(f"{name} is empty (0 bytes): not a PDF")
+    if b"%PDF-" not in head:
+        raise IngestError(f"{name} is not a PDF (it does not start with %PDF-); if it is a "
+                          f"spreadsheet or CSV, give it with its own extension")
+
+
+def _open(name: str):
+    import pdfplumber
+
+    try:
+        return pdfplumber.open(name)
+    except Exception as exc:
+        cause = _cause(exc)
+        kind = type(cause).__name__
+        if kind == "PDFPasswordIncorrect" or "password" in str(cause).lower():
+            raise IngestError(
+                f"{name} is encrypted and needs a password to open. capcheck does not read "
+                f"protected PDFs: ask for an unprotected copy, or save one without the password "
+                f"(print to PDF), or give the schedule as CSV/XLSX.") from None
+        if "Encryption" in kind or "encrypt" in str(cause).lower():
+            raise IngestError(
+                f"{name} is encrypted in a way that cannot be read ({cause or kind}); ask for an "
+                f"unprotected copy or the schedule as CSV/XLSX.") from None
+        raise IngestError(_damaged(name, exc)) from None
+
+
+def _cause(exc: BaseException) -> BaseException:
+    # pdfplumber wraps pdfminer's errors: PdfminerException(original)
+    if type(exc).__name__ == "PdfminerException" and exc.args and \
+            isinstance(exc.args[0], BaseException):
+        return exc.args[0]
+    return exc
+
+
+def _reason(exc: BaseException) -> str:
+    cause = _cause(exc)
+    text = str(cause).strip()
+    return f"{type(cause).__name__}: {text}" if text else type(cause).__name__
+
+
+def _damaged(name: str, exc: BaseException) -> str:
+    return (f"{name} is damaged or truncated and cannot be opened ({_reason(exc)}). Ask for the "
+            f"file again, or export it once more from the program that made it.")

@@ -1,0 +1,154 @@
+"""Schedule tables drawn as a ruled grid, read with pdfplumber's lines strategy.
+
+pdfplumber recovers ruled cells exactly (libraries.md); what is added here is finding the
+schedule among the page's grids (title blocks and revision boxes are grids too), joining a
+heading over two or three grid rows (spanned cells come back as ``None``), dropping spacer and
+notes rows, and reading a grid without a heading row as the continuation of the table before it.
+"""
+
+from __future__ import annotations
+
+from typing import Callable
+
+from checker.ingest.pdf_model import Layout, PageTable
+from checker.ingest.pdf_text import is_stop_text, looks_like_value, normalise_cell
+
+_MAX_HEADING_SEARCH = 6     # a heading row is looked for among a grid's first rows only
+
+
+def _columns(table) -> list[tuple[float, float]]:
+    """x-extent of each grid column."""
+    rows = table.rows
+    ncols = max((len(r.cells) for r in rows), default=0)
+    x0s: list[float | None] = [None] * ncols
+    for r in rows:
+        for c, bb in enumerate(r.cells):
+            if bb is not None and x0s[c] is None:
+                x0s[c] = bb[0]
+    right = table.bbox[2]
+    out: list[tuple[float, float]] = []
+    for c in range(ncols):
+        x0 = x0s[c] if x0s[c] is not None else (out[-1][1] if out else table.bbox[0])
+        nxt = next((x for x in x0s[c + 1:] if x is not None), right)
+        out.append((x0, nxt))
+    return out
+
+
+def _is_heading_row(texts: list[str], is_heading: Callable[[str], bool]) -> bool:
+    filled = [t for t in texts if t]
+    if len(filled) < 3 or any(looks_like_value(t) for t in filled):
+        return False
+    return sum(1 for t in filled if is_heading(t)) >= 3
+
+
+def _spanned_from_left(table, data, r: int, c: int, cols) -> str | None:
+    """Text of the cell in row r that spans over column c from the left, if any."""
+    cells = table.rows[r].cells
+    mid = (cols[c][0] + cols[c][1]) / 2.0
+    for cc in range(c - 1, -1, -1):
+        bb = cells[cc] if cc < len(cells) else None
+        if bb is not None:
+            return data[r][cc] if bb[2] > mid else None
+    return None
+
+
+def _spanned_from_above(table, data, r: int, c: int) -> str | None:
+    """Text of the cell that spans down over row r in column c, if any."""
+    top = table.rows[r].bbox[1]
+    bottom = table.rows[r].bbox[3]
+    mid = (top + bottom) / 2.0
+    for rr in range(r - 1, -1, -1):
+        cells = table.rows[rr].cells
+        bb = cells[c] if c < len(cells) else None
+        if bb is not None:
+            return data[rr][c] if bb[3] > mid else None
+    return None
+
+
+def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
+                      prev: Layout | None) -> list[PageTable]:
+    """Every schedule table among the page's ruled grids (and grids continuing ``prev``)."""
+    found = sorted(page.find_tables(), key=lambda t: (round(t.bbox[1]), t.bbox[0]))
+    out: list[PageTable] = []
+    for t in found:
+        data = t.extract()
+        if not data:
+            continue
+        cols = _columns(t)
+        ncols = len(cols)
+        if ncols < 3:
+            continue
+        data = [list(r) + [None] * (ncols - len(r)) for r in data]
+        texts = [[normalise_cell(x) for x in r] for r in data]
+        hr = next((r for r in range(min(len(data), _MAX_HEADING_SEARCH))
+                   if _is_heading_row(texts[r], is_heading)), None)
+        layout = Layout(cells=cols, headings=[], ruled=True)
+        notes: list[str] = []
+        if hr is None:
+            if prev is None or not prev.matches(layout):
+                continue
+            headings = None
+            layout.headings = list(prev.headings)
+            first = 0
+        else:
+            last = hr
+            while (last + 1 < len(data) and last - hr < 2
+                   and any(texts[last + 1])
+                   and not any(looks_like_value(x) for x in texts[last + 1] if x)
+                   and not is_stop_text(next(x for x in texts[last + 1] if x))):
+                last += 1
+            headings = []
+            for c in range(ncols):
+                parts = []
+                for r in range(hr, last + 1):
+                    if data[r][c] is None:
+                        if r == hr or _spanned_from_above(t, data, r, c) is None:
+                            span = _spanned_from_left(t, data, r, c, cols)
+                            if span:
+                                parts.append(normalise_cell(span))
+                        continue
+                    if texts[r][c]:
+                        parts.append(texts[r][c])
+                headings.append(" ".join(parts))
+            layout.headings = headings
+            first = last + 1
+        rows: list[list[str]] = []
+        numbers: list[int] = []
+        for r in range(first, len(data)):
+            cells = texts[r]
+            filled = [x for x in cells if x]
+            if not filled:
+                continue                                    # spacer row
+            if is_stop_text(filled[0]):
+                break                                       # notes inside the grid
+            raw = data[r]
+            if headings is not None and _is_heading_row(cells, is_heading) and \
+                    [h.lower() for h in cells] == [h.lower() for h in texts[hr]]:
+                continue                                    # heading repeated inside the grid
+            missing = [c for c in range(ncols) if raw[c] is None]
+            if missing:
+                row_text = list(cells)
+                horizontal = []
+                for c in missing:
+                    above = _spanned_from_above(t, data, r, c)
+                    if above is not None:
+                        row_text[c] = normalise_cell(above)   # a cell merged down over rows
+                    else:
+                        horizontal.append(c)
+                if horizontal and len(filled) == 1 and len(horizontal) >= ncols - 2:
+                    notes.append(f"page {page_no}: '{filled[0]}' runs across the table; "
+                                 f"not read as a cap")
+                    continue
+                cells = row_text
+                if horizontal:
+                    names = (layout.headings or [""] * ncols)
+                    notes.append(
+                        f"page {page_no}, row {len(rows) + 1}: merged cells under "
+                        + ", ".join(f"'{names[c]}'" for c in horizontal)
+                        + " (read as empty)")
+            rows.append(cells)
+            numbers.append(len(rows))
+        out.append(PageTable(page=page_no, headings=headings, layout=layout, rows=rows,
+                             row_numbers=numbers, method="lines", notes=notes))
+        prev = layout
+    return out

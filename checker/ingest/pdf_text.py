@@ -1,0 +1,336 @@
+"""Text-layer primitives for PDF ingest: glyphs -> text lines -> words, and the small tests that
+decide whether a piece of text looks like a schedule heading, a value, or the start of a notes block.
+
+Everything here works on plain tuples and small classes so that a 50-page schedule stays cheap;
+pdfplumber is only used by the callers (``pdf.py``, ``pdf_ruled.py``, ``pdf_unruled.py``).
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from typing import Callable, Iterable, Sequence
+
+# --------------------------------------------------------------------------------------------
+# Glyphs, words and lines
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(slots=True)
+class Glyph:
+    text: str
+    x0: float
+    x1: float
+    top: float
+    bottom: float
+    size: float
+
+    @property
+    def mid_y(self) -> float:
+        return (self.top + self.bottom) / 2.0
+
+    @property
+    def mid_x(self) -> float:
+        return (self.x0 + self.x1) / 2.0
+
+
+@dataclass(slots=True)
+class Word:
+    """A run of glyphs on one line with no gap wider than the word tolerance.
+
+    With the blank characters kept, one word is normally one cell's text as the generator drew it
+    ("Pile dia (mm)", "H16@150 B1"); two cells whose text touches come out as one word and are
+    split later at a glyph boundary (see pdf_unruled).
+    """
+
+    glyphs: list[Glyph]          # the non-blank glyphs, in x order
+    text: str                    # the text, blanks kept (inner runs of blanks collapsed to one)
+    x0: float
+    x1: float
+    top: float
+    bottom: float
+    size: float
+    spaces_after: list[bool] = field(default_factory=list)  # per glyph: a blank follows it
+
+    def boundaries(self) -> list[tuple[float, int]]:
+        """Inner glyph boundaries where the word could be split without cutting a glyph and
+        without falling on a blank: (x position, index of the first glyph on the right)."""
+        out = []
+        g = self.glyphs
+        for i in range(1, len(g)):
+            if self.spaces_after[i - 1]:
+                continue
+            out.append(((g[i - 1].x1 + g[i].x0) / 2.0, i))
+        return out
+
+    def split_at(self, i: int) -> tuple["Word", "Word"]:
+        return _word_from(self.glyphs[:i], self.spaces_after[:i]), _word_from(
+            self.glyphs[i:], self.spaces_after[i:])
+
+
+def _word_from(glyphs: list[Glyph], spaces_after: list[bool]) -> Word:
+    parts = []
+    for g, sp in zip(glyphs, spaces_after):
+        parts.append(g.text)
+        if sp:
+            parts.append(" ")
+    text = "".join(parts).strip()
+    return Word(
+        glyphs=glyphs,
+        text=text,
+        x0=min(g.x0 for g in glyphs),
+        x1=max(g.x1 for g in glyphs),
+        top=min(g.top for g in glyphs),
+        bottom=max(g.bottom for g in glyphs),
+        size=max(g.size for g in glyphs),
+        spaces_after=list(spaces_after),
+    )
+
+
+@dataclass(slots=True)
+class Line:
+    words: list[Word]
+    top: float
+    bottom: float
+    size: float
+
+    @property
+    def mid_y(self) -> float:
+        return (self.top + self.bottom) / 2.0
+
+    @property
+    def x0(self) -> float:
+        return self.words[0].x0
+
+    @property
+    def x1(self) -> float:
+        return max(w.x1 for w in self.words)
+
+    @property
+    def text(self) -> str:
+        return "  ".join(w.text for w in self.words)
+
+
+def glyphs_from_chars(chars: Iterable[dict], rotation: int = 0, page_w: float = 0.0,
+                      page_h: float = 0.0) -> list[Glyph]:
+    """pdfplumber chars -> Glyphs, in an upright reading frame.
+
+    ``rotation`` is the direction of the text on the page when it is not upright (90: the text
+    reads up the page, 270: down the page); the glyphs are turned so that the text reads left to
+    right in the returned coordinates.
+    """
+    out: list[Glyph] = []
+    append = out.append
+    if rotation == 0:
+        for c in chars:
+            append(Glyph(c["text"], c["x0"], c["x1"], c["top"], c["bottom"], c["size"]))
+    elif rotation == 90:      # reads bottom to top: turn the page clockwise
+        for c in chars:
+            append(Glyph(c["text"], page_h - c["bottom"], page_h - c["top"], c["x0"], c["x1"],
+                         c["size"]))
+    else:                     # 270: reads top to bottom: turn the page anticlockwise
+        for c in chars:
+            append(Glyph(c["text"], c["top"], c["bottom"], page_w - c["x1"], page_w - c["x0"],
+                         c["size"]))
+    return out
+
+
+def text_direction(chars: Sequence[dict]) -> int:
+    """0 when most glyphs are upright, else 90 (text reads up the page) or 270 (down)."""
+    upright = up = down = 0
+    for c in chars:
+        if c.get("upright", True):
+            upright += 1
+            continue
+        m = c.get("matrix") or (1, 0, 0, 1, 0, 0)
+        # matrix (a, b, c, d): the text's x direction in PDF space is (a, b); PDF y points up
+        if m[1] > 0:
+            up += 1
+        else:
+            down += 1
+    if upright >= up + down:
+        return 0
+    return 90 if up >= down else 270
+
+
+def build_lines(glyphs: list[Glyph]) -> tuple[list[Line], bool]:
+    """Group glyphs into text lines (by vertical middle) and words (by horizontal gaps).
+
+    Returns the lines sorted top to bottom and whether the page draws its blanks as characters.
+    When it does, a word is a run of glyphs with (almost) no gap, blanks included: that is one
+    cell's text; otherwise gaps up to about a blank's width are read as blanks.
+    """
+    if not glyphs:
+        return [], True
+    explicit_blanks = any(g.text == " " for g in glyphs)
+    ordered = sorted(glyphs, key=lambda g: (g.top + g.bottom))
+    groups: list[list[Glyph]] = []
+    ref = None
+    tol = 0.0
+    cur: list[Glyph] = []
+    for g in ordered:
+        m = (g.top + g.bottom) / 2.0
+        if ref is None or m - ref > tol:
+            if cur:
+                groups.append(cur)
+            cur = [g]
+            ref = m
+            tol = 0.45 * max(g.size, 1.0)
+        else:
+            cur.append(g)
+    if cur:
+        groups.append(cur)
+
+    lines: list[Line] = []
+    for grp in groups:
+        grp.sort(key=lambda g: g.x0)
+        words = _words_of(grp, explicit_blanks)
+        if not words:
+            continue
+        lines.append(Line(words=words, top=min(w.top for w in words),
+                          bottom=max(w.bottom for w in words),
+                          size=_median([w.size for w in words])))
+    lines.sort(key=lambda ln: ln.top)
+    return lines, explicit_blanks
+
+
+def _words_of(grp: list[Glyph], explicit_blanks: bool) -> list[Word]:
+    words: list[Word] = []
+    glyphs: list[Glyph] = []
+    spaces: list[bool] = []
+    last_x1 = 0.0
+    pending_blank = False
+    for g in grp:
+        if not g.text or g.text.isspace():
+            if glyphs:              # a blank inside or after a word: it bridges the gap it fills
+                pending_blank = True
+                if g.x1 > last_x1:
+                    last_x1 = g.x1
+            continue
+        if glyphs:
+            size = g.size if g.size > 1.0 else 1.0
+            gap = g.x0 - last_x1
+            if explicit_blanks:
+                new_word = gap > min(1.5, max(0.6, 0.12 * size))
+                blank = pending_blank
+            else:
+                new_word = gap > 0.45 * size
+                blank = pending_blank or gap > 0.12 * size
+            if new_word:
+                words.append(_word_from(glyphs, spaces[:-1] + [False]))
+                glyphs, spaces = [], []
+            elif blank:
+                spaces[-1] = True
+        glyphs.append(g)
+        spaces.append(False)
+        pending_blank = False
+        if len(glyphs) == 1 or g.x1 > last_x1:
+            last_x1 = g.x1
+    if glyphs:
+        words.append(_word_from(glyphs, spaces[:-1] + [False]))
+    return words
+
+
+def _median(values: list[float]) -> float:
+    if not values:
+        return 0.0
+    s = sorted(values)
+    n = len(s)
+    return s[n // 2] if n % 2 else (s[n // 2 - 1] + s[n // 2]) / 2.0
+
+
+def normalise_cell(text: object) -> str:
+    """Cell text as one line: runs of whitespace (line breaks of a wrapped cell) -> one blank."""
+    if text is None:
+        return ""
+    return " ".join(str(text).split())
+
+
+# --------------------------------------------------------------------------------------------
+# What a piece of text looks like
+# --------------------------------------------------------------------------------------------
+
+# Words that schedule headings are made of. Only used to recognise a heading row (at least three
+# cells); mapping a heading to a field is the heading mapper's job (checker.ingest.headings).
+HEADING_WORDS = frozenset("""
+mark marks ref reference id type cap caps pile piles pilecap no nr number qty count dia diameter
+spacing centres centers crs length width depth thickness size dimensions dims plan overall
+column col columns load loads axial ned n_ed nsd moment moments mx my mxed myed med uls
+concrete grade class strength fck fcu fyk fy steel bars bar reinforcement reinft rebar bottom
+main tie ties cover nominal exposure embedment embed capacity resistance reaction reactions
+stated required provided area as asx asy layout group arrangement remarks comments notes
+""".split())
+
+_HEADING_PATTERNS = re.compile(
+    r"(l\s*[x×]\s*w\s*[x×]\s*[dh]|n\s*_?\s*ed|m\s*[xy]\s*,?\s*_?\s*ed|\bh\b|\bl\b|\bw\b|\bd\b|"
+    r"\bb\b|\bs\b|ø|⌀|φ|\bphi\b)",
+    re.IGNORECASE)
+_TOKEN = re.compile(r"[a-z_]+", re.IGNORECASE)
+_UNITS = re.compile(
+    r"\(?\s*\b(?:mm|mm2|mm²|m|m2|m²|kn|knm|kn\.?m|kn·m|mpa|n/mm2|n/mm²|kn/m2|kn/m²|no\.?|nr|deg)"
+    r"\b\s*\)?", re.IGNORECASE)
+
+
+def _keyword_heading(text: str) -> bool:
+    t = text.strip()
+    if not t or len(t) > 60:
+        return False
+    for tok in _TOKEN.findall(t.lower()):
+        if tok in HEADING_WORDS:
+            return True
+    return bool(_HEADING_PATTERNS.search(t))
+
+
+def heading_matcher() -> Callable[[str], bool]:
+    """``text -> bool``: does this cell look like a schedule heading?
+
+    Uses ``checker.ingest.headings.match_heading`` when that module exists (imported lazily, any
+    failure falls back quietly), together with a small keyword list of our own.
+    """
+    external = None
+    try:  # pragma: no cover - depends on the heading mapper being present
+        from checker.ingest.headings import match_heading as external  # type: ignore
+    except Exception:
+        external = None
+
+    def is_heading(text: str) -> bool:
+        t = normalise_cell(text)
+        if not t or len(t) > 60 or looks_like_value(t):
+            return False
+        if _keyword_heading(t):
+            return True
+        if external is not None:
+            try:
+                res = external(t)
+            except Exception:
+                return False
+            if isinstance(res, tuple):
+                return bool(res and res[0])
+            return bool(res)
+        return False
+
+    return is_heading
+
+
+_VALUE = re.compile(r"\d\d|^\s*[+-]?\d+(?:[.,]\d+)?\s*$")
+
+
+def looks_like_value(text: str) -> bool:
+    """A data value rather than heading text: two digits in a row, or a bare number.
+
+    Units such as ``mm2`` or ``N/mm²`` do not count. Marks such as ``PC1`` do not either (they are
+    recognised by their position in the first column, not here).
+    """
+    t = _UNITS.sub(" ", text)
+    return bool(_VALUE.search(t))
+
+
+_STOP = re.compile(
+    r"^\s*(?:general\s+)?(?:notes?|rev(?:ision)?s?|key(?:\s+plan)?|legend|drawn|checked|approved|"
+    r"project|client|drawing|dwg|title|scale|sheet|status|job|issue|date|continued|contd)\b",
+    re.IGNORECASE)
+
+
+def is_stop_text(text: str) -> bool:
+    """Text that opens a notes block, revision box or title block below a table."""
+    return bool(_STOP.match(text))

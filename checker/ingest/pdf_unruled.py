@@ -1,0 +1,583 @@
+"""Schedule tables read from the text layer with explicit edges (the unruled method).
+
+How a table is found on a page:
+
+1. **Heading row.** A text line (or a block of up to three tight lines with no values in them)
+   whose cells include at least three schedule headings. The words of the block are clustered
+   by horizontal overlap into one heading cell per column; a word over two or more words of the
+   line below (``Cap size (mm)`` over ``L``, ``W``, ``D``) is a spanning heading and prefixes each
+   column under it.
+2. **Body.** The lines below the heading, until a line that cannot be a row: a notes, revision or
+   title text, a line whose text runs across two or more column gaps, text outside the columns, a
+   vertical gap of more than about three rows (one or two blank spacer rows are allowed), or a
+   line below the table's bottom rule.
+3. **Columns.** One column per heading cell. The edge between two columns lies in the gap
+   between their heading cells (headings sit inside their columns): at a vertical rule if there
+   is one there, otherwise in the whitespace left by the body's words (the words' x-extents, blanks
+   kept). Where a right-aligned value touches the left-aligned text of the next column with no
+   whitespace, the two come out as one word; it is split at the glyph boundary on the next
+   column's heading edge when the other rows show that column's text starting there.
+4. **Rows.** A new row starts at each line with text in the first (mark) column and at each
+   horizontal rule; a line without a mark continues the row above (a wrapped cell), or opens the
+   row below when it sits tight on that row's mark line.
+
+Every row has one cell per heading column; text that runs across a column edge, or lies outside
+the columns, is reported in the notes rather than dropped silently.
+"""
+
+from __future__ import annotations
+
+import bisect
+import math
+from dataclasses import dataclass, field
+from typing import Callable, Sequence
+
+from checker.ingest.pdf_model import Layout, PageTable
+from checker.ingest.pdf_text import Line, Word, _median, is_stop_text, looks_like_value
+
+HRule = tuple[float, float, float]      # x0, x1, y   (in the reading frame)
+VRule = tuple[float, float, float]      # x, top, bottom
+
+
+@dataclass
+class HCell:
+    x0: float
+    x1: float
+    text: str
+    prefix: list[str] = field(default_factory=list)
+    members: list[tuple[int, Word]] = field(default_factory=list)   # (heading line, word)
+    spans: list[tuple[int, Word]] = field(default_factory=list)     # spanning words (block-wide)
+
+    @property
+    def full_text(self) -> str:
+        return " ".join(self.prefix + [self.text]).strip()
+
+
+def _overlap(a0: float, a1: float, b0: float, b1: float) -> float:
+    return min(a1, b1) - max(a0, b0)
+
+
+# --------------------------------------------------------------------------------------------
+# Heading row
+# --------------------------------------------------------------------------------------------
+
+
+def heading_cells(block: Sequence[Line]) -> list[HCell] | None:
+    """Cluster the words of one to three heading lines into one cell per column."""
+    items: list[tuple[int, Word]] = [(li, w) for li, ln in enumerate(block) for w in ln.words]
+    spanning: set[int] = set()
+    for idx, (li, w) in enumerate(items):
+        for lj in range(li + 1, len(block)):
+            under = [w2 for w2 in block[lj].words if _overlap(w.x0, w.x1, w2.x0, w2.x1) > 0.5]
+            if len(under) >= 2:
+                spanning.add(idx)
+                # a lone line-wide word above the heading is a title, not a heading line
+                if len(block[li].words) == 1 and len(under) > 0.5 * len(block[lj].words):
+                    return None
+                break
+    if len(block) > 1:
+        for li, ln in enumerate(block[:-1]):
+            if len(ln.words) == 1:
+                idx = next(k for k, (lk, _) in enumerate(items) if lk == li)
+                if idx not in spanning:
+                    return None
+    # union-find over the other words: words on different lines that overlap share a column
+    base = [k for k in range(len(items)) if k not in spanning]
+    parent = {k: k for k in base}
+
+    def find(k: int) -> int:
+        while parent[k] != k:
+            parent[k] = parent[parent[k]]
+            k = parent[k]
+        return k
+
+    for a_i, a in enumerate(base):
+        la, wa = items[a]
+        for b in base[a_i + 1:]:
+            lb, wb = items[b]
+            if la != lb and _overlap(wa.x0, wa.x1, wb.x0, wb.x1) > 0:
+                parent[find(a)] = find(b)
+    groups: dict[int, list[int]] = {}
+    for k in base:
+        groups.setdefault(find(k), []).append(k)
+    cells: list[HCell] = []
+    for members in groups.values():
+        members.sort(key=lambda k: (items[k][0], items[k][1].x0))
+        ws = [items[k][1] for k in members]
+        cells.append(HCell(min(w.x0 for w in ws), max(w.x1 for w in ws),
+                           " ".join(w.text for w in ws), members=[items[k] for k in members]))
+    cells.sort(key=lambda c: c.x0)
+    spans = [items[k] for k in sorted(spanning, key=lambda k: (items[k][0], items[k][1].x0))]
+    for _, s in spans:
+        for c in cells:
+            if _overlap(s.x0, s.x1, c.x0, c.x1) > 0:
+                c.prefix.append(s.text)
+    for c in cells:
+        c.spans = spans
+    # cells that still overlap each other (odd layouts) are one column
+    merged: list[HCell] = []
+    for c in cells:
+        if merged and c.x0 < merged[-1].x1 - 0.5:
+            m = merged[-1]
+            m.x1 = max(m.x1, c.x1)
+            m.text = f"{m.text} {c.text}"
+            m.prefix = m.prefix or c.prefix
+            m.members = m.members + c.members
+        else:
+            merged.append(c)
+    return merged
+
+
+def heading_block(lines: Sequence[Line], i: int,
+                  is_heading: Callable[[str], bool]) -> tuple[int, list[HCell]] | None:
+    """If a heading row starts at line ``i``: (number of heading lines, heading cells)."""
+    first = lines[i]
+    if len(first.words) < 1 or any(looks_like_value(w.text) for w in first.words):
+        return None
+    if is_stop_text(first.words[0].text) and len(first.words) < 3:
+        return None
+    block = [first]
+    j = i + 1
+    while j < len(lines) and len(block) < 3:
+        ln = lines[j]
+        prev = block[-1]
+        if ln.top - prev.top > 1.6 * max(prev.size, ln.size):
+            break
+        if abs(ln.size - first.size) > 0.3 * first.size:
+            break
+        if any(looks_like_value(w.text) for w in ln.words) or is_stop_text(ln.words[0].text):
+            break
+        block.append(ln)
+        j += 1
+    for k in range(len(block), 0, -1):
+        cells = heading_cells(block[:k])
+        if not cells or len(cells) < 3:
+            continue
+        if sum(1 for c in cells if is_heading(c.full_text)) >= 3:
+            return k, cells
+    return None
+
+
+# --------------------------------------------------------------------------------------------
+# Body
+# --------------------------------------------------------------------------------------------
+
+
+def _regions(cells: Sequence[HCell]) -> list[tuple[float, float]]:
+    regs = []
+    for a, b in zip(cells, cells[1:]):
+        lo, hi = a.x1, b.x0
+        if lo > hi:
+            lo = hi = (lo + hi) / 2.0
+        regs.append((lo, hi))
+    return regs
+
+
+def _crossings(w: Word, regs: Sequence[tuple[float, float]], eps: float = 0.5) -> int:
+    return sum(1 for lo, hi in regs if w.x0 < lo - eps and w.x1 > hi + eps)
+
+
+@dataclass
+class _Geometry:
+    cells: list[HCell]
+    regs: list[tuple[float, float]]
+    span0: float
+    span1: float
+    out_lo: float
+    out_hi: float
+    col0_lim: float
+
+    @classmethod
+    def of(cls, cells: list[HCell]) -> "_Geometry":
+        regs = _regions(cells)
+        span0, span1 = cells[0].x0, cells[-1].x1
+        pitch = _median([b.x0 - a.x0 for a, b in zip(cells, cells[1:])]) or 50.0
+        col0 = (regs[0][0] + regs[0][1]) / 2.0 if regs else span1
+        return cls(cells, regs, span0, span1, span0 - 1.5 * pitch, span1 + 1.5 * pitch, col0)
+
+    def inside(self, w: Word) -> bool:
+        return w.x1 > self.out_lo and w.x0 < self.out_hi
+
+
+def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: list[float], *,
+             heading_top: float | None, continuation: bool) -> tuple[list[Line], int]:
+    """The body lines of a table, from ``lines[start]``; returns (lines, index after the body)."""
+    ncols = len(geo.cells)
+    need = max(2, math.ceil(0.5 * ncols))
+    accepted: list[Line] = []
+    diffs: list[float] = []
+    idx = start
+    n = len(lines)
+    while idx < n:
+        ln = lines[idx]
+        words = ln.words
+        ref_top = accepted[-1].top if accepted else heading_top
+        if ref_top is not None:
+            pitch = _median(diffs) if diffs else 1.35 * max(ln.size, 1.0)
+            limit = (3.4 if accepted else 4.5) * max(pitch, 1.0 * ln.size)
+            if ln.top - ref_top > limit:
+                break
+        if (table_rules and accepted and ln.top > table_rules[-1]
+                and accepted[0].top < table_rules[-1]):
+            break                       # below the table's bottom rule
+        inside = [w for w in words if geo.inside(w)]
+        stop = (not inside or is_stop_text(words[0].text)
+                or any(_crossings(w, geo.regs) >= 2 for w in inside))
+        if continuation and not accepted:
+            # on a page without a heading: skip what is above the first line that fits
+            if (not stop and inside[0].x0 < geo.col0_lim and len(inside) >= need
+                    and len(inside) <= ncols + 2):
+                accepted.append(ln)
+            idx += 1
+            continue
+        if stop:
+            break
+        has_mark = inside[0].x0 < geo.col0_lim
+        if not has_mark and len(inside) < 2:
+            tight_prev = bool(accepted) and ln.top - accepted[-1].top <= 1.3 * ln.size
+            nxt = lines[idx + 1] if idx + 1 < n else None
+            tight_next = (nxt is not None and nxt.top - ln.top <= 1.3 * ln.size
+                          and nxt.words[0].x0 < geo.col0_lim)
+            if not (tight_prev or tight_next):
+                break
+        if accepted:
+            diffs.append(ln.top - accepted[-1].top)
+        accepted.append(ln)
+        idx += 1
+    return accepted, idx
+
+
+def _group_rows(body: list[Line], geo: _Geometry, table_rules: list[float]) -> list[list[Line]]:
+    def marked(ln: Line) -> bool:
+        first = next((w for w in ln.words if geo.inside(w)), ln.words[0])
+        return first.x0 < geo.col0_lim
+
+    rows: list[list[Line]] = []
+    pending: list[Line] = []
+    for k, ln in enumerate(body):
+        prev = body[k - 1] if k else None
+        rule_before = prev is not None and any(prev.mid_y < y < ln.mid_y for y in table_rules)
+        if marked(ln) or rule_before:
+            rows.append(pending + [ln])
+            pending = []
+            continue
+        tight_prev = prev is not None and ln.top - prev.top <= 1.3 * ln.size
+        if tight_prev and pending:
+            pending.append(ln)
+            continue
+        if tight_prev and rows:
+            rows[-1].append(ln)                  # wrapped cell text under the row's first line
+            continue
+        nxt = body[k + 1] if k + 1 < len(body) else None
+        if (nxt is not None and nxt.top - ln.top <= 1.3 * ln.size and marked(nxt)
+                and not any(ln.mid_y < y < nxt.mid_y for y in table_rules)):
+            pending.append(ln)                   # wrapped text above the mark of the next row
+            continue
+        rows.append(pending + [ln])              # a row without a mark: kept, frame rejects it
+        pending = []
+    if pending:
+        rows.append(pending)
+    return rows
+
+
+# --------------------------------------------------------------------------------------------
+# Column edges
+# --------------------------------------------------------------------------------------------
+
+
+def _free_intervals(lo: float, hi: float, cover: list[tuple[float, float]]) -> list[tuple[float, float]]:
+    if hi - lo < 1e-6:
+        return [] if any(a < lo < b for a, b in cover) else [(lo, lo)]
+    out = []
+    x = lo
+    for a, b in sorted(cover):
+        if b <= x:
+            continue
+        if a > x:
+            out.append((x, min(a, hi)))
+        x = max(x, b)
+        if x >= hi:
+            break
+    if x < hi:
+        out.append((x, hi))
+    return [(a, b) for a, b in out if b >= a]
+
+
+def _nearest_boundary(w: Word, e: float, tol: float = 0.75) -> int | None:
+    best = None
+    best_d = tol
+    for pos, gi in w.boundaries():
+        d = abs(pos - e)
+        if d <= best_d:
+            best, best_d = gi, d
+    return best
+
+
+def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
+    """Column edges: the default per boundary, and per line the words split where cells touch.
+
+    Returns (edges, splits) where ``edges[j]`` is the default edge between column j and j+1 and
+    ``splits[(line index, word index)]`` lists (boundary j, glyph index) to split that word at.
+    """
+    cells, regs = geo.cells, geo.regs
+    nb = len(regs)
+    edges: list[float] = [0.0] * nb
+    line_edges: list[list[float | None]] = [[None] * nb for _ in body]
+    splits: dict[tuple[int, int], list[tuple[int, int]]] = {}
+    for j, (lo, hi) in enumerate(regs):
+        mid = (lo + hi) / 2.0
+        vr = [x for x in vrule_xs if lo - 2.0 <= x <= hi + 2.0]
+        if vr:
+            edges[j] = min(vr, key=lambda x: abs(x - mid))
+            continue
+        merged: dict[int, tuple[int, int]] = {}
+        merge_e = None
+        for e, side in ((cells[j + 1].x0, "left"), (cells[j].x1, "right")):
+            cand: dict[int, tuple[int, int]] = {}
+            for li, ln in enumerate(body):
+                for wi, w in enumerate(ln.words):
+                    if not (w.x0 < e - 0.5 and w.x1 > e + 0.5):
+                        continue
+                    gi = _nearest_boundary(w, e)
+                    if gi is None:
+                        continue
+                    if side == "left":
+                        prev_edge = -math.inf
+                        if j > 0:
+                            pe = line_edges[li][j - 1]
+                            prev_edge = edges[j - 1] if pe is None else pe
+                        alone = not any(o is not w and o.x1 <= w.x0 + 0.1 and o.x0 >= prev_edge
+                                        for o in ln.words)
+                    else:
+                        lim = cells[j + 2].x0 if j + 2 < len(cells) else math.inf
+                        alone = not any(o is not w and o.x0 >= w.x1 - 0.1 and o.x1 <= lim
+                                        for o in ln.words)
+                    if alone:
+                        cand[li] = (wi, gi)
+            if not cand:
+                continue
+            # evidence from the other rows that this column's text is aligned on the edge
+            others = []
+            for li, ln in enumerate(body):
+                if li in cand:
+                    continue
+                for w in ln.words:
+                    if side == "left" and w.x1 > e and w.x0 < cells[j + 1].x1 and w.x0 > lo - 0.5:
+                        others.append(abs(w.x0 - e) <= 1.0)
+                    elif side == "right" and w.x0 < e and w.x1 > cells[j].x0 and w.x1 < hi + 0.5:
+                        others.append(abs(w.x1 - e) <= 1.0)
+            ok = (sum(others) >= 0.5 * len(others)) if others else len(cand) >= 2
+            if ok:
+                merged, merge_e = cand, e
+                break
+        cover = []
+        for li, ln in enumerate(body):
+            m = merged.get(li)
+            for wi, w in enumerate(ln.words):
+                if m is not None and m[0] == wi:
+                    continue
+                if w.x1 <= lo or w.x0 >= hi:
+                    if not (hi - lo < 1e-6 and w.x0 < lo < w.x1):
+                        continue
+                cover.append((w.x0, w.x1))
+        free = _free_intervals(lo, hi, cover)
+        if free:
+            if merge_e is not None:
+                pick = min(free, key=lambda ab: 0.0 if ab[0] <= merge_e <= ab[1]
+                           else min(abs(ab[0] - merge_e), abs(ab[1] - merge_e)))
+            else:
+                pick = free[-1]
+            edges[j] = (pick[0] + pick[1]) / 2.0
+        else:
+            edges[j] = mid
+        for li, (wi, gi) in merged.items():
+            w = body[li].words[wi]
+            line_edges[li][j] = (w.glyphs[gi - 1].x1 + w.glyphs[gi].x0) / 2.0
+            splits.setdefault((li, wi), []).append((j, gi))
+    return edges, line_edges, splits
+
+
+# --------------------------------------------------------------------------------------------
+# Putting it together
+# --------------------------------------------------------------------------------------------
+
+
+def _span_headings(geo: _Geometry, edges: list[float]) -> None:
+    """Spread a heading written over several columns (a merged heading cell, drawn centred)
+    to every column it covers, now that the columns' edges are known from the data."""
+    cells = geo.cells
+    if not cells or not (cells[0].spans or any(len({li for li, _ in c.members}) > 1
+                                               for c in cells)):
+        return
+    last_line = max([li for c in cells for li, _ in c.members + c.spans] or [0])
+    bounds = []
+    for j, c in enumerate(cells):
+        left = edges[j - 1] if j > 0 else c.x0
+        right = edges[j] if j < len(edges) else c.x1
+        bounds.append((left, right))
+    upper: list[tuple[int, Word, int | None]] = [(li, w, None) for li, w in cells[0].spans]
+    for j, c in enumerate(cells):
+        upper.extend((li, w, j) for li, w in c.members if li < last_line)
+    for li, w, home in upper:
+        covered = [j for j, (a, b) in enumerate(bounds)
+                   if _overlap(w.x0, w.x1, a, b) > 0.4 * min(b - a, w.x1 - w.x0)]
+        if len(covered) < 2 and home is not None:
+            continue
+        for j in covered:
+            c = cells[j]
+            if j == home or w.text in c.prefix:
+                continue
+            if any(lk == li for lk, _ in c.members):
+                continue                    # the column has its own text on that line
+            c.prefix.append(w.text)
+    # a group heading narrower than one column ("Cap size (mm)" centred over L, W, D) sits over
+    # one of its sub-columns only: carry it to the neighbours that have nothing on its line and
+    # only a short sub-heading of their own (L, W, D, X, Y, Mx ...)
+    def short(c: HCell) -> bool:
+        return len(c.text.replace(" ", "")) <= 3 and not any(lk < last_line for lk, _ in c.members)
+
+    for j, c in enumerate(cells):
+        ups = [w for li, w in c.members if li < last_line]
+        lows = [w for li, w in c.members if li == last_line]
+        if not ups or not lows or len(" ".join(w.text for w in lows).replace(" ", "")) > 3:
+            continue
+        group = " ".join(w.text for w in ups)
+        for step in (-1, 1):
+            k = j + step
+            while 0 <= k < len(cells) and short(cells[k]):
+                if group not in cells[k].prefix:
+                    cells[k].prefix.append(group)
+                k += step
+
+
+def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs: list[float],
+              page_no: int, first_row_number: int = 1) -> tuple[list[list[str]], list[str]]:
+    ncols = len(geo.cells)
+    edges, line_edges, splits = _edges(body, geo, vrule_xs)
+    _span_headings(geo, edges)
+    index = {id(ln): k for k, ln in enumerate(body)}
+    headings = [c.full_text for c in geo.cells]
+    out_rows: list[list[str]] = []
+    notes: list[str] = []
+    for r, row_lines in enumerate(rows, start=first_row_number):
+        parts: list[list[str]] = [[] for _ in range(ncols)]
+        for ln in row_lines:
+            li = index[id(ln)]
+            le = [edges[j] if line_edges[li][j] is None else line_edges[li][j]
+                  for j in range(len(edges))]
+            for wi, w in enumerate(ln.words):
+                pieces = [w]
+                sp = splits.get((li, wi))
+                if sp:
+                    pieces = []
+                    rest, offset = w, 0
+                    for _, gi in sorted(sp, key=lambda t: t[1]):
+                        left, rest = rest.split_at(gi - offset)
+                        offset = gi
+                        pieces.append(left)
+                    pieces.append(rest)
+                for p in pieces:
+                    if not geo.inside(p):
+                        notes.append(f"page {page_no}, row {r}: text outside the table's "
+                                     f"columns not read: '{p.text}'")
+                        continue
+                    col = bisect.bisect_left(le, (p.x0 + p.x1) / 2.0)
+                    lo_edge = le[col - 1] if col > 0 else -math.inf
+                    hi_edge = le[col] if col < len(le) else math.inf
+                    if p.x0 < lo_edge - 1.0 or p.x1 > hi_edge + 1.0:
+                        other = col - 1 if p.x0 < lo_edge - 1.0 else col + 1
+                        notes.append(
+                            f"page {page_no}, row {r}: '{p.text}' runs across the "
+                            f"'{headings[min(col, other)]}' and '{headings[max(col, other)]}' "
+                            f"columns; read as '{headings[col]}'")
+                    parts[col].append(p.text)
+        out_rows.append([" ".join(x) for x in parts])
+    return out_rows, notes
+
+
+def _table_rules(hrules: Sequence[HRule], geo: _Geometry, below: float) -> list[float]:
+    width = geo.span1 - geo.span0
+    ys = [y for x0, x1, y in hrules
+          if _overlap(x0, x1, geo.span0, geo.span1) >= 0.5 * width and y > below - 1.0]
+    return sorted(ys)
+
+
+def _vrule_xs(vrules: Sequence[VRule], top: float, bottom: float) -> list[float]:
+    mid = (top + bottom) / 2.0
+    return sorted(x for x, t, b in vrules if t - 0.5 <= mid <= b + 0.5)
+
+
+def _build(body: list[Line], geo: _Geometry, headings: list[str] | None, layout: Layout,
+           page_no: int, hrules: Sequence[HRule], vrules: Sequence[VRule],
+           table_rules: list[float], band: tuple[float, float], method: str) -> PageTable:
+    rows = _group_rows(body, geo, table_rules)
+    vx = _vrule_xs(vrules, *band)
+    cells, notes = _cells_of(body, rows, geo, vx, page_no)
+    if headings is not None:
+        headings = [c.full_text for c in geo.cells]
+        layout.headings = headings
+    keep, numbers = [], []
+    for r in cells:
+        if any(c for c in r):
+            keep.append(r)
+            numbers.append(len(keep))
+    if vx or table_rules:
+        method = "rules"
+    return PageTable(page=page_no, headings=headings, layout=layout, rows=keep,
+                     row_numbers=numbers, method=method, notes=notes)
+
+
+def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[str], bool], *,
+                     hrules: Sequence[HRule] = (), vrules: Sequence[VRule] = (),
+                     prev: Layout | None = None, rotation: int = 0) -> list[PageTable]:
+    """Every schedule table on the page, read by the unruled (explicit edges) method.
+
+    ``prev`` is the layout of the table read last (on the page before): lines before the first
+    heading row on this page that fit its columns continue that table.
+    """
+    tables: list[PageTable] = []
+    n = len(lines)
+    i = 0
+    first_heading = None
+    while i < n:
+        hb = heading_block(lines, i, is_heading)
+        if hb is None:
+            i += 1
+            continue
+        k, cells = hb
+        if first_heading is None:
+            first_heading = i
+        geo = _Geometry.of(cells)
+        head = lines[i:i + k]
+        trules = _table_rules(hrules, geo, head[-1].bottom)
+        body, end = _collect(lines, i + k, geo, trules, heading_top=head[-1].top,
+                             continuation=False)
+        headings = [c.full_text for c in cells]
+        layout = Layout(cells=[(c.x0, c.x1) for c in cells], headings=headings, ruled=False,
+                        rotation=rotation)
+        band = (head[0].top, head[-1].bottom)
+        tables.append(_build(body, geo, headings, layout, page_no, hrules, vrules, trules,
+                             band, "text"))
+        i = max(end, i + k)
+    if prev is not None and prev.ncols >= 3:
+        limit = first_heading if first_heading is not None else n
+        cont = continue_table(lines[:limit], page_no, prev, hrules=hrules, vrules=vrules)
+        if cont is not None:
+            tables.insert(0, cont)
+    return tables
+
+
+def continue_table(lines: Sequence[Line], page_no: int, prev: Layout, *,
+                   hrules: Sequence[HRule] = (), vrules: Sequence[VRule] = ()) -> PageTable | None:
+    """Rows on a page without a heading row that fit the columns of the previous table."""
+    if not lines:
+        return None
+    cells = [HCell(x0, x1, h) for (x0, x1), h in zip(prev.cells, prev.headings)]
+    geo = _Geometry.of(cells)
+    trules = _table_rules(hrules, geo, -math.inf)
+    body, _ = _collect(lines, 0, geo, trules, heading_top=None, continuation=True)
+    if not body:
+        return None
+    band = (body[0].top, body[0].bottom)
+    t = _build(body, geo, None, prev, page_no, hrules, vrules, trules, band, "text")
+    return t if t.rows else None
