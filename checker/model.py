@@ -232,8 +232,18 @@ class CapRecord(BaseModel):
 
     @classmethod
     def from_row(cls, row: Mapping[str, Any]) -> "CapRecord":
-        """Validate one row of a canonical frame (NaN and '' for optional numbers mean 'not given')."""
-        return cls.model_validate({k: _none_if_missing(v) for k, v in row.items() if k in cls.model_fields})
+        """Validate one row of a canonical frame. NaN/None mean 'not given': the field's default applies
+        (fyk 500, exposure '' ...), and a required field is reported missing."""
+        data = {}
+        for k, v in row.items():
+            info = cls.model_fields.get(k)
+            if info is None:
+                continue
+            v = _none_if_missing(v)
+            if v is None and not info.is_required():
+                continue
+            data[k] = v
+        return cls.model_validate(data)
 
 
 def _scalar_array(v: Any) -> np.ndarray:
