@@ -63,12 +63,33 @@ def v_min(k, fck):
     return 0.035 * k * np.sqrt(k) * np.sqrt(np.asarray(fck, dtype=float))
 
 
-def v_rdc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
+def v_rdc_calc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
     """EN 1992-1-1:2004 6.2.2(1), Eq. (6.2.a)
 
+    The calculated part of the shear stress resistance, σcp = 0: CRd,c k (100 ρl fck)^(1/3) with
+    CRd,c = 0.18/γc (recommended; the UK NA value is the same [M], and reproduces S13 Table 6)
+    [V: S1].
+
+    Args:
+        fck: characteristic cylinder strength [MPa]
+        d: effective depth [mm]
+        rho: ρl ≤ 0.02 [-]
+        gamma_c: partial factor for concrete, recommended 1.5 [-]
+        crd_c_factor: the 0.18 in CRd,c = 0.18/γc (recommended) [-]
+
+    Returns:
+        CRd,c k (100 ρl fck)^(1/3) [MPa]
+    """
+    fck = np.asarray(fck, dtype=float)
+    return crd_c_factor / gamma_c * k_size(d) * np.cbrt(100.0 * np.asarray(rho, dtype=float) * fck)
+
+
+def v_rdc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
+    """EN 1992-1-1:2004 6.2.2(1), Eq. (6.2.b)
+
     Design shear stress resistance without shear reinforcement, σcp = 0:
-    vRd,c = max(CRd,c k (100 ρl fck)^(1/3), vmin) with CRd,c = 0.18/γc (Eq. 6.2.a, 6.2.b)
-    [V: S1; the UK NA value is the same, M, and reproduces S13 Table 6].
+    vRd,c = max(CRd,c k (100 ρl fck)^(1/3), vmin) (Eq. 6.2.a with the floor of Eq. 6.2.b)
+    [V: S1].
 
     Args:
         fck: characteristic cylinder strength [MPa]
@@ -80,10 +101,8 @@ def v_rdc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
     Returns:
         vRd,c [MPa]
     """
-    k = k_size(d)
-    fck = np.asarray(fck, dtype=float)
-    calc = crd_c_factor / gamma_c * k * np.cbrt(100.0 * np.asarray(rho, dtype=float) * fck)
-    return np.maximum(calc, v_min(k, fck))
+    calc = v_rdc_calc(fck, d, rho, gamma_c=gamma_c, crd_c_factor=crd_c_factor)
+    return np.maximum(calc, v_min(k_size(d), fck))
 
 
 def beta_av(av, d):
@@ -185,10 +204,13 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
         ``av`` (before the 0.5d floor) [mm], ``beta`` [-], ``b_enh`` [mm]; ``ved_max`` the
         largest VEd over the sections [N]; NaN where no section lies outside the column face
     """
-    phi = np.asarray(pile_dia, dtype=float)[:, None]
-    dd = np.asarray(d, dtype=float)[:, None]
-    W = np.asarray(width, dtype=float)[:, None]
-    face = 0.5 * np.asarray(column_size, dtype=float)[:, None]
+    n = coord.shape[0]
+
+    def col(v):  # a per-cap input as an (n, 1) column
+        return np.broadcast_to(np.asarray(v, dtype=float), (n,))[:, None]
+
+    phi, dd, W = col(pile_dia), col(d), col(width)
+    face = 0.5 * col(column_size)
     a = np.abs(coord)
     sec = a - critical_section_offset(phi)
     valid = mask & (a > tol) & (sec > face)
@@ -215,9 +237,9 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
         np.abs(buf, out=buf)
         np.less_equal(buf, tol, out=near)  # pile j on the section line of pile i
         strips += strip[:, j:j + 1] * near
-    b_enh = np.where(np.asarray(spacing_le_3phi, dtype=bool)[:, None], W,
-                     np.minimum(strips, W))
-    vrd = enhanced_resistance(np.asarray(vrdc, dtype=float)[:, None], beta, b_enh, W, dd)
+    le3 = np.broadcast_to(np.asarray(spacing_le_3phi, dtype=bool), (n,))[:, None]
+    b_enh = np.where(le3, W, np.minimum(strips, W))
+    vrd = enhanced_resistance(col(vrdc), beta, b_enh, W, dd)
     util = ved / vrd
 
     key = np.where(valid, np.where(np.isnan(util), np.inf, util), -np.inf)
