@@ -71,10 +71,11 @@ def check_schedule(schedule, ruleset, submission: str) -> Review:
 
     caps = schedule.caps.reset_index(drop=True)
     params = dict(ruleset.profile.params)
-    derived = derive(caps, schedule.coords, params)
-    env: dict[str, Any] = dict(derived.q)
-    env.update(_numeric_params(params))
-    findings = evaluate(ruleset, env, caps)
+    with np.errstate(all="ignore"):  # NaN/inf mark "not applicable" in the arrays; no warnings for users
+        derived = derive(caps, schedule.coords, params)
+        env: dict[str, Any] = dict(derived.q)
+        env.update(_numeric_params(params))
+        findings = evaluate(ruleset, env, caps)
 
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
     pile_xy: dict[str, np.ndarray] = {}

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import math
 
-from rich.console import Console
+from rich.console import Console, Group
+from rich.padding import Padding
 from rich.panel import Panel
 from rich.table import Table
 from rich.text import Text
@@ -48,6 +49,33 @@ def _fmt(v, unit: str) -> str:
     return f"{s} {unit}".strip()
 
 
+_CMP_WORD = {"unsafe": "against", "non-compliant": "against", "query": "against", "advisory": "against",
+             "ok": "within"}
+
+
+def _util_text(u) -> str:
+    if u is None or (isinstance(u, float) and math.isnan(u)):
+        return ""
+    return "util ∞" if math.isinf(u) else f"util {u:.2f}"
+
+
+def _finding_block(row: dict) -> Padding:
+    """One finding: badge, rule, figures on the first line; message, action and clause beneath."""
+    sev = row["severity"]
+    head = Text.assemble(severity_text(sev), " ", (row["rule"], "bold"))
+    v, lim = _fmt(row["value"], row["unit"]), _fmt(row["limit"], row["unit"])
+    if v or lim:
+        head.append(f"   {v} {_CMP_WORD[sev]} {lim}" if lim else f"   {v}")
+    ut = _util_text(row["utilisation"])
+    if ut:
+        head.append(f"   {ut}", style="bold" if sev != "ok" else "")
+    body = Text(row["message"])
+    if row.get("action") and sev != "ok":
+        body.append("\n→ " + row["action"], style="italic")
+    body.append("\n" + row["clause"], style="dim")
+    return Padding(Group(head, Padding(body, (0, 0, 0, 4))), (0, 0, 0, 2))
+
+
 def print_caution(console: Console) -> None:
     console.print(Panel(Text(CAUTION, style="italic"), title="Engineering caution", border_style="yellow"))
 
@@ -78,28 +106,8 @@ def print_findings(review, console: Console, *, show_ok: bool = False) -> None:
                                  (f"  {n_ok} of {len(g)} checks met", "dim"))
             console.print(head)
             shown = g if show_ok else g[g["severity"] != "ok"]
-            if len(shown) == 0:
-                continue
-            t = Table(show_header=True, header_style="bold", box=None, pad_edge=False, expand=False)
-            t.add_column("severity", no_wrap=True)
-            t.add_column("check", no_wrap=True)
-            t.add_column("value", justify="right", no_wrap=True)
-            t.add_column("limit", justify="right", no_wrap=True)
-            t.add_column("util.", justify="right", no_wrap=True)
-            t.add_column("finding", overflow="fold")
             for row in shown.to_dict("records"):
-                u = row["utilisation"]
-                ut = "" if u is None or (isinstance(u, float) and math.isnan(u)) else (
-                    "∞" if math.isinf(u) else f"{u:.2f}")
-                t.add_row(
-                    severity_text(row["severity"]),
-                    row["rule"],
-                    _fmt(row["value"], row["unit"]),
-                    _fmt(row["limit"], row["unit"]),
-                    ut,
-                    Text(f"{row['message']}\n", style="") + Text(f"[{row['clause']}]", style="dim"),
-                )
-            console.print(t)
+                console.print(_finding_block(row))
     if review.rejected:
         console.print(Text("\nRows not checked", style="bold red"))
         for r in review.rejected:
