@@ -44,9 +44,11 @@ def standard_layout(piles, spacing):
     """
     piles = np.atleast_1d(np.asarray(piles, dtype=float))
     spacing = np.broadcast_to(np.asarray(spacing, dtype=float), piles.shape)
-    valid = np.isfinite(piles) & (piles >= 1) & (piles <= 6) & (np.round(piles) == piles)
+    single = piles == 1  # a single pile sits at the column centre whatever the spacing
+    valid = (np.isfinite(piles) & (piles >= 1) & (piles <= 6) & (np.round(piles) == piles)
+             & (np.isfinite(spacing) | single))
     k = np.where(valid, np.nan_to_num(piles), 0).astype(int)
-    s = spacing[:, None]
+    s = np.where(single, 0.0, spacing)[:, None]
     # column-major: the per-pile columns are contiguous, which keeps the (n, 1) broadcasts and
     # the reductions over piles fast for 100,000 caps
     return np.asfortranarray(_UNIT_X[k] * s), np.asfortranarray(_UNIT_Y[k] * s)

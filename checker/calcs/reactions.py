@@ -64,6 +64,7 @@ def pile_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, _terms=None):
         n_ed: vertical load at the column centre, compression positive (n,) [N]
         mx_ed: moment about the x axis (n,) [N·mm]
         my_ed: moment about the y axis (n,) [N·mm]
+        _terms: the group's centroid and second moments when already computed (internal) [mm²]
 
     Returns:
         reactions R_i, (n, m), NaN for missing piles [N]

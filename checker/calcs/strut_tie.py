@@ -202,6 +202,7 @@ def resolve_onto_ties(hx, hy, u1x, u1y, u2x, u2y):
         (T1, T2) tie forces [N]
     """
     det = u1x * u2y - u1y * u2x
+    det = np.where(np.abs(det) > 1e-12, det, np.nan)  # parallel ties cannot resolve a force
     t1 = (-hx * u2y + hy * u2x) / det
     t2 = (-hy * u1x + hx * u1y) / det
     return t1, t2
@@ -227,7 +228,8 @@ def triangle_side_ties(X, Y, Hx, Hy):
         j, k = (i + 1) % 3, (i + 2) % 3
         e1x, e1y = X[:, j] - X[:, i], Y[:, j] - Y[:, i]
         e2x, e2y = X[:, k] - X[:, i], Y[:, k] - Y[:, i]
-        l1, l2 = np.hypot(e1x, e1y), np.hypot(e2x, e2y)
+        l1 = np.where(np.hypot(e1x, e1y) > 0, np.hypot(e1x, e1y), np.nan)
+        l2 = np.where(np.hypot(e2x, e2y) > 0, np.hypot(e2x, e2y), np.nan)
         t1, t2 = resolve_onto_ties(Hx[:, i], Hy[:, i], e1x / l1, e1y / l1, e2x / l2, e2y / l2)
         ends.append((t1, t2))  # t1 on side (i, j), t2 on side (k, i)
     # side s joins s and s+1: seen from corner s as its t1, from corner s+1 as its t2

@@ -1,0 +1,358 @@
+"""Every derived quantity over the whole schedule, once, vectorised (no per-cap Python loops).
+
+``derive(caps, coords, params)`` turns the canonical schedule frame (DEVELOPERS.md) into a dict of
+float arrays, one value per cap, in internal units (N, mm, MPa, degrees). The rule files refer to
+these quantities by name; NaN means "not applicable or not computable" for that cap.
+
+Conventions used here (all stated in the working by the report writers):
+* Missing moments are zero; a missing ``fyk`` is 500 MPa (brief); a missing ``column_y`` equals
+  ``column_x``; missing text fields are ''.
+* Pile reactions include the design cap self-weight γG·ρ·L·W·h, applied at the column centre
+  (i.e. shared as N/n), and are used for ties, nodes, shear and the bending alternative. The
+  punching checks use the column load alone and its share of the reactions.
+* Tie forces use the truss of the brief (top node at the column centre unless
+  ``tie_node="column-width"``), lever arm = d of the tie's layer.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from checker import geometry as geo
+from checker.calcs import anchorage as anc
+from checker.calcs import detailing as det
+from checker.calcs import materials as mat
+from checker.calcs import punching as pun
+from checker.calcs import reactions as rea
+from checker.calcs import shear as shr
+from checker.calcs import strut_tie as st
+
+#: Canonical numeric input columns carried through as quantities of the same name.
+INPUT_QUANTITIES: tuple[str, ...] = (
+    "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth",
+    "column_x", "column_y", "n_ed", "mx_ed", "my_ed", "fck", "fyk", "cover", "embedment",
+    "pile_capacity", "nx", "phi_x", "sx", "ny", "phi_y", "sy",
+    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+)
+
+#: Parameter defaults (the uk-na profile values of the brief).
+DEFAULTS: dict[str, float | str] = {
+    "gamma_c": 1.5, "gamma_s": 1.15, "gamma_g": 1.35,
+    "alpha_cc_flex": 0.85, "alpha_cc_shear": 1.0, "alpha_ct": 1.0,
+    "crd_c_factor": 0.18, "vrdmax_coeff": 0.5,
+    "k1_node": 1.0, "k2_node": 0.85, "k3_node": 0.75, "node_factor": 1.0,
+    "concrete_density": 25.0, "pile_tolerance": 75.0, "dg": 20.0, "delta_c_dev": 10.0,
+    "cover_k1": 40.0, "eta1": 1.0, "stated_tolerance": 0.05,
+    "material_values": "table", "tie_node": "centre", "shear_av": "inside-pile",
+}
+
+#: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
+STATED_ITEMS: tuple[str, ...] = (
+    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+)
+
+
+@dataclass
+class Derived:
+    """Derived quantities of a schedule.
+
+    ``q``: quantity name -> (n,) float array. ``X, Y, mask``: pile arrays (n, m).
+    ``piles``: per-pile (n, m) arrays for the working (``R`` reactions [N], ``Hx``, ``Hy`` node
+    forces [N], ``theta`` strut angles [deg], ``r`` radial distances [mm], ``face_dist`` column
+    face to pile centre [mm]). ``text``: per-cap strings (``stated_diff_what``).
+    """
+
+    q: dict[str, np.ndarray]
+    X: np.ndarray
+    Y: np.ndarray
+    mask: np.ndarray
+    piles: dict[str, np.ndarray] = field(default_factory=dict)
+    text: dict[str, np.ndarray] = field(default_factory=dict)
+
+    def frame(self) -> pd.DataFrame:
+        """The quantities as a DataFrame (one row per cap)."""
+        return pd.DataFrame(self.q)
+
+
+def _num(caps: pd.DataFrame, name: str, n: int) -> np.ndarray:
+    if name not in caps.columns:
+        return np.full(n, np.nan)
+    return pd.to_numeric(caps[name], errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+
+
+def _text(caps: pd.DataFrame, name: str, n: int) -> pd.Series:
+    """Lower-cased, stripped text of a column ('' where blank); worked on the distinct values."""
+    if name not in caps.columns:
+        return pd.Series([""] * n, dtype=object)
+    codes, uniq = pd.factorize(caps[name], use_na_sentinel=True)
+    clean = np.array([str(u).strip().lower() for u in uniq] + [""], dtype=object)
+    return pd.Series(clean[codes], dtype=object)  # code −1 (missing) picks the trailing ''
+
+
+def _contains(s: pd.Series, *words: str) -> np.ndarray:
+    codes, uniq = pd.factorize(s)
+    hit = np.array([any(w in str(u) for w in words) for u in uniq] + [False], dtype=bool)
+    return hit[codes]
+
+
+def _flag(b) -> np.ndarray:
+    return np.asarray(b, dtype=bool).astype(float)
+
+
+def _pget(params: dict, name: str):
+    return params.get(name, DEFAULTS[name])
+
+
+def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
+           params: dict[str, float | str] | None = None) -> Derived:
+    """Compute every quantity for every cap of a canonical schedule frame.
+
+    Args:
+        caps: canonical schedule frame (DEVELOPERS.md), one row per cap, internal units
+        coords: explicit pile coordinates ``mark, x, y`` [mm], or None
+        params: resolved profile parameters (see ``DEFAULTS`` for names and defaults)
+
+    Returns:
+        :class:`Derived`
+    """
+    p = dict(params or {})
+    n = len(caps)
+    f = {name: _num(caps, name, n) for name in INPUT_QUANTITIES}
+    gamma_c = float(_pget(p, "gamma_c"))
+
+    # ---- inputs and fills -------------------------------------------------------------------
+    f["mx_ed"] = np.nan_to_num(f["mx_ed"], nan=0.0)
+    f["my_ed"] = np.nan_to_num(f["my_ed"], nan=0.0)
+    f["fyk"] = np.where(np.isnan(f["fyk"]), 500.0, f["fyk"])
+    f["column_y"] = np.where(np.isnan(f["column_y"]), f["column_x"], f["column_y"])
+    if "column_round" in caps.columns:
+        rnd = caps["column_round"].fillna(False).astype(bool).to_numpy()
+    else:
+        rnd = np.zeros(n, dtype=bool)
+    L, W, h = f["cap_length"], f["cap_width"], f["cap_depth"]
+    cx, cy = f["column_x"], f["column_y"]
+    phi_p, cover = f["pile_dia"], f["cover"]
+    phx, phy = f["phi_x"], f["phi_y"]
+    N, mx, my = f["n_ed"], f["mx_ed"], f["my_ed"]
+    fck, fyk = f["fck"], f["fyk"]
+
+    pile_type = _text(caps, "pile_type", n)
+    uncased = _contains(pile_type, "uncased")
+    ends = _text(caps, "bar_ends", n)
+    ends_known = (ends != "").to_numpy(dtype=bool)
+    bent = _contains(ends, "bent", "hook")
+
+    q: dict[str, np.ndarray] = {}
+
+    # ---- geometry -----------------------------------------------------------------------
+    X, Y, mask = geo.pile_arrays(caps.reset_index(drop=True), coords)
+    npile = geo.n_piles(mask)
+    d_x = geo.effective_depth_x(h, cover, phx)
+    d_y = geo.effective_depth_y(h, cover, phx, phy)
+    d_mean = 0.5 * (d_x + d_y)
+    s_min = geo.spacing_min(X, Y, mask)
+    r = geo.radial_distances(X, Y, mask)
+    face_dist = geo.column_face_distances(X, Y, mask, cx, cy, rnd)
+    le3 = np.where(np.isnan(s_min), np.nan, _flag(s_min <= 3.0 * phi_p * (1 + 1e-9)))
+    le3_b = le3 == 1.0
+    q.update(
+        n_piles=npile, d_x=d_x, d_y=d_y, d_mean=d_mean, spacing_min=s_min,
+        edge_min=geo.edge_min(X, Y, mask, L, W, phi_p),
+        plan_overhang=geo.plan_overhang(X, Y, mask, L, W, phi_p),
+        r_max=geo.row_max(r, mask), spacing_le_3phi=le3,
+        is_uncased=_flag(uncased), bar_ends_known=_flag(ends_known), bar_bent=_flag(bent),
+    )
+
+    # ---- materials ----------------------------------------------------------------------
+    values = str(_pget(p, "material_values"))
+    fctm = mat.fctm(fck, values=values)
+    fctk = mat.fctk_005(fck, values=values)
+    fcd = mat.fcd(fck, alpha_cc=float(_pget(p, "alpha_cc_flex")), gamma_c=gamma_c)
+    fcd_shear = mat.fcd(fck, alpha_cc=float(_pget(p, "alpha_cc_shear")), gamma_c=gamma_c)
+    fctd = mat.fctd(fctk, alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
+    fyd = mat.fyd(fyk, gamma_s=float(_pget(p, "gamma_s")))
+    nu_p = mat.nu_prime(fck)
+    nu = mat.nu(fck)
+    q.update(fcd=fcd, fcd_shear=fcd_shear, fctm=fctm, fctk_005=fctk, fctd=fctd, fyd=fyd,
+             nu_prime=nu_p, nu=nu, table_class=mat.table_listed(fck))
+
+    # ---- reactions ----------------------------------------------------------------------
+    sw = rea.self_weight(L, W, h, gamma_g=float(_pget(p, "gamma_g")),
+                         density=float(_pget(p, "concrete_density")))
+    n_tot = N + sw
+    terms = rea._group_terms(X, Y, mask)
+    R = rea.pile_reactions(X, Y, mask, n_tot, mx, my, _terms=terms)
+    R_col = rea.pile_reactions(X, Y, mask, N, mx, my, _terms=terms)
+    r_tol_max, r_tol_min = rea.tolerance_reactions(X, Y, mask, n_tot, mx, my,
+                                                   tolerance=float(_pget(p, "pile_tolerance")))
+    q.update(self_weight=sw, n_total=n_tot, r_nom_max=geo.row_max(R, mask),
+             r_nom_min=geo.row_min(R, mask), r_tol_max=r_tol_max, r_tol_min=r_tol_min)
+
+    # ---- reinforcement and detailing ----------------------------------------------------
+    nbx = np.where(np.isnan(f["nx"]), det.bar_count_from_centres(W, cover, phx, f["sx"]), f["nx"])
+    nby = np.where(np.isnan(f["ny"]), det.bar_count_from_centres(L, cover, phy, f["sy"]), f["ny"])
+    as_x = det.bar_area(nbx, phx)
+    as_y = det.bar_area(nby, phy)
+    centres_x = np.where(np.isnan(f["sx"]), det.layer_centres(W, cover, phx, nbx), f["sx"])
+    centres_y = np.where(np.isnan(f["sy"]), det.layer_centres(L, cover, phy, nby), f["sy"])
+    clear_x = det.clear_spacing(centres_x, phx)
+    clear_y = det.clear_spacing(centres_y, phy)
+    phi_max = np.fmax(phx, phy)
+    exp_codes, exp_uniq = pd.factorize(_text(caps, "exposure", n))
+    c_dur = det.cmin_dur(np.asarray(exp_uniq, dtype=str))[exp_codes] if n else np.zeros(0)
+    q.update(
+        n_bars_x=nbx, n_bars_y=nby, phi_bar_min=np.fmin(phx, phy), as_x=as_x, as_y=as_y,
+        centres_x=centres_x, centres_y=centres_y, clear_x=clear_x, clear_y=clear_y,
+        clear_min_req=det.min_clear_spacing(phi_max, dg=float(_pget(p, "dg"))),
+        as_min_x=det.as_min(fctm, fyk, W, d_x), as_min_y=det.as_min(fctm, fyk, L, d_y),
+        as_max_x=det.as_max(W * h), as_max_y=det.as_max(L * h),
+        as_max=det.as_max(np.fmin(W, L) * h),
+        cmin_dur=c_dur,
+        cover_req=det.nominal_cover_required(c_dur, phi_max,
+                                             delta_c_dev=float(_pget(p, "delta_c_dev")),
+                                             k1=float(_pget(p, "cover_k1"))),
+    )
+
+    # ---- strut-and-tie ------------------------------------------------------------------
+    column_width = str(_pget(p, "tie_node")) == "column-width"
+    eu2 = st.column_second_moment(cx, rnd) * column_width
+    ev2 = st.column_second_moment(cy, rnd) * column_width
+    Hx = st.pile_node_force(X, R, mask, N, d_x, eu2)
+    Hy = st.pile_node_force(Y, R, mask, N, d_y, ev2)
+    tx = st.tie_rows_check(Hx, Y, mask, as_x, fyd, le3_b, phi_p, W, cover)
+    ty = st.tie_rows_check(Hy, X, mask, as_y, fyd, le3_b, phi_p, L, cover)
+    for k, t in (("x", tx), ("y", ty)):
+        q[f"tie_{k}"] = t["T"]
+        q[f"as_req_{k}"] = t["as_req"]
+        q[f"as_tie_{k}"] = t["as_prov"]
+        q[f"util_tie_{k}"] = t["util"]
+        q[f"tie_rows_{k}"] = t["rows"]
+        q[f"tie_total_{k}"] = t["t_total"]
+    three = npile == 3
+    if X.shape[1] >= 3:
+        sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
+        q["tie_side_3"] = np.where(three & mask[:, :3].all(axis=1), np.max(sides, axis=1), np.nan)
+
+    z = np.fmin(d_x, d_y)
+    theta = st.strut_angle(r, z[:, None])
+    inclined = mask & (r > 0.5)
+    th_min = geo.row_min(np.where(inclined, theta, np.nan), inclined)
+    q.update(strut_angle_min=th_min, cot_theta_max=st.cot_theta(th_min))
+
+    a_col = st.column_area(cx, cy, rnd)
+    dp = st.pile_design_diameter(phi_p, uncased)
+    a_pile = np.pi * dp * dp / 4.0
+    th_col = np.where(np.isnan(th_min) & (npile >= 1), 90.0, th_min)
+    k_pile = st.pile_node_factor(npile, k1=float(_pget(p, "k1_node")),
+                                 k2=float(_pget(p, "k2_node")), k3=float(_pget(p, "k3_node")))
+    node_factor = float(_pget(p, "node_factor"))
+    q.update(
+        pile_dia_design=dp,
+        sigma_col=st.bearing_stress(N, a_col),
+        sigma_col_strut=st.strut_face_stress(N, a_col, th_col),
+        sigma_pile_bearing=st.bearing_stress(geo.row_max(R, mask), a_pile),
+        sigma_pile=geo.row_max(st.strut_face_stress(R, a_pile[:, None], theta), mask),
+        k_pile_node=k_pile,
+        node_col_limit=node_factor * st.node_limit(float(_pget(p, "k1_node")), nu_p, fcd),
+        node_pile_limit=node_factor * st.node_limit(k_pile, nu_p, fcd),
+    )
+
+    # ---- beam shear ---------------------------------------------------------------------
+    av_mode = str(_pget(p, "shear_av"))
+    crd = float(_pget(p, "crd_c_factor"))
+    for k, coord, across, col, d, width in (("x", X, Y, cx, d_x, W), ("y", Y, X, cy, d_y, L)):
+        as_l = as_x if k == "x" else as_y
+        rho = shr.rho_l(as_l, width, d)
+        vrdc = shr.v_rdc(fck, d, rho, gamma_c=gamma_c, crd_c_factor=crd)
+        s = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc, le3_b,
+                           av_mode=av_mode)
+        vmax = shr.v_ed_max(width, d, nu, fcd_shear)
+        q[f"rho_{k}"] = rho
+        q[f"k_{k}"] = shr.k_size(d)
+        q[f"vrdc_{k}"] = vrdc
+        q[f"ved_{k}"] = s["ved"]
+        q[f"vrd_{k}"] = s["vrd"]
+        q[f"util_shear_{k}"] = s["util"]
+        q[f"av_{k}"] = s["av"]
+        q[f"beta_{k}"] = s["beta"]
+        q[f"b_enh_{k}"] = s["b_enh"]
+        q[f"ved_max_{k}"] = s["ved_max"]
+        q[f"vrd_max_{k}"] = np.where(np.isnan(s["ved_max"]), np.nan, vmax)
+
+    # ---- punching -----------------------------------------------------------------------
+    u0 = pun.column_perimeter(cx, cy, rnd)
+    applies = pun.perimeter_applies(face_dist, mask, phi_p, d_mean)
+    applies = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, applies)
+    u1 = pun.basic_control_perimeter(cx, cy, d_mean, rnd)
+    ved_red = pun.reduced_punching_force(N, R_col, face_dist, mask, 2.0 * d_mean)
+    rho2 = pun.rho_two_way(q["rho_x"], q["rho_y"])
+    vrdc2 = shr.v_rdc(fck, d_mean, rho2, gamma_c=gamma_c, crd_c_factor=crd)
+    on = applies == 1.0
+    q.update(
+        u0=u0, ved0=pun.shear_stress_column_face(N, u0, d_mean),
+        vrd_max_punch=pun.v_rd_max(nu, fcd_shear, coeff=float(_pget(p, "vrdmax_coeff"))),
+        punch_applies=applies, u1=u1, ved_red=np.where(on, ved_red, np.nan),
+        ved1=np.where(on, pun.shear_stress_perimeter(ved_red, u1, d_mean), np.nan),
+        vrd1=np.where(on, pun.v_rd_column_base(vrdc2, d_mean, 2.0 * d_mean), np.nan),
+        rho_punch=rho2,
+    )
+
+    # ---- anchorage ----------------------------------------------------------------------
+    eta1 = float(_pget(p, "eta1"))
+    fbd_x = anc.bond_strength(fctd, phx, eta1=eta1)
+    fbd_y = anc.bond_strength(fctd, phy, eta1=eta1)
+    q.update(fbd=np.fmin(fbd_x, fbd_y), fbd_x=fbd_x, fbd_y=fbd_y)
+    outer_x = geo.row_max(np.abs(X), mask)
+    outer_y = geo.row_max(np.abs(Y), mask)
+    for k, phi, fbd_k, clear, half, outer in (("x", phx, fbd_x, clear_x, 0.5 * L, outer_x),
+                                              ("y", phy, fbd_y, clear_y, 0.5 * W, outer_y)):
+        sig = anc.bar_stress(q[f"tie_{k}"], q[f"as_tie_{k}"], fyd)
+        lb_rqd = anc.basic_anchorage_length(phi, sig, fbd_k)
+        cd = anc.cd_straight(cover, clear)
+        a1 = anc.alpha1(cd, phi, bent)
+        a2 = anc.alpha2(cd, phi, bent)
+        q[f"sigma_sd_{k}"] = sig
+        q[f"lb_rqd_{k}"] = lb_rqd
+        q[f"lbd_{k}"] = anc.design_anchorage_length(lb_rqd, phi, a1, a2)
+        q[f"lb_avail_{k}"] = anc.available_length(half, cover, outer, phi_p, h, phi, bent)
+
+    # ---- bending alternative (working only) ---------------------------------------------
+    for k, coord, col, d, width in (("x", X, cx, d_x, W), ("y", Y, cy, d_y, L)):
+        m = det.moment_at_column_face(coord, R, mask, col)
+        m = np.where(np.isnan(npile), np.nan, m)
+        q[f"m_face_{k}"] = m
+        q[f"as_bend_{k}"] = np.where(m > 0, det.bending_steel(m, width, d, fck, fyd), np.nan)
+
+    # ---- the designer's figures ---------------------------------------------------------
+    checks = {
+        "stated_pile_load": q["r_nom_max"],
+        "stated_tie_x": q["tie_x"],
+        "stated_tie_y": q["tie_y"],
+        "stated_as_x": q["as_req_x"],
+        "stated_as_y": q["as_req_y"],
+    }
+    diffs = np.stack([_rel_diff(f[name], checks[name]) for name in STATED_ITEMS], axis=1)
+    any_d = ~np.all(np.isnan(diffs), axis=1)
+    worst = np.argmax(np.where(np.isnan(diffs), -np.inf, diffs), axis=1)
+    q["stated_diff"] = np.where(any_d, np.max(np.where(np.isnan(diffs), -np.inf, diffs), axis=1),
+                                np.nan)
+    what = np.where(any_d, np.asarray(STATED_ITEMS, dtype=object)[worst], "")  # text, not a quantity
+
+    # ---- inputs as quantities -----------------------------------------------------------
+    for name in INPUT_QUANTITIES:
+        q[name] = f[name]
+    q["column_round"] = _flag(rnd)
+
+    return Derived(q=q, X=X, Y=Y, mask=mask,
+                   piles={"R": R, "R_col": R_col, "Hx": Hx, "Hy": Hy, "theta": theta, "r": r,
+                          "face_dist": face_dist},
+                   text={"stated_diff_what": what})
+
+
+def _rel_diff(stated: np.ndarray, checked: np.ndarray) -> np.ndarray:
+    """|stated − checked|/|checked|; NaN where either is missing or the re-check is zero."""
+    ok = np.isfinite(stated) & np.isfinite(checked) & (np.abs(checked) > 0)
+    return np.where(ok, np.abs(stated - checked) / np.where(ok, np.abs(checked), 1.0), np.nan)
