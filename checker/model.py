@@ -450,9 +450,13 @@ def _check_columns(df: pd.DataFrame) -> tuple[list[_FieldErrors], dict[str, np.n
             values[name] = v
         else:  # str: work on the distinct values only
             codes, uniq = pd.factorize(col.astype(object), use_na_sentinel=True)
-            u_str = np.array([isinstance(u, str) for u in uniq], dtype=bool)
-            u_val = np.array([u.strip() if isinstance(u, str) else "" for u in uniq] + [""], dtype=object)
-            u_str = np.append(u_str, False)
+            if pd.api.types.infer_dtype(uniq, skipna=False) in ("string", "empty"):
+                u_str = np.ones(len(uniq) + 1, dtype=bool)
+                u_val = np.array([u.strip() for u in uniq] + [""], dtype=object)
+            else:
+                u_str = np.array([isinstance(u, str) for u in uniq] + [False], dtype=bool)
+                u_val = np.array([u.strip() if isinstance(u, str) else "" for u in uniq] + [""], dtype=object)
+            u_str[-1] = False
             missing = codes < 0
             is_str = u_str[codes]
             s = u_val[codes]

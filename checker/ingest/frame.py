@@ -127,19 +127,41 @@ def _is_blank(v: Any) -> bool:
         return False
 
 
-def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int
-                ) -> tuple[list[np.ndarray], np.ndarray, np.ndarray, list[str | None]]:
-    """Apply ``fn`` (returning a tuple of ``width`` values) to each distinct non-blank cell.
+@dataclass
+class _Unique:
+    """A column's distinct values mapped through a parser: per distinct value (plus one slot at the
+    end for empty cells) the outputs, a blank flag and an error text; ``codes`` index them per row."""
 
-    Returns (arrays per output, blank mask, codes, error text per distinct value).
-    """
+    codes: np.ndarray
+    outs: list[np.ndarray]
+    blank_u: np.ndarray
+    errs: list[str | None]
+
+    @property
+    def blank(self) -> np.ndarray:
+        return self.blank_u[self.codes]
+
+    def floats(self, k: int) -> np.ndarray:
+        return _floats(self.outs[k])[self.codes]
+
+    def texts(self, k: int) -> np.ndarray:
+        return _texts(self.outs[k])[self.codes]
+
+    def error_rows(self) -> tuple[np.ndarray, list[str]]:
+        bad_u = np.fromiter((e is not None for e in self.errs), bool, len(self.errs))
+        rows = np.flatnonzero(bad_u[self.codes])
+        return rows, [self.errs[c] for c in self.codes[rows]]  # type: ignore[misc]
+
+
+def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique:
+    """Apply ``fn`` (returning a tuple of ``width`` values) to each distinct non-blank cell."""
     codes, uniq = _factorize(col)
-    outs = [np.empty(len(uniq) + 1, dtype=object) for _ in range(width)]
-    for o in outs:
-        o[:] = None
-    errs: list[str | None] = [None] * (len(uniq) + 1)
-    blank_u = np.zeros(len(uniq) + 1, dtype=bool)
-    blank_u[-1] = True
+    m = len(uniq)
+    codes = np.where(codes < 0, m, codes)
+    outs = [np.full(m + 1, None, dtype=object) for _ in range(width)]
+    errs: list[str | None] = [None] * (m + 1)
+    blank_u = np.zeros(m + 1, dtype=bool)
+    blank_u[m] = True
     for k, u in enumerate(uniq):
         if _is_blank(u):
             blank_u[k] = True
@@ -151,13 +173,7 @@ def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int
             continue
         for o, v in zip(outs, res):
             o[k] = v
-    return [o[codes] for o in outs], blank_u[codes], codes, errs
-
-
-def _error_rows(codes: np.ndarray, errs: list[str | None]) -> tuple[np.ndarray, list[str]]:
-    bad_u = np.array([e is not None for e in errs], dtype=bool)
-    rows = np.flatnonzero(bad_u[codes])
-    return rows, [errs[c] for c in codes[rows]]  # type: ignore[misc]
+    return _Unique(codes, outs, blank_u, errs)
 
 
 def _numeric(col: pd.Series, kind: str, scale: float) -> tuple[np.ndarray, np.ndarray, list[str]]:
@@ -177,16 +193,15 @@ def _numeric(col: pd.Series, kind: str, scale: float) -> tuple[np.ndarray, np.nd
     if not left.any():
         return num, np.empty(0, np.int64), []
     idx = np.flatnonzero(left)
-    sub = obj.iloc[idx]
 
     def one(v: Any) -> tuple[float]:
         if isinstance(v, (bool, np.bool_)) or hasattr(v, "year"):
             raise NotationError(f"{str(v)!r} is not a number")
-        return (parse_number(v if isinstance(v, str) else v, kind, scale),)
+        return (parse_number(v, kind, scale),)
 
-    (vals,), blank, codes, errs = _map_unique(sub, one, 1)
-    num[idx] = np.where(blank, np.nan, pd.to_numeric(pd.Series(vals, dtype=object), errors="coerce"))
-    erows, emsgs = _error_rows(codes, errs)
+    u = _map_unique(obj.iloc[idx], one, 1)
+    num[idx] = np.where(u.blank, np.nan, u.floats(0))
+    erows, emsgs = u.error_rows()
     return num, idx[erows], emsgs
 
 
@@ -202,13 +217,21 @@ def _text(v: Any) -> str:
 
 def _text_column(col: pd.Series, transform: Callable[[str], str] | None = None
                  ) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """A text column -> (cleaned text, '' when blank; error rows; error texts)."""
+    codes, uniq = _factorize(col)
+    if transform is None and pd.api.types.infer_dtype(uniq, skipna=False) in ("string", "empty"):
+        # many distinct texts (marks): tight loops over the distinct values, no parser calls
+        texts = [_text(v) for v in uniq] + [""]
+        shown = np.array([("" if len(t) <= 6 and _is_blank(t) else t) for t in texts], dtype=object)
+        return shown[np.where(codes < 0, len(uniq), codes)], np.empty(0, np.int64), []
+
     def one(v: Any) -> tuple[str]:
         t = _text(v)
         return ((transform(t) if transform else t),)
 
-    (vals,), blank, codes, errs = _map_unique(col, one, 1)
-    vals = np.where(blank, "", vals)
-    erows, emsgs = _error_rows(codes, errs)
+    u = _map_unique(col, one, 1)
+    vals = np.where(u.blank, "", u.texts(0))
+    erows, emsgs = u.error_rows()
     return vals.astype(object), erows, emsgs
 
 
@@ -267,11 +290,11 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
             given[fld][rows] = True
             err(fld, rows, msgs)
         elif fld == "concrete":
-            (name, fck), blank, codes, errs = _map_unique(col, lambda u: tuple(parse_concrete(u)[:2]), 2)
-            values["concrete"] = _texts(name)
-            values["_fck_class"] = _floats(fck)
-            given[fld] = ~blank
-            err(fld, *_error_rows(codes, errs))
+            u = _map_unique(col, lambda v: tuple(parse_concrete(v)[:2]), 2)
+            values["concrete"] = u.texts(0)
+            values["_fck_class"] = u.floats(1)
+            given[fld] = ~u.blank
+            err(fld, *u.error_rows())
         elif fld in ("bars_x", "bars_y"):
             suffix = fld[-1]
 
@@ -279,28 +302,28 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
                 spec = parse_bars(u)
                 return (_text(u), spec.count, spec.dia, spec.centres)
 
-            (text, count, dia, centres), blank, codes, errs = _map_unique(col, bar, 4)
-            values[fld] = _texts(text)
-            values[f"_text_{fld}"] = _texts(_as_text(col, codes, blank))
-            values[f"_count_{suffix}"] = _floats(count)
-            values[f"phi_{suffix}"] = _floats(dia)
-            values[f"s{suffix}"] = _floats(centres)
-            given[fld] = ~blank
-            err(fld, *_error_rows(codes, errs))
+            u = _map_unique(col, bar, 4)
+            values[fld] = u.texts(0)
+            values[f"_text_{fld}"] = _as_text(col, u)
+            values[f"_count_{suffix}"] = u.floats(1)
+            values[f"phi_{suffix}"] = u.floats(2)
+            values[f"s{suffix}"] = u.floats(3)
+            given[fld] = ~u.blank
+            err(fld, *u.error_rows())
         elif fld == "column":
-            (cx, cy, rnd), blank, codes, errs = _map_unique(col, lambda u: tuple(parse_column(u, m.scale)), 3)
-            values["_col_x"], values["_col_y"] = _floats(cx), _floats(cy)
-            values["_col_round"] = pd.Series(rnd, dtype=object).eq(True).to_numpy(dtype=bool)
-            values["_text_column"] = _texts(_as_text(col, codes, blank))
-            given[fld] = ~blank
-            err(fld, *_error_rows(codes, errs))
+            u = _map_unique(col, lambda v: tuple(parse_column(v, m.scale)), 3)
+            values["_col_x"], values["_col_y"] = u.floats(0), u.floats(1)
+            values["_col_round"] = pd.Series(u.outs[2], dtype=object).eq(True).to_numpy(dtype=bool)[u.codes]
+            values["_text_column"] = _as_text(col, u)
+            given[fld] = ~u.blank
+            err(fld, *u.error_rows())
         elif fld in ("size", "plan"):
             parts = 3 if fld == "size" else 2
-            outs, blank, codes, errs = _map_unique(col, lambda u: parse_size(u, m.scale, parts), parts)
-            for name, arr in zip(("cap_length", "cap_width", "cap_depth"), outs):
-                values[f"_{fld}_{name}"] = _floats(arr)
-            given[fld] = ~blank
-            err(fld, *_error_rows(codes, errs))
+            u = _map_unique(col, lambda v: parse_size(v, m.scale, parts), parts)
+            for k, name in enumerate(("cap_length", "cap_width", "cap_depth")[:parts]):
+                values[f"_{fld}_{name}"] = u.floats(k)
+            given[fld] = ~u.blank
+            err(fld, *u.error_rows())
 
     # ---- combined and derived fields -------------------------------------------------------
     out: dict[str, np.ndarray] = {}
@@ -393,11 +416,12 @@ def _required_missing(f: str, have: np.ndarray, has_col: np.ndarray, labels: dic
                * nocol.size)
 
 
-def _as_text(col: pd.Series, codes: np.ndarray, blank: np.ndarray) -> np.ndarray:
+def _as_text(col: pd.Series, u: _Unique) -> np.ndarray:
     """The cells as written (text) for messages, each distinct value converted once."""
     _, uniq = _factorize(col)
-    shown = np.array([_text(u) for u in uniq] + [""], dtype=object)
-    return np.where(blank, "", shown[codes])
+    shown = np.array([_text(v) for v in uniq] + [""], dtype=object)
+    shown[u.blank_u] = ""
+    return shown[u.codes]
 
 
 def _texts(arr: np.ndarray) -> np.ndarray:
@@ -420,10 +444,9 @@ def _fmtn(v: float) -> str:
 def _steel(col: pd.Series) -> tuple[np.ndarray, np.ndarray, list[str]]:
     if col.dtype.kind in "fiu":
         return col.to_numpy(dtype=float), np.empty(0, np.int64), []
-    (vals,), blank, codes, errs = _map_unique(col, lambda u: (parse_steel_grade(u),), 1)
-    v = np.where(blank, np.nan, _floats(vals))
-    rows, msgs = _error_rows(codes, errs)
-    return v, rows, msgs
+    u = _map_unique(col, lambda v: (parse_steel_grade(v),), 1)
+    rows, msgs = u.error_rows()
+    return np.where(u.blank, np.nan, u.floats(0)), rows, msgs
 
 
 # --------------------------------------------------------------------------------------------
@@ -487,13 +510,6 @@ def _apply_coords(out: dict[str, np.ndarray], coords: pd.DataFrame, problems: di
                 continue
             xy = groups[m]
             count = len(xy)
-            stated = out["piles"][r]
-            if not np.isnan(stated) and stated != count:
-                errors.add("piles", [r], [f"{labels.get('piles', 'piles')}: {_fmtn(stated)} but the pile "
-                                          f"coordinates give {count} positions for {m!r}"])
-                continue
-            out["piles"][r] = count
-            given["piles"][r] = True
             if count >= 2:
                 d = np.sqrt(((xy[:, None, :] - xy[None, :, :]) ** 2).sum(-1))
                 least = float(d[np.triu_indices(count, 1)].min())
@@ -504,6 +520,13 @@ def _apply_coords(out: dict[str, np.ndarray], coords: pd.DataFrame, problems: di
                     out["pile_spacing"][r] = least
                     notes.append(f"{m}: pile_spacing taken as the least pile centres from the coordinates, "
                                  f"{_fmtn(round(least, 1))} mm")
+            stated = out["piles"][r]
+            if not np.isnan(stated) and stated != count:
+                errors.add("piles", [r], [f"{labels.get('piles', 'piles')}: {_fmtn(stated)} but the pile "
+                                          f"coordinates give {count} positions for {m!r}"])
+                continue
+            out["piles"][r] = count
+            given["piles"][r] = True
 
 
 # --------------------------------------------------------------------------------------------

@@ -116,11 +116,12 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
 
 def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
                   coords: str | Path | None = None, pdf_strategy: str = "auto",
-                  max_pages: int | None = None) -> Schedule:
+                  max_pages: int | None = None, progress: Any = None) -> Schedule:
     """Read a pile cap schedule file.
 
     ``.csv``/``.txt`` and ``.xlsx``/``.xlsm`` are read by :mod:`checker.ingest.tabular`, ``.pdf`` by
-    :func:`checker.ingest.pdf.read_pdf_tables` (``pdf_strategy``, ``max_pages`` are passed on).
+    :func:`checker.ingest.pdf.read_pdf_tables` (``pdf_strategy``, ``max_pages`` and ``progress`` are
+    passed on).
     ``mapping``: a TOML heading mapping file (see :mod:`checker.ingest.headings`). ``coords``: a CSV
     (or XLSX) of pile positions ``mark, x, y`` [mm from the column centre] for explicit groups; a
     workbook's own coordinates sheet is used when this is not given.
@@ -143,7 +144,7 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
     elif ext == ".pdf":
         from checker.ingest.pdf import read_pdf_tables
 
-        tables, notes = read_pdf_tables(name, strategy=pdf_strategy, max_pages=max_pages)
+        tables, notes = read_pdf_tables(name, strategy=pdf_strategy, max_pages=max_pages, progress=progress)
         notes = list(notes)
     elif ext == ".xls":
         raise IngestError(f"{name}: the old .xls format is not read; save the workbook as .xlsx or .csv")
@@ -167,22 +168,28 @@ def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mappin
     hmap = resolve_mapping(mapping)
     headings = ["" if c is None else str(c) for c in df.columns]
     grid = df.set_axis(range(df.shape[1]), axis=1)
-    n = len(df)
-    table = _FrameTable(file=source, sheet=None, headings=headings, rows=[], pages=[None] * n,
-                        row_numbers=list(range(2, n + 2)))
-    table.grid = grid
+    table = _FrameTable(grid, source, headings)
     return _assemble([table], [], hmap, coords, cells=[grid])
 
 
 class _FrameTable(RawTable):
-    """A RawTable over a DataFrame: ``rows`` are built only when someone asks for them."""
+    """A RawTable over a DataFrame; its ``rows`` list is built only when read (it is not needed to
+    build the frame, and costs about 0.3 s for 100,000 rows)."""
 
-    grid: pd.DataFrame | None = None
+    def __init__(self, grid: pd.DataFrame, file: str, headings: list[str]) -> None:
+        self._grid = grid
+        self._rows: list[list[object]] | None = None
+        n = len(grid)
+        super().__init__(file=file, sheet=None, headings=headings, rows=None,  # type: ignore[arg-type]
+                         pages=[None] * n, row_numbers=list(range(2, n + 2)))
 
-    def __getattribute__(self, name: str) -> Any:
-        if name == "rows":
-            d = object.__getattribute__(self, "__dict__")
-            if not d.get("rows") and d.get("grid") is not None:
-                d["rows"] = d["grid"].astype(object).where(d["grid"].notna(), None).to_numpy().tolist()
-            return d.get("rows", [])
-        return object.__getattribute__(self, name)
+    @property  # type: ignore[override]
+    def rows(self) -> list[list[object]]:
+        if self._rows is None:
+            g = self._grid.astype(object)
+            self._rows = g.where(g.notna(), None).to_numpy().tolist()
+        return self._rows
+
+    @rows.setter
+    def rows(self, value: list[list[object]] | None) -> None:
+        self._rows = value
