@@ -525,8 +525,7 @@ def carry_over(review: "Review", previous: PreviousSheet) -> RevisionResult:
                 e.status, e.outcome = "open", "still-open"
                 if _is_worse(sev, util, p.tool_severity, p.tool_utilisation):
                     e.note = f"still open in revision {n}; worse than revision {_PREV_TOKEN}"
-                else:
-                    e.note = f"still open in revision {n}"
+                # plainly still open: no note, the status says it
             elif p.status == "superseded":
                 e.status, e.outcome = "open", "reopened"
                 e.note = f"reopened in revision {n}: cap {cap} is back in the schedule and the check fails"

@@ -232,3 +232,28 @@ def test_screenshot(report, tmp_path):
     res = _run_chromium(tmp_path, "--window-size=1100,1600", f"--screenshot={png}", path.resolve().as_uri())
     assert res.returncode == 0 and png.exists(), res.stderr[-2000:]
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and png.stat().st_size > 20_000
+
+
+def test_revision_report_lists_comments_of_removed_caps(tmp_path):
+    from conftest_report import without_cap
+
+    from checker.revision import carry_over, read_previous_sheet
+
+    (s1,) = write_outputs(make_review(), [tmp_path / "c.xlsx"], meta=META)
+    wb = __import__("openpyxl").load_workbook(s1)
+    ws = wb["Comments"]
+    for r in range(3, ws.max_row + 1):
+        if ws.cell(row=r, column=11).value == "PC3/pile-embedment":
+            ws.cell(row=r, column=9).value = "Embedment 100 mm <see note>"
+    wb.save(s1)
+    rows = [r for r in base_findings() if r["cap"] != "PC3"]
+    rv2 = make_review(rows, without_cap(CAPS, "PC3"))
+    res = carry_over(rv2, read_previous_sheet(s1))
+    (page,) = write_outputs(rv2, [tmp_path / "r.html"], meta=META, previous=res)
+    text = page.read_text()
+    assert "Comments not tied to a cap in this submission" in text
+    assert "Embedment 100 mm &lt;see note&gt;" in text
+    assert "superseded in revision 2: cap PC3 no longer in the schedule" in text
+    assert html.escape(res.summary(), quote=False) in text or res.summary() in html.unescape(text)
+    tree = _parse(text)
+    assert "PC3" not in tree.sketch and len(tree.sketch) == 4

@@ -156,6 +156,8 @@ def format_unit(unit: str) -> str:
     unit = (unit or "").strip()
     if unit.lower() in ("degrees", "degree", "deg"):
         return "°"
+    if unit.lower() in ("count", "number", "-"):
+        return ""
     return unit
 
 
@@ -163,7 +165,7 @@ def _with_unit(v: float, unit: str) -> str:
     u = format_unit(unit)
     if not u:
         return format_number(v)
-    return f"{format_number(v)}{u}" if u == "°" else f"{format_number(v)} {u}"
+    return f"{format_number(v)}{u}" if u in ("°", "%") else f"{format_number(v)} {u}"
 
 
 def format_utilisation(u: float | None) -> str:

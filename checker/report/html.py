@@ -362,6 +362,21 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     for m in marks:
         h.append(_cap_section(review, m, _anchor(m, anchors), worst.get(m, ""), by_key))
 
+    gone = [c for c in comments if c.key and c.cap not in set(marks)]
+    manual = [c for c in comments if not c.key]
+    if gone or manual:
+        h.append('<section class="carried-only"><h2>Comments not tied to a cap in this submission</h2>'
+                 "<p>Carried from the previous comment sheet: comments on caps no longer in the schedule, "
+                 "and rows added to the sheet by hand.</p>"
+                 '<table><thead><tr><th>No.</th><th>Cap</th><th>Check</th><th>Severity</th><th>Status</th>'
+                 "<th>Note</th><th>Designer response</th></tr></thead><tbody>")
+        for c in sorted(gone + manual, key=lambda c: c.no):
+            sev = escape(c.severity)
+            h.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.cap)}</td>'
+                     f"<td>{escape(c.check)}</td><td class=\"sev sev-{sev}\">{sev}</td>"
+                     f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td></tr>")
+        h.append("</tbody></table></section>")
+
     if review.rejected:
         h.append('<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
                  "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"

@@ -68,17 +68,17 @@ if TYPE_CHECKING:  # pragma: no cover
     from checker.revision import RevisionResult
 
 COMMENT_WIDTHS: dict[str, float] = {
-    "No.": 6,
-    "Cap": 10,
-    "Check": 24,
-    "Clause": 16,
+    "No.": 5,
+    "Cap": 8,
+    "Check": 22,
+    "Clause": 15,
     "Found": 46,
-    "Severity": 14,
-    "Action required": 36,
-    "Source": 14,
+    "Severity": 13,
+    "Action required": 32,
+    "Source": 11,
     "Designer response": 36,
-    "Checker status": 12,
-    "Key": 10,
+    "Checker status": 11,
+    "Key": 9,
 }
 
 ALL_CHECKS_HEADINGS: tuple[str, ...] = (
@@ -97,6 +97,7 @@ FIRST_DATA_ROW = HEADER_ROW + 1
 _THIN = Side(style="thin", color="BFBFBF")
 _BORDER = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
 _WRAP_TOP = Alignment(wrap_text=True, vertical="top")
+_BODY_FONT = Font(size=9)
 _HEAD_FONT = Font(bold=True, color=HEADER_TEXT)
 _HEAD_FILL = PatternFill("solid", fgColor=HEADER_FILL)
 
@@ -107,6 +108,7 @@ def severity_fill(severity: str) -> PatternFill | None:
 
 
 def severity_font(severity: str, **kw: Any) -> Font:
+    kw.setdefault("size", 9)
     return Font(color=SEVERITY_TEXT.get(str(severity), "1F1F1F"), bold=severity == "unsafe", **kw)
 
 
@@ -127,10 +129,11 @@ def _hf_escape(text: str) -> str:
     return str(text).replace("&", "&&")
 
 
-def _estimate_lines(text: Any, width: float) -> int:
+def _estimate_lines(text: Any, width: float, per_width: float = 1.2) -> int:
+    """Lines a wrapped cell needs (about 1.2 characters of 9-point text per unit of width)."""
     if text is None or text == "":
         return 1
-    chars = max(int(width * 1.1), 4)
+    chars = max(int(width * per_width), 4)
     lines = 0
     for part in str(text).split("\n"):
         lines += max(1, math.ceil(len(part) / chars))
@@ -245,14 +248,13 @@ def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[
         fields.append(("Previous sheet", Path(revision.previous.path).name))
         fields.append(("Revision summary", revision.summary()))
     for label, value in fields:
-        ws.cell(row=row, column=1, value=label).font = Font(bold=True)
+        lab = ws.cell(row=row, column=1, value=label)
+        lab.font, lab.alignment = Font(bold=True), Alignment(vertical="top")
         c = _put(ws, row, 2, value)
         c.alignment = Alignment(horizontal="left", vertical="top", wrap_text=True)
-        if label == "Revision summary":
+        if isinstance(value, str) and len(value) > 14:
             ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
-            ws.row_dimensions[row].height = 30
-        elif isinstance(value, str) and len(value) > 14:
-            ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+            _fit_row_height(ws, row, [value], [86])
         row += 1
 
     row += 1
@@ -267,12 +269,15 @@ def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[
     for sev in SEVERITY_ORDER:
         c = ws.cell(row=row, column=1, value=sev)
         c.fill = severity_fill(sev)
-        c.font = severity_font(sev)
+        c.font = severity_font(sev, size=10)
         c.border = _BORDER
+        c.alignment = Alignment(vertical="top")
         n = counts.get(sev, 0) if sev != "ok" else n_ok
-        ws.cell(row=row, column=2, value=n).border = _BORDER
+        nc = ws.cell(row=row, column=2, value=n)
+        nc.border, nc.alignment = _BORDER, Alignment(horizontal="center", vertical="top")
         m = ws.cell(row=row, column=3, value=SEVERITY_MEANING[sev])
         m.border, m.alignment = _BORDER, _WRAP_TOP
+        _fit_row_height(ws, row, [SEVERITY_MEANING[sev]], [70])
         row += 1
 
     row += 1
@@ -285,34 +290,24 @@ def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[
     by_status = count_by_status(comments)
     for st in STATUSES:
         ws.cell(row=row, column=1, value=st).border = _BORDER
-        ws.cell(row=row, column=2, value=by_status.get(st, 0)).border = _BORDER
+        nc = ws.cell(row=row, column=2, value=by_status.get(st, 0))
+        nc.border, nc.alignment = _BORDER, Alignment(horizontal="center")
         row += 1
 
     row += 1
-    ws.cell(row=row, column=1, value="Statement").font = Font(bold=True)
-    c = ws.cell(row=row, column=2, value=NOT_A_SAFETY_CLAIM)
-    ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
-    c.alignment = _WRAP_TOP
-    ws.row_dimensions[row].height = 30
-    row += 1
-    ws.cell(row=row, column=1, value="How to answer").font = Font(bold=True)
-    c = ws.cell(
-        row=row, column=2,
-        value=("Designer: write a response against each comment in 'Designer response'. Checker: set "
-               "'Checker status' from the drop-down (open / closed / superseded). Keep the 'Key' column "
-               "as it is: the next revision matches comments by it."),
-    )
-    ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
-    c.alignment = _WRAP_TOP
-    ws.row_dimensions[row].height = 44
-    if review.notes:
-        row += 2
-        ws.cell(row=row, column=1, value="Notes").font = Font(bold=True)
-        for note in review.notes:
-            c = ws.cell(row=row, column=2, value=str(note))
-            ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
-            c.alignment = _WRAP_TOP
-            row += 1
+    how_to = ("Designer: write a response against each comment in 'Designer response'. Checker: set "
+              "'Checker status' from the drop-down (open / closed / superseded). Keep the 'Key' column "
+              "as it is: the next revision matches comments by it.")
+    texts = [("Statement", NOT_A_SAFETY_CLAIM), ("How to answer", how_to)]
+    texts += [("Notes" if i == 0 else "", str(n)) for i, n in enumerate(review.notes or [])]
+    for label, text in texts:
+        lab = ws.cell(row=row, column=1, value=label or None)
+        lab.font, lab.alignment = Font(bold=True), Alignment(vertical="top")
+        c = _put(ws, row, 2, text)
+        ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+        c.alignment = _WRAP_TOP
+        _fit_row_height(ws, row, [text], [80])
+        row += 1
     _print_setup(ws, meta, None)
     ws.page_setup.orientation = "portrait"
 
@@ -333,13 +328,14 @@ def _comments_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]
             c = _put(ws, row, col, v)
             c.alignment = _WRAP_TOP
             c.border = _BORDER
+            c.font = _BODY_FONT
         sev = ws.cell(row=row, column=sev_col)
         fill = severity_fill(cm.severity)
         if fill is not None:
             sev.fill = fill
             sev.font = severity_font(cm.severity)
         ws.cell(row=row, column=key_col).font = Font(size=7, color="595959")
-        _fit_row_height(ws, row, values, widths)
+        _fit_row_height(ws, row, values, widths, line_height=12.0)
         row += 1
     last = row - 1
     end = max(last, HEADER_ROW) + SPARE_ROWS
@@ -389,6 +385,7 @@ def _all_checks_sheet(ws: Worksheet, review: "Review", meta: dict[str, Any]) -> 
             c = _put(ws, row, col, v)
             c.alignment = _WRAP_TOP
             c.border = _BORDER
+            c.font = _BODY_FONT
             if col in (6, 7):
                 c.number_format = "0.0"
             elif col == 9:

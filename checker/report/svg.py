@@ -71,6 +71,7 @@ class CapGeometry:
     column_x: float = float("nan")
     column_y: float = float("nan")
     column_round: bool = False
+    n_piles: float = float("nan")        # the schedule's pile count (for a note when no centres)
     piles: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
 
 
@@ -93,6 +94,7 @@ def cap_geometry(review: "Review", mark: str) -> CapGeometry:
             g.width = _f(row.get("cap_width"))
             g.depth = _f(row.get("cap_depth"))
             g.pile_dia = _f(row.get("pile_dia"))
+            g.n_piles = _f(row.get("piles"))
             g.column_x = _f(row.get("column_x"))
             g.column_y = _f(row.get("column_y"))
             rnd = row.get("column_round")
@@ -191,16 +193,54 @@ class _Canvas:
 
 
 def _closest_pair(piles: np.ndarray) -> tuple[int, int, float] | None:
+    """The closest pair of piles; among equally close pairs (within 1 mm) the one whose dimension
+    can sit above the plan, else on the left, else inside, so it keeps clear of L and W."""
     m = len(piles)
     if m < 2:
         return None
-    best = (0, 1, float("inf"))
+    pairs = []
     for i in range(m):
         for j in range(i + 1, m):
-            d = float(np.hypot(*(piles[i] - piles[j])))
-            if d < best[2] - 1e-9:
-                best = (i, j, d)
-    return best
+            pairs.append((float(np.hypot(*(piles[i] - piles[j]))), i, j))
+    dmin = min(p[0] for p in pairs)
+
+    def place(p: tuple[float, int, int]) -> tuple[int, float]:
+        _, i, j = p
+        (x1, y1), (x2, y2) = piles[i], piles[j]
+        mx, my = (x1 + x2) / 2, (y1 + y2) / 2      # plan coordinates (y up)
+        if abs(y1 - y2) < 1e-6:                     # horizontal pair: above if on or above the axis
+            return (0, -my) if my >= -1e-6 else (4, my)
+        if abs(x1 - x2) < 1e-6:                     # vertical pair: left if on or left of the axis
+            return (1, mx) if mx <= 1e-6 else (3, -mx)
+        return (2, 0.0)
+
+    best = min((p for p in pairs if p[0] <= dmin + 1.0), key=lambda p: (place(p), p[1], p[2]))
+    return best[1], best[2], best[0]
+
+
+def _spacing_layout(P: list[tuple[float, float]], pair: tuple[int, int, float], g: CapGeometry,
+                    pile_r: float, fs: float, have_outline: bool):
+    """Where the spacing dimension goes: outward normal, offset, and the side of the plan it
+    takes when it is drawn outside the outline (svg coordinates)."""
+    i, j, _ = pair
+    (x1, y1), (x2, y2) = P[i], P[j]
+    dx, dy = x2 - x1, y2 - y1
+    ln = math.hypot(dx, dy) or 1.0
+    nx, ny = -dy / ln, dx / ln
+    mx, my = (x1 + x2) / 2, (y1 + y2) / 2
+    flipped = False
+    at_centre = abs(mx) < 1e-6 and abs(my) < 1e-6
+    if (not at_centre and nx * mx + ny * my < 0) or (at_centre and (ny > 1e-9 or (abs(ny) <= 1e-9 and nx > 0))):
+        nx, ny, flipped = -nx, -ny, True
+    off = max(pile_r, fs * 0.5) + fs * 0.9
+    axis = abs(nx) < 1e-6 or abs(ny) < 1e-6
+    side = ""
+    if axis and have_outline:
+        # distance from the pair's line to the outline along the outward normal, plus a gap
+        to_edge = (g.width / 2 - abs(my)) if abs(nx) < 1e-6 else (g.length / 2 - abs(mx))
+        off = max(to_edge, pile_r) + fs * 1.3
+        side = ("below" if ny > 0 else "above") if abs(nx) < 1e-6 else ("right" if nx > 0 else "left")
+    return side, (nx, ny, flipped, axis, off)
 
 
 def _edge_distances(g: CapGeometry) -> list[tuple[float, float, int, str]]:
@@ -255,8 +295,14 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
     extent = max(2 * half_l, 2 * half_w, 1.0)
     cv = _Canvas(extent)
     fs = cv.fs
-    margin_l, margin_r = fs * 5.0, fs * 3.2
-    margin_t, margin_b = fs * 3.6, fs * 6.2
+    # svg y = -plan y
+    P = [(float(x), -float(y)) for x, y in piles]
+    pair = _closest_pair(piles)
+    spacing_side, sp_layout = "", None
+    if pair:
+        spacing_side, sp_layout = _spacing_layout(P, pair, g, pile_r, fs, have_outline)
+    margin_l, margin_r = fs * 5.0, fs * 3.2 + (fs * 2.4 if spacing_side == "right" else 0.0)
+    margin_t, margin_b = fs * 3.6, fs * 6.2 + (fs * 2.4 if spacing_side == "below" else 0.0)
     vb = (-half_l - margin_l, -half_w - margin_t, 2 * half_l + margin_l + margin_r,
           2 * half_w + margin_t + margin_b)
 
@@ -273,9 +319,6 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
 
     def rules_of(target: str) -> str:
         return " ".join(sorted({str(r["rule"]) for r in by_target.get(target, [])}))
-
-    # svg y = -plan y
-    P = [(float(x), -float(y)) for x, y in piles]
 
     # --- cap outline
     if have_outline:
@@ -326,7 +369,6 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
         e0 = min(nearest, key=lambda e: (pref[e[3]], e[2]))
         edge_dim = (e0, use_centre, fv)
 
-    pair = _closest_pair(piles)
     spacing_c = colour_of("spacing")
     spacing_hl: set[int] = set(pair[:2]) if (pair and spacing_c) else set()
 
@@ -359,19 +401,7 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
     if pair:
         i, j, d = pair
         (x1, y1), (x2, y2) = P[i], P[j]
-        dx, dy = x2 - x1, y2 - y1
-        ln = math.hypot(dx, dy) or 1.0
-        nx, ny = -dy / ln, dx / ln
-        mx, my = (x1 + x2) / 2, (y1 + y2) / 2
-        flipped = False
-        if nx * mx + ny * my < 0 or (abs(mx) < 1e-6 and abs(my) < 1e-6 and ny > 0):
-            nx, ny, flipped = -nx, -ny, True
-        off = max(pile_r, fs * 0.5) + fs * 0.9
-        axis = abs(nx) < 1e-6 or abs(ny) < 1e-6
-        if axis and have_outline:
-            # distance from the pair's line to the outline along the outward normal, plus a gap
-            to_edge = (g.width / 2 - abs(my)) if abs(nx) < 1e-6 else (g.length / 2 - abs(mx))
-            off = to_edge + fs * 1.3
+        nx, ny, flipped, axis, off = sp_layout
         sf = _worst(by_target.get("spacing", []))
         sv = _num(sf.get("value")) if sf else None
         label = f"s = {_mm(sv if sv is not None else d)}"
@@ -410,10 +440,10 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
                cls="dim edge" + (" hl" if edge_c else ""), data=rules_of("edge") if edge_c else None,
                label_at=at)
 
-    # --- overall dimensions
+    # --- overall dimensions (moved out when the spacing dimension took that side)
     if have_outline:
-        yb = half_w + fs * 1.6
-        xr = half_l + fs * 1.6
+        yb = half_w + fs * 1.6 + (fs * 2.4 if spacing_side == "below" else 0.0)
+        xr = half_l + fs * 1.6 + (fs * 2.4 if spacing_side == "right" else 0.0)
         for (px, py), (qx, qy) in (((-g.length / 2, g.width / 2), (-g.length / 2, yb)),
                                    ((g.length / 2, g.width / 2), (g.length / 2, yb)),
                                    ((g.length / 2, -g.width / 2), (xr, -g.width / 2)),
@@ -425,10 +455,15 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
         cv.dim((xr, -g.width / 2), (xr, g.width / 2), f"W = {_mm(g.width)}",
                cls="dim overall", label_side=-1.0)
 
+    if len(piles) == 0 and _ok(g.n_piles):
+        cv.text(0.0, -half_w * 0.55 if have_outline else 0.0,
+                f"{format_number(g.n_piles)} pile(s): positions not available", cls="note",
+                colour="#" + SEVERITY_FILL["unsafe"], size=fs * 0.9)
+
     # --- scale bar and axes
     bar = _nice_length(extent / 4)
     x0 = -half_l
-    y0 = half_w + fs * 4.3
+    y0 = half_w + fs * 4.3 + (fs * 2.4 if spacing_side == "below" else 0.0)
     cv.add(f'<g class="scale-bar"><rect {_attrs(x=x0, y=y0 - fs * 0.25, width=bar / 2, height=fs * 0.5, fill=INK)}/>'
            f'<rect {_attrs(x=x0 + bar / 2, y=y0 - fs * 0.25, width=bar / 2, height=fs * 0.5, fill="#FFFFFF", stroke=INK, stroke_width=cv.sw)}/></g>')
     cv.text(x0 + bar + fs * 0.4, y0, f"{format_number(bar)} mm", anchor="start", size=fs * 0.85)
