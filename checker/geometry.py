@@ -165,8 +165,11 @@ def pair_distances(X, Y, mask):
 
 def spacing_min(X, Y, mask):
     """Least centre-to-centre spacing over all pile pairs [mm] (NaN for a single pile)."""
-    d = pair_distances(X, Y, mask)
-    return _nan_if_inf(np.min(np.where(np.isnan(d), np.inf, d), axis=1))
+    i, j = np.triu_indices(X.shape[1], 1)
+    dx = X[:, i] - X[:, j]
+    dy = Y[:, i] - Y[:, j]
+    d2 = np.where(mask[:, i] & mask[:, j], dx * dx + dy * dy, np.inf)
+    return np.sqrt(_nan_if_inf(np.min(d2, axis=1)))
 
 
 def edge_distances(X, Y, mask, cap_length, cap_width, pile_dia):

@@ -31,6 +31,7 @@ def test_as_min_o1_o4_o5(tol):
     tol.printed(0.0013 * 900 * 850, "994.5")
     # O5: 0.001508 × 2700 × 900 = 3664.4 mm² (0.0013 → 3159.0)
     tol.printed(det.as_min(mat.fctm(30), 500, 2700, 900), "3664.4")
+    tol.printed(0.0013 * 2700 * 900, "3159.0")
     # low strength: 0.0013 governs (C20: 0.26 × 2.2/500 = 0.00114)
     tol.same(det.as_min(mat.fctm(20), 500, 1000, 1000), 1300.0)
 

@@ -89,7 +89,9 @@ def test_o4_options(make_caps, tol):
     tol.printed(q["as_req_x"], "2372.7")
     tol.printed(q["sigma_pile_bearing"][1], "3.919")  # 2.3.4.2(2): 0.95 × 600 = 570
     assert q["is_uncased"].tolist() == [0.0, 1.0]
-    tol.printed(q["beta_x"], "0.25")                  # EC2-literal av 350 → 0.5d
+    tol.printed(q["av_geom_x"], "350")                # EC2-literal av 350 → 0.5d = 425
+    tol.printed(q["av_x"], "425")
+    tol.printed(q["beta_x"], "0.25")
     tol.printed(q["vrd_x"] / (900 * 850), "1.6113")
 
 
@@ -246,11 +248,13 @@ def test_derive_100k_caps_under_budget(make_caps):
     big = pd.concat([base] * 500, ignore_index=True)
     big["mark"] = [f"M{i}" for i in range(len(big))]
     assert len(big) == 100_000
-    best = np.inf
+    # CPU time of this process (other jobs on a shared machine do not count), best of two
+    best, wall = np.inf, np.inf
     for _ in range(2):
-        t = time.perf_counter()
+        t, w = time.process_time(), time.perf_counter()
         d = derive(big, None, {})
-        best = min(best, time.perf_counter() - t)
+        best = min(best, time.process_time() - t)
+        wall = min(wall, time.perf_counter() - w)
     assert d.q["tie_x"].shape == (100_000,)
-    print(f"derive on 100,000 caps: {best:.3f} s")
+    print(f"derive on 100,000 caps: {best:.3f} s CPU, {wall:.3f} s wall")
     assert best < 2.0

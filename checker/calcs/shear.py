@@ -201,7 +201,8 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
 
     Returns:
         dict of (n,) arrays for the governing section: ``ved`` [N], ``vrd`` [N], ``util`` [-],
-        ``av`` (before the 0.5d floor) [mm], ``beta`` [-], ``b_enh`` [mm]; ``ved_max`` the
+        ``av`` (taken as at least 0.5d) [mm], ``av_geom`` (the distance itself) [mm],
+        ``beta`` [-], ``b_enh`` [mm]; ``ved_max`` the
         largest VEd over the sections [N]; NaN where no section lies outside the column face
     """
     n = coord.shape[0]
@@ -218,27 +219,31 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
     beta = beta_av(av, dd)
 
     side = np.sign(np.where(mask, coord, 0.0))
+    c0 = np.where(mask, coord, 0.0)
     R = np.where(mask, reaction, 0.0)
-    half = 0.5 * W
-    strip = np.where(mask, np.clip(across + 1.5 * phi, -half, half)
-                     - np.clip(across - 1.5 * phi, -half, half), 0.0)
-    ved = np.zeros_like(a)
-    strips = np.zeros_like(a)
     a_lo = a - tol
-    same_side = np.empty_like(a, dtype=bool)
+    ved = np.zeros_like(a)
     near = np.empty_like(a, dtype=bool)
     buf = np.empty_like(a)
     for j in range(coord.shape[1]):  # over pile slots (at most a few), never over caps
-        np.equal(side, side[:, j:j + 1], out=same_side)
-        np.greater_equal(a[:, j:j + 1], a_lo, out=near)
-        np.logical_and(same_side, near, out=same_side)  # pile j is on the side of pile i, at or beyond it
-        ved += R[:, j:j + 1] * same_side
-        np.subtract(coord[:, j:j + 1], coord, out=buf)
-        np.abs(buf, out=buf)
-        np.less_equal(buf, tol, out=near)  # pile j on the section line of pile i
-        strips += strip[:, j:j + 1] * near
-    le3 = np.broadcast_to(np.asarray(spacing_le_3phi, dtype=bool), (n,))[:, None]
-    b_enh = np.where(le3, W, np.minimum(strips, W))
+        # pile j lies on pile i's side at or beyond it: side_i · c_j ≥ |c_i| − tol
+        np.multiply(side, c0[:, j:j + 1], out=buf)
+        np.greater_equal(buf, a_lo, out=near)
+        np.multiply(near, R[:, j:j + 1], out=buf)
+        ved += buf
+
+    # enhanced width: the whole width where the spacing is ≤ 3φ, else the 3φ strips of the piles
+    # on the section line (worked out only for the caps that need it)
+    le3 = np.broadcast_to(np.asarray(spacing_le_3phi, dtype=bool), (n,))
+    b_enh = np.broadcast_to(W, a.shape).copy()
+    k = np.flatnonzero(~le3)
+    ck, mk, hk, pk = coord[k], mask[k], 0.5 * W[k], phi[k]
+    strip = np.where(mk, np.clip(across[k] + 1.5 * pk, -hk, hk)
+                     - np.clip(across[k] - 1.5 * pk, -hk, hk), 0.0)
+    strips = np.zeros_like(ck)
+    for j in range(coord.shape[1]):  # over pile slots
+        strips += strip[:, j:j + 1] * (np.abs(ck[:, j:j + 1] - ck) <= tol)  # pile j on i's line
+    b_enh[k] = np.minimum(strips, W[k])
     vrd = enhanced_resistance(col(vrdc), beta, b_enh, W, dd)
     util = ved / vrd
 
@@ -250,6 +255,7 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
         return np.where(has, np.take_along_axis(arr, g, axis=1)[:, 0], np.nan)
 
     ved_max = np.max(np.where(valid, ved, -np.inf), axis=1)
-    return {"ved": pick(ved), "vrd": pick(vrd), "util": pick(util), "av": pick(av),
+    return {"ved": pick(ved), "vrd": pick(vrd), "util": pick(util),
+            "av": pick(np.maximum(av, 0.5 * dd)), "av_geom": pick(av),
             "beta": pick(beta), "b_enh": pick(b_enh),
             "ved_max": np.where(has, ved_max, np.nan)}

@@ -106,6 +106,11 @@ def _pget(params: dict, name: str):
     return params.get(name, DEFAULTS[name])
 
 
+#: Caps worked at a time (rows, never single caps): bounds the memory held by the (n, m)
+#: temporaries on very long schedules; the speed is the same either way (measured).
+BLOCK = 32768
+
+
 def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
            params: dict[str, float | str] | None = None) -> Derived:
     """Compute every quantity for every cap of a canonical schedule frame.
@@ -119,6 +124,28 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
         :class:`Derived`
     """
     p = dict(params or {})
+    caps = caps.reset_index(drop=True)
+    X, Y, mask = geo.pile_arrays(caps, coords)
+    n = len(caps)
+    parts = [_derive_block(caps.iloc[i:i + BLOCK].reset_index(drop=True),
+                           np.asfortranarray(X[i:i + BLOCK]), np.asfortranarray(Y[i:i + BLOCK]),
+                           np.asfortranarray(mask[i:i + BLOCK]), p)
+             for i in range(0, max(n, 1), BLOCK)]
+    if len(parts) == 1:
+        return parts[0]
+    first = parts[0]
+    return Derived(
+        q={k: np.concatenate([pt.q[k] for pt in parts]) for k in first.q},
+        X=X, Y=Y, mask=mask,
+        piles={k: np.asfortranarray(np.concatenate([pt.piles[k] for pt in parts]))
+               for k in first.piles},
+        text={k: np.concatenate([pt.text[k] for pt in parts]) for k in first.text},
+    )
+
+
+def _derive_block(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
+                  p: dict) -> Derived:
+    """derive() for one block of rows, with its pile arrays already built."""
     n = len(caps)
     f = {name: _num(caps, name, n) for name in INPUT_QUANTITIES}
     gamma_c = float(_pget(p, "gamma_c"))
@@ -148,7 +175,6 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
     q: dict[str, np.ndarray] = {}
 
     # ---- geometry -----------------------------------------------------------------------
-    X, Y, mask = geo.pile_arrays(caps.reset_index(drop=True), coords)
     npile = geo.n_piles(mask)
     d_x = geo.effective_depth_x(h, cover, phx)
     d_y = geo.effective_depth_y(h, cover, phx, phy)
@@ -277,6 +303,7 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
         q[f"vrd_{k}"] = s["vrd"]
         q[f"util_shear_{k}"] = s["util"]
         q[f"av_{k}"] = s["av"]
+        q[f"av_geom_{k}"] = s["av_geom"]
         q[f"beta_{k}"] = s["beta"]
         q[f"b_enh_{k}"] = s["b_enh"]
         q[f"ved_max_{k}"] = s["ved_max"]
