@@ -428,3 +428,47 @@ def test_100k_rows_from_a_frame_in_under_3_s():
     check_counts(s)
     assert len(s.rejected) == 100
     assert elapsed < 3.0, f"schedule_from_frame took {elapsed:.2f} s on 100,000 rows"
+
+
+# ---------------------------------------------------------------------------------------------
+# More shapes of a schedule
+# ---------------------------------------------------------------------------------------------
+
+BASE_HEAD = "Mark,Piles,Pile dia,Spacing,L,W,Depth,Column,NEd,Concrete,Cover,Bars X,Bars Y"
+BASE_ROW = "PC1,4,600,1800,2700,2700,1200,600,4500,C32/40,75,12H25,12H25"
+
+
+def test_a_bad_dimension_is_reported_once(tmp_path):
+    s = _one(tmp_path, BASE_ROW.replace("2700,2700", "abc,2700"), head=BASE_HEAD + "\n")
+    assert s.rejected[0]["errors"] == ["cap_length (column 'L'): 'abc' is not a number"]
+
+
+def test_no_column_for_the_dimensions(tmp_path):
+    head = "Mark,Piles,Pile dia,Spacing,Column,NEd,Concrete,Cover,Bars X,Bars Y\n"
+    s = _one(tmp_path, "PC1,4,600,1800,600,4500,C32/40,75,12H25,12H25", head=head)
+    assert [e.split(":")[0] for e in s.rejected[0]["errors"]] == ["cap_length", "cap_width", "cap_depth"]
+    assert all("not given" in e for e in s.rejected[0]["errors"])
+
+
+def test_fck_column_instead_of_a_class_and_separate_column_sizes(tmp_path):
+    head = "Mark,Piles,Pile dia,Spacing,Size,Col x,Col y,NEd,fck,Cover,Bars X,Bars Y,Bar ends\n"
+    s = _one(tmp_path, "PC1,4,600,1800,2700x2700x1200,600,400,4500,32,75,12H25,12H25,bent up", head=head)
+    cap = s.caps.iloc[0]
+    assert (cap.concrete, cap.fck, cap.column_x, cap.column_y, cap.bar_ends) == ("C32/40", 32, 600, 400, "bent")
+    bad = _one(tmp_path, "PC1,4,600,1800,2700x2700x1200,600,400,4500,33,75,12H25,12H25,wiggly", head=head)
+    errs = bad.rejected[0]["errors"]
+    assert "fck (column 'fck'): 33 MPa is not the cylinder strength of a known class" in errs[1]
+    assert errs[0].startswith("bar_ends (column 'Bar ends'): 'wiggly' is not a bar end detail")
+
+
+def test_repeated_heading_rows_blank_columns_and_rows_after_the_notes(tmp_path):
+    p = tmp_path / "r.csv"
+    p.write_text("\n".join([
+        BASE_HEAD + ",,", BASE_ROW + ",,", BASE_HEAD + ",,", BASE_ROW.replace("PC1", "PC2") + ",,",
+        "", "Notes: loads are ULS", BASE_ROW.replace("PC1", "PC3")]) + "\n", encoding="utf-8")
+    s = read_schedule(p)
+    check_counts(s)
+    assert list(s.caps["mark"]) == ["PC1", "PC2"] and list(s.caps["src_row"]) == [2, 4]
+    assert len(s.tables[0].headings) == 13                           # trailing blank columns dropped
+    assert any("1 row(s) below that look like schedule rows were not read (rows 7 to 7)" in n for n in s.notes)
+    assert not any("no heading" in n for n in s.notes)

@@ -62,7 +62,7 @@ DERIVED_FROM: dict[str, tuple[str, ...]] = {
 _TEXT_FIELDS = ("mark", "exposure", "pile_type", "method")
 _NUMERIC_KINDS = ("length", "force", "moment", "stress", "area", "count")
 _BAR_ENDS = {
-    **dict.fromkeys(("straight", "str", "straight bars", "none"), "straight"),
+    **dict.fromkeys(("straight", "str", "straight bars"), "straight"),
     **dict.fromkeys(("bent", "bent up", "bent-up", "bend", "bends", "l", "l-bar", "l-bars", "l bars", "u",
                      "u-bar", "u-bars", "u bars", "bob", "bobbed"), "bent"),
     **dict.fromkeys(("hooked", "hook", "hooks", "hooked bars"), "hooked"),
@@ -79,13 +79,6 @@ class _Errors:
         rows = np.asarray(list(rows) if not isinstance(rows, np.ndarray) else rows, dtype=np.int64)
         if rows.size:
             self.items.append((fld, rows, list(msgs)))
-
-    def fields_by_row(self) -> dict[int, set[str]]:
-        out: dict[int, set[str]] = {}
-        for fld, rows, _ in self.items:
-            for r in rows.tolist():
-                out.setdefault(r, set()).add(fld)
-        return out
 
 
 @dataclass
@@ -133,6 +126,7 @@ class _Unique:
     end for empty cells) the outputs, a blank flag and an error text; ``codes`` index them per row."""
 
     codes: np.ndarray
+    uniq: np.ndarray
     outs: list[np.ndarray]
     blank_u: np.ndarray
     errs: list[str | None]
@@ -173,7 +167,7 @@ def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique
             continue
         for o, v in zip(outs, res):
             o[k] = v
-    return _Unique(codes, outs, blank_u, errs)
+    return _Unique(codes, uniq, outs, blank_u, errs)
 
 
 def _numeric(col: pd.Series, kind: str, scale: float) -> tuple[np.ndarray, np.ndarray, list[str]]:
@@ -304,7 +298,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
 
             u = _map_unique(col, bar, 4)
             values[fld] = u.texts(0)
-            values[f"_text_{fld}"] = _as_text(col, u)
+            values[f"_text_{fld}"] = _as_text(u)
             values[f"_count_{suffix}"] = u.floats(1)
             values[f"phi_{suffix}"] = u.floats(2)
             values[f"s{suffix}"] = u.floats(3)
@@ -314,7 +308,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
             u = _map_unique(col, lambda v: tuple(parse_column(v, m.scale)), 3)
             values["_col_x"], values["_col_y"] = u.floats(0), u.floats(1)
             values["_col_round"] = pd.Series(u.outs[2], dtype=object).eq(True).to_numpy(dtype=bool)[u.codes]
-            values["_text_column"] = _as_text(col, u)
+            values["_text_column"] = _as_text(u)
             given[fld] = ~u.blank
             err(fld, *u.error_rows())
         elif fld in ("size", "plan"):
@@ -375,7 +369,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
             except NotationError as exc:
                 rows = np.flatnonzero(fck_col == u)
                 err("fck", rows, [str(exc)] * rows.size)
-        out["concrete"] = pd.Series(fck_col).map(lookup).fillna("").to_numpy(dtype=object)
+        out["concrete"] = _texts(pd.Series(fck_col).map(lookup).to_numpy(dtype=object))
         out["fck"] = fck_col
         given["concrete"] = ~np.isnan(fck_col)
         labels["concrete"] = labels["fck"]
@@ -395,9 +389,11 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
         derived = bars_from_spacing(out[width_field], out["cover"], phi, cen)
         out[f"n{s}"] = np.where(np.isnan(count), derived, count)
         out[f"phi_{s}"], out[f"s{s}"] = phi, cen
-    for f in REQUIRED_SOURCES:
-        if f in ("cap_length", "cap_width", "cap_depth"):
-            given[f] = ~np.isnan(out[f])
+    none = np.zeros(n, dtype=bool)
+    for f, combos in (("cap_length", ("size", "plan")), ("cap_width", ("size", "plan")), ("cap_depth", ("size",))):
+        sources = [f, *combos]
+        if any(s in given for s in sources):       # a value, or a cell that could not be read
+            given[f] = ~np.isnan(out[f]) | np.logical_or.reduce([given.get(s, none) for s in sources])
     return _Parsed(out, given, errors, labels, n)
 
 
@@ -416,10 +412,9 @@ def _required_missing(f: str, have: np.ndarray, has_col: np.ndarray, labels: dic
                * nocol.size)
 
 
-def _as_text(col: pd.Series, u: _Unique) -> np.ndarray:
+def _as_text(u: _Unique) -> np.ndarray:
     """The cells as written (text) for messages, each distinct value converted once."""
-    _, uniq = _factorize(col)
-    shown = np.array([_text(v) for v in uniq] + [""], dtype=object)
+    shown = np.array([_text(v) for v in u.uniq] + [""], dtype=object)
     shown[u.blank_u] = ""
     return shown[u.codes]
 
@@ -570,7 +565,8 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             if note not in notes:
                 notes.append(note)
         for i, h in enumerate(table.headings):
-            if not str(h or "").strip() and i < grid.shape[1] and grid.iloc[:, i].notna().any():
+            if not str(h or "").strip() and i < grid.shape[1] and \
+                    not grid.iloc[:, i].map(_is_blank, na_action="ignore").fillna(True).all():
                 notes.append(f"{table.file}: column {i + 1} has no heading; not read")
         parts.append(_parse_cells(grid, report))
         n = len(grid)

@@ -11,7 +11,6 @@ from __future__ import annotations
 import functools
 import math
 import re
-import unicodedata
 from dataclasses import dataclass
 from typing import Any, Callable, NamedTuple, TypeVar
 
@@ -409,7 +408,7 @@ def concrete_from_fck(fck: float) -> ConcreteClass:
     """The class with cylinder strength ``fck`` [MPa]; NotationError if there is none."""
     name = _BY_FCK.get(float(fck))
     if name is None:
-        raise NotationError(f"fck {fck!r} MPa is not the strength of a known class ({_CLASSES_TEXT})")
+        raise NotationError(f"{float(fck):g} MPa is not the cylinder strength of a known class ({_CLASSES_TEXT})")
     f, cube = CONCRETE_CLASSES[name]
     return ConcreteClass(name, float(f), float(cube))
 

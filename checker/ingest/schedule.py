@@ -13,17 +13,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Sequence
 
-import numpy as np
 import pandas as pd
 
 from checker.ingest.errors import IngestError
 from checker.ingest.frame import build_frame, cells_of, coords_frame
 from checker.ingest.headings import HeadingMatch, HeadingReport, count_known, resolve_mapping
 from checker.ingest.raw import RawTable
-from checker.ingest.tabular import MIN_KNOWN, read_csv, read_xlsx
-
-TABULAR_EXTENSIONS = (".csv", ".txt", ".tsv")
-WORKBOOK_EXTENSIONS = (".xlsx", ".xlsm")
+from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, read_csv, read_tabular
 
 
 @dataclass
@@ -54,7 +50,7 @@ def _table_label(t: RawTable) -> str:
 
 def _read_coords_file(path: str | os.PathLike, hmap: Any) -> RawTable:
     ext = Path(path).suffix.lower()
-    if ext not in TABULAR_EXTENSIONS:
+    if ext not in CSV_EXTENSIONS:
         raise IngestError(f"{path}: pile coordinates are read from a .csv file (mark, x, y), "
                           f"not {ext or '(no extension)'}")
     tables, _ = read_csv(path, mapping=hmap, vocabulary="coords")
@@ -137,10 +133,8 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
         raise IngestError(f"{name}: is a folder, not a schedule file")
     hmap = resolve_mapping(mapping)
     ext = p.suffix.lower()
-    if ext in TABULAR_EXTENSIONS:
-        tables, notes = read_csv(path, mapping=hmap)
-    elif ext in WORKBOOK_EXTENSIONS:
-        tables, notes = read_xlsx(path, mapping=hmap)
+    if ext in CSV_EXTENSIONS + XLSX_EXTENSIONS:
+        tables, notes = read_tabular(path, mapping=hmap)
     elif ext == ".pdf":
         from checker.ingest.pdf import read_pdf_tables
 

@@ -23,13 +23,15 @@ import os
 import re
 import zipfile
 from pathlib import Path
-from typing import Any, Iterable, Iterator, Sequence
+from typing import Any, Iterator, Sequence
 
 from checker.ingest.errors import IngestError
-from checker.ingest.headings import HeadingMap, count_known, heading_key, match_headings, resolve_mapping
+from checker.ingest.headings import HeadingMap, count_known, match_headings, resolve_mapping
 from checker.ingest.notation import clean_text, normalise_unit, parse_quantity
 from checker.ingest.raw import RawTable
 
+CSV_EXTENSIONS = (".csv", ".txt", ".tsv")
+XLSX_EXTENSIONS = (".xlsx", ".xlsm")
 HEADING_SCAN = 50
 MIN_KNOWN = 3
 DELIMITERS = (",", ";", "\t", "|")
@@ -46,12 +48,23 @@ def _is_blank_cell(v: Any) -> bool:
     return v is None or (isinstance(v, str) and not v.strip())
 
 
+def _n_empty(row: list[Any]) -> int:
+    """Cells that are None or '' (list.count runs in C; whitespace-only cells are checked apart)."""
+    return row.count(None) + row.count("")
+
+
 def _blank_row(row: Sequence[Any]) -> bool:
-    return all(_is_blank_cell(v) for v in row)
+    for v in row:                      # a data row returns at its first cell
+        if v is None or v == "" or (isinstance(v, str) and not v.strip()):
+            continue
+        return False
+    return True
 
 
 def _filled(row: Sequence[Any]) -> list[int]:
     return [i for i, v in enumerate(row) if not _is_blank_cell(v)]
+
+
 
 
 def _is_figure(v: Any) -> bool:
@@ -139,7 +152,7 @@ def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, f
         headings = [_text(v) for v in head]
     report = match_headings(headings, mapping, vocabulary)
     mapped_cols = {m.column for m in report.matches}
-    heading_sig = [_text(v).lower() for v in head]
+    head_raw = list(head)
     data: list[list[Any]] = []
     numbers: list[int] = []
     i = start
@@ -161,16 +174,19 @@ def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, f
         if _notes_row(row):
             _note_rows_after(rows, row_numbers, i, mapped_cols, notes, file, sheet)
             break
-        if [_text(v).lower() for v in row[:len(heading_sig)]] == heading_sig[:len(row)]:
+        if row == head_raw:
             i += 1                                   # the heading row repeated
             continue
-        data.append(list(row))
+        data.append(row if isinstance(row, list) else list(row))
         numbers.append(int(row_numbers[i]))
         i += 1
-    last_heading = max((k for k, h in enumerate(headings) if h), default=-1)
-    width = max(last_heading + 1, max((max(_filled(r), default=-1) + 1 for r in data), default=0))
+    # the table's width: the last column with a heading or a filled cell
+    width = max([len(headings)] + list(map(len, data)))
+    while width and not (width <= len(headings) and headings[width - 1]) and \
+            all(len(r) < width or _is_blank_cell(r[width - 1]) for r in data):
+        width -= 1
     headings = (headings + [""] * width)[:width]
-    data = [(r + [None] * width)[:width] for r in data]
+    data = [r if len(r) == width else (r + [None] * (width - len(r)))[:width] for r in data]
     table = RawTable(file=file, sheet=sheet, headings=headings, rows=data, pages=[None] * len(data),
                      row_numbers=numbers)
     return table, notes
@@ -188,7 +204,9 @@ def _note_rows_after(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], 
                      f"(rows {later[0]} to {later[-1]})")
 
 
-def _notes_row(row: Sequence[Any]) -> bool:
+def _notes_row(row: list[Any]) -> bool:
+    if len(row) - _n_empty(row) > 2:
+        return False
     filled = _filled(row)
     return bool(filled) and len(filled) <= 2 and isinstance(row[filled[0]], str) and \
         bool(_NOTES_RE.match(row[filled[0]]))
@@ -276,7 +294,7 @@ def read_csv(path: str | os.PathLike, *, mapping: Any = None, vocabulary: str = 
     if not text.strip():
         raise IngestError(f"{name}: the file is empty")
     delimiter = sniff_delimiter(text, name, hmap, vocabulary)
-    rows = [[c if c.strip() else None for c in r] for r in _parse_csv(text, delimiter, name)]
+    rows = _parse_csv(text, delimiter, name)                # blank cells stay '' (read as empty)
     table, more = locate_table(rows, range(1, len(rows) + 1), file=name, vocabulary=vocabulary, mapping=hmap)
     if table is None:
         raise IngestError(_no_heading_message(name, rows, vocabulary))
@@ -397,9 +415,9 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[Raw
 def read_tabular(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[RawTable], list[str]]:
     """Dispatch on the extension: ``.csv``/``.txt`` -> :func:`read_csv`, ``.xlsx``/``.xlsm`` -> :func:`read_xlsx`."""
     ext = Path(path).suffix.lower()
-    if ext in (".csv", ".txt", ".tsv"):
+    if ext in CSV_EXTENSIONS:
         return read_csv(path, mapping=mapping)
-    if ext in (".xlsx", ".xlsm"):
+    if ext in XLSX_EXTENSIONS:
         return read_xlsx(path, mapping=mapping)
     raise IngestError(f"{_name(path)}: unknown file type {ext or '(none)'!r}; capcheck reads .csv, .xlsx, "
                       ".xlsm and .pdf")
