@@ -21,12 +21,17 @@ cannot be read becomes a note and the rest are still read.
 
 from __future__ import annotations
 
+import contextlib
+import io
+import logging
 import os
+import re
 from typing import Callable
 
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf_model import Layout, PageTable
-from checker.ingest.pdf_text import build_lines, glyphs_from_chars, heading_matcher, text_direction
+from checker.ingest.pdf_text import (build_lines, glyphs_from_chars, heading_matcher,
+                                     page_content, text_direction)
 from checker.ingest.raw import RawTable
 
 STRATEGIES = ("auto", "lines", "text")
@@ -53,8 +58,29 @@ def read_pdf_tables(path, *, strategy: str = "auto", max_pages: int | None = Non
         raise IngestError(f"unknown PDF reading strategy '{strategy}': use one of "
                           + ", ".join(STRATEGIES))
     _check_file(name)
-    pdf = _open(name)
+    with _quiet_pdfminer():
+        return _read(name, strategy, max_pages, progress)
+
+
+@contextlib.contextmanager
+def _quiet_pdfminer():
+    """pdfminer logs warnings about every quirk of a PDF; the user gets our notes instead."""
+    log = logging.getLogger("pdfminer")
+    level = log.level
+    log.setLevel(logging.ERROR)
+    try:
+        yield
+    finally:
+        log.setLevel(level)
+
+
+def _read(name: str, strategy: str, max_pages: int | None,
+          progress) -> tuple[list[RawTable], list[str]]:
+    pdf, salvaged = _open(name)
     notes: list[str] = []
+    if salvaged:
+        notes.append(f"{name} is damaged or truncated ({salvaged}); read what could be "
+                     f"recovered; pages may be missing")
     tables: list[RawTable] = []
     try:
         try:
@@ -73,6 +99,7 @@ def read_pdf_tables(path, *, strategy: str = "auto", max_pages: int | None = Non
         failed: list[int] = []
         prev: Layout | None = None      # layout of the table read last, for a continuation
         current: RawTable | None = None
+        started: dict[int, int] = {}    # id(RawTable) -> page of its heading row
         for page_no, page in enumerate(pages, start=1):
             try:
                 page_tables, has_text, page_note = _read_page(page, page_no, strategy,
@@ -97,30 +124,29 @@ def read_pdf_tables(path, *, strategy: str = "auto", max_pages: int | None = Non
             pages_with_text += bool(has_text)
             if page_note:
                 notes.append(page_note)
-            got_rows = False
+            if not page_tables:
+                prev = None             # a continuation must follow its table directly
+                if has_text and not page_note:
+                    notes.append(f"page {page_no}: no schedule table, skipped")
+                elif salvaged and not has_text and page_no not in failed:
+                    notes[-1] = (f"page {page_no}: nothing to read (its content was lost in the "
+                                 f"damaged file), skipped")
+                continue
             for pt in page_tables:
                 notes.extend(pt.notes)
                 if pt.headings is None:
-                    if current is None:
-                        continue
                     notes.append(f"page {page_no}: no heading row; read as a continuation of "
-                                 f"the table from page {_first_page(current)}")
-                elif current is None or not _same_headings(current.headings, pt.headings) \
-                        or len(current.headings) != len(pt.headings):
+                                 f"the table from page {started[id(current)]}")
+                elif (current is None or len(current.headings) != len(pt.headings)
+                      or not _same_headings(current.headings, pt.headings)):
                     current = RawTable(file=name, sheet=None, headings=list(pt.headings),
                                        rows=[], pages=[], row_numbers=[])
                     tables.append(current)
+                    started[id(current)] = page_no
                 current.rows.extend(pt.rows)
                 current.pages.extend([page_no] * len(pt.rows))
                 current.row_numbers.extend(pt.row_numbers)
-                got_rows = got_rows or bool(pt.rows)
                 prev = pt.layout
-            if not page_tables:
-                if has_text and not page_note:
-                    notes.append(f"page {page_no}: no schedule table, skipped")
-                prev = prev if page_tables else None
-            elif not got_rows and all(pt.headings is None for pt in page_tables):
-                notes.append(f"page {page_no}: no schedule table, skipped")
     finally:
         try:
             pdf.close()
@@ -141,8 +167,8 @@ def read_pdf_tables(path, *, strategy: str = "auto", max_pages: int | None = Non
             + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
     for t in tables:
         if not t.rows:
-            notes.append(f"table with headings {', '.join(repr(h) for h in t.headings[:4])}"
-                         f"... on page {_first_page(t) or '?'} has no rows")
+            notes.append(f"page {started[id(t)]}: the table headed "
+                         f"{', '.join(repr(h) for h in t.headings[:3])} ... has no rows")
     return tables, notes
 
 
@@ -151,20 +177,18 @@ def read_pdf_tables(path, *, strategy: str = "auto", max_pages: int | None = Non
 
 def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bool],
                prev: Layout | None) -> tuple[list[PageTable], bool, str | None]:
-    chars = page.chars
-    if not chars:
-        if page.images:
+    content = page_content(page)
+    if not content.chars:
+        if content.images:
             return [], False, (f"page {page_no}: no text layer (a scanned image?); reading "
                                f"scans (OCR) is out of scope, skipped")
-        if page.curves or page.rects or page.lines:
+        if content.drawings:
             return [], False, (f"page {page_no}: no text to read (drawing only, or text drawn "
                                f"as outlines), skipped")
         return [], False, f"page {page_no}: blank, skipped"
-    rotation = text_direction(chars)
-    edges = page.edges if strategy != "text" else []
-    nh = sum(1 for e in edges if e["orientation"] == "h")
-    nv = len(edges) - nh
-    if strategy in ("auto", "lines") and rotation == 0 and nh >= 2 and nv >= 2:
+    rotation = text_direction(content.chars)
+    ruled = len(content.hsegs) >= 2 and len(content.vsegs) >= 2
+    if strategy in ("auto", "lines") and rotation == 0 and ruled:
         from checker.ingest.pdf_ruled import find_ruled_tables
 
         found = find_ruled_tables(page, page_no, is_heading, prev)
@@ -175,10 +199,10 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
 
     from checker.ingest.pdf_unruled import find_text_tables
 
-    w, h = float(page.width), float(page.height)
-    glyphs = glyphs_from_chars(chars, rotation, w, h)
+    w, h = content.width, content.height
+    glyphs = glyphs_from_chars(content.chars, rotation, w, h)
     lines, _ = build_lines(glyphs)
-    hrules, vrules = _rules(edges, rotation, w, h) if strategy == "auto" else ([], [])
+    hrules, vrules = _rules(content, rotation) if strategy == "auto" else ([], [])
     if prev is not None and prev.rotation != rotation:
         prev = None
     found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules, prev=prev,
@@ -186,37 +210,23 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
     return found, True, None
 
 
-def _rules(edges, rotation: int, w: float, h: float):
-    """Page edges -> (horizontal rules (x0, x1, y), vertical rules (x, top, bottom)) in the
-    reading frame of the text."""
-    hr, vr = [], []
-    for e in edges:
-        horizontal = e["orientation"] == "h"
-        if rotation == 0:
-            if horizontal:
-                hr.append((e["x0"], e["x1"], e["top"]))
-            else:
-                vr.append((e["x0"], e["top"], e["bottom"]))
-        elif rotation == 90:        # frame x = h - top, frame y = x
-            if horizontal:
-                vr.append((h - e["top"], e["x0"], e["x1"]))
-            else:
-                hr.append((h - e["bottom"], h - e["top"], e["x0"]))
-        else:                       # 270: frame x = top, frame y = w - x
-            if horizontal:
-                vr.append((e["top"], w - e["x1"], w - e["x0"]))
-            else:
-                hr.append((e["top"], e["bottom"], w - e["x0"]))
-    return hr, vr
+def _rules(content, rotation: int):
+    """The page's rules -> (horizontal rules (x0, x1, y), vertical rules (x, top, bottom)) in
+    the reading frame of the text."""
+    if rotation == 0:
+        return list(content.hsegs), list(content.vsegs)
+    w, h = content.width, content.height
+    if rotation == 90:          # frame x = h - top, frame y = x
+        return ([(h - b, h - t, x) for x, t, b in content.vsegs],
+                [(h - y, x0, x1) for x0, x1, y in content.hsegs])
+    # 270: frame x = top, frame y = w - x
+    return ([(t, b, w - x) for x, t, b in content.vsegs],
+            [(y, w - x1, w - x0) for x0, x1, y in content.hsegs])
 
 
 def _same_headings(a: list[str], b: list[str]) -> bool:
     norm = lambda xs: [" ".join(x.lower().split()) for x in xs]  # noqa: E731
     return norm(a) == norm(b)
-
-
-def _first_page(t: RawTable) -> int | None:
-    return next((p for p in t.pages if p is not None), None)
 
 
 def _check_file(name: str) -> None:
@@ -237,10 +247,11 @@ def _check_file(name: str) -> None:
 
 
 def _open(name: str):
+    """(pdfplumber PDF, reason it was salvaged or None)."""
     import pdfplumber
 
     try:
-        return pdfplumber.open(name)
+        return pdfplumber.open(name), None
     except Exception as exc:
         cause = _cause(exc)
         kind = type(cause).__name__
@@ -253,7 +264,59 @@ def _open(name: str):
             raise IngestError(
                 f"{name} is encrypted in a way that cannot be read ({cause or kind}); ask for an "
                 f"unprotected copy or the schedule as CSV/XLSX.") from None
+        salvaged = _salvage(name)
+        if salvaged is not None:
+            try:
+                pdf = pdfplumber.open(salvaged)
+                if len(pdf.pages):
+                    return pdf, _reason(exc)
+                pdf.close()
+            except Exception:
+                pass
         raise IngestError(_damaged(name, exc)) from None
+
+
+_OBJ = re.compile(rb"(\d+)\s+(\d+)\s+obj\b")
+
+
+def _salvage(name: str) -> io.BytesIO | None:
+    """A damaged or truncated PDF made readable, as far as it goes: the file is cut after its
+    last complete object and given a trailer (and a new page tree when the catalog was lost), so
+    the pages whose content survived can still be read."""
+    try:
+        with open(name, "rb") as fh:
+            data = fh.read()
+    except OSError:
+        return None
+    end = data.rfind(b"endobj")
+    if end < 0:
+        return None
+    body = data[: end + len(b"endobj")]
+    starts = [(m.start(), int(m.group(1))) for m in _OBJ.finditer(body)]
+    if not starts:
+        return None
+    catalog = None
+    page_objs = []
+    for k, (pos, num) in enumerate(starts):
+        stop = starts[k + 1][0] if k + 1 < len(starts) else len(body)
+        head = body[pos: min(stop, pos + 4000)]
+        head = head.split(b"stream", 1)[0]
+        if re.search(rb"/Type\s*/Catalog\b", head):
+            catalog = num
+        elif re.search(rb"/Type\s*/Page(?![a-zA-Z])", head):
+            page_objs.append(num)
+    top = max(n for _, n in starts)
+    extra = b""
+    if catalog is None:
+        if not page_objs:
+            return None
+        kids = " ".join(f"{n} 0 R" for n in page_objs)
+        extra = (f"\n{top + 1} 0 obj\n<< /Type /Pages /Kids [{kids}] /Count {len(page_objs)} >>"
+                 f"\nendobj\n{top + 2} 0 obj\n<< /Type /Catalog /Pages {top + 1} 0 R >>\nendobj"
+                 ).encode()
+        catalog = top + 2
+    trailer = f"\ntrailer\n<< /Root {catalog} 0 R /Size {top + 3} >>\n%%EOF\n".encode()
+    return io.BytesIO(body + extra + trailer)
 
 
 def _cause(exc: BaseException) -> BaseException:
