@@ -305,3 +305,15 @@ def test_rotating_90_swaps_x_and_y(piles, l, d, N, mx, my):
     Hyr = st.pile_node_force(Yr, Rr, m, [N], [d])
     assert np.allclose(Hxr[m], -Hy[m], rtol=1e-9, atol=1e-6 * N)
     assert np.allclose(Hyr[m], Hx[m], rtol=1e-9, atol=1e-6 * N)
+
+
+def test_tension_across_centreline(tol):
+    # 4 piles: both x-ties cross x = 0 → 2T (O5: 2000 kN per direction); 3 piles, y: the top
+    # pile's N l/(3√3 d) is the whole tension across y = 0 (the two bottom piles balance it)
+    X, Y, m, Hx, Hy = truss(4, 1800, 900, 4000e3)
+    tol.printed(st.tension_across_centreline(Hx, X, m) / 1e3, "2000.00")
+    X, Y, m, Hx, Hy = truss(3, 1800, 900, 3000e3)
+    tol.same(st.tension_across_centreline(Hy, Y, m), [3000e3 * 1800 / (3 * np.sqrt(3) * 900)])
+    tol.same(st.tension_across_centreline(Hx, X, m), [3000e3 * 1800 / (6 * 900)])
+    X, Y, m, Hx, Hy = truss(1, 1800, 900, 3000e3)
+    assert np.isnan(st.tension_across_centreline(Hx, X, m)[0])

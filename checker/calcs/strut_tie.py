@@ -186,6 +186,31 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, spacing_le_3phi, pile_dia,
             "rows": rows, "t_total": t_total}
 
 
+def tension_across_centreline(H, coord, mask, tol=1.0):
+    """Derived: total tie tension across the column centreline of one direction
+
+    The larger of Σ H_i over the piles on the + side and −Σ H_i over those on the − side [D].
+    For groups whose rows each hold piles on both sides (2, 4, 5, 6 piles) it equals the sum of
+    the row forces; for rows holding a single pile (the y-direction of a 3-pile cap) it is the
+    tension the layer as a whole must carry, which the row-by-row check counts more than once.
+    With applied moments the node forces measured from the column centre do not sum to zero
+    (the difference is M/z); the larger side is taken.
+
+    Args:
+        H: horizontal node forces along the direction (n, m) [N]
+        coord: pile coordinates along the direction (n, m) [mm]
+        mask: real piles (n, m) [-]
+        tol: piles within tol of the centreline count on neither side [mm]
+
+    Returns:
+        tension across the centreline (n,) [N]; NaN where no pile is off the centreline
+    """
+    pos = mask & (coord > tol)
+    neg = mask & (coord < -tol)
+    t = np.maximum(np.sum(np.where(pos, H, 0.0), axis=1), -np.sum(np.where(neg, H, 0.0), axis=1))
+    return np.where((pos | neg).any(axis=1), t, np.nan)
+
+
 def resolve_onto_ties(hx, hy, u1x, u1y, u2x, u2y):
     """Derived: resolve a node's outward horizontal force onto two ties meeting at the node
 

@@ -257,10 +257,13 @@ def _derive_block(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nda
         q[f"util_tie_{k}"] = t["util"]
         q[f"tie_rows_{k}"] = t["rows"]
         q[f"tie_total_{k}"] = t["t_total"]
+    q["tie_cut_x"] = st.tension_across_centreline(Hx, X, mask)
+    q["tie_cut_y"] = st.tension_across_centreline(Hy, Y, mask)
     three = npile == 3
     if X.shape[1] >= 3:
         sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
         q["tie_side_3"] = np.where(three & mask[:, :3].all(axis=1), np.max(sides, axis=1), np.nan)
+        q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
 
     z = np.fmin(d_x, d_y)
     theta = st.strut_angle(r, z[:, None])
