@@ -282,7 +282,7 @@ PARSERS = {
 
 
 @pytest.mark.parametrize("name", sorted(PARSERS))
-@settings(max_examples=250, deadline=None)
+@settings(max_examples=150, deadline=None)
 @given(text=_texts)
 def test_random_text_never_crashes(name, text):
     try:

@@ -429,7 +429,7 @@ def match_heading(heading: str, vocabulary: str = "schedule",
         return None, None, 1.0, "", ""
     kind = fields[name]
     note = ""
-    if kind == "force" and how != "mapping file":
+    if kind == "force" and how not in ("mapping file", "canonical name"):
         if "sls" in words:
             return None, None, 1.0, "", (f"heading {heading!r} looks like a serviceability load; capcheck "
                                          "reads ULS values (map it in a mapping file if it is ULS)")
