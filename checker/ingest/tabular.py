@@ -55,16 +55,13 @@ def _n_empty(row: list[Any]) -> int:
 
 def _blank_row(row: Sequence[Any]) -> bool:
     for v in row:                      # a data row returns at its first cell
-        if v is None or v == "" or (isinstance(v, str) and not v.strip()):
-            continue
-        return False
+        if not _is_blank_cell(v):
+            return False
     return True
 
 
 def _filled(row: Sequence[Any]) -> list[int]:
     return [i for i, v in enumerate(row) if not _is_blank_cell(v)]
-
-
 
 
 def _is_figure(v: Any) -> bool:
