@@ -169,7 +169,7 @@ def spacing_min(X, Y, mask):
     dx = X[:, i] - X[:, j]
     dy = Y[:, i] - Y[:, j]
     d2 = np.where(mask[:, i] & mask[:, j], dx * dx + dy * dy, np.inf)
-    return np.sqrt(_nan_if_inf(np.min(d2, axis=1)))
+    return np.sqrt(_nan_if_inf(np.min(d2, axis=1, initial=np.inf)))
 
 
 def edge_distances(X, Y, mask, cap_length, cap_width, pile_dia):

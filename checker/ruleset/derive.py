@@ -12,6 +12,18 @@ Conventions used here (all stated in the working by the report writers):
   punching checks use the column load alone and its share of the reactions.
 * Tie forces use the truss of the brief (top node at the column centre unless
   ``tie_node="column-width"``), lever arm = d of the tie's layer.
+* ``tie_x``, ``as_req_x``, ``as_tie_x`` and ``util_tie_x`` all belong to the governing tie row
+  (the largest T_row/(fyd As_row)); ``av_x`` is taken as at least 0.5d (``av_geom_x`` is the
+  distance itself).
+
+Beyond the names the rule files rely on, the working can use: ``n_total`` (N + self-weight),
+``table_class``, ``fctk_005``, ``n_bars_x/y`` (bars counted, from the count or the centres),
+``as_max_x/y`` (0.04 W h, 0.04 L h; ``as_max`` is the smaller), ``tie_total_x/y`` (sum of the
+row forces), ``tie_cut_x/y`` (tension across the column centreline), ``tie_side_3`` and
+``as_req_side_3`` (3-pile triangle side ties), ``pile_dia_design``, ``k_x/y``,
+``util_shear_x/y``, ``b_enh_x/y``, ``av_geom_x/y``, ``ved_red``, ``rho_punch``, ``fbd_x/y``,
+``lb_rqd_x/y``, ``m_face_y``, ``as_bend_y``, ``column_round``. Per-pile arrays are in
+``Derived.piles`` and ``stated_diff_what`` (the figure that differs most) in ``Derived.text``.
 """
 
 from __future__ import annotations
@@ -106,11 +118,6 @@ def _pget(params: dict, name: str):
     return params.get(name, DEFAULTS[name])
 
 
-#: Caps worked at a time (rows, never single caps): bounds the memory held by the (n, m)
-#: temporaries on very long schedules; the speed is the same either way (measured).
-BLOCK = 32768
-
-
 def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
            params: dict[str, float | str] | None = None) -> Derived:
     """Compute every quantity for every cap of a canonical schedule frame.
@@ -123,29 +130,14 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
     Returns:
         :class:`Derived`
     """
-    p = dict(params or {})
     caps = caps.reset_index(drop=True)
     X, Y, mask = geo.pile_arrays(caps, coords)
-    n = len(caps)
-    parts = [_derive_block(caps.iloc[i:i + BLOCK].reset_index(drop=True),
-                           np.asfortranarray(X[i:i + BLOCK]), np.asfortranarray(Y[i:i + BLOCK]),
-                           np.asfortranarray(mask[i:i + BLOCK]), p)
-             for i in range(0, max(n, 1), BLOCK)]
-    if len(parts) == 1:
-        return parts[0]
-    first = parts[0]
-    return Derived(
-        q={k: np.concatenate([pt.q[k] for pt in parts]) for k in first.q},
-        X=X, Y=Y, mask=mask,
-        piles={k: np.asfortranarray(np.concatenate([pt.piles[k] for pt in parts]))
-               for k in first.piles},
-        text={k: np.concatenate([pt.text[k] for pt in parts]) for k in first.text},
-    )
+    return _derive_block(caps, X, Y, mask, dict(params or {}))
 
 
 def _derive_block(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
                   p: dict) -> Derived:
-    """derive() for one block of rows, with its pile arrays already built."""
+    """derive() with the pile arrays already built (F-ordered (n, m) arrays)."""
     n = len(caps)
     f = {name: _num(caps, name, n) for name in INPUT_QUANTITIES}
     gamma_c = float(_pget(p, "gamma_c"))
@@ -260,10 +252,11 @@ def _derive_block(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nda
     q["tie_cut_x"] = st.tension_across_centreline(Hx, X, mask)
     q["tie_cut_y"] = st.tension_across_centreline(Hy, Y, mask)
     three = npile == 3
-    if X.shape[1] >= 3:
+    q["tie_side_3"] = np.full(n, np.nan)
+    if X.shape[1] >= 3:  # the array width, not a value of any cap
         sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
         q["tie_side_3"] = np.where(three & mask[:, :3].all(axis=1), np.max(sides, axis=1), np.nan)
-        q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
+    q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
 
     z = np.fmin(d_x, d_y)
     theta = st.strut_angle(r, z[:, None])
