@@ -132,10 +132,10 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
     """
     caps = caps.reset_index(drop=True)
     X, Y, mask = geo.pile_arrays(caps, coords)
-    return _derive_block(caps, X, Y, mask, dict(params or {}))
+    return _derive_arrays(caps, X, Y, mask, dict(params or {}))
 
 
-def _derive_block(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
+def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
                   p: dict) -> Derived:
     """derive() with the pile arrays already built (F-ordered (n, m) arrays)."""
     n = len(caps)
