@@ -350,8 +350,8 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
     if not path.exists():
         raise PreviousSheetError(f"previous comment sheet {path} not found")
     try:
-        wb = openpyxl.load_workbook(path, data_only=True)
-        wb_formulas = openpyxl.load_workbook(path, data_only=False)
+        # read-only: only the sheets read here are parsed (not the long "All checks" record)
+        wb = openpyxl.load_workbook(path, data_only=False, read_only=True)
     except Exception as exc:  # zipfile.BadZipFile, KeyError, InvalidFileException ...
         raise PreviousSheetError(
             f"{path}: cannot be read as an XLSX workbook, so it is not a capcheck comment sheet "
@@ -377,16 +377,21 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
 
         comments: dict[str, PreviousComment] = {}
         extra: list[PreviousComment] = []
-        ws_f = wb_formulas[ws.title]
-        for r_idx, (row, row_f) in enumerate(
-            zip(ws.iter_rows(min_row=header_row + 1, values_only=True),
-                ws_f.iter_rows(min_row=header_row + 1, values_only=True)),
-            start=header_row + 1,
-        ):
-            # A cell typed as a formula and saved without a cached value (openpyxl, some tools)
-            # reads as None in value mode: keep its formula text rather than lose it.
-            row = tuple(v if v is not None else (row_f[i] if i < len(row_f) else None)
-                        for i, v in enumerate(row))
+        rows = list(ws.iter_rows(min_row=header_row + 1, values_only=True))
+        if any(isinstance(v, str) and v.startswith("=") for row in rows for v in row):
+            # Something a person typed may be a formula: take the value a spreadsheet program
+            # saved with it, and where none was saved (openpyxl, some tools) keep the formula text
+            # rather than lose it.
+            wb_values = openpyxl.load_workbook(path, data_only=True, read_only=True)
+            try:
+                values = list(wb_values[ws.title].iter_rows(min_row=header_row + 1, values_only=True))
+            finally:
+                wb_values.close()
+            rows = [
+                tuple(v if (i >= len(rv) or rv[i] is None) else rv[i] for i, v in enumerate(row))
+                for row, rv in zip(rows, values)
+            ]
+        for r_idx, row in enumerate(rows, start=header_row + 1):
             if not any(v not in (None, "") for v in row):
                 continue
             where = f"{path}, sheet '{ws.title}', row {r_idx}"
@@ -453,7 +458,6 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
         )
     finally:
         wb.close()
-        wb_formulas.close()
 
 
 # --------------------------------------------------------------------------------------------

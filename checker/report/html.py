@@ -39,12 +39,16 @@ from checker.report.comments import (
     format_number,
     found_text,
 )
-from checker.report.svg import cap_sketch, targets_of
+from checker.report.svg import geometry_from_row, plan_svg, targets_of
 from checker.report.writefile import write_atomic
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
     from checker.revision import RevisionResult
+
+
+# A report is read and printed cap by cap; beyond this many caps only the worst get a page each.
+HTML_MAX_CAP_SECTIONS = 1000
 
 
 def _css() -> str:
@@ -126,23 +130,31 @@ def _anchor(mark: str, used: dict[str, str]) -> str:
 
 
 def _cap_order(review: "Review") -> list[str]:
+    """Marks in schedule order, then any mark that only the findings name."""
     marks: list[str] = []
-    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
-        marks = [str(m) for m in review.caps["mark"]]
-    if len(review.findings):
-        for m in review.findings["cap"].astype(str):
-            if m not in marks:
-                marks.append(m)
     seen: set[str] = set()
-    return [m for m in marks if not (m in seen or seen.add(m))]
+    sources = []
+    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
+        sources.append(review.caps["mark"].astype(str))
+    if len(review.findings):
+        sources.append(review.findings["cap"].astype(str).drop_duplicates())
+    for col in sources:
+        for m in col:
+            if m not in seen:
+                seen.add(m)
+                marks.append(m)
+    return marks
 
 
-def _cap_row(review: "Review", mark: str) -> dict[str, Any]:
+def _cap_rows(review: "Review") -> dict[str, dict[str, Any]]:
+    """Schedule row per mark (the first, if a mark repeats), built once."""
     caps = review.caps
-    if caps is None or "mark" not in getattr(caps, "columns", ()):
+    if caps is None or "mark" not in getattr(caps, "columns", ()) or len(caps) == 0:
         return {}
-    sel = caps[caps["mark"].astype(str) == mark]
-    return sel.iloc[0].to_dict() if len(sel) else {}
+    out: dict[str, dict[str, Any]] = {}
+    for rec in caps.to_dict("records"):
+        out.setdefault(str(rec["mark"]), rec)
+    return out
 
 
 def _fmt(v: Any, unit: str = "") -> str:
@@ -188,16 +200,14 @@ def _highlight_caption(rows: list[dict[str, Any]]) -> str:
     return "Highlighted: " + "; ".join(dict.fromkeys(parts)) + "."
 
 
-def _cap_section(review: "Review", mark: str, anchor: str, worst: str,
-                 by_key: dict[str, Comment]) -> str:
-    f = review.findings
-    rows = sort_findings(f[f["cap"].astype(str) == mark]).to_dict("records") if len(f) else []
-    info = _cap_row(review, mark)
+def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: list[dict[str, Any]],
+                 info: dict[str, Any], by_key: dict[str, Comment], carried: list[Comment]) -> str:
     out = [f'<section class="cap" id="{anchor}" data-cap="{escape(mark, quote=True)}">']
     out.append(f"<h2>Cap {escape(mark)} {_sev(worst) if worst else ''}</h2>")
     out.append('<div class="cap-body">')
     out.append('<figure class="sketch">')
-    out.append(cap_sketch(review, mark, rows))
+    xy = review.pile_xy.get(mark) if review.pile_xy else None
+    out.append(plan_svg(geometry_from_row(mark, info, xy), rows))
     out.append(
         "<figcaption>Plan, drawn to scale from the submitted geometry; dimensions in mm; x along L, "
         f"y along W. {_highlight_caption(rows)}</figcaption>"
@@ -249,7 +259,6 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str,
     else:
         out.append("<p>No results for this cap.</p>")
     # comments carried from a previous revision whose finding is no longer reported
-    carried = [c for c in by_key.values() if c.cap == mark and c.state != "present"]
     if carried:
         out.append("<h3>Comments carried from the previous revision</h3>")
         out.append('<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
@@ -296,9 +305,25 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     f = review.findings
     counts = count_by_severity(f) if len(f) else {s: 0 for s in SEVERITY_ORDER if s != "ok"}
     n_ok = int((f["severity"] == "ok").sum()) if len(f) else 0
-    worst = worst_by_cap(f).to_dict() if len(f) else {}
+    worst = worst_by_cap(f.assign(cap=f["cap"].astype(str))).to_dict() if len(f) else {}
     marks = _cap_order(review)
     by_key = {c.key: c for c in comments if c.key}
+    infos = _cap_rows(review)
+    rows_by_cap: dict[str, list[dict[str, Any]]] = {}
+    if len(f):
+        for rec in sort_findings(f).to_dict("records"):
+            rows_by_cap.setdefault(str(rec["cap"]), []).append(rec)
+    carried_by_cap: dict[str, list[Comment]] = {}
+    for c in comments:
+        if c.key and c.state != "present":
+            carried_by_cap.setdefault(c.cap, []).append(c)
+    rank = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+    if len(marks) > HTML_MAX_CAP_SECTIONS:
+        order = sorted(range(len(marks)), key=lambda i: (rank.get(worst.get(marks[i], "ok"), 9), i))
+        keep = set(sorted(order[:HTML_MAX_CAP_SECTIONS]))
+        detailed = [m for i, m in enumerate(marks) if i in keep]
+    else:
+        detailed = marks
     anchors: dict[str, str] = {}
     title = f"Pile cap check report: {meta.get('submission', '')}"
 
@@ -343,24 +368,34 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
              "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
              + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
              + "</tr></thead><tbody>")
+    detailed_set = set(detailed)
     for m in marks:
         a = _anchor(m, anchors)
-        info = _cap_row(review, m)
-        per = f[f["cap"].astype(str) == m]["severity"].value_counts() if len(f) else {}
+        info = infos.get(m, {})
+        per: dict[str, int] = {}
+        for rec in rows_by_cap.get(m, []):
+            per[str(rec["severity"])] = per.get(str(rec["severity"]), 0) + 1
         w = worst.get(m, "")
+        link = f'<a href="#{a}">{escape(m)}</a>' if m in detailed_set else escape(m)
         h.append(
-            f'<tr data-cap="{escape(m, quote=True)}"><td><a href="#{a}">{escape(m)}</a></td>'
+            f'<tr data-cap="{escape(m, quote=True)}"><td>{link}</td>'
             f'<td class="num">{_fmt(info.get("piles"))}</td>'
             f'<td>{" × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth"))}</td>'
             f'<td class="sev sev-{escape(w)}">{escape(w) or "–"}</td>'
-            + "".join(f'<td class="num">{int(per.get(s, 0)) if len(per) else 0}</td>'
+            + "".join(f'<td class="num">{per.get(s, 0)}</td>'
                       for s in SEVERITY_ORDER if s != "ok")
             + "</tr>"
         )
-    h.append("</tbody></table></nav></section>")
+    h.append("</tbody></table></nav>")
+    if len(detailed) < len(marks):
+        h.append(f'<p class="note">Sketches, results and working are given below for {len(detailed):,} of '
+                 f"{len(marks):,} caps, worst first; every cap is in the table above and every comment "
+                 f"is on the comment sheet.</p>")
+    h.append("</section>")
 
-    for m in marks:
-        h.append(_cap_section(review, m, _anchor(m, anchors), worst.get(m, ""), by_key))
+    for m in detailed:
+        h.append(_cap_section(review, m, _anchor(m, anchors), worst.get(m, ""), rows_by_cap.get(m, []),
+                              infos.get(m, {}), by_key, carried_by_cap.get(m, [])))
 
     gone = [c for c in comments if c.key and c.cap not in set(marks)]
     manual = [c for c in comments if not c.key]

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
+from copy import copy
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Iterable
 
@@ -90,6 +91,9 @@ ALL_CHECKS_WIDTHS = (10, 18, 26, 14, 16, 10, 10, 7, 11, 48, 36, 14, 10)
 REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Reasons")
 REJECTED_WIDTHS = (30, 14, 7, 7, 80)
 
+ALL_CHECKS_MAX_ROWS = 100_000   # beyond this the sheet keeps the worst results and says so (XLSX
+                                # holds 1,048,576 rows; a sheet this long is a record, not a read)
+EXCEL_MAX_ROWS = 1_048_576
 SPARE_ROWS = 200          # drop-down and greying also cover rows a person adds below the comments
 HEADER_ROW = 2            # row 1 carries the caution on every table sheet
 FIRST_DATA_ROW = HEADER_ROW + 1
@@ -123,6 +127,36 @@ def _put(ws: Worksheet, row: int, column: int, value: Any):
     if isinstance(value, str) and value.startswith("="):
         c.data_type = "s"
     return c
+
+
+class _Styles:
+    """Cell styles by name, set the slow way once per workbook and then copied as a style array
+    (assigning Font/Fill objects to every cell costs a hash per cell and dominates large sheets)."""
+
+    def __init__(self) -> None:
+        self._cache: dict[str, Any] = {}
+
+    def apply(self, cell, name: str) -> None:
+        arr = self._cache.get(name)
+        if arr is not None:
+            cell._style = copy(arr)
+            return
+        body = name.split(":")
+        cell.alignment = _WRAP_TOP
+        cell.border = _BORDER
+        cell.font = _BODY_FONT
+        for part in body[1:]:
+            if part.startswith("sev="):
+                sev = part[4:]
+                fill = severity_fill(sev)
+                if fill is not None:
+                    cell.fill = fill
+                    cell.font = severity_font(sev)
+            elif part == "key":
+                cell.font = Font(size=7, color="595959")
+            elif part.startswith("fmt="):
+                cell.number_format = part[4:]
+        self._cache[name] = copy(cell._style)
 
 
 def _hf_escape(text: str) -> str:
@@ -314,6 +348,11 @@ def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[
 
 def _comments_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) -> None:
     ws.title = COMMENTS_SHEET
+    if len(comments) + FIRST_DATA_ROW - 1 > EXCEL_MAX_ROWS:
+        raise ValueError(
+            f"{len(comments):,} comments do not fit on one XLSX sheet ({EXCEL_MAX_ROWS:,} rows); "
+            f"write the comments as CSV (-o NAME.csv) or check the schedule in parts"
+        )
     widths = [COMMENT_WIDTHS[h] for h in COMMENT_HEADINGS]
     ncols = len(COMMENT_HEADINGS)
     _caution_row(ws, ncols, widths)
@@ -322,19 +361,14 @@ def _comments_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]
     key_col = COMMENT_HEADINGS.index("Key") + 1
     status_col = COMMENT_HEADINGS.index("Checker status") + 1
     row = FIRST_DATA_ROW
+    styles = _Styles()
+    names = ["body"] * ncols
+    names[key_col - 1] = "body:key"
     for cm in comments:
         values = cm.cells()
+        names[sev_col - 1] = f"body:sev={cm.severity}"
         for col, v in enumerate(values, start=1):
-            c = _put(ws, row, col, v)
-            c.alignment = _WRAP_TOP
-            c.border = _BORDER
-            c.font = _BODY_FONT
-        sev = ws.cell(row=row, column=sev_col)
-        fill = severity_fill(cm.severity)
-        if fill is not None:
-            sev.fill = fill
-            sev.font = severity_font(cm.severity)
-        ws.cell(row=row, column=key_col).font = Font(size=7, color="595959")
+            styles.apply(_put(ws, row, col, v), names[col - 1])
         _fit_row_height(ws, row, values, widths, line_height=12.0)
         row += 1
     last = row - 1
@@ -372,6 +406,18 @@ def _all_checks_sheet(ws: Worksheet, review: "Review", meta: dict[str, Any]) -> 
     row = FIRST_DATA_ROW
     frame = sort_findings(review.findings) if len(review.findings) else review.findings
     sev_col = ALL_CHECKS_HEADINGS.index("Severity") + 1
+    styles = _Styles()
+    names = ["body"] * ncols
+    names[5] = names[6] = "body:fmt=0.0"
+    names[8] = "body:fmt=0.00"
+    names[ncols - 1] = "body:key"
+    total = len(frame)
+    if total > ALL_CHECKS_MAX_ROWS:
+        frame = frame.iloc[:ALL_CHECKS_MAX_ROWS]
+        note = (f"This sheet lists the first {ALL_CHECKS_MAX_ROWS:,} of {total:,} results, worst first "
+                f"(every comment is on the Comments sheet); the complete record of every result is in the "
+                f"JSON output (-o NAME.json).")
+        ws.cell(row=1, column=1).value = f"{note} Caution: {CAUTION}"
     for r in frame.to_dict("records"):
         cap, rule = str(r["cap"]), str(r["rule"])
         values = [
@@ -381,21 +427,9 @@ def _all_checks_sheet(ws: Worksheet, review: "Review", meta: dict[str, Any]) -> 
             str(r.get("action") or "") if str(r.get("action") or "") != "nan" else "",
             describe_source(source_of(r)), comment_key(cap, rule),
         ]
+        names[sev_col - 1] = f"body:sev={r['severity']}"
         for col, v in enumerate(values, start=1):
-            c = _put(ws, row, col, v)
-            c.alignment = _WRAP_TOP
-            c.border = _BORDER
-            c.font = _BODY_FONT
-            if col in (6, 7):
-                c.number_format = "0.0"
-            elif col == 9:
-                c.number_format = "0.00"
-        sev = ws.cell(row=row, column=sev_col)
-        fill = severity_fill(str(r["severity"]))
-        if fill is not None:
-            sev.fill = fill
-            sev.font = severity_font(str(r["severity"]))
-        ws.cell(row=row, column=ncols).font = Font(size=7, color="595959")
+            styles.apply(_put(ws, row, col, v), names[col - 1])
         _fit_row_height(ws, row, values, ALL_CHECKS_WIDTHS)
         row += 1
     ws.auto_filter.ref = f"A{HEADER_ROW}:{get_column_letter(ncols)}{max(row - 1, HEADER_ROW)}"
@@ -407,15 +441,14 @@ def _rejected_sheet(ws: Worksheet, rejected: list[dict[str, Any]], meta: dict[st
     _caution_row(ws, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
     _table_header(ws, REJECTED_HEADINGS, REJECTED_WIDTHS)
     row = FIRST_DATA_ROW
+    styles = _Styles()
     for rej in rejected:
         src = rej.get("source") or {}
         errors = rej.get("errors") or []
         values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"),
                   "\n".join(str(e) for e in errors)]
         for col, v in enumerate(values, start=1):
-            c = _put(ws, row, col, v)
-            c.alignment = _WRAP_TOP
-            c.border = _BORDER
+            styles.apply(_put(ws, row, col, v), "body")
         _fit_row_height(ws, row, values, REJECTED_WIDTHS)
         row += 1
     ws.auto_filter.ref = f"A{HEADER_ROW}:{get_column_letter(len(REJECTED_HEADINGS))}{max(row - 1, HEADER_ROW)}"
@@ -427,6 +460,7 @@ def _data_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) ->
     ws.sheet_state = "hidden"
     ws.append([DATA_MARKER, "revision", meta.get("revision", 1)])
     ws.append(list(DATA_COLUMNS))
+    r = 3
     for cm in comments:
         if not cm.key:
             continue
@@ -447,9 +481,9 @@ def _data_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) ->
             "basis_severity": cm.basis_severity if cm.status == "closed" else "",
             "basis_utilisation": _num(cm.basis_utilisation) if cm.status == "closed" else None,
         }
-        r = ws.max_row + 1
         for col, name in enumerate(DATA_COLUMNS, start=1):
             _put(ws, r, col, rec[name])
+        r += 1
 
 
 def build_workbook(review: "Review", comments: list[Comment], meta: dict[str, Any],

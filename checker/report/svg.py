@@ -83,27 +83,34 @@ def _f(v: Any) -> float:
     return f
 
 
-def cap_geometry(review: "Review", mark: str) -> CapGeometry:
+def geometry_from_row(mark: str, row: dict[str, Any] | None, xy: Any = None) -> CapGeometry:
+    """CapGeometry from one canonical schedule row (a dict) and that cap's pile centres."""
     g = CapGeometry(mark=mark)
-    caps = review.caps
-    if caps is not None and "mark" in getattr(caps, "columns", ()):
-        sel = caps[caps["mark"].astype(str) == str(mark)]
-        if len(sel):
-            row = sel.iloc[0]
-            g.length = _f(row.get("cap_length"))
-            g.width = _f(row.get("cap_width"))
-            g.depth = _f(row.get("cap_depth"))
-            g.pile_dia = _f(row.get("pile_dia"))
-            g.n_piles = _f(row.get("piles"))
-            g.column_x = _f(row.get("column_x"))
-            g.column_y = _f(row.get("column_y"))
-            rnd = row.get("column_round")
-            g.column_round = bool(rnd) if rnd is not None and not (isinstance(rnd, float) and math.isnan(rnd)) else False
-    xy = review.pile_xy.get(mark) if review.pile_xy else None
+    if row:
+        g.length = _f(row.get("cap_length"))
+        g.width = _f(row.get("cap_width"))
+        g.depth = _f(row.get("cap_depth"))
+        g.pile_dia = _f(row.get("pile_dia"))
+        g.n_piles = _f(row.get("piles"))
+        g.column_x = _f(row.get("column_x"))
+        g.column_y = _f(row.get("column_y"))
+        rnd = row.get("column_round")
+        g.column_round = bool(rnd) if rnd is not None and not (isinstance(rnd, float) and math.isnan(rnd)) else False
     if xy is not None:
         arr = np.asarray(xy, dtype=float).reshape(-1, 2)
         g.piles = arr[np.isfinite(arr).all(axis=1)]
     return g
+
+
+def cap_geometry(review: "Review", mark: str) -> CapGeometry:
+    row = None
+    caps = review.caps
+    if caps is not None and "mark" in getattr(caps, "columns", ()):
+        sel = caps[caps["mark"].astype(str) == str(mark)]
+        if len(sel):
+            row = sel.iloc[0].to_dict()
+    xy = review.pile_xy.get(mark) if review.pile_xy else None
+    return geometry_from_row(mark, row, xy)
 
 
 def _ok(v: float) -> bool:
