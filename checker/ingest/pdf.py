@@ -96,6 +96,7 @@ def _read(name: str, strategy: str, max_pages: int | None,
                 f"schedule; raise the limit (--max-pages {total}) if this really is the schedule")
         is_heading = heading_matcher()
         pages_with_text = 0
+        kinds: dict[str, int] = {}      # what the pages without text hold: image / drawing / blank
         failed: list[int] = []
         prev: Layout | None = None      # layout of the table read last, for a continuation
         current: RawTable | None = None
@@ -121,14 +122,16 @@ def _read(name: str, strategy: str, max_pages: int | None,
                         progress(page_no, total)
                     except Exception:
                         pass
-            pages_with_text += bool(has_text)
+            pages_with_text += has_text is True
+            if isinstance(has_text, str):
+                kinds[has_text] = kinds.get(has_text, 0) + 1
             if page_note:
                 notes.append(page_note)
             if not page_tables:
                 prev = None             # a continuation must follow its table directly
-                if has_text and not page_note:
+                if has_text is True and not page_note:
                     notes.append(f"page {page_no}: no schedule table, skipped")
-                elif salvaged and not has_text and page_no not in failed:
+                elif salvaged and has_text == "blank" and page_no not in failed:
                     notes[-1] = (f"page {page_no}: nothing to read (its content was lost in the "
                                  f"damaged file), skipped")
                 continue
@@ -155,7 +158,17 @@ def _read(name: str, strategy: str, max_pages: int | None,
 
     if not tables:
         if pages_with_text == 0 and not failed:
-            raise IngestError(_NO_TEXT.format(name=name))
+            if kinds.get("image"):
+                raise IngestError(_NO_TEXT.format(name=name))
+            if kinds.get("drawing"):
+                raise IngestError(
+                    f"{name} has no text to read: its pages hold only drawing (text converted to "
+                    f"outlines?). Reading such PDFs (OCR) is out of scope; ask for the PDF as "
+                    f"exported from the spreadsheet, or for the schedule as CSV/XLSX.")
+            raise IngestError(
+                f"{name} has no text to read: its pages are blank, or their content could not "
+                f"be decoded (a damaged file?). Ask for the file again, or for the schedule as "
+                f"CSV/XLSX.")
         if failed and pages_with_text == 0:
             raise IngestError(f"{name}: no page could be read (the PDF looks damaged); "
                               + "; ".join(notes[:3]))
@@ -176,16 +189,17 @@ def _read(name: str, strategy: str, max_pages: int | None,
 
 
 def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bool],
-               prev: Layout | None) -> tuple[list[PageTable], bool, str | None]:
+               prev: Layout | None) -> tuple[list[PageTable], bool | str, str | None]:
+    """(tables, True when the page has text else what it holds instead, note)."""
     content = page_content(page)
     if not content.chars:
         if content.images:
-            return [], False, (f"page {page_no}: no text layer (a scanned image?); reading "
-                               f"scans (OCR) is out of scope, skipped")
+            return [], "image", (f"page {page_no}: no text layer (a scanned image?); reading "
+                                 f"scans (OCR) is out of scope, skipped")
         if content.drawings:
-            return [], False, (f"page {page_no}: no text to read (drawing only, or text drawn "
-                               f"as outlines), skipped")
-        return [], False, f"page {page_no}: blank, skipped"
+            return [], "drawing", (f"page {page_no}: no text to read (drawing only, or text "
+                                   f"drawn as outlines), skipped")
+        return [], "blank", f"page {page_no}: blank, skipped"
     rotation = text_direction(content.chars)
     ruled = len(content.hsegs) >= 2 and len(content.vsegs) >= 2
     if strategy in ("auto", "lines") and rotation == 0 and ruled:

@@ -242,6 +242,8 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
                 break
         if accepted:
             diffs.append(ln.top - accepted[-1].top)
+        elif heading_top is not None:
+            diffs.append(ln.top - heading_top)     # the first row's pitch below the heading
         accepted.append(ln)
         idx += 1
     return accepted, idx

@@ -1,0 +1,291 @@
+"""PDF ingest (issue 4): every generated schedule PDF reads back, field by field, to its source.
+
+Two independent generators make the PDFs (see tests/pdfgen.py): reportlab, drawn by our own
+code, and LibreOffice headless converting an XLSX written with openpyxl (skipped with a reason
+when LibreOffice is not installed). The comparison is exact string equality of every heading and
+every cell, plus the page and the row number within that page's table of every row.
+"""
+
+from __future__ import annotations
+
+import csv
+import os
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+import pdfgen
+from checker.ingest.errors import IngestError
+from checker.ingest.pdf import read_pdf_tables
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLE_CSV = ROOT / "sample_submissions" / "harbourside-rev-A.csv"
+
+
+def assert_reads_as(tables, exp: pdfgen.Expected, *, provenance: bool = True) -> None:
+    """One table whose headings, cells, pages and row numbers equal the source, field by field."""
+    assert len(tables) == 1, [t.headings for t in tables]
+    t = tables[0]
+    assert t.file == str(exp.path)
+    assert t.sheet is None
+    assert t.headings == exp.headings
+    assert len(t.rows) == len(exp.rows), (len(t.rows), len(exp.rows))
+    for i, (got, want) in enumerate(zip(t.rows, exp.rows)):
+        assert len(got) == len(want), f"row {i + 1}: {len(got)} cells, want {len(want)}"
+        for heading, g, w in zip(exp.headings, got, want):
+            assert g == w, f"row {i + 1} ({want[0]}), column {heading!r}: read {g!r}, want {w!r}"
+    assert len(t.pages) == len(t.rows) == len(t.row_numbers)
+    if provenance:
+        assert t.pages == exp.pages
+        assert t.row_numbers == exp.row_numbers
+
+
+@pytest.fixture(scope="session")
+def rl_dir(tmp_path_factory):
+    return tmp_path_factory.mktemp("pdf_reportlab")
+
+
+@pytest.fixture(scope="session")
+def rl_case(rl_dir):
+    made: dict[str, pdfgen.Expected] = {}
+
+    def get(name: str) -> pdfgen.Expected:
+        if name not in made:
+            made[name] = pdfgen.reportlab_pdf(rl_dir / f"{name}.pdf", pdfgen.REPORTLAB_CASES[name])
+        return made[name]
+
+    return get
+
+
+# --------------------------------------------------------------------------------------------
+# reportlab: every case of the issue
+# --------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("case", sorted(pdfgen.REPORTLAB_CASES))
+def test_reportlab_case_reads_back_field_by_field(case, rl_case):
+    exp = rl_case(case)
+    tables, notes = read_pdf_tables(exp.path)
+    assert_reads_as(tables, exp)
+    # nothing doubtful in a clean document: only continuation notes are expected
+    assert all("continuation" in n for n in notes), notes
+
+
+@pytest.mark.parametrize("case", ["ruled", "multipage_ruled_not_repeated", "spanning_heading_ruled",
+                                  "title_notes_revision_ruled"])
+def test_forcing_lines_on_ruled_tables(case, rl_case):
+    exp = rl_case(case)
+    tables, _ = read_pdf_tables(exp.path, strategy="lines")
+    assert_reads_as(tables, exp)
+
+
+@pytest.mark.parametrize("case", ["ruled", "unruled", "hrules_only", "multipage_unruled_not_repeated",
+                                  "touching_cells", "spanning_heading_unruled"])
+def test_forcing_text_reads_from_whitespace_alone(case, rl_case):
+    exp = rl_case(case)
+    tables, _ = read_pdf_tables(exp.path, strategy="text")
+    assert_reads_as(tables, exp)
+
+
+def test_forcing_lines_on_an_unruled_page_finds_nothing_and_says_so(rl_case):
+    exp = rl_case("unruled")
+    with pytest.raises(IngestError, match="no schedule table found in .*unruled.pdf"):
+        read_pdf_tables(exp.path, strategy="lines")
+
+
+def test_unknown_strategy_is_a_clear_error(rl_case):
+    with pytest.raises(IngestError, match="unknown PDF reading strategy 'camelot'"):
+        read_pdf_tables(rl_case("ruled").path, strategy="camelot")
+
+
+def test_continuation_pages_are_reported_and_keep_their_provenance(rl_case):
+    exp = rl_case("multipage_unruled_not_repeated")
+    tables, notes = read_pdf_tables(exp.path)
+    t = tables[0]
+    assert sorted(set(t.pages)) == [1, 2, 3]
+    assert t.row_numbers[:3] == [1, 2, 3] and t.row_numbers[15] == 1   # restarts on page 2
+    assert "page 2: no heading row; read as a continuation of the table from page 1" in notes
+    assert "page 3: no heading row; read as a continuation of the table from page 1" in notes
+
+
+def test_title_block_notes_and_revision_box_are_not_read_as_caps(rl_case):
+    for case in ("title_notes_revision_unruled", "title_notes_ruled_revision_unruled_table",
+                 "title_notes_revision_ruled", "title_notes_hrules"):
+        tables, _ = read_pdf_tables(rl_case(case).path)
+        marks = [r[0] for r in tables[0].rows]
+        assert all(m.startswith("PC") for m in marks), (case, marks)
+
+
+def test_the_touching_case_really_has_touching_text(rl_case):
+    """Guard for the generator: the Depth and Column values of every row touch with no gap, so
+    a word-based reader sees one word such as '1200600x400'."""
+    import pdfplumber
+
+    exp = rl_case("touching_cells")
+    with pdfplumber.open(exp.path) as pdf:
+        words = [w["text"] for w in pdf.pages[0].extract_words(x_tolerance=0.5,
+                                                              keep_blank_chars=True)]
+    k = exp.headings.index("Depth")
+    merged = [r[k] + r[k + 1] for r in exp.rows]
+    assert sum(m in words for m in merged) == len(merged)
+
+
+def test_page_geometry_of_the_landscape_cases(rl_case):
+    import pdfplumber
+
+    with pdfplumber.open(rl_case("landscape_wide").path) as pdf:
+        assert pdf.pages[0].width > pdf.pages[0].height
+    with pdfplumber.open(rl_case("landscape_rotate_entry").path) as pdf:
+        assert pdf.pages[0].rotation == 90
+    with pdfplumber.open(rl_case("sideways_unruled").path) as pdf:
+        assert not any(c["upright"] for c in pdf.pages[0].chars)
+
+
+def test_progress_is_called_once_per_page(rl_case):
+    calls = []
+    read_pdf_tables(rl_case("multipage_ruled_repeated").path,
+                    progress=lambda done, total: calls.append((done, total)))
+    assert calls == [(1, 3), (2, 3), (3, 3)]
+
+
+def test_a_failing_progress_callback_does_not_stop_the_read(rl_case):
+    def boom(done, total):
+        raise RuntimeError("terminal closed")
+
+    tables, _ = read_pdf_tables(rl_case("unruled").path, progress=boom)
+    assert len(tables[0].rows) == 12
+
+
+def test_max_pages(rl_case):
+    path = rl_case("multipage_ruled_repeated").path
+    with pytest.raises(IngestError, match=r"has 3 pages, more than the limit of 2 .*--max-pages"):
+        read_pdf_tables(path, max_pages=2)
+    tables, _ = read_pdf_tables(path, max_pages=3)
+    assert len(tables[0].rows) == 40
+
+
+def test_path_objects_are_accepted_and_reported_as_given(rl_case):
+    exp = rl_case("ruled")
+    tables, _ = read_pdf_tables(Path(exp.path))
+    assert tables[0].file == str(exp.path)
+
+
+# CAPCHECK_PDF_EXAMPLES=300 for a longer search (the normal run stays quick)
+_settings = settings(max_examples=int(os.environ.get("CAPCHECK_PDF_EXAMPLES", "12")), deadline=None,
+                     suppress_health_check=[HealthCheck.function_scoped_fixture,
+                                            HealthCheck.too_slow])
+
+
+@_settings
+@given(style=st.sampled_from(["grid", "none", "hrules", "rowrules"]),
+       cols=st.sampled_from(["standard", "two", "lwd", "span", "wide"]),
+       n_rows=st.integers(1, 30), seed=st.integers(0, 10_000),
+       spacer_every=st.integers(0, 4), wrap=st.booleans(), title=st.booleans(),
+       notes=st.booleans(), head_align=st.sampled_from(["left", "data"]))
+def test_random_schedules_read_back(tmp_path_factory, style, cols, n_rows, seed, spacer_every,
+                                    wrap, title, notes, head_align):
+    spec = pdfgen.Spec(style=style, cols=cols, n_rows=n_rows, seed=seed,
+                       spacer_every=spacer_every, wrap=wrap, title=title, notes=notes,
+                       head_align=head_align, page="landscape" if cols == "wide" else "portrait")
+    path = tmp_path_factory.mktemp("hyp") / "s.pdf"
+    exp = pdfgen.reportlab_pdf(path, spec)
+    tables, _ = read_pdf_tables(path)
+    assert_reads_as(tables, exp)
+
+
+# --------------------------------------------------------------------------------------------
+# LibreOffice: a spreadsheet exported to PDF by a program that is not ours
+# --------------------------------------------------------------------------------------------
+
+
+@pytest.fixture(scope="session")
+def lo_cases(tmp_path_factory):
+    if pdfgen.soffice() is None:
+        pytest.skip("LibreOffice (soffice/libreoffice) is not on PATH: the PDFs from the second "
+                    "generator cannot be made; install libreoffice-calc-nogui "
+                    "(.ci/system-packages.sh does it in CI)")
+    out = tmp_path_factory.mktemp("pdf_libreoffice")
+    exps = {name: pdfgen.write_xlsx(out / f"{name}.xlsx", spec)
+            for name, spec in pdfgen.XLSX_CASES.items()}
+    pdfgen.convert_with_soffice([e.path for e in exps.values()], out)
+    for name, e in exps.items():
+        e.path = out / f"{name}.pdf"
+        assert e.path.exists(), f"LibreOffice did not write {e.path.name}"
+    return exps
+
+
+@pytest.mark.parametrize("case", sorted(pdfgen.XLSX_CASES))
+def test_libreoffice_pdf_reads_back_field_by_field(case, lo_cases):
+    exp = lo_cases[case]
+    tables, notes = read_pdf_tables(exp.path)
+    assert_reads_as(tables, exp, provenance=False)
+    t = tables[0]
+    # provenance: pages in order, row numbers from 1 on each page
+    assert t.pages == sorted(t.pages)
+    for k, (p, n) in enumerate(zip(t.pages, t.row_numbers)):
+        assert n == (1 if k == 0 or t.pages[k - 1] != p else t.row_numbers[k - 1] + 1)
+    if pdfgen.XLSX_CASES[case].n_rows > 60:
+        assert len(set(t.pages)) > 1, "the long case should run over several pages"
+
+
+def test_libreoffice_no_borders_is_read_from_whitespace(lo_cases):
+    import pdfplumber
+
+    exp = lo_cases["lo_no_borders"]
+    with pdfplumber.open(exp.path) as pdf:
+        assert not pdf.pages[0].lines and not pdf.pages[0].rects
+        assert pdf.pages[0].extract_tables() == []      # bare pdfplumber finds nothing here
+
+
+# --------------------------------------------------------------------------------------------
+# The sample submission as a PDF
+# --------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("style", ["grid", "plain", "rules"])
+def test_sample_schedule_pdf_reads_back_to_the_csv(style, tmp_path):
+    if not SAMPLE_CSV.exists():
+        pytest.skip(f"{SAMPLE_CSV.name} not written yet")
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("make_pdf", ROOT / "sample_submissions" /
+                                                  "make_pdf.py")
+    make_pdf = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(make_pdf)
+    out = make_pdf.write_pdf(SAMPLE_CSV, tmp_path / f"sample-{style}.pdf", style)
+    with open(SAMPLE_CSV, newline="", encoding="utf-8-sig") as fh:
+        rows = list(csv.reader(fh))
+    exp = pdfgen.Expected(headings=rows[0], rows=[r for r in rows[1:] if any(r)], pages=[],
+                          row_numbers=[], path=out)
+    tables, notes = read_pdf_tables(out)
+    assert_reads_as(tables, exp, provenance=False)
+    assert notes == []
+
+
+def test_check_on_the_sample_pdf_equals_check_on_the_csv(tmp_path):
+    """The issue's acceptance test: the same findings from the PDF as from the CSV of the same
+    schedule, apart from the provenance."""
+    if not SAMPLE_CSV.exists():
+        pytest.skip(f"{SAMPLE_CSV.name} not written yet")
+    import importlib.util
+
+    import checker
+
+    spec = importlib.util.spec_from_file_location("make_pdf", ROOT / "sample_submissions" /
+                                                  "make_pdf.py")
+    make_pdf = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(make_pdf)
+    from_csv = checker.review(str(SAMPLE_CSV))
+    for style in ("grid", "plain"):
+        pdf = make_pdf.write_pdf(SAMPLE_CSV, tmp_path / f"s-{style}.pdf", style)
+        from_pdf = checker.review(str(pdf))
+        cols = [c for c in from_csv.findings.columns if not c.startswith("src_")]
+        a = from_csv.findings[cols].reset_index(drop=True)
+        b = from_pdf.findings[cols].reset_index(drop=True)
+        assert a.equals(b), style
+        assert from_pdf.rows_read == from_csv.rows_read
+        assert from_pdf.findings["src_page"].notna().all()
+        assert [r["errors"] for r in from_pdf.rejected] == [r["errors"] for r in from_csv.rejected]
+        assert all(r["source"]["page"] == 1 for r in from_pdf.rejected)
