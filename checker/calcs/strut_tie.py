@@ -79,27 +79,6 @@ def tie_steel_required(tie_force, fyd):
     return np.asarray(tie_force, dtype=float) / fyd
 
 
-def distinct_lines(coord, active, tol=1.0):
-    """Derived: number of distinct pile lines per cap among the active piles
-
-    Coordinates closer than ``tol`` are one line (sorted, gaps > tol start a new line) [D].
-
-    Args:
-        coord: pile coordinates across the bars (n, m) [mm]
-        active: piles to count (n, m) [-]
-        tol: merge tolerance [mm]
-
-    Returns:
-        number of lines (n,) [count]
-    """
-    s = np.sort(np.where(active, coord, np.inf), axis=1)
-    fin = np.isfinite(s)
-    new = np.ones_like(fin)
-    s0 = np.where(fin, s, 0.0)
-    new[:, 1:] = (s0[:, 1:] - s0[:, :-1]) > tol
-    return (fin & new).sum(axis=1).astype(float)
-
-
 def tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, cover):
     """Common practice: steel counted in a tie row, BS 8110 3.11.4.2 distribution (reference G5)
 
@@ -159,7 +138,6 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, spacing_le_3phi, pile_dia,
     """
     absH = np.abs(H)
     active = mask & np.isfinite(absH) & (absH > 0.0)
-    rows = distinct_lines(row_coord, active, tol)
     rc = np.where(active, row_coord, np.nan)
     aH = np.where(active, absH, 0.0)
     t_row = np.zeros_like(aH)  # the row force seen at pile i: max |H| over its row
@@ -170,8 +148,9 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, spacing_le_3phi, pile_dia,
         np.subtract(rc[:, j:j + 1], rc, out=buf)
         np.abs(buf, out=buf)
         np.less_equal(buf, tol, out=same)
-        np.maximum(t_row, aH[:, j:j + 1], out=t_row, where=same)
+        np.maximum(t_row, aH[:, j:j + 1] * same, out=t_row)  # |H| ≥ 0, so ×same masks it
         first[:, j + 1:] &= ~same[:, j + 1:]
+    rows = first.sum(axis=1).astype(float)  # one representative per distinct line
     as_row = tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, cover)
     fyd = np.asarray(fyd, dtype=float)
     util = t_row / (fyd[:, None] * as_row)
