@@ -257,3 +257,16 @@ def test_revision_report_lists_comments_of_removed_caps(tmp_path):
     assert html.escape(res.summary(), quote=False) in text or res.summary() in html.unescape(text)
     tree = _parse(text)
     assert "PC3" not in tree.sketch and len(tree.sketch) == 4
+
+
+def test_large_schedules_keep_the_worst_caps_in_detail(tmp_path, monkeypatch):
+    import checker.report.html as html_mod
+
+    monkeypatch.setattr(html_mod, "HTML_MAX_CAP_SECTIONS", 2)
+    (path,) = write_outputs(make_review(), [tmp_path / "r.html"], meta=META)
+    text = path.read_text()
+    tree = _parse(text)
+    assert set(tree.sketch) == {"PC2", "PC5"}           # the two unsafe caps
+    assert "for 2 of 5 caps, worst first" in text
+    rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
+    assert rows == [c[0] for c in CAPS]                # the table still lists every cap

@@ -248,3 +248,17 @@ def test_project_file_meta():
     # the spine passes the TOML as it reads it: a [project] table must work too
     m2 = resolve_meta(rv, {"project": {"name": "X"}, "revision": "C"})
     assert m2["project"] == "X" and m2["revision"] == "C"
+
+
+def test_all_checks_cap_says_what_it_left_out(tmp_path, monkeypatch):
+    import checker.report.sheet as sheet_mod
+
+    monkeypatch.setattr(sheet_mod, "ALL_CHECKS_MAX_ROWS", 5)
+    rv = make_review()
+    (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    ws = wb["All checks"]
+    rows = [r for r in ws.iter_rows(min_row=3, values_only=True) if r[0] is not None]
+    assert len(rows) == 5 and all(r[3] != "ok" for r in rows)   # worst first
+    assert f"first 5 of {len(rv.findings)} results" in ws["A1"].value and CAUTION in ws["A1"].value
+    assert len([r for r in wb["Comments"].iter_rows(min_row=3, values_only=True) if r[0]]) == 9
