@@ -56,6 +56,7 @@ FINDING_COLUMNS: tuple[str, ...] = (
     "src_sheet",
     "src_page",
     "src_row",
+    "variants",
 )
 
 

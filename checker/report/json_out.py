@@ -46,6 +46,8 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
         }
         if row.get("action"):
             item["action"] = row["action"]
+        if isinstance(row.get("variants"), dict):
+            item["variants"] = row["variants"]
         if working:
             cap = item["cap"]
             if cap not in work_by_cap:

@@ -68,10 +68,24 @@ class RuleResult:
     util: np.ndarray
     message: list[str]
     action: list[str]
+    variants: list | None = None   # per cap: None, or the grading over the accepted methods (dict)
 
 
-def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True) -> RuleResult:
-    """One rule over all caps. ``render=False`` skips the message text (the benchmark's core)."""
+@dataclass
+class _Outcome:
+    """The governing check of one rule under one set of quantities (one method variant)."""
+
+    applies: np.ndarray
+    g: np.ndarray
+    value: np.ndarray
+    limit: np.ndarray
+    util: np.ndarray
+    fail: np.ndarray
+    missing: np.ndarray
+    any_use: np.ndarray
+
+
+def _governing(rule: Rule, env, n: int) -> _Outcome:
     applies = _as_bool(rule.applies(env), n) if rule.applies is not None else np.ones(n, bool)
     k = len(rule.checks)
     V = np.empty((k, n))
@@ -94,10 +108,96 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True) -> Rule
     score = np.where(cat == best, np.nan_to_num(U, nan=0.0, posinf=1e300, neginf=-1e300), -np.inf)
     g = np.argmax(score, axis=0)
     cols = np.arange(n)
-    any_use = USE.any(axis=0)
-    gv, gl, gu = V[g, cols], L[g, cols], U[g, cols]
-    g_fail = failing[g, cols]
-    g_missing = missing[g, cols]
+    return _Outcome(applies, g, V[g, cols], L[g, cols], U[g, cols], failing[g, cols],
+                    missing[g, cols], USE.any(axis=0))
+
+
+class _Overlay(dict):
+    """The environment with some quantities replaced by a variant's own (no copy of the arrays)."""
+
+    def __init__(self, base, use):
+        super().__init__()
+        self._base = base
+        self._use = dict(use)
+
+    def __getitem__(self, k):
+        return self._base[self._use.get(k, k)]
+
+    def __contains__(self, k):
+        return self._use.get(k, k) in self._base
+
+    def get(self, k, default=None):
+        return self._base.get(self._use.get(k, k), default)
+
+
+def variant_combos(rule: Rule) -> list[tuple]:
+    """Every combination of one variant per family, the defaults (first of each family) first."""
+    from itertools import product
+
+    fams = rule.families
+    per = [[v for v in rule.variants if v.family == f] for f in fams]
+    return list(product(*per)) if per else []
+
+
+def stated_methods(text_values, rule: Rule) -> dict[str, np.ndarray]:
+    """Per family, the variant name the schedule's ``method`` text states ('' if none)."""
+    texts = np.asarray(text_values, dtype=object)
+    out: dict[str, np.ndarray] = {}
+    uniq = {t for t in texts.tolist() if isinstance(t, str) and t.strip()}
+    for fam in rule.families:
+        names = [v.name for v in rule.variants if v.family == fam]
+        lookup = {}
+        for t in uniq:
+            norm = " " + " ".join(t.lower().replace("_", "-").replace("/", " ").split()) + " "
+            hits = [nm for nm in names if f" {nm} " in norm or f"-{nm} " in norm or f" {nm}-" in norm
+                    or nm.replace("-", " ") in norm]
+            lookup[t] = hits[0] if len(hits) == 1 else ""
+        out[fam] = np.array([lookup.get(t, "") if isinstance(t, str) else "" for t in texts.tolist()],
+                            dtype=object)
+    return out
+
+
+def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods=None) -> RuleResult:
+    """One rule over all caps, graded over its accepted method variants.
+
+    ``render=False`` skips the message text (the benchmark's core). ``methods``: the schedule's
+    stated-method texts per cap (the ``method`` column), or None.
+    """
+    combos = variant_combos(rule)
+    grading = None
+    if len(combos) <= 1:
+        use = [(a, b) for v in (combos[0] if combos else ()) for a, b in v.use]
+        out = _governing(rule, _Overlay(env, use) if use else env, n)
+    else:
+        outs = [_governing(rule, _Overlay(env, [(a, b) for v in c for a, b in v.use]), n) for c in combos]
+        allowed = np.ones((len(combos), n), bool)
+        stated_any = np.zeros(n, bool)
+        if methods is not None:
+            stated = stated_methods(methods, rule)
+            for fam, names in stated.items():
+                has = names != ""
+                stated_any |= has
+                fi = rule.families.index(fam)
+                for ci, c in enumerate(combos):
+                    allowed[ci] &= ~has | (names == c[fi].name)
+        first_allowed = np.argmax(allowed, axis=0)
+        pick = np.stack([o.value for o in outs])  # shape (combos, n)
+        cols = np.arange(n)
+        sel = lambda attr: np.stack([getattr(o, attr) for o in outs])[first_allowed, cols]  # noqa: E731
+        out = _Outcome(outs[0].applies, sel("g"), pick[first_allowed, cols], sel("limit"), sel("util"),
+                       sel("fail"), sel("missing"), outs[0].any_use)
+        fails = np.stack([o.fail for o in outs]) & allowed
+        evaluated = np.stack([~o.missing for o in outs]) & allowed
+        n_fail = fails.sum(axis=0)
+        n_eval = evaluated.sum(axis=0)
+        grading = (combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed)
+        # some but not all accepted methods fail: a query, not a verdict
+        mixed = (n_fail > 0) & (n_fail < n_eval)
+        all_fail = (n_fail > 0) & (n_fail == n_eval)
+        out.fail = all_fail | (out.fail & ~mixed & (n_fail > 0))
+        out.mixed = mixed
+    g, gv, gl, gu = out.g, out.value, out.limit, out.util
+    g_fail, g_missing, applies, any_use = out.fail, out.missing, out.applies, out.any_use
 
     sev = np.full(n, "ok", dtype=object)
     sev[g_fail] = rule.severity
@@ -106,7 +206,10 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True) -> Rule
         hit = g_fail & _as_bool(o.when(env), n)
         sev[hit] = o.severity
         notes[hit] = o.note
-    sev[g_missing] = "query"
+    mixed = getattr(out, "mixed", None)
+    if mixed is not None:
+        sev[mixed & ~g_missing] = "query"
+    sev[g_missing & ~g_fail] = "query"
     not_app = ~applies | ~any_use
 
     scale = OUTPUT_SCALE.get(rule.unit, 1.0)
@@ -155,7 +258,56 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True) -> Rule
             action[idx] = f"Provide {what} so that the check can be made."
     for idx in np.flatnonzero(notes != "").tolist():
         message[idx] = f"{message[idx]} {notes[idx]}".strip()
-    return RuleResult(rule, sev, out_v, out_l, gu, message, action)
+    variants = None
+    if grading is not None:
+        variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
+    return RuleResult(rule, sev, out_v, out_l, gu, message, action, variants)
+
+
+def _combo_name(c) -> str:
+    return " + ".join(v.name for v in c)
+
+
+def _grade_notes(rule, grading, not_app, message, action, scale, render):
+    """Per cap: the spread over the accepted methods, and the sentence the comment carries."""
+    combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed = grading
+    U = np.stack([o.util for o in outs])
+    Uv = np.where(evaluated, U, np.nan)
+    with np.errstate(all="ignore"):
+        lo_i = np.nanargmin(np.where(np.isnan(Uv), np.inf, Uv), axis=0)
+        hi_i = np.nanargmax(np.where(np.isnan(Uv), -np.inf, Uv), axis=0)
+    names = [_combo_name(c) for c in combos]
+    n = U.shape[1]
+    result: list = [None] * n
+    rows = np.flatnonzero(~not_app & (n_eval > 0))
+    if not render:
+        return result
+    for i in rows.tolist():
+        failing = [names[c] for c in range(len(combos)) if fails[c, i]]
+        passing = [names[c] for c in range(len(combos)) if evaluated[c, i] and not fails[c, i]]
+        result[i] = {
+            "accepted": [names[c] for c in range(len(combos)) if allowed[c, i]],
+            "failing": failing,
+            "passing": passing,
+            "lowest": {"variant": names[lo_i[i]], "utilisation": _r(U[lo_i[i], i])},
+            "highest": {"variant": names[hi_i[i]], "utilisation": _r(U[hi_i[i], i])},
+            "stated_method": bool(stated_any[i]),
+        }
+        if failing and passing:
+            message[i] += (f" Fails under {', '.join(failing)}; passes under {', '.join(passing)}:"
+                           " state the method used.")
+            action[i] = (action[i] + " " if action[i] else "") + \
+                "State the method used, or meet the check under every accepted method."
+        elif failing and len(failing) > 1:
+            message[i] += " Fails under all accepted methods."
+        if stated_any[i]:
+            message[i] += f" Graded against the method stated in the schedule ({', '.join(result[i]['accepted'])})."
+    return result
+
+
+def _r(x):
+    x = float(x)
+    return None if (x != x or x in (float("inf"), float("-inf"))) else round(x, 4)
 
 
 def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame) -> pd.DataFrame:
@@ -163,7 +315,8 @@ def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame) -> pd.DataFrame:
     n = len(caps)
     if n == 0:
         return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
-    results = [evaluate_rule(r, env, n) for r in ruleset.rules]
+    methods = caps["method"].to_numpy(dtype=object) if "method" in caps else None
+    results = [evaluate_rule(r, env, n, methods=methods) for r in ruleset.rules]
     return assemble(results, caps)
 
 
@@ -188,6 +341,7 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
             "src_sheet": rep("src_sheet"),
             "src_page": rep("src_page"),
             "src_row": rep("src_row"),
+            "variants": [v for r in results for v in (r.variants if r.variants is not None else [None] * n)],
         }
     )
     return sort_findings(frame)

@@ -57,6 +57,14 @@ class CompiledOverride:
 
 
 @dataclass(frozen=True)
+class CompiledVariant:
+    family: str
+    name: str
+    source: str
+    use: tuple[tuple[str, str], ...]
+
+
+@dataclass(frozen=True)
 class Rule:
     id: str
     title: str
@@ -73,6 +81,15 @@ class Rule:
     working: tuple[Template, ...]
     overrides: tuple[CompiledOverride, ...]
     file: str
+    variants: tuple[CompiledVariant, ...] = ()
+
+    @property
+    def families(self) -> list[str]:
+        out: list[str] = []
+        for v in self.variants:
+            if v.family not in out:
+                out.append(v.family)
+        return out
 
     @property
     def names(self) -> set[str]:
@@ -91,6 +108,7 @@ class Profile:
     severity: dict[str, str] = field(default_factory=dict)
     disable: tuple[str, ...] = ()
     files: tuple[str, ...] = ()
+    drop_variants: tuple[str, ...] = ()
 
     def describe(self, name: str) -> str:
         v = self.params[name]
@@ -171,6 +189,17 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
     overrides = tuple(
         CompiledOverride(expr(o.when, "override when"), o.severity, o.note) for o in spec.override
     )
+    variants = []
+    seen_v: set[tuple[str, str]] = set()
+    for v in spec.variant:
+        if (v.family, v.name) in seen_v:
+            raise RuleFileError(f"{where}: variant '{v.name}' of '{v.family}' is declared twice")
+        seen_v.add((v.family, v.name))
+        for a, b in v.use.items():
+            for nm in (a, b):
+                if nm not in known:
+                    raise RuleFileError(f"{where}: variant '{v.name}': unknown quantity '{nm}'")
+        variants.append(CompiledVariant(v.family, v.name, v.source, tuple(v.use.items())))
     return Rule(
         id=spec.id,
         title=spec.title,
@@ -187,6 +216,7 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
         working=tuple(tmpl(w, f"working line {i + 1}", set()) for i, w in enumerate(spec.working)),
         overrides=overrides,
         file=file,
+        variants=tuple(variants),
     )
 
 
@@ -235,6 +265,7 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
     severity: dict[str, str] = {}
     disable: list[str] = []
     files: list[str] = []
+    drops: list[str] = []
     if spec.extends:
         base = load_profile(spec.extends, search, None, _depth + 1)
         params.update(base.params)
@@ -242,6 +273,7 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
         severity.update(base.severity)
         disable.extend(base.disable)
         files.extend(base.files)
+        drops.extend(base.drop_variants)
     for k, p in spec.params.items():
         if not k.isidentifier() or k.startswith("_"):
             raise RuleFileError(f"{path}: parameter '{k}' is not a plain name")
@@ -254,6 +286,7 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
             raise RuleFileError(f"{path}: severity for '{rid}' must be one of {', '.join(SEVERITY_ORDER[:-1])}")
         severity[rid] = sev
     disable.extend(spec.disable)
+    drops.extend(spec.drop_variants)
     files.append(str(path))
     for k, text in (overrides or {}).items():
         if k not in params:
@@ -267,7 +300,8 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
             except ValueError:
                 raise RuleFileError(f"--set {k}={text}: a number is needed") from None
         sources[k] = "set on the command line"
-    return Profile(spec.name, spec.title, params, sources, severity, tuple(disable), tuple(files))
+    return Profile(spec.name, spec.title, params, sources, severity, tuple(disable), tuple(files),
+                   tuple(dict.fromkeys(drops)))
 
 
 @dataclass(frozen=True)
@@ -284,8 +318,12 @@ class RuleSet:
 
 
 def load_ruleset(profile: str = "uk-na", rules_dir: str | Path | None = None,
-                 overrides: dict[str, str] | None = None) -> RuleSet:
-    """Load the packaged rules, then ``rules_dir`` on top, and resolve the profile."""
+                 overrides: dict[str, str] | None = None,
+                 drop_variants: list[str] | tuple[str, ...] = ()) -> RuleSet:
+    """Load the packaged rules, then ``rules_dir`` on top, and resolve the profile.
+
+    ``drop_variants`` (with the profile's own ``drop_variants``) removes accepted methods a project's
+    specification does not accept; a family cannot lose every variant."""
     search = []
     if rules_dir is not None:
         extra = Path(rules_dir)
@@ -304,11 +342,23 @@ def load_ruleset(profile: str = "uk-na", rules_dir: str | Path | None = None,
                 by_id[r.id] = r
     if not by_id:
         raise RuleFileError(f"no rule files found in {', '.join(str(s) for s in search)}")
+    drops = set(prof.drop_variants) | set(drop_variants)
+    all_names = {v.name for r in by_id.values() for v in r.variants}
+    unknown = sorted(drops - all_names)
+    if unknown:
+        raise RuleFileError(f"variant(s) {', '.join(unknown)} not declared by any rule; "
+                            f"declared: {', '.join(sorted(all_names)) or 'none'}")
     rules = []
     for r in by_id.values():
         if r.id in prof.disable:
             continue
         if r.id in prof.severity:
             r = Rule(**{**r.__dict__, "severity": prof.severity[r.id]})
+        if drops and r.variants:
+            kept = tuple(v for v in r.variants if v.name not in drops)
+            for fam in r.families:
+                if not any(v.family == fam for v in kept):
+                    raise RuleFileError(f"rule '{r.id}': every variant of '{fam}' was dropped; keep at least one")
+            r = Rule(**{**r.__dict__, "variants": kept})
         rules.append(r)
     return RuleSet(tuple(rules), prof, tuple(str(s) for s in search))

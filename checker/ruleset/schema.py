@@ -65,6 +65,24 @@ class OverrideSpec(_Strict):
         return v
 
 
+class VariantSpec(_Strict):
+    """An accepted method for a strength check: a name, its source, and the quantities it uses in
+    place of the default method's (``use = { tie_x = "tie_x_cw" }``). The first variant of each
+    family is the default."""
+
+    family: str = Field(min_length=1, max_length=40)
+    name: str = Field(min_length=1, max_length=40)
+    source: str = Field(min_length=1, max_length=300)
+    use: dict[str, str] = Field(default_factory=dict, max_length=12)
+
+    @field_validator("family", "name")
+    @classmethod
+    def _slug(cls, v: str) -> str:
+        if not re.match(r"^[a-z0-9][a-z0-9.\-]*$", v):
+            raise ValueError("variant families and names are lower-case words joined by '-'")
+        return v
+
+
 class RuleSpec(_Strict):
     id: str
     title: str = Field(min_length=1, max_length=120)
@@ -83,6 +101,7 @@ class RuleSpec(_Strict):
     working: list[str] = Field(default_factory=list, max_length=40)
     check: list[CheckSpec] = Field(default_factory=list, max_length=12)
     override: list[OverrideSpec] = Field(default_factory=list, max_length=8)
+    variant: list[VariantSpec] = Field(default_factory=list, max_length=12)
 
     @field_validator("id")
     @classmethod
@@ -130,3 +149,4 @@ class ProfileFile(_Strict):
     params: dict[str, ParamSpec] = Field(default_factory=dict)
     severity: dict[str, str] = Field(default_factory=dict)
     disable: list[str] = Field(default_factory=list)
+    drop_variants: list[str] = Field(default_factory=list)
