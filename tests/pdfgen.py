@@ -164,7 +164,10 @@ class Spec:
 
     cols: str = "standard"
     n_rows: int = 12
-    style: str = "grid"             # grid | none | hrules (top/mid/bottom) | rowrules
+    style: str = "grid"             # grid | none | hrules (top/mid/bottom) | rowrules |
+                                    # gridbody (a grid round the data rows, heading outside)
+    head_valign: str = "top"        # top | middle | bottom: headings with fewer lines
+    cell_valign: str = "top"        # top | middle | bottom: cells beside a wrapped cell
     font_size: float = 7.0
     rows_per_page: int | None = None
     repeat_heading: bool = True
@@ -172,6 +175,7 @@ class Spec:
     spacer_every: int = 0           # a blank spacer row after every k rows
     wrap: bool = False              # draw "H16@150 B1" over two lines in its cell
     title: bool = False             # title block above the table
+    title_box: bool = False         # a ruled title box (label row + value row) above the table
     notes: bool = False             # notes below the table
     revision: str = ""              # "" | "ruled" | "plain": a revision box below
     page: str = "portrait"          # portrait | landscape | rotate (/Rotate 90) | sideways
@@ -259,6 +263,25 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
         text(margin, y - 42, f"Drawing S-201   Revision C   Scale NTS   {FIRM}", size=8)
         return y - 62
 
+    def draw_title_box(y):
+        labels = [["Job no", "Drawing no", "Sheet no", "Scale", "Revision"],
+                  ["J-0417", "S-201", f"{pno} of {len(chunks)}", "NTS", "C"],
+                  ["Project", PROJECT, "", "Client", "Fictitious Holdings"]]
+        bw = [70, 150, 70, 70, 120]
+        bx = [margin]
+        for w in bw:
+            bx.append(bx[-1] + w)
+        rh = 13.0
+        for r, vals in enumerate(labels):
+            for k2, v in enumerate(vals):
+                text(bx[k2] + 3, y - r * rh - 9.5, v, size=7.5)
+        c.setLineWidth(0.5)
+        for r in range(len(labels) + 1):
+            c.line(bx[0], y - r * rh, bx[-1], y - r * rh)
+        for x in bx:
+            c.line(x, y, x, y - len(labels) * rh)
+        return y - len(labels) * rh - 16
+
     def draw_notes(y):
         y -= 2 * lead
         text(margin, y, "NOTES", size=fs + 1)
@@ -291,13 +314,20 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
                 c.line(x, top, x, top - len(rows_rev) * rh)
         return top - len(rows_rev) * rh
 
+    def shift(n_lines: int, n_max: int, how: str) -> float:
+        free = (n_max - n_lines) * lead
+        return {"top": 0.0, "middle": free / 2.0, "bottom": free}[how]
+
     def draw_heading(top):
         span_keys = [cc.key for cc in cols if cc.lines[0].startswith("Cap size")]
         for k2, col in enumerate(cols):
+            filled = [x for x in col.lines if x]
+            off = 0.0 if len(filled) != 1 or span_keys else shift(1, nlines_head,
+                                                                   spec.head_valign)
             for li, s in enumerate(col.lines):
                 if not s:
                     continue
-                y = top - pad - 0.8 * fs - li * lead
+                y = top - pad - 0.8 * fs - li * lead - off
                 if li == 0 and s.startswith("Cap size"):
                     if col.key != span_keys[0]:
                         continue
@@ -316,8 +346,10 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
 
     def draw_row(top, values, nl):
         for k2, col in enumerate(cols):
-            for li, s in enumerate(cell_lines(col, values[col.key])):
-                y = top - pad - 0.8 * fs - li * lead
+            parts = cell_lines(col, values[col.key])
+            off = shift(len(parts), nl, spec.cell_valign)
+            for li, s in enumerate(parts):
+                y = top - pad - 0.8 * fs - li * lead - off
                 if spec.touch and k2 == k:
                     text(xs[k2 + 1], y, s, "r")
                 elif spec.touch and k2 == k + 1:
@@ -344,6 +376,11 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
                        xs[span[-1] + 1], top - pad - lead - 0.2 * pad)
             for y in bottoms:
                 c.line(xs[0], y, xs[-1], y)
+        elif spec.style == "gridbody":
+            for x in xs:
+                c.line(x, head_bottom, x, table_bottom)
+            for y in bottoms:
+                c.line(xs[0], y, xs[-1], y)
         elif spec.style in ("hrules", "rowrules"):
             c.line(xs[0], top, xs[-1], top)
             c.line(xs[0], head_bottom, xs[-1], head_bottom)
@@ -362,6 +399,8 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
         y = H - margin
         if spec.title:
             y = draw_title(y)
+        if spec.title_box:
+            y = draw_title_box(y)
         top = y
         if pno == 1 or spec.repeat_heading:
             y = draw_heading(y)
@@ -641,12 +680,25 @@ REPORTLAB_CASES: dict[str, Spec] = {
                                                      revision="ruled"),
     "title_notes_revision_ruled": Spec(style="grid", title=True, notes=True, revision="ruled"),
     "title_notes_hrules": Spec(style="hrules", title=True, notes=True, revision="plain"),
+    "title_box_ruled": Spec(style="grid", title_box=True, revision="ruled", n_rows=30,
+                            rows_per_page=15, repeat_heading=False),
+    "title_box_unruled": Spec(style="none", title_box=True, notes=True, revision="ruled",
+                              n_rows=30, rows_per_page=15, repeat_heading=False),
     "landscape_wide": Spec(style="grid", cols="wide", page="landscape", font_size=8),
     "landscape_unruled": Spec(style="none", cols="wide", page="landscape", font_size=8),
     "landscape_rotate_entry": Spec(style="grid", cols="wide", page="rotate", font_size=8),
     "sideways_unruled": Spec(style="none", cols="wide", page="sideways", font_size=8),
     "sideways_ruled": Spec(style="grid", cols="wide", page="sideways", font_size=8),
     "unknown_heading": Spec(style="none", cols="unknown"),
+    "grid_round_the_body_only": Spec(style="gridbody", title=True, notes=True),
+    "grid_round_the_body_two_line_headings": Spec(style="gridbody", cols="two", n_rows=30,
+                                                  rows_per_page=15),
+    "headings_middle_aligned_unruled": Spec(style="none", cols="two", head_valign="middle"),
+    "headings_bottom_aligned_unruled": Spec(style="none", cols="two", head_valign="bottom"),
+    "headings_middle_aligned_ruled": Spec(style="grid", cols="two", head_valign="middle"),
+    "wrapped_cells_bottom_aligned_unruled": Spec(style="none", wrap=True, cell_valign="bottom"),
+    "wrapped_cells_middle_aligned_unruled": Spec(style="none", wrap=True, cell_valign="middle"),
+    "wrapped_cells_bottom_aligned_ruled": Spec(style="grid", wrap=True, cell_valign="bottom"),
 }
 
 XLSX_CASES: dict[str, XlsxSpec] = {

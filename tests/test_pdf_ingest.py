@@ -179,16 +179,24 @@ _settings = settings(max_examples=int(os.environ.get("CAPCHECK_PDF_EXAMPLES", "1
 
 
 @_settings
-@given(style=st.sampled_from(["grid", "none", "hrules", "rowrules"]),
-       cols=st.sampled_from(["standard", "two", "lwd", "span", "wide"]),
+@given(style=st.sampled_from(["grid", "none", "hrules", "rowrules", "gridbody"]),
+       cols=st.sampled_from(["standard", "two", "lwd", "span", "wide", "touch"]),
        n_rows=st.integers(1, 30), seed=st.integers(0, 10_000),
        spacer_every=st.integers(0, 4), wrap=st.booleans(), title=st.booleans(),
-       notes=st.booleans(), head_align=st.sampled_from(["left", "data"]))
+       title_box=st.booleans(), notes=st.booleans(), revision=st.sampled_from(["", "plain",
+                                                                                 "ruled"]),
+       head_align=st.sampled_from(["left", "data"]),
+       valign=st.sampled_from(["top", "middle", "bottom"]),
+       rows_per_page=st.sampled_from([None, 7, 12]), repeat=st.booleans())
 def test_random_schedules_read_back(tmp_path_factory, style, cols, n_rows, seed, spacer_every,
-                                    wrap, title, notes, head_align):
+                                    wrap, title, title_box, notes, revision, head_align, valign,
+                                    rows_per_page, repeat):
     spec = pdfgen.Spec(style=style, cols=cols, n_rows=n_rows, seed=seed,
-                       spacer_every=spacer_every, wrap=wrap, title=title, notes=notes,
-                       head_align=head_align, page="landscape" if cols == "wide" else "portrait")
+                       spacer_every=spacer_every, wrap=wrap, title=title, title_box=title_box,
+                       notes=notes, revision=revision, head_align=head_align,
+                       head_valign=valign, cell_valign=valign, rows_per_page=rows_per_page,
+                       repeat_heading=repeat, touch=cols == "touch",
+                       page="landscape" if cols == "wide" else "portrait")
     path = tmp_path_factory.mktemp("hyp") / "s.pdf"
     exp = pdfgen.reportlab_pdf(path, spec)
     tables, _ = read_pdf_tables(path)

@@ -256,6 +256,9 @@ def _words_of(grp: list[Glyph], explicit_blanks: bool) -> list[Word]:
                     last_x1 = g.x1
             continue
         if glyphs:
+            p = glyphs[-1]
+            if p.text == g.text and abs(p.x0 - g.x0) < 0.5 and abs(p.top - g.top) < 0.5:
+                continue                # the same glyph printed twice (simulated bold)
             size = g.size if g.size > 1.0 else 1.0
             gap = g.x0 - last_x1
             if explicit_blanks:
@@ -301,17 +304,17 @@ def normalise_cell(text: object) -> str:
 # Words that schedule headings are made of. Only used to recognise a heading row (at least three
 # cells); mapping a heading to a field is the heading mapper's job (checker.ingest.headings).
 HEADING_WORDS = frozenset("""
-mark marks ref reference id type cap caps pile piles pilecap no nr number qty count dia diameter
-spacing centres centers crs length width depth thickness size dimensions dims plan overall
-column col columns load loads axial ned n_ed nsd moment moments mx my mxed myed med uls
-concrete grade class strength fck fcu fyk fy steel bars bar reinforcement reinft rebar bottom
-main tie ties cover nominal exposure embedment embed capacity resistance reaction reactions
-stated required provided area as asx asy layout group arrangement remarks comments notes
+mark marks cap caps pile piles pilecap dia diameter spacing centres centers crs length width
+depth thickness column col columns load loads axial ned n_ed nsd moment moments mx my mxed myed
+med uls concrete conc fck fcu fyk fy steel bars bar reinforcement reinft rebar tie ties cover
+exposure embedment embed capacity resistance reaction reactions asx asy
 """.split())
+# Deliberately absent: words a drawing's title block or revision box uses as labels too
+# ("no", "ref", "type", "size", "date", "scale", "as" ...): three of them must not make a heading.
 
 _HEADING_PATTERNS = re.compile(
-    r"(l\s*[x×]\s*w\s*[x×]\s*[dh]|n\s*_?\s*ed|m\s*[xy]\s*,?\s*_?\s*ed|\bh\b|\bl\b|\bw\b|\bd\b|"
-    r"\bb\b|\bs\b|ø|⌀|φ|\bphi\b)",
+    r"(l\s*[x×]\s*w\s*[x×]\s*[dh]|n\s*_?\s*ed|m\s*[xy]\s*,?\s*_?\s*ed|\bas\s*[,_]?\s*[xy]\b|"
+    r"^\s*[lwdhbs]\s*(\(.*\))?\s*$|ø|⌀|φ|\bphi\b)",
     re.IGNORECASE)
 _TOKEN = re.compile(r"[a-z_]+", re.IGNORECASE)
 _UNITS = re.compile(

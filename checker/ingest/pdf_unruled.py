@@ -75,12 +75,8 @@ def heading_cells(block: Sequence[Line]) -> list[HCell] | None:
                 if len(block[li].words) == 1 and len(under) > 0.5 * len(block[lj].words):
                     return None
                 break
-    if len(block) > 1:
-        for li, ln in enumerate(block[:-1]):
-            if len(ln.words) == 1:
-                idx = next(k for k, (lk, _) in enumerate(items) if lk == li)
-                if idx not in spanning:
-                    return None
+    if len(block) > 1 and len(block[0].words) == 1 and 0 not in spanning:
+        return None     # one word alone above the heading, over one column: a title
     # union-find over the other words: words on different lines that overlap share a column
     base = [k for k in range(len(items)) if k not in spanning]
     parent = {k: k for k in base}
@@ -250,33 +246,50 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
 
 
 def _group_rows(body: list[Line], geo: _Geometry, table_rules: list[float]) -> list[list[Line]]:
+    """Body lines -> rows. A line with a mark opens a row; a line without one belongs to the row
+    whose mark line it sits tight against (wrapped text above or below the mark, with the other
+    cells top-, middle- or bottom-aligned), never across a rule; otherwise it opens a row."""
+
     def marked(ln: Line) -> bool:
         first = next((w for w in ln.words if geo.inside(w)), ln.words[0])
         return first.x0 < geo.col0_lim
 
+    def rule_between(a: Line, b: Line) -> bool:
+        return any(a.mid_y < y < b.mid_y for y in table_rules)
+
+    n = len(body)
+    marks = [marked(ln) for ln in body]
+    # leads[k]: line k sits tight above a mark line (directly or through more such lines)
+    leads = [False] * n
+    for k in range(n - 2, -1, -1):
+        a, b = body[k], body[k + 1]
+        if b.top - a.top <= 1.3 * a.size and not rule_between(a, b):
+            leads[k] = marks[k + 1] or leads[k + 1]
     rows: list[list[Line]] = []
     pending: list[Line] = []
     for k, ln in enumerate(body):
-        prev = body[k - 1] if k else None
-        rule_before = prev is not None and any(prev.mid_y < y < ln.mid_y for y in table_rules)
-        if marked(ln) or rule_before:
+        if marks[k]:
             rows.append(pending + [ln])
             pending = []
             continue
-        tight_prev = prev is not None and ln.top - prev.top <= 1.3 * ln.size
-        if tight_prev and pending:
-            pending.append(ln)
-            continue
-        if tight_prev and rows:
-            rows[-1].append(ln)                  # wrapped cell text under the row's first line
-            continue
+        prev = body[k - 1] if k else None
         nxt = body[k + 1] if k + 1 < len(body) else None
-        if (nxt is not None and nxt.top - ln.top <= 1.3 * ln.size and marked(nxt)
-                and not any(ln.mid_y < y < nxt.mid_y for y in table_rules)):
+        tight = 1.3 * ln.size
+        gap_prev = ln.top - prev.top if prev is not None else math.inf
+        gap_next = nxt.top - ln.top if nxt is not None else math.inf
+        can_prev = (prev is not None and gap_prev <= tight and not rule_between(prev, ln)
+                    and (rows or pending))
+        can_next = leads[k]
+        if can_next and (not can_prev or gap_next < gap_prev - 0.1):
             pending.append(ln)                   # wrapped text above the mark of the next row
-            continue
-        rows.append(pending + [ln])              # a row without a mark: kept, frame rejects it
-        pending = []
+        elif can_prev:
+            if pending:
+                pending.append(ln)
+            else:
+                rows[-1].append(ln)              # wrapped text under the row's mark line
+        else:
+            rows.append(pending + [ln])          # a row without a mark: kept, frame rejects it
+            pending = []
     if pending:
         rows.append(pending)
     return rows
@@ -368,7 +381,12 @@ def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
                         others.append(abs(w.x0 - e) <= 1.0)
                     elif side == "right" and w.x0 < e and w.x1 > cells[j].x0 and w.x1 < hi + 0.5:
                         others.append(abs(w.x1 - e) <= 1.0)
-            ok = (sum(others) >= 0.5 * len(others)) if others else len(cand) >= 2
+            if others:
+                ok = sum(others) >= 0.5 * len(others)
+            else:       # no other row to learn from: two rows agreeing, or one split exactly there
+                ok = len(cand) >= 2 or all(
+                    abs((body[li].words[wi].glyphs[gi - 1].x1 + body[li].words[wi].glyphs[gi].x0)
+                        / 2.0 - e) <= 0.35 for li, (wi, gi) in cand.items())
             if ok:
                 merged, merge_e = cand, e
                 break
