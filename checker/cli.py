@@ -160,6 +160,10 @@ def write_files(review, paths: list[str], *, force: bool, meta: dict, previous_p
         from checker.revision import carry_over, read_previous_sheet
 
         previous = carry_over(review, read_previous_sheet(previous_path))
+    if previous is not None:
+        console_err.print(Text.assemble(("Revision: ", "bold"), previous.summary()))
+        for w in previous.warnings:
+            console_err.print(Text(f"note: {w}", style="dim"))
     if write_outputs is not None:
         return write_outputs(review, paths, force=force, meta=meta, previous=previous)
     # until the sheet writers exist: JSON only
@@ -262,9 +266,9 @@ def cmd_demo(args, out: Console, err: Console) -> int:
         rv_b = review(sample_b, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides))
         stem_b = folder / "harbourside-rev-B"
         meta_b = dict(meta, revision="B", submission=sample_b.name)
+        out.print("\n[bold]Revision B of the sample (partly fixed), against revision A's comment sheet:[/bold]")
         written += write_files(rv_b, [str(stem_b) + e for e in exts], force=True, meta=meta_b,
-                               previous_path=str(sheet_a), console_err=err)
-        out.print("\n[bold]Revision B of the sample (partly fixed):[/bold]")
+                               previous_path=str(sheet_a), console_err=out)
         print_summary(rv_b, out)
     out.print(f"\n[bold]Demo outputs written to {folder}[/bold]")
     for p in written:

@@ -257,6 +257,32 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
         q["tie_side_3"] = np.where(three & mask[:, :3].all(axis=1), np.max(sides, axis=1), np.nan)
     q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
+    # Three-pile caps are checked on the ties along the triangle's sides (reference §6): the base side
+    # against the x layer over the base row; the two inclined sides (60 degrees to x) against the
+    # orthogonal mesh resolved onto them, As,x cos²60 + As,y sin²60 (common practice for a mesh).
+    q["tie_x_orth"], q["tie_y_orth"] = q["tie_x"].copy(), q["tie_y"].copy()
+    side = three & ~np.isnan(q["tie_side_3"])
+    as_side_y = 0.25 * q["as_tie_x"] + 0.75 * q["as_tie_y"]
+    for k, prov in (("x", q["as_tie_x"]), ("y", as_side_y)):
+        q[f"tie_{k}"] = np.where(side, q["tie_side_3"], q[f"tie_{k}"])
+        q[f"as_req_{k}"] = np.where(side, q["as_req_side_3"], q[f"as_req_{k}"])
+        q[f"as_tie_{k}"] = np.where(side, prov, q[f"as_tie_{k}"])
+        q[f"util_tie_{k}"] = np.where(side, q[f"as_req_{k}"] / prov, q[f"util_tie_{k}"])
+    # method variant: the column-width allowance ((3l² − a²) forms, reference §6), always computed
+    eu2_cw = st.column_second_moment(cx, rnd)
+    ev2_cw = st.column_second_moment(cy, rnd)
+    Hx_cw = st.pile_node_force(X, R, mask, N, d_x, eu2_cw)
+    Hy_cw = st.pile_node_force(Y, R, mask, N, d_y, ev2_cw)
+    tx_cw = st.tie_rows_check(Hx_cw, Y, mask, as_x, fyd, le3_b, phi_p, W, cover)
+    ty_cw = st.tie_rows_check(Hy_cw, X, mask, as_y, fyd, le3_b, phi_p, L, cover)
+    side_cw = np.full(n, np.nan)
+    if X.shape[1] >= 3:
+        sides_cw = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx_cw[:, :3], Hy_cw[:, :3])
+        side_cw = np.where(three & mask[:, :3].all(axis=1), np.max(sides_cw, axis=1), np.nan)
+    for k, t, prov in (("x", tx_cw, q["as_tie_x"]), ("y", ty_cw, as_side_y)):
+        q[f"tie_{k}_cw"] = np.where(side, side_cw, t["T"])
+        q[f"as_req_{k}_cw"] = np.where(side, st.tie_steel_required(side_cw, fyd), t["as_req"])
+        q[f"as_tie_{k}_cw"] = np.where(side, prov, t["as_prov"])
 
     z = np.fmin(d_x, d_y)
     theta = st.strut_angle(r, z[:, None])
@@ -280,6 +306,8 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         k_pile_node=k_pile,
         node_col_limit=node_factor * st.node_limit(float(_pget(p, "k1_node")), nu_p, fcd),
         node_pile_limit=node_factor * st.node_limit(k_pile, nu_p, fcd),
+        node_pile_limit_cct=node_factor * st.node_limit(float(_pget(p, "k2_node")), nu_p, fcd),
+        node_pile_limit_ctt=node_factor * st.node_limit(float(_pget(p, "k3_node")), nu_p, fcd),
     )
 
     # ---- beam shear ---------------------------------------------------------------------
@@ -304,6 +332,12 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"b_enh_{k}"] = s["b_enh"]
         q[f"ved_max_{k}"] = s["ved_max"]
         q[f"vrd_max_{k}"] = np.where(np.isnan(s["ved_max"]), np.nan, vmax)
+        # method variant: the other definition of av (reference decision 7)
+        other = "clear" if av_mode != "clear" else "inside-pile"
+        s2 = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc, le3_b, av_mode=other)
+        alt_sfx, own_sfx = ("clear", "inside") if other == "clear" else ("inside", "clear")
+        q[f"ved_{k}_{alt_sfx}"], q[f"vrd_{k}_{alt_sfx}"] = s2["ved"], s2["vrd"]
+        q[f"ved_{k}_{own_sfx}"], q[f"vrd_{k}_{own_sfx}"] = s["ved"], s["vrd"]
 
     # ---- punching -----------------------------------------------------------------------
     u0 = pun.column_perimeter(cx, cy, rnd)
@@ -341,6 +375,13 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"lb_rqd_{k}"] = lb_rqd
         q[f"lbd_{k}"] = anc.design_anchorage_length(lb_rqd, phi, a1, a2)
         q[f"lb_avail_{k}"] = anc.available_length(half, cover, outer, phi_p, h, phi, bent)
+        # method variant: the other material-value convention (Table 3.1 values or formulas)
+        alt = "formula" if values != "formula" else "table"
+        fctd_alt = mat.fctd(mat.fctk_005(fck, values=alt), alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
+        fbd_alt = anc.bond_strength(fctd_alt, phi, eta1=eta1)
+        lb_alt = anc.basic_anchorage_length(phi, sig, fbd_alt)
+        q[f"lbd_{k}_{alt}"] = anc.design_anchorage_length(lb_alt, phi, a1, a2)
+        q[f"lbd_{k}_{'formula' if values == 'formula' else 'table'}"] = q[f"lbd_{k}"]
 
     # ---- bending alternative (working only) ---------------------------------------------
     for k, coord, col, d, width in (("x", X, cx, d_x, W), ("y", Y, cy, d_y, L)):

@@ -294,8 +294,8 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
             "stated_method": bool(stated_any[i]),
         }
         if failing and passing:
-            message[i] += (f" Fails under {', '.join(failing)}; passes under {', '.join(passing)}:"
-                           " state the method used.")
+            f_txt, p_txt = _split_by_family(rule, combos, fails[:, i], evaluated[:, i])
+            message[i] += f" Fails under {f_txt}; passes under {p_txt}: state the method used."
             action[i] = (action[i] + " " if action[i] else "") + \
                 "State the method used, or meet the check under every accepted method."
         elif failing and len(failing) > 1:
@@ -303,6 +303,22 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
         if stated_any[i]:
             message[i] += f" Graded against the method stated in the schedule ({', '.join(result[i]['accepted'])})."
     return result
+
+
+def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
+    """Name the methods a verdict turns on: the family whose variant alone decides it, if one does
+    ("fails under strut-face; passes under bearing"), else every combination."""
+    fam = rule.families
+    for fi, f in enumerate(fam):
+        F = {c[fi].name for c, x, e in zip(combos, fail_col, eval_col) if x and e}
+        P = {c[fi].name for c, x, e in zip(combos, fail_col, eval_col) if e and not x}
+        if F and P and not (F & P):
+            other = [g for g in fam if g != f]
+            suffix = f" (whatever the {', '.join(other)} method)" if other else ""
+            return ", ".join(sorted(F)) + suffix, ", ".join(sorted(P))
+    failing = [_combo_name(c) for c, x, e in zip(combos, fail_col, eval_col) if x and e]
+    passing = [_combo_name(c) for c, x, e in zip(combos, fail_col, eval_col) if e and not x]
+    return ", ".join(failing), ", ".join(passing)
 
 
 def _r(x):
