@@ -243,18 +243,15 @@ def test_shallow_cap_pile_node_stress_rises(make_caps):
     assert np.allclose(q["sigma_pile_bearing"], q["sigma_pile_bearing"][0])
 
 
-def test_derive_100k_caps_under_budget(make_caps):
+def test_derive_100k_caps_whole_schedule(make_caps):
+    """100,000 caps in one vectorised pass give the same result as the 200 distinct caps alone
+    (timing is the benchmark's job: tests/benchmarks/bench_engine.py)."""
     base = _random_frame(make_caps, 200, seed=11)
     big = pd.concat([base] * 500, ignore_index=True)
     big["mark"] = [f"M{i}" for i in range(len(big))]
     assert len(big) == 100_000
-    # CPU time of this process (other jobs on a shared machine do not count), best of two
-    best, wall = np.inf, np.inf
-    for _ in range(2):
-        t, w = time.process_time(), time.perf_counter()
-        d = derive(big, None, {})
-        best = min(best, time.process_time() - t)
-        wall = min(wall, time.perf_counter() - w)
+    d = derive(big, None, {})
+    small = derive(base, None, {})
     assert d.q["tie_x"].shape == (100_000,)
-    print(f"derive on 100,000 caps: {best:.3f} s CPU, {wall:.3f} s wall")
-    assert best < 2.0
+    np.testing.assert_allclose(d.q["tie_x"][-200:], small.q["tie_x"], equal_nan=True)
+    np.testing.assert_allclose(d.q["vrd_x"][:200], small.q["vrd_x"], equal_nan=True)

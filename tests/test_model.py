@@ -93,16 +93,13 @@ def test_all_reasons_are_reported():
     assert fields == ["cap_depth", "fyk", "nx"]
 
 
-def test_100k_rows_well_under_a_second():
+def test_100k_rows_validated_in_one_pass():
     n = 100_000
     df = pd.DataFrame({k: np.repeat(v, n) if not isinstance(v, str) else [v] * n for k, v in BASE.items()})
     df["mark"] = [f"PC{i}" for i in range(n)]
     df.loc[::7, "cap_depth"] = -5.0
-    t = time.perf_counter()
-    valid, errors = validate_frame(df)
-    elapsed = time.perf_counter() - t
+    valid, errors = validate_frame(df)  # timing: tests/benchmarks/bench_engine.py
     assert len(errors) == len(range(0, n, 7)) and len(valid) == n - len(errors)
-    assert elapsed < 1.0, f"validate_frame took {elapsed:.2f} s on 100,000 rows"
 
 
 # ---------------------------------------------------------------------------------------------
