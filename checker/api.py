@@ -64,8 +64,11 @@ def _numeric_params(params: dict[str, Any]) -> dict[str, float]:
     return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
 
 
-def check_schedule(schedule, ruleset, submission: str) -> Review:
-    """Derive every quantity once, evaluate every rule, and wrap it all in a Review."""
+def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
+    """Derive every quantity once, evaluate every rule, and wrap it all in a Review.
+
+    ``messages="issues"`` renders the message text of results that are not ``ok`` only (passed
+    checks keep an empty message): the fast path for very large schedules on the terminal."""
     from checker.ruleset.derive import derive
     from checker.ruleset.evaluate import evaluate, working_lines
 
@@ -75,7 +78,7 @@ def check_schedule(schedule, ruleset, submission: str) -> Review:
         derived = derive(caps, schedule.coords, params)
         env: dict[str, Any] = dict(derived.q)
         env.update(_numeric_params(params))
-        findings = evaluate(ruleset, env, caps)
+        findings = evaluate(ruleset, env, caps, render=True if messages == "all" else "issues")
 
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
     pile_xy: dict[str, np.ndarray] = {}
@@ -112,7 +115,8 @@ def check_schedule(schedule, ruleset, submission: str) -> Review:
 def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
            coords: str | Path | None = None, pdf_strategy: str = "auto",
-           max_pages: int | None = None, progress=None) -> Review:
+           max_pages: int | None = None, progress=None, drop_variants=(),
+           messages: str = "all") -> Review:
     """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
 
     Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
@@ -122,7 +126,7 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
     from checker.ingest.schedule import read_schedule, schedule_from_frame
     from checker.ruleset.loader import load_ruleset
 
-    ruleset = load_ruleset(profile, rules_dir, overrides)
+    ruleset = load_ruleset(profile, rules_dir, overrides, drop_variants)
     if isinstance(source, pd.DataFrame):
         sched = schedule_from_frame(source, mapping=mapping)
         name = "<dataframe>"
@@ -134,4 +138,4 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
                 kwargs["progress"] = progress
         sched = read_schedule(source, **kwargs)
         name = Path(source).name
-    return check_schedule(sched, ruleset, name)
+    return check_schedule(sched, ruleset, name, messages=messages)

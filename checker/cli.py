@@ -32,6 +32,8 @@ def _common(p: argparse.ArgumentParser) -> None:
     p.add_argument("--rules", dest="rules_dir", metavar="DIR", help="folder of extra or replacement rule files and profiles")
     p.add_argument("--set", dest="overrides", action="append", type=_kv, default=[], metavar="NAME=VALUE",
                    help="override a profile parameter, e.g. --set pile_tolerance=100 (repeatable)")
+    p.add_argument("--drop-variant", dest="drop_variants", action="append", default=[], metavar="NAME",
+                   help="do not accept this method variant, e.g. --drop-variant column-width (repeatable)")
 
 
 def _input(p: argparse.ArgumentParser) -> None:
@@ -106,14 +108,15 @@ def _progress(args, console_err: Console):
     return cb, prog
 
 
-def _review(args, console_err: Console):
+def _review(args, console_err: Console, messages: str = "all"):
     from checker.api import review
 
     cb, prog = _progress(args, console_err)
     try:
         return review(args.file, profile=args.profile, rules_dir=args.rules_dir,
                       overrides=dict(args.overrides), mapping=args.mapping, coords=args.coords,
-                      pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb)
+                      pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb,
+                      drop_variants=args.drop_variants, messages=messages)
     finally:
         if prog is not None:
             prog.stop()
@@ -122,9 +125,9 @@ def _review(args, console_err: Console):
 def _exit_for(review, fail_on: str) -> int:
     if len(review.caps) == 0:
         return EXIT_UNREADABLE
-    worst_allowed = SEVERITY_ORDER.index(fail_on)
-    ranks = review.findings["severity"].map(SEVERITY_ORDER.index)
-    return EXIT_FINDINGS if (ranks <= worst_allowed).any() else EXIT_OK
+    blocking = set(SEVERITY_ORDER[: SEVERITY_ORDER.index(fail_on) + 1])
+    present = set(review.findings["severity"].astype(str).unique().tolist())
+    return EXIT_FINDINGS if present & blocking else EXIT_OK
 
 
 def _meta(args) -> dict:
@@ -181,7 +184,8 @@ def write_files(review, paths: list[str], *, force: bool, meta: dict, previous_p
 
 
 def cmd_check(args, out: Console, err: Console) -> int:
-    rv = _review(args, err)
+    brief = args.format == "text" and not args.all and not args.output
+    rv = _review(args, err, messages="issues" if brief else "all")
     meta = _meta(args)
     if args.format == "json":
         from checker.report.json_out import dumps
@@ -217,7 +221,7 @@ def cmd_rules(args, out: Console, err: Console) -> int:
     from checker.report.terminal import print_rules
     from checker.ruleset.loader import load_ruleset
 
-    rs = load_ruleset(args.profile, args.rules_dir, dict(args.overrides))
+    rs = load_ruleset(args.profile, args.rules_dir, dict(args.overrides), args.drop_variants)
     print_rules(rs, out)
     return EXIT_OK
 
@@ -247,7 +251,8 @@ def cmd_demo(args, out: Console, err: Console) -> int:
         raise _UsageError(f"the sample submission {sample} is missing from this installation")
     folder = Path(args.out) if args.out else _demo_dir(Path.cwd() / "capcheck-demo")
     folder.mkdir(parents=True, exist_ok=True)
-    rv = review(sample, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides))
+    rv = review(sample, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides),
+                drop_variants=args.drop_variants)
     print_findings(rv, out)
     stem = folder / "harbourside-rev-A"
     exts = [".json", ".xlsx", ".html", ".csv", ".md"]
@@ -263,7 +268,8 @@ def cmd_demo(args, out: Console, err: Console) -> int:
     sample_b = SAMPLE_DIR / "harbourside-rev-B.csv"
     sheet_a = stem.with_suffix(".xlsx")
     if sample_b.exists() and sheet_a.exists():
-        rv_b = review(sample_b, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides))
+        rv_b = review(sample_b, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides),
+                      drop_variants=args.drop_variants)
         stem_b = folder / "harbourside-rev-B"
         meta_b = dict(meta, revision="B", submission=sample_b.name)
         out.print("\n[bold]Revision B of the sample (partly fixed), against revision A's comment sheet:[/bold]")

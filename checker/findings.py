@@ -56,7 +56,13 @@ FINDING_COLUMNS: tuple[str, ...] = (
     "src_sheet",
     "src_page",
     "src_row",
-    "variants",
+    # the spread over the accepted methods, for rules with method variants (else empty)
+    "variant_lo",
+    "util_lo",
+    "variant_hi",
+    "util_hi",
+    "variants_accepted",
+    "variants_failing",
 )
 
 

@@ -9,6 +9,7 @@ from typing import Any
 
 from checker.caution import CAUTION
 from checker.findings import count_by_severity, source_of
+from checker.ruleset.evaluate import variants_record
 
 SCHEMA = "capcheck.findings/1"
 
@@ -46,8 +47,9 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
         }
         if row.get("action"):
             item["action"] = row["action"]
-        if isinstance(row.get("variants"), dict):
-            item["variants"] = row["variants"]
+        var = variants_record(row)
+        if var is not None:
+            item["variants"] = var
         if working:
             cap = item["cap"]
             if cap not in work_by_cap:

@@ -15,10 +15,12 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from checker.findings import FINDING_COLUMNS, sort_findings
+from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER
 from checker.ruleset.catalogue import OUTPUT_SCALE
 from checker.ruleset.loader import Rule, RuleSet
 
+_RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+_SEV_OBJ = np.array(SEVERITY_ORDER, dtype=object)
 _CMP = {">=": operator.ge, ">": operator.gt, "<=": operator.le, "<": operator.lt}
 REL_TOL = 1e-9  # a value equal to its limit to this relative tolerance meets a >= or <= rule
 
@@ -68,7 +70,8 @@ class RuleResult:
     util: np.ndarray
     message: list[str]
     action: list[str]
-    variants: list | None = None   # per cap: None, or the grading over the accepted methods (dict)
+    variants: dict | None = None   # the spread over the accepted methods (VARIANT_COLUMNS arrays)
+    code: np.ndarray | None = None  # severity rank per cap (index into SEVERITY_ORDER)
 
 
 @dataclass
@@ -160,8 +163,9 @@ def stated_methods(text_values, rule: Rule) -> dict[str, np.ndarray]:
 def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods=None) -> RuleResult:
     """One rule over all caps, graded over its accepted method variants.
 
-    ``render=False`` skips the message text (the benchmark's core). ``methods``: the schedule's
-    stated-method texts per cap (the ``method`` column), or None.
+    ``render``: True renders every message; "issues" only those of results that are not ``ok``
+    (passed checks get an empty message); False none (the benchmark's core). ``methods``: the
+    schedule's stated-method texts per cap (the ``method`` column), or None.
     """
     combos = variant_combos(rule)
     grading = None
@@ -199,17 +203,18 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     g, gv, gl, gu = out.g, out.value, out.limit, out.util
     g_fail, g_missing, applies, any_use = out.fail, out.missing, out.applies, out.any_use
 
-    sev = np.full(n, "ok", dtype=object)
-    sev[g_fail] = rule.severity
+    code = np.full(n, _RANK["ok"], dtype=np.int8)
+    code[g_fail] = _RANK[rule.severity]
     notes = np.full(n, "", dtype=object)
     for o in rule.overrides:
         hit = g_fail & _as_bool(o.when(env), n)
-        sev[hit] = o.severity
+        code[hit] = _RANK[o.severity]
         notes[hit] = o.note
     mixed = getattr(out, "mixed", None)
     if mixed is not None:
-        sev[mixed & ~g_missing] = "query"
-    sev[g_missing & ~g_fail] = "query"
+        code[mixed & ~g_missing] = _RANK["query"]
+    code[g_missing & ~g_fail] = _RANK["query"]
+    sev = _SEV_OBJ[code]
     not_app = ~applies | ~any_use
 
     scale = OUTPUT_SCALE.get(rule.unit, 1.0)
@@ -223,7 +228,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     message = [""] * n
     action = [""] * n
     if not render:
-        return RuleResult(rule, sev, out_v, out_l, gu, message, action)
+        return RuleResult(rule, sev, out_v, out_l, gu, message, action, None, code)
     menv = dict(env)
     menv["value"] = out_v
     menv["limit"] = out_l
@@ -235,6 +240,8 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
             continue
         menv["label"] = c.label
         ok_rows = rows[~g_fail[rows]]
+        if render == "issues":  # passed checks keep an empty message (fast path for big schedules)
+            ok_rows = ok_rows[sev[ok_rows] != "ok"]
         bad_rows = rows[g_fail[rows]]
         mt = c.message or rule.message
         okt = c.message or rule.ok_message or rule.message
@@ -261,48 +268,88 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     variants = None
     if grading is not None:
         variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
-    return RuleResult(rule, sev, out_v, out_l, gu, message, action, variants)
+    return RuleResult(rule, sev, out_v, out_l, gu, message, action, variants, code)
 
 
 def _combo_name(c) -> str:
     return " + ".join(v.name for v in c)
 
 
+VARIANT_COLUMNS = ("variant_lo", "util_lo", "variant_hi", "util_hi", "variants_accepted", "variants_failing")
+
+
 def _grade_notes(rule, grading, not_app, message, action, scale, render):
-    """Per cap: the spread over the accepted methods, and the sentence the comment carries."""
+    """Per cap: the spread over the accepted methods (vectorised columns), and, for the few caps
+    where some accepted method fails, the sentence the comment carries."""
     combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed = grading
     U = np.stack([o.util for o in outs])
     Uv = np.where(evaluated, U, np.nan)
-    with np.errstate(all="ignore"):
-        lo_i = np.nanargmin(np.where(np.isnan(Uv), np.inf, Uv), axis=0)
-        hi_i = np.nanargmax(np.where(np.isnan(Uv), -np.inf, Uv), axis=0)
-    names = [_combo_name(c) for c in combos]
+    lo_i = np.argmin(np.where(np.isnan(Uv), np.inf, Uv), axis=0)
+    hi_i = np.argmax(np.where(np.isnan(Uv), -np.inf, Uv), axis=0)
+    names = np.array([_combo_name(c) for c in combos], dtype=object)
     n = U.shape[1]
-    result: list = [None] * n
-    rows = np.flatnonzero(~not_app & (n_eval > 0))
-    if not render:
-        return result
-    for i in rows.tolist():
-        failing = [names[c] for c in range(len(combos)) if fails[c, i]]
-        passing = [names[c] for c in range(len(combos)) if evaluated[c, i] and not fails[c, i]]
-        result[i] = {
-            "accepted": [names[c] for c in range(len(combos)) if allowed[c, i]],
-            "failing": failing,
-            "passing": passing,
-            "lowest": {"variant": names[lo_i[i]], "utilisation": _r(U[lo_i[i], i])},
-            "highest": {"variant": names[hi_i[i]], "utilisation": _r(U[hi_i[i], i])},
-            "stated_method": bool(stated_any[i]),
-        }
+    cols = np.arange(n)
+    live = ~not_app & (n_eval > 0)
+    out = {
+        "variant_lo": np.where(live, names[lo_i], None),
+        "util_lo": np.where(live, U[lo_i, cols], np.nan),
+        "variant_hi": np.where(live, names[hi_i], None),
+        "util_hi": np.where(live, U[hi_i, cols], np.nan),
+        "variants_accepted": np.where(live, "; ".join(names.tolist()), None).astype(object),
+        "variants_failing": np.where(live, "", None).astype(object),
+    }
+    # the few caps where a method fails or the schedule states one: one text per distinct pattern
+    special = np.flatnonzero(live & ((n_fail > 0) | stated_any))
+    if special.size == 0:
+        return out
+    weights = (1 << np.arange(len(combos), dtype=np.int64))[:, None]
+    f_code = (fails[:, special] * weights).sum(axis=0)
+    e_code = (evaluated[:, special] * weights).sum(axis=0)
+    a_code = (allowed[:, special] * weights).sum(axis=0)
+    patterns = np.stack([f_code, e_code, a_code, stated_any[special].astype(np.int64)], axis=1)
+    uniq, inv = np.unique(patterns, axis=0, return_inverse=True)
+    texts = []
+    for fc, ec, ac, st in uniq.tolist():
+        fl = [bool(fc >> c & 1) for c in range(len(combos))]
+        ev = [bool(ec >> c & 1) for c in range(len(combos))]
+        failing = [names[c] for c in range(len(combos)) if fl[c]]
+        passing = [names[c] for c in range(len(combos)) if ev[c] and not fl[c]]
+        accepted = "; ".join(names[c] for c in range(len(combos)) if ac >> c & 1)
+        note, act = "", ""
         if failing and passing:
-            f_txt, p_txt = _split_by_family(rule, combos, fails[:, i], evaluated[:, i])
-            message[i] += f" Fails under {f_txt}; passes under {p_txt}: state the method used."
-            action[i] = (action[i] + " " if action[i] else "") + \
-                "State the method used, or meet the check under every accepted method."
+            f_txt, p_txt = _split_by_family(rule, combos, fl, ev)
+            note = f" Fails under {f_txt}; passes under {p_txt}: state the method used."
+            act = "State the method used, or meet the check under every accepted method."
         elif failing and len(failing) > 1:
-            message[i] += " Fails under all accepted methods."
-        if stated_any[i]:
-            message[i] += f" Graded against the method stated in the schedule ({', '.join(result[i]['accepted'])})."
-    return result
+            note = " Fails under all accepted methods."
+        if st:
+            note += f" Graded against the method stated in the schedule ({accepted})."
+        texts.append(("; ".join(failing), accepted, note, act))
+    for i, u in zip(special.tolist(), inv.ravel().tolist()):
+        failing, accepted, note, act = texts[u]
+        out["variants_failing"][i] = failing
+        out["variants_accepted"][i] = accepted
+        if render and note:
+            message[i] += note
+            if act:
+                action[i] = (action[i] + " " if action[i] else "") + act
+    return out
+
+
+def variants_record(row: dict) -> dict | None:
+    """The ``variants`` object of the JSON contract from a findings row (None for single-method rules)."""
+    acc = row.get("variants_accepted")
+    if not isinstance(acc, str):
+        return None
+    accepted = [a for a in acc.split("; ") if a]
+    failing = [a for a in (row.get("variants_failing") or "").split("; ") if a]
+    return {
+        "accepted": accepted,
+        "failing": failing,
+        "passing": [a for a in accepted if a not in failing],
+        "lowest": {"variant": row.get("variant_lo"), "utilisation": _r(row.get("util_lo"))},
+        "highest": {"variant": row.get("variant_hi"), "utilisation": _r(row.get("util_hi"))},
+    }
 
 
 def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
@@ -322,45 +369,83 @@ def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
 
 
 def _r(x):
+    if x is None:
+        return None
     x = float(x)
     return None if (x != x or x in (float("inf"), float("-inf"))) else round(x, 4)
 
 
-def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame) -> pd.DataFrame:
+def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | str = True) -> pd.DataFrame:
     """All rules over all caps -> the findings frame (FINDING_COLUMNS), sorted."""
     n = len(caps)
     if n == 0:
         return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
     methods = caps["method"].to_numpy(dtype=object) if "method" in caps else None
-    results = [evaluate_rule(r, env, n, methods=methods) for r in ruleset.rules]
+    results = [evaluate_rule(r, env, n, methods=methods, render=render) for r in ruleset.rules]
     return assemble(results, caps)
 
 
 def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
+    """Stack the per-rule results into one frame, in the one sort order (severity, cap, rule),
+    sorted once with integer keys (np.lexsort) rather than on the text columns."""
     n = len(caps)
     k = len(results)
-    rep = lambda col: np.tile(caps[col].to_numpy(dtype=object), k) if col in caps else np.full(n * k, None)  # noqa: E731
-    frame = pd.DataFrame(
-        {
-            "cap": np.tile(caps["mark"].astype(str).to_numpy(dtype=object), k),
-            "rule": np.repeat(np.array([r.rule.id for r in results], dtype=object), n),
-            "title": np.repeat(np.array([r.rule.title for r in results], dtype=object), n),
-            "severity": np.concatenate([r.severity for r in results]),
-            "clause": np.repeat(np.array([r.rule.clause for r in results], dtype=object), n),
-            "value": np.concatenate([r.value for r in results]),
-            "limit": np.concatenate([r.limit for r in results]),
-            "unit": np.repeat(np.array([r.rule.unit for r in results], dtype=object), n),
-            "utilisation": np.concatenate([r.util for r in results]),
-            "message": [m for r in results for m in r.message],
-            "action": [a for r in results for a in r.action],
-            "src_file": rep("src_file"),
-            "src_sheet": rep("src_sheet"),
-            "src_page": rep("src_page"),
-            "src_row": rep("src_row"),
-            "variants": [v for r in results for v in (r.variants if r.variants is not None else [None] * n)],
-        }
-    )
-    return sort_findings(frame)
+    marks = caps["mark"].astype(str).to_numpy(dtype=object)
+    sev_rank = np.concatenate([r.code for r in results])
+    cap_rank = np.empty(n, dtype=np.int64)
+    cap_rank[np.argsort(marks, kind="stable")] = np.arange(n)
+    ids = [r.rule.id for r in results]
+    rule_rank = np.empty(k, dtype=np.int64)
+    rule_rank[np.argsort(np.array(ids, dtype=object), kind="stable")] = np.arange(k)
+    order = np.lexsort((np.repeat(rule_rank, n), np.tile(cap_rank, k), sev_rank))
+    rule_codes = np.repeat(np.arange(k), n)[order]
+
+    def per_rule(values) -> pd.Categorical:
+        # text that is constant per rule: categorical codes, not 2.5 million string objects
+        cats, inv = np.unique(np.array(values, dtype=object), return_inverse=True)
+        return pd.Categorical.from_codes(inv[rule_codes], categories=cats)
+
+    def obj(values) -> np.ndarray:
+        a = np.empty(n * k, dtype=object)
+        a[:] = values
+        return a[order]
+
+    def src(col):
+        if col not in caps:
+            return np.full(n * k, None, dtype=object)
+        vals = caps[col].to_numpy(dtype=object)
+        codes, uniq = pd.factorize(vals, use_na_sentinel=True)
+        if len(uniq) <= 64 and not pd.api.types.is_numeric_dtype(caps[col]):
+            return pd.Categorical.from_codes(np.tile(codes, k)[order], categories=pd.Index(uniq, dtype=object))
+        return np.tile(vals, k)[order]
+
+    cols = {
+        "cap": np.tile(marks, k)[order],
+        "rule": per_rule(ids),
+        "title": per_rule([r.rule.title for r in results]),
+        "severity": _SEV_OBJ[sev_rank[order]],
+        "clause": per_rule([r.rule.clause for r in results]),
+        "value": np.concatenate([r.value for r in results])[order],
+        "limit": np.concatenate([r.limit for r in results])[order],
+        "unit": per_rule([r.rule.unit for r in results]),
+        "utilisation": np.concatenate([r.util for r in results])[order],
+        "message": obj([m for r in results for m in r.message]),
+        "action": obj([a for r in results for a in r.action]),
+        "src_file": src("src_file"),
+        "src_sheet": src("src_sheet"),
+        "src_page": src("src_page"),
+        "src_row": src("src_row"),
+    }
+    for c in VARIANT_COLUMNS:
+        parts = []
+        for r in results:
+            if r.variants is not None:
+                parts.append(np.asarray(r.variants[c], dtype=object if not c.startswith("util") else float))
+            else:
+                parts.append(np.full(n, np.nan if c.startswith("util") else None,
+                                     dtype=float if c.startswith("util") else object))
+        cols[c] = np.concatenate(parts)[order]
+    return pd.DataFrame(cols)
 
 
 def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.DataFrame | None = None):

@@ -61,8 +61,13 @@ class Template:
                 vals = v[index]
                 if vals.dtype.kind in "fiu":
                     vals = vals.astype(float) * p.scale
-                    spec = p.spec
-                    cols.append([_fmt_num(x, spec) for x in vals.tolist()])
+                    spec = p.spec or "g"
+                    finite = np.isfinite(vals)
+                    if finite.all():
+                        cols.append([format(x, spec) for x in vals.tolist()])
+                    else:
+                        cols.append([format(x, spec) if ok else _fmt_num(x, spec)
+                                     for x, ok in zip(vals.tolist(), finite.tolist())])
                 else:
                     cols.append([str(x) for x in vals.tolist()])
             else:
