@@ -220,12 +220,17 @@ class CapRecord(BaseModel):
     @model_validator(mode="after")
     def _cross_checks(self) -> "CapRecord":
         cols = {name: _scalar_array(getattr(self, name)) for name in CapRecord.model_fields}
-        problems: list[str] = []
+        order = list(CapRecord.model_fields)
+        failed: list[tuple[int, list[str]]] = []
         for chk in CROSS_CHECKS:
             if any(getattr(self, n) is None for n in chk.needs):
                 continue
-            if not bool(chk.ok(cols)[0]):
-                problems.extend(chk.message(cols))
+            with np.errstate(invalid="ignore", over="ignore"):
+                met = bool(chk.ok(cols)[0])
+            if not met:
+                failed.append((order.index(chk.field), chk.message(cols)))
+        # in the order of the fields they name, as validate_frame reports them
+        problems = [m for _, msgs in sorted(failed, key=lambda t: t[0]) for m in msgs]
         if problems:
             raise ValueError("; ".join(problems))
         return self

@@ -14,7 +14,9 @@ field, the heading as written and the cell value. A repeated mark rejects the la
 
 from __future__ import annotations
 
+import math
 import re
+import warnings
 from dataclasses import dataclass, field
 from typing import Any, Callable, Iterable, Sequence
 
@@ -41,6 +43,7 @@ from checker.ingest.notation import (
     parse_size,
     parse_steel_grade,
 )
+from checker.ingest.limits import MAX_CELL_CHARS, cell_text_problem
 from checker.ingest.raw import RawTable
 from checker.model import FIELDS, FRAME_COLUMNS, validate_frame
 
@@ -95,11 +98,20 @@ class FrameResult:
 # --------------------------------------------------------------------------------------------
 
 
+_NO_BOOLS = ("string", "integer", "floating", "mixed-integer-float", "empty", "decimal", "bytes",
+             "datetime", "datetime64", "date", "time", "timedelta", "timedelta64", "period", "complex")
+
+
 def _factorize(col: pd.Series) -> tuple[np.ndarray, np.ndarray]:
+    """Codes and distinct values of a column. True == 1 in Python (and in pandas' hash tables), so
+    bool cells are compared as their text: a column holding 1 and True has two distinct values."""
+    obj = col.astype(object)
+    if pd.api.types.infer_dtype(obj, skipna=True) not in _NO_BOOLS:
+        obj = obj.map(lambda v: str(v) if isinstance(v, (bool, np.bool_)) else v)
     try:
-        return pd.factorize(col.astype(object), use_na_sentinel=True)
+        return pd.factorize(obj, use_na_sentinel=True)
     except TypeError:                                   # unhashable cells: compare as text
-        return pd.factorize(col.map(lambda v: v if v is None else str(v)), use_na_sentinel=True)
+        return pd.factorize(obj.map(lambda v: v if v is None else str(v)), use_na_sentinel=True)
 
 
 def _is_blank(v: Any) -> bool:
@@ -160,6 +172,10 @@ def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique
         if _is_blank(u):
             blank_u[k] = True
             continue
+        too_long = cell_text_problem(u)
+        if too_long is not None:
+            errs[k] = too_long
+            continue
         try:
             res = fn(u)
         except NotationError as exc:
@@ -170,40 +186,102 @@ def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique
     return _Unique(codes, uniq, outs, blank_u, errs)
 
 
+_FIGURE_TYPES = (str, int, float, np.integer, np.floating)
+
+
+def _figure_type(v: Any) -> bool:
+    """A cell that may hold a figure: text or a real number (not a bool, date, complex, bytes ...)."""
+    return isinstance(v, _FIGURE_TYPES) and not isinstance(v, (bool, np.bool_))
+
+
+def _to_float_array(col: pd.Series) -> np.ndarray | None:
+    """pandas' own conversion (fast), or None where it fails (integers beyond the float range).
+    Complex cells come back as their real part here; the caller refuses them as not figures."""
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", np.exceptions.ComplexWarning)
+            return pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
+    except (OverflowError, TypeError, ValueError):
+        return None
+
+
+def _with_infinite(col: pd.Series, num: np.ndarray, rows: np.ndarray, msgs: list[str]
+                   ) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """Cells that are infinite, or too large for the unit conversion, as errors quoting the cell."""
+    inf = np.isinf(num)
+    if not inf.any():
+        return num, rows, msgs
+    have = set(rows.tolist())
+    extra = [r for r in np.flatnonzero(inf).tolist() if r not in have]
+    if not extra:
+        return num, rows, msgs
+    texts = []
+    for r in extra:
+        cell = col.iloc[r]
+        if isinstance(cell, str):
+            cell_inf = clean_text(cell).lower().lstrip("+-") in ("inf", "infinity")
+        else:
+            try:
+                cell_inf = math.isinf(float(cell))
+            except (TypeError, ValueError, OverflowError):
+                cell_inf = False
+        texts.append(f"{_quote_cell(cell)} is not a finite number" if cell_inf
+                     else f"{_quote_cell(cell)} is too large a number")
+    order = np.argsort(np.concatenate([rows, np.asarray(extra, np.int64)]), kind="stable")
+    allrows = np.concatenate([rows, np.asarray(extra, np.int64)])[order]
+    allmsgs = [(list(msgs) + texts)[i] for i in order.tolist()]
+    return num, allrows, allmsgs
+
+
 def _numeric(col: pd.Series, kind: str, scale: float) -> tuple[np.ndarray, np.ndarray, list[str]]:
-    """A numeric column -> (values in internal units, error row positions, error texts)."""
-    if col.dtype.kind in "fiu":
-        return col.to_numpy(dtype=float) * scale, np.empty(0, np.int64), []
-    inferred = pd.api.types.infer_dtype(col, skipna=True)
-    if inferred in ("integer", "floating", "mixed-integer-float", "empty"):
-        return pd.to_numeric(col, errors="coerce").to_numpy(dtype=float) * scale, np.empty(0, np.int64), []
-    obj = col.astype(object)
-    num = pd.to_numeric(obj, errors="coerce").to_numpy(dtype=float) * scale
+    """A numeric column -> (values in internal units, error row positions, error texts).
+
+    Numbers beyond the float range become infinite here and are refused by the model as not
+    finite; cells that are not text or a real number (bools, dates, complex numbers ...) are errors."""
+    none = np.empty(0, np.int64)
+    with np.errstate(over="ignore", invalid="ignore"):
+        if col.dtype.kind in "fiu":
+            return _with_infinite(col, col.to_numpy(dtype=float) * scale, none, [])
+        inferred = pd.api.types.infer_dtype(col, skipna=True)
+        if inferred in ("integer", "floating", "mixed-integer-float", "empty"):
+            fast = _to_float_array(col)
+            if fast is not None:
+                return _with_infinite(col, fast * scale, none, [])
+        obj = col.astype(object)
+        num = _to_float_array(obj)
+        if num is None:
+            num = np.full(len(obj), np.nan)
+        num = num * scale
     left = np.isnan(num) & obj.notna().to_numpy()
-    if inferred not in ("string",):                      # bools and dates are not figures
-        odd = obj.map(lambda v: isinstance(v, (bool, np.bool_)) or hasattr(v, "year")).to_numpy(dtype=bool)
+    if inferred not in ("string",):                      # bools, dates, complex ... are not figures
+        odd = obj.map(lambda v: v is not None and not _figure_type(v) and not _is_blank(v)).to_numpy(dtype=bool)
         left |= odd
         num[odd] = np.nan
     if not left.any():
-        return num, np.empty(0, np.int64), []
+        return _with_infinite(obj, num, none, [])
     idx = np.flatnonzero(left)
 
     def one(v: Any) -> tuple[float]:
-        if isinstance(v, (bool, np.bool_)) or hasattr(v, "year"):
-            raise NotationError(f"{str(v)!r} is not a number")
+        if not _figure_type(v):
+            raise NotationError(f"{_quote_cell(v)} is not a number")
         return (parse_number(v, kind, scale),)
 
     u = _map_unique(obj.iloc[idx], one, 1)
     num[idx] = np.where(u.blank, np.nan, u.floats(0))
     erows, emsgs = u.error_rows()
-    return num, idx[erows], emsgs
+    return _with_infinite(obj, num, idx[erows], emsgs)
+
+
+def _quote_cell(v: Any) -> str:
+    s = str(v)
+    return repr(s if len(s) <= 60 else s[:57] + "...")
 
 
 def _text(v: Any) -> str:
-    if isinstance(v, float) and v == int(v) and abs(v) < 1e15:
+    if isinstance(v, float) and math.isfinite(v) and v == int(v) and abs(v) < 1e15:
         return str(int(v))
     if isinstance(v, str):
-        if v.isascii() and "  " not in v and "\t" not in v and "\n" not in v:
+        if v.isascii() and v.isprintable() and "  " not in v:     # no tabs, line breaks or controls
             return v.strip()
         return clean_text(v)
     return clean_text(v)
@@ -217,7 +295,14 @@ def _text_column(col: pd.Series, transform: Callable[[str], str] | None = None
         # many distinct texts (marks): tight loops over the distinct values, no parser calls
         texts = [_text(v) for v in uniq] + [""]
         shown = np.array([("" if len(t) <= 6 and _is_blank(t) else t) for t in texts], dtype=object)
-        return shown[np.where(codes < 0, len(uniq), codes)], np.empty(0, np.int64), []
+        codes = np.where(codes < 0, len(uniq), codes)
+        long_u = [k for k, t in enumerate(texts) if len(t) > MAX_CELL_CHARS]
+        if not long_u:
+            return shown[codes], np.empty(0, np.int64), []
+        bad = np.zeros(len(texts), bool)
+        bad[long_u] = True
+        rows = np.flatnonzero(bad[codes])
+        return shown[codes], rows, [cell_text_problem(texts[c]) or "" for c in codes[rows]]
 
     def one(v: Any) -> tuple[str]:
         t = _text(v)
@@ -433,7 +518,7 @@ def _floats(arr: np.ndarray) -> np.ndarray:
 
 
 def _fmtn(v: float) -> str:
-    return str(int(v)) if v == int(v) else f"{v:g}"
+    return str(int(v)) if math.isfinite(v) and v == int(v) else f"{v:g}"
 
 
 def _steel(col: pd.Series) -> tuple[np.ndarray, np.ndarray, list[str]]:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import functools
 import math
 import re
+import unicodedata
 from dataclasses import dataclass
 from typing import Any, Callable, NamedTuple, TypeVar
 
@@ -34,8 +35,11 @@ def _memo(fn: Callable[..., T]) -> Callable[..., T]:
 
     @functools.wraps(fn)
     def wrapper(*args: Any) -> T:
+        # True == 1 and hash(True) == hash(1): a bool must not share a memo slot with a number
+        key = args if not any(isinstance(a, (bool, np.bool_)) for a in args) else \
+            tuple((bool, a) if isinstance(a, (bool, np.bool_)) else a for a in args)
         try:
-            hit = cache.get(args)
+            hit = cache.get(key)
         except TypeError:                       # unhashable argument: no memo
             return fn(*args)
         if hit is None:
@@ -45,7 +49,7 @@ def _memo(fn: Callable[..., T]) -> Callable[..., T]:
                 hit = (False, str(exc))
             if len(cache) >= _MEMO_LIMIT:
                 cache.clear()
-            cache[args] = hit
+            cache[key] = hit
         if hit[0]:
             return hit[1]
         raise NotationError(hit[1])
@@ -65,15 +69,101 @@ _DIAMETER = dict.fromkeys(map(ord, "\u00d8\u00f8\u2300\u03a6\u03c6\u03d5\u2205")
 _TIMES = dict.fromkeys(map(ord, "\u00d7\u2715\u2716\u2a2f"), "X")
 
 
+# control characters (C0 but tab and line breaks, DEL, C1) and the bidirectional controls that
+# can make a cell display other than it reads (Unicode Standard Annex #9)
+_CONTROLS = dict.fromkeys([*range(0x00, 0x09), 0x0b, 0x0c, *range(0x0e, 0x20), *range(0x7f, 0xa0),
+                           0x061c, 0x200e, 0x200f, *range(0x202a, 0x202f), *range(0x2066, 0x206a)], None)
+
+
 def clean_text(text: Any) -> str:
-    """Unicode spaces to ' ', minus signs and dashes to '-', diameter signs to 'Ø'; collapsed, stripped."""
-    s = str(text).translate(_ZERO_WIDTH).translate(_SPACES).translate(_MINUS).translate(_DIAMETER)
+    """Unicode spaces to ' ', minus signs and dashes to '-', diameter signs to 'Ø', control and
+    bidirectional-control characters removed; collapsed, stripped."""
+    s = str(text).translate(_SPACES).translate(_CONTROLS).translate(_ZERO_WIDTH).translate(_MINUS) \
+        .translate(_DIAMETER)
     return " ".join(s.split())
 
 
 def _quote(text: Any) -> str:
     s = str(text)
     return repr(s if len(s) <= 60 else s[:57] + "...")
+
+
+#: the longest cell text a notation parser reads (a bar notation, size or figure is far shorter)
+MAX_NOTATION_CHARS = 120
+
+
+def fold_digits(s: str) -> str:
+    """Fullwidth forms (U+FF01..U+FF5E, e.g. '１２Ｈ２５') to ASCII and every Unicode decimal digit
+    (category Nd, e.g. Arabic-Indic '١٢٠٠') to its ASCII digit. Superscripts, fractions and
+    circled or Roman numerals are not decimal digits and are left alone (so '10²' is never 102)."""
+    if s.isascii():
+        return s
+    out = []
+    for ch in s:
+        o = ord(ch)
+        if 0xFF01 <= o <= 0xFF5E:
+            out.append(chr(o - 0xFEE0))
+            continue
+        if o > 127:
+            d = unicodedata.decimal(ch, None)
+            if d is not None:
+                out.append(str(d))
+                continue
+        out.append(ch)
+    return "".join(out)
+
+
+def _cell_text(text: Any, what: str) -> str:
+    """The cell as the parsers read it: :func:`clean_text`, then :func:`fold_digits`; too long is refused."""
+    s = str(text)
+    if len(s) > 4 * MAX_NOTATION_CHARS:
+        raise NotationError(f"{_quote(text)} is too long ({len(s):,} characters) for {what}")
+    s = fold_digits(clean_text(s))
+    if len(s) > MAX_NOTATION_CHARS:
+        raise NotationError(f"{_quote(text)} is too long ({len(s):,} characters) for {what}")
+    return s
+
+
+_FAMILIAR = frozenset("Ø×²³·°µ")
+
+
+def _lookalike_hint(text: Any) -> str:
+    """' (the cell holds 'Н', U+041D CYRILLIC CAPITAL LETTER EN, ...)' for the first character that is
+    neither ASCII nor one the parsers know, else ''."""
+    if not isinstance(text, str) or text.isascii():
+        return ""
+    try:
+        s = fold_digits(clean_text(text[: 4 * MAX_NOTATION_CHARS]))
+    except Exception:                    # pragma: no cover - clean_text takes any text
+        return ""
+    for ch in s:
+        if ord(ch) > 127 and ch not in _FAMILIAR:
+            name = unicodedata.name(ch, "an unnamed character")
+            return (f" (the cell holds {ch!r}, U+{ord(ch):04X} {name}, where a plain letter, digit "
+                    "or sign is expected: retype it)")
+    return ""
+
+
+def _hinted(fn: Callable[..., T]) -> Callable[..., T]:
+    """Add :func:`_lookalike_hint` to the parser's NotationError."""
+
+    @functools.wraps(fn)
+    def wrapper(text: Any, *args: Any) -> T:
+        try:
+            return fn(text, *args)
+        except NotationError as exc:
+            hint = _lookalike_hint(text)
+            if hint and hint not in str(exc):
+                raise NotationError(f"{exc}{hint}") from None
+            raise
+
+    return wrapper
+
+
+def _finite(v: float, original: Any) -> float:
+    if not math.isfinite(v):
+        raise NotationError(f"{_quote(original)} is too large a number")
+    return v
 
 
 # --------------------------------------------------------------------------------------------
@@ -136,6 +226,7 @@ def _to_float(num: str, original: Any) -> float:
 
 
 @_memo
+@_hinted
 def parse_quantity(text: Any) -> Quantity:
     """A number with an optional trailing unit: '900', '900mm', '1,5 m', '−50', '1 500 kN'.
 
@@ -146,11 +237,14 @@ def parse_quantity(text: Any) -> Quantity:
     if isinstance(text, bool):
         raise NotationError(f"{_quote(text)} is not a number")
     if isinstance(text, (int, float, np.integer, np.floating)):
-        v = float(text)
+        try:
+            v = float(text)
+        except OverflowError:
+            raise NotationError(f"{_quote(text)} is too large a number") from None
         if math.isnan(v):
             raise NotationError("empty cell")
-        return Quantity(v, None)
-    s = clean_text(text)
+        return Quantity(_finite(v, text), None)
+    s = _cell_text(text, "a number")
     if not s:
         raise NotationError("empty cell")
     s = re.sub(r"^([+-])\s+(?=[0-9.,])", r"\1", s)
@@ -160,7 +254,7 @@ def parse_quantity(text: Any) -> Quantity:
     m = _NUMBER_RE.match(s)
     if not m:
         raise NotationError(f"{_quote(text)} is not a number")
-    value = _to_float(m.group("num"), text)
+    value = _finite(_to_float(m.group("num"), text), text)
     unit_text = (m.group("unit") or "").strip()
     if unit_text[:1] in (".", ","):
         raise NotationError(f"{_quote(text)} is not a number (more than one decimal or thousands separator)")
@@ -175,13 +269,13 @@ def parse_quantity(text: Any) -> Quantity:
 def to_internal(q: Quantity, kind: str | None, scale: float, original: Any = None) -> float:
     """The quantity in internal units: the cell's own unit if it has one (it must be of ``kind``),
     else the value times ``scale`` (the unit of the heading)."""
+    shown = original if original is not None else q.value
     if q.unit is None:
-        return q.value * scale
+        return _finite(q.value * scale, shown)
     ukind, factor = UNITS[q.unit]
     if kind is not None and ukind != kind:
-        shown = original if original is not None else q
         raise NotationError(f"{_quote(shown)}: unit {UNIT_NAMES[q.unit]} is not a {kind}")
-    return q.value * factor
+    return _finite(q.value * factor, shown)
 
 
 @_memo
@@ -230,6 +324,7 @@ _SIZES_TEXT = ", ".join(map(str, STANDARD_BAR_SIZES))
 
 
 @_memo
+@_hinted
 def parse_bars(text: Any) -> BarSpec:
     """One layer of bars in BS 8666 notation (grade letter H; legacy T; also Ø or 'dia').
 
@@ -244,7 +339,7 @@ def parse_bars(text: Any) -> BarSpec:
         if isinstance(text, float) and math.isnan(text):
             raise NotationError("empty cell")
         raise NotationError(f"{_quote(text)} is not a bar notation; expected e.g. 10H25 or H25@150")
-    s = clean_text(text).upper()
+    s = _cell_text(text, "a bar notation").upper()
     if not s:
         raise NotationError("empty cell")
     if _LAYERS_RE.search(s):
@@ -325,23 +420,31 @@ _COLUMN_FORMS = [
 def _length(num: str, unit: str | None, scale: float, text: Any) -> float:
     v = _to_float(num, text)
     if unit:
-        return v * UNITS[unit.lower()][1]
-    return v * scale
+        return _finite(v * UNITS[unit.lower()][1], text)
+    return _finite(v * scale, text)
 
 
 @_memo
+@_hinted
 def parse_column(text: Any, scale: float = 1.0) -> ColumnSize:
     """Column size: ``600x400`` (along x by along y; also ``600 x 400``, ``600×400``, ``600X400``),
     ``600`` or ``600 sq`` (square), ``D600``, ``Ø600``, ``600 dia`` (circular). Lengths in mm unless
     the cell says ``m``/``cm``, or the heading's unit factor ``scale`` applies."""
-    if isinstance(text, (int, float, np.integer, np.floating)) and not isinstance(text, bool):
-        v = float(text)
+    if isinstance(text, (int, float, np.integer, np.floating)) and not isinstance(text, (bool, np.bool_)):
+        try:
+            v = float(text)
+        except OverflowError:
+            raise NotationError(f"{_quote(text)} is too large a number") from None
         if math.isnan(v):
             raise NotationError("empty cell")
-        if not math.isfinite(v) or v <= 0:
+        if not math.isfinite(v):
+            raise NotationError(f"{_quote(text)} is not a finite number")
+        if v <= 0:
             raise NotationError(f"{_quote(text)}: a column size must be greater than 0")
-        return ColumnSize(v * scale, v * scale, False)
-    s = clean_text(text).upper().translate(_TIMES)
+        return ColumnSize(_finite(v * scale, text), _finite(v * scale, text), False)
+    if not isinstance(text, str):
+        raise NotationError(f"{_quote(text)} is not a column size; expected e.g. 600x400, 600 (square) or D600")
+    s = _cell_text(text, "a column size").upper().translate(_TIMES)
     if not s:
         raise NotationError("empty cell")
     for form, is_round in _COLUMN_FORMS:
@@ -375,6 +478,7 @@ _CLASSES_TEXT = "C12/15 to C90/105 (EN 1992-1-1 Table 3.1), C28/35, C32/40"
 
 
 @_memo
+@_hinted
 def parse_concrete(text: Any) -> ConcreteClass:
     """Strength class: ``C32/40``, ``c32/40``, ``C 32/40``, ``C32`` -> ``ConcreteClass('C32/40', 32, 40)``.
 
@@ -386,7 +490,7 @@ def parse_concrete(text: Any) -> ConcreteClass:
         if isinstance(text, float) and math.isnan(text):
             raise NotationError("empty cell")
         raise NotationError(f"{_quote(text)} is not a concrete class; expected e.g. C32/40")
-    s = clean_text(text).upper().replace(" ", "")
+    s = _cell_text(text, "a concrete class").upper().replace(" ", "")
     if not s:
         raise NotationError("empty cell")
     m = _CLASS_RE.match(s)
@@ -423,6 +527,7 @@ _SIZE_RE = re.compile(
 
 
 @_memo
+@_hinted
 def parse_size(text: Any, scale: float = 1.0, parts: int = 3) -> tuple[float, ...]:
     """Combined size ``L x W x D`` (``2400 x 1200 x 900``, ``2400×1200×900mm``, ``2.4 X 1.2 X 0.9 m``)
     -> (L, W, D) [mm]; with ``parts=2`` a plan size ``L x W`` -> (L, W). A unit written after the last
@@ -431,7 +536,7 @@ def parse_size(text: Any, scale: float = 1.0, parts: int = 3) -> tuple[float, ..
         if isinstance(text, float) and math.isnan(text):
             raise NotationError("empty cell")
         raise NotationError(f"{_quote(text)} is not a size; expected e.g. 2400 x 1200 x 900")
-    s = clean_text(text).upper().translate(_TIMES)
+    s = _cell_text(text, "a size").upper().translate(_TIMES)
     expected = "2400 x 1200 x 900 (L x W x D)" if parts == 3 else "2400 x 1200 (L x W)"
     if not s:
         raise NotationError("empty cell")
@@ -453,11 +558,12 @@ _STEEL_RE = re.compile(r"^(?:B\s*)?(?P<f>[0-9]{3})\s*[ABC]?$", re.ASCII)
 
 
 @_memo
+@_hinted
 def parse_steel_grade(text: Any) -> float:
     """fyk [MPa] from ``500``, ``500 MPa``, ``B500B``, ``B500``, ``500B``, or ``H`` (BS 8666 grade letter
     H = grades B500A, B500B, B500C, fyk 500 MPa; from memory of BS 8666/BS 4449)."""
     if isinstance(text, str):
-        s = clean_text(text).upper()
+        s = _cell_text(text, "a steel grade").upper()
         if s == "H":
             return 500.0
         m = _STEEL_RE.match(s.replace(" ", ""))

@@ -15,6 +15,7 @@ from typing import Any, Sequence
 
 import pandas as pd
 
+from checker.ingest import limits
 from checker.ingest.errors import IngestError
 from checker.ingest.frame import build_frame, cells_of, coords_frame
 from checker.ingest.headings import HeadingMatch, HeadingReport, count_known, resolve_mapping
@@ -67,7 +68,7 @@ def _coords_from(source: Any, hmap: Any) -> tuple[pd.DataFrame, dict[str, list[s
 
 
 def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
-              cells: Sequence[pd.DataFrame] | None = None) -> Schedule:
+              cells: Sequence[pd.DataFrame] | None = None, max_rows: int | None = None) -> Schedule:
     schedule_tables: list[RawTable] = []
     schedule_cells: list[pd.DataFrame] = []
     coord_tables: list[RawTable] = []
@@ -84,6 +85,8 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
         where = tables[0].file if tables else "the document"
         raise IngestError(f"{where}: no schedule table found (a table with at least {MIN_KNOWN} headings "
                           "such as Mark, Piles, Pile dia, Cap depth, Column, NEd, Concrete, Cover, Bars X)")
+    limits.check_rows(sum(len(t.row_numbers) for t in schedule_tables), schedule_tables[0].file,
+                      limits.MAX_ROWS if max_rows is None else max_rows)
     coord_df, problems, cnotes = None, None, []
     source = coords if coords is not None else (coord_tables[0] if coord_tables else None)
     if coords is not None and coord_tables:
@@ -112,12 +115,15 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
 
 def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
                   coords: str | Path | None = None, pdf_strategy: str = "auto",
-                  max_pages: int | None = None, progress: Any = None) -> Schedule:
+                  max_pages: int | None = None, progress: Any = None,
+                  max_rows: int | None = None) -> Schedule:
     """Read a pile cap schedule file.
 
     ``.csv``/``.txt`` and ``.xlsx``/``.xlsm`` are read by :mod:`checker.ingest.tabular`, ``.pdf`` by
     :func:`checker.ingest.pdf.read_pdf_tables` (``pdf_strategy``, ``max_pages`` and ``progress`` are
-    passed on).
+    passed on; ``max_pages`` None means :data:`checker.ingest.limits.MAX_PDF_PAGES`).
+    ``max_rows``: the most data rows read (None: :data:`checker.ingest.limits.MAX_ROWS`); every
+    limit of :mod:`checker.ingest.limits` applies.
     ``mapping``: a TOML heading mapping file (see :mod:`checker.ingest.headings`). ``coords``: a CSV
     (or XLSX) of pile positions ``mark, x, y`` [mm from the column centre] for explicit groups; a
     workbook's own coordinates sheet is used when this is not given.
@@ -133,37 +139,42 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
         raise IngestError(f"{name}: is a folder, not a schedule file")
     hmap = resolve_mapping(mapping)
     ext = p.suffix.lower()
+    if ext in CSV_EXTENSIONS + XLSX_EXTENSIONS + (".pdf",):
+        limits.check_file_size(p, name)
     if ext in CSV_EXTENSIONS + XLSX_EXTENSIONS:
-        tables, notes = read_tabular(path, mapping=hmap)
+        tables, notes = read_tabular(path, mapping=hmap, max_rows=max_rows)
     elif ext == ".pdf":
         from checker.ingest.pdf import read_pdf_tables
 
-        tables, notes = read_pdf_tables(name, strategy=pdf_strategy, max_pages=max_pages, progress=progress)
+        tables, notes = read_pdf_tables(name, strategy=pdf_strategy, progress=progress,
+                                        max_pages=limits.MAX_PDF_PAGES if max_pages is None else max_pages)
         notes = list(notes)
     elif ext == ".xls":
         raise IngestError(f"{name}: the old .xls format is not read; save the workbook as .xlsx or .csv")
     else:
         raise IngestError(f"{name}: unknown file type {ext or '(no extension)'!r}; capcheck reads .csv, .txt, "
                           ".xlsx, .xlsm and .pdf")
-    return _assemble(list(tables), list(notes), hmap, coords)
+    return _assemble(list(tables), list(notes), hmap, coords, max_rows=max_rows)
 
 
 def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mapping: Any = None,
-                        coords: Any = None) -> Schedule:
+                        coords: Any = None, max_rows: int | None = None) -> Schedule:
     """Read a DataFrame whose columns are schedule headings as written (canonical names also map).
 
     Cells are read like spreadsheet cells, in the input units of the brief unless a heading says
     otherwise (``n_ed`` in kN, moments in kNm, lengths in mm) - so this is not the way to re-read a
     canonical frame, whose forces are already in N. Row numbers are reported as if the frame were a
-    sheet with its headings in row 1 (first data row = row 2).
+    sheet with its headings in row 1 (first data row = row 2). At most ``max_rows`` rows (None:
+    :data:`checker.ingest.limits.MAX_ROWS`).
     """
     if not isinstance(df, pd.DataFrame):
         raise IngestError(f"{source}: expected a pandas DataFrame, got {type(df).__name__}")
+    limits.check_rows(len(df), source, limits.MAX_ROWS if max_rows is None else max_rows)
     hmap = resolve_mapping(mapping)
     headings = ["" if c is None else str(c) for c in df.columns]
     grid = df.set_axis(range(df.shape[1]), axis=1)
     table = _FrameTable(grid, source, headings)
-    return _assemble([table], [], hmap, coords, cells=[grid])
+    return _assemble([table], [], hmap, coords, cells=[grid], max_rows=max_rows)
 
 
 class _FrameTable(RawTable):

@@ -25,6 +25,7 @@ import zipfile
 from pathlib import Path
 from typing import Any, Iterator, Sequence
 
+from checker.ingest import limits
 from checker.ingest.errors import IngestError
 from checker.ingest.headings import HeadingMap, count_known, match_headings, resolve_mapping
 from checker.ingest.notation import clean_text, normalise_unit, parse_quantity
@@ -36,6 +37,7 @@ HEADING_SCAN = 50
 MIN_KNOWN = 3
 DELIMITERS = (",", ";", "\t", "|")
 _SNIFF_LINES = 60
+_SNIFF_CHARS = 256 * 1024
 _NOTES_RE = re.compile(r"^\s*(?:\d+\s*[.)]\s*)?(?:general\s+)?(?:notes?|n\.?b\.?|key|legend|remarks?)\b|^\s*\*",
                        re.IGNORECASE)
 
@@ -226,15 +228,38 @@ def _sniff_kind(data: bytes, name: str) -> None:
                           "save it as .xlsx or .csv")
 
 
+def _utf16_without_bom(data: bytes) -> str | None:
+    """'utf-16-le' / 'utf-16-be' when the bytes look like UTF-16 text without a byte-order mark
+    (mostly ASCII: a NUL in every second byte), else None."""
+    head = data[:4096]
+    if len(head) < 4 or len(head) % 2:
+        head = head[: len(head) - (len(head) % 2)]
+    if len(head) < 4:
+        return None
+    even, odd = head[0::2], head[1::2]
+    if odd.count(0) >= 0.9 * len(odd) and even.count(0) == 0:
+        return "utf-16-le"
+    if even.count(0) >= 0.9 * len(even) and odd.count(0) == 0:
+        return "utf-16-be"
+    return None
+
+
 def decode_text(data: bytes, name: str) -> tuple[str, list[str]]:
-    """Bytes -> text: UTF-8 (with or without BOM), UTF-16 with BOM, else Windows-1252 (noted)."""
+    """Bytes -> text: UTF-8 (with or without BOM), UTF-32 or UTF-16 with BOM, UTF-16 without BOM
+    (recognised by its NUL bytes, noted), else Windows-1252 (noted)."""
     notes: list[str] = []
     if data.startswith(b"\xef\xbb\xbf"):
         return data[3:].decode("utf-8", errors="replace"), notes
+    if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):     # before UTF-16: same first bytes
+        return data.decode("utf-32", errors="replace"), notes
     if data.startswith((b"\xff\xfe", b"\xfe\xff")):
         return data.decode("utf-16", errors="replace"), notes
     if b"\x00" in data[:4096]:
-        raise IngestError(f"{name}: binary data (NUL bytes); not a text CSV file")
+        enc = _utf16_without_bom(data)
+        if enc is None:
+            raise IngestError(f"{name}: binary data (NUL bytes); not a text CSV file")
+        notes.append(f"{name}: read as {enc.upper()} text without a byte-order mark")
+        return data.decode(enc, errors="replace"), notes
     try:
         return data.decode("utf-8"), notes
     except UnicodeDecodeError:
@@ -242,17 +267,62 @@ def decode_text(data: bytes, name: str) -> tuple[str, list[str]]:
         return data.decode("cp1252", errors="replace"), notes
 
 
-def _parse_csv(text: str, delimiter: str, name: str, limit: int | None = None) -> list[list[str]]:
+def _trim_blank_tail(row: list[Any]) -> list[Any]:
+    end = len(row)
+    while end and _is_blank_cell(row[end - 1]):
+        end -= 1
+    return row[:end]
+
+
+def bounded_rows(rows: Iterator[Sequence[Any]], name: str, *, where: str = "",
+                 max_rows: int | None = None) -> Iterator[tuple[int, list[Any]]]:
+    """(row number, cells) for the rows of a sheet or CSV, within the limits.
+
+    Row numbers count every row from 1, as the spreadsheet does. A run of blank rows is passed on
+    as its first row only (blank rows end a table or are spacers either way), so a file of empty
+    lines costs no memory. A row wider than :data:`~checker.ingest.limits.MAX_COLUMNS` loses its
+    trailing blank cells, and is refused when it is still wider; more than ``max_rows`` filled rows
+    (plus :data:`HEADING_SCAN` for titles and headings) are refused while reading.
+    """
+    cap = (limits.MAX_ROWS if max_rows is None else max_rows) + HEADING_SCAN
+    filled = 0
+    prev_blank = False
+    for number, row in enumerate(rows, start=1):
+        if not isinstance(row, list):
+            row = list(row)
+        if len(row) > limits.MAX_COLUMNS:
+            row = _trim_blank_tail(row)
+            limits.check_columns(len(row), name, number, where=where)
+        if _blank_row(row):
+            if prev_blank:
+                continue
+            prev_blank = True
+        else:
+            prev_blank = False
+            filled += 1
+            if filled > cap:
+                limits.check_rows(filled, name, cap - HEADING_SCAN, where)
+        yield number, row
+
+
+def _parse_csv(text: str, delimiter: str, name: str, limit: int | None = None,
+               max_rows: int | None = None) -> tuple[list[list[str]], list[int]]:
+    """(rows, their row numbers); ``limit`` stops after that many rows are kept (for sniffing)."""
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
     out: list[list[str]] = []
+    numbers: list[int] = []
     try:
-        for row in reader:
+        for number, row in bounded_rows(reader, name, max_rows=max_rows):
             out.append(row)
+            numbers.append(number)
             if limit is not None and len(out) >= limit:
                 break
     except csv.Error as exc:
+        if "field larger than field limit" in str(exc):
+            raise IngestError(f"{name}: a cell near row {reader.line_num} holds more than "
+                              f"{csv.field_size_limit():,} characters; that is not a schedule cell") from None
         raise IngestError(f"{name}: cannot read the CSV near row {reader.line_num}: {exc}") from None
-    return out
+    return out, numbers
 
 
 def sniff_delimiter(text: str, name: str = "<csv>", mapping: HeadingMap | None = None,
@@ -260,10 +330,10 @@ def sniff_delimiter(text: str, name: str = "<csv>", mapping: HeadingMap | None =
     """The delimiter among ``, ; TAB |`` that gives a heading row with the most known headings
     (ties: the most columns in that row; then the order above)."""
     best, best_score = ",", (-1, -1)
-    sample = "\n".join(text.splitlines()[:_SNIFF_LINES])
+    sample = "\n".join(text[:_SNIFF_CHARS].splitlines()[:_SNIFF_LINES])
     for d in DELIMITERS:
         try:
-            rows = _parse_csv(sample, d, name)
+            rows, _ = _parse_csv(sample, d, name)
         except IngestError:
             continue
         score = (-1, -1)
@@ -275,11 +345,13 @@ def sniff_delimiter(text: str, name: str = "<csv>", mapping: HeadingMap | None =
     return best
 
 
-def read_csv(path: str | os.PathLike, *, mapping: Any = None, vocabulary: str = "schedule"
-             ) -> tuple[list[RawTable], list[str]]:
-    """A CSV (or delimited .txt) file -> ([table], notes). IngestError when it cannot be read."""
+def read_csv(path: str | os.PathLike, *, mapping: Any = None, vocabulary: str = "schedule",
+             max_rows: int | None = None) -> tuple[list[RawTable], list[str]]:
+    """A CSV (or delimited .txt) file -> ([table], notes). IngestError when it cannot be read or is
+    beyond the limits (:mod:`checker.ingest.limits`)."""
     name = _name(path)
     hmap = resolve_mapping(mapping)
+    limits.check_file_size(path, name)
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError:
@@ -288,11 +360,13 @@ def read_csv(path: str | os.PathLike, *, mapping: Any = None, vocabulary: str = 
         raise IngestError(f"{name}: cannot read the file ({exc.strerror or exc})") from None
     _sniff_kind(data, name)
     text, notes = decode_text(data, name)
+    del data
     if not text.strip():
         raise IngestError(f"{name}: the file is empty")
     delimiter = sniff_delimiter(text, name, hmap, vocabulary)
-    rows = _parse_csv(text, delimiter, name)                # blank cells stay '' (read as empty)
-    table, more = locate_table(rows, range(1, len(rows) + 1), file=name, vocabulary=vocabulary, mapping=hmap)
+    rows, numbers = _parse_csv(text, delimiter, name, max_rows=max_rows)   # blank cells stay ''
+    del text
+    table, more = locate_table(rows, numbers, file=name, vocabulary=vocabulary, mapping=hmap)
     if table is None:
         raise IngestError(_no_heading_message(name, rows, vocabulary))
     return [table], notes + more
@@ -314,6 +388,79 @@ def _no_heading_message(name: str, rows: Sequence[Sequence[Any]], vocabulary: st
 # --------------------------------------------------------------------------------------------
 
 
+_DTD_MARKS = tuple(m.encode(enc) for m in ("<!DOCTYPE", "<!ENTITY") for enc in ("ascii", "utf-16-le", "utf-16-be"))
+_XML_HEAD = 64 * 1024
+_WORKBOOK_HEAD = 4 * 1024 * 1024
+_SHEET_TAG_RE = re.compile(rb"<(?:[A-Za-z_][\w.-]*:)?sheet\b")
+_REL_RE = re.compile(rb"<(?:[A-Za-z_][\w.-]*:)?Relationship\b[^>]*>")
+_ATTR_RE = re.compile(rb"""\b(Type|Target)\s*=\s*["']([^"']*)["']""")
+
+
+def _xml_refused(name: str, part: str) -> IngestError:
+    return IngestError(
+        f"{name}: refused: the workbook part {part!r} declares a document type or XML entities "
+        "(the way an XML bomb or an external-entity attack is built); no spreadsheet needs them and "
+        "capcheck does not expand them; ask for the schedule as saved by the spreadsheet program, "
+        "or as CSV")
+
+
+def precheck_xlsx(path: str | os.PathLike, name: str) -> None:
+    """Checks on the archive before openpyxl sees it (each bounded in time and memory):
+
+    * the sizes the archive declares (:func:`checker.ingest.limits.check_archive`: total and ratio);
+    * no XML part declares a DTD or entities: package parts never carry a document type
+      declaration (ECMA-376 Part 2, Open Packaging Conventions, XML usage; from memory), so a
+      ``<!DOCTYPE`` or ``<!ENTITY`` in the first 64 KiB of a part is an XML bomb or an external
+      entity. openpyxl parses through defusedxml as well, which refuses entities wherever they are;
+    * the number of worksheets (:data:`checker.ingest.limits.MAX_SHEETS`), and no two sheets read
+      from the same part (each sheet is parsed in full when the workbook loads).
+    """
+    try:
+        zf = zipfile.ZipFile(path)
+    except zipfile.BadZipFile as exc:
+        raise IngestError(f"{name}: corrupt XLSX workbook ({exc})") from None
+    except OSError as exc:
+        raise IngestError(f"{name}: cannot read the file ({exc.strerror or exc})") from None
+    with zf:
+        infos = zf.infolist()
+        limits.check_archive(infos, name)
+        sheets = 0
+        targets: list[bytes] = []
+        for info in infos:
+            low = info.filename.lower()
+            if not low.endswith((".xml", ".rels")) or info.is_dir():
+                continue
+            try:
+                with zf.open(info) as fh:
+                    head = fh.read(_XML_HEAD if not low.endswith(("workbook.xml", "workbook.xml.rels"))
+                                   else _WORKBOOK_HEAD)
+            except Exception as exc:       # bad CRC, unsupported compression, encrypted member ...
+                raise IngestError(f"{name}: corrupt XLSX workbook (part {info.filename!r}: "
+                                  f"{type(exc).__name__}: {exc})") from None
+            probe = head[:_XML_HEAD]
+            if any(m in probe for m in _DTD_MARKS):
+                raise _xml_refused(name, info.filename)
+            if low.endswith("workbook.xml"):
+                sheets += len(_SHEET_TAG_RE.findall(head))
+            elif low.endswith("workbook.xml.rels"):
+                for rel in _REL_RE.findall(head):
+                    attrs = dict(_ATTR_RE.findall(rel))
+                    if attrs.get(b"Type", b"").endswith(b"/worksheet"):
+                        targets.append(attrs.get(b"Target", b"").lstrip(b"/").lower())
+        limits.check_sheets(sheets, name)
+        if len(targets) != len(set(targets)):
+            raise IngestError(f"{name}: refused: two worksheets of the workbook read from the same part "
+                              "(a damaged or hand-made workbook); save it again from the spreadsheet program")
+
+
+def _defused_error(exc: BaseException) -> bool:
+    try:
+        from defusedxml import DefusedXmlException
+    except ImportError:                    # pragma: no cover - defusedxml is a dependency
+        return False
+    return isinstance(exc, DefusedXmlException)
+
+
 def _open_workbook(path: str | os.PathLike, name: str) -> Any:
     import openpyxl
     from openpyxl.utils.exceptions import InvalidFileException
@@ -332,26 +479,37 @@ def _open_workbook(path: str | os.PathLike, name: str) -> Any:
     if not head.startswith(b"PK"):
         raise IngestError(f"{name}: not an XLSX workbook (it is not a zip archive); if it is a CSV, "
                           "give it the .csv extension")
+    limits.check_file_size(path, name)
+    precheck_xlsx(path, name)
     try:
-        return openpyxl.load_workbook(path, read_only=True, data_only=True)
+        return openpyxl.load_workbook(path, read_only=True, data_only=True, keep_links=False)
     except zipfile.BadZipFile as exc:
         raise IngestError(f"{name}: corrupt XLSX workbook ({exc})") from None
     except (InvalidFileException, KeyError) as exc:
         raise IngestError(f"{name}: not a readable XLSX workbook ({exc})") from None
     except Exception as exc:  # openpyxl raises many kinds on damaged parts
+        if _defused_error(exc):
+            raise _xml_refused(name, "(a part of the workbook)") from None
         raise IngestError(f"{name}: cannot read the workbook ({type(exc).__name__}: {exc})") from None
 
 
 def _sheet_rows(ws: Any) -> Iterator[tuple[Any, ...]]:
+    """The rows of a sheet from row 1, each as long as its last cell. The dimensions a sheet
+    declares are dropped first: a sheet may claim A1:XFD1048576 and hold one cell, and openpyxl
+    would pad every row (and the rows up to the claimed last one) to the claimed size."""
+    if hasattr(ws, "reset_dimensions"):
+        ws.reset_dimensions()
     yield from ws.iter_rows(min_row=1, values_only=True)
 
 
-def read_xlsx(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[RawTable], list[str]]:
+def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
+              max_rows: int | None = None) -> tuple[list[RawTable], list[str]]:
     """An XLSX/XLSM workbook -> (tables, notes).
 
     The schedule is the first visible sheet with a schedule heading row; the first sheet whose
     headings are ``mark, x, y`` (pile coordinates of explicit groups) is returned after it as the
-    coordinates table. Other sheets are skipped with a note.
+    coordinates table. Other sheets are skipped with a note. The archive is checked before it is
+    opened (:func:`precheck_xlsx`) and rows are read within the limits (:func:`bounded_rows`).
     """
     name = _name(path)
     hmap = resolve_mapping(mapping)
@@ -364,16 +522,19 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[Raw
         sheets = list(wb.worksheets)
         if not sheets:
             raise IngestError(f"{name}: the workbook has no worksheets")
+        limits.check_sheets(len(sheets), name)
         for ws in sheets:
             title = ws.title
             if getattr(ws, "sheet_state", "visible") != "visible":
                 notes.append(f'sheet "{title}" skipped: hidden')
                 continue
             try:
-                it = _sheet_rows(ws)
+                it = bounded_rows(_sheet_rows(ws), name, where=f', sheet "{title}"', max_rows=max_rows)
                 rows: list[list[Any]] = []
-                for row in it:
-                    rows.append(list(row))
+                numbers: list[int] = []
+                for number, row in it:
+                    rows.append(row)
+                    numbers.append(number)
                     if len(rows) >= HEADING_SCAN:
                         break
                 if not first_rows:
@@ -390,12 +551,16 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[Raw
                 if (kind == "schedule" and schedule is not None) or (kind == "coords" and coords is not None):
                     notes.append(f'sheet "{title}" skipped: the {kind} was read from an earlier sheet')
                     continue
-                rows.extend(list(r) for r in it)
+                for number, row in it:
+                    rows.append(row)
+                    numbers.append(number)
             except IngestError:
                 raise
             except Exception as exc:
+                if _defused_error(exc):
+                    raise _xml_refused(name, f'sheet "{title}"') from None
                 raise IngestError(f'{name}: sheet "{title}" cannot be read ({type(exc).__name__}: {exc})') from None
-            table, more = locate_table(rows, range(1, len(rows) + 1), file=name, sheet=title,
+            table, more = locate_table(rows, numbers, file=name, sheet=title,
                                        vocabulary=kind, mapping=hmap, head_index=idx)
             notes.extend(more)
             if kind == "schedule":
@@ -409,12 +574,13 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[Raw
     return [t for t in (schedule, coords) if t is not None], notes
 
 
-def read_tabular(path: str | os.PathLike, *, mapping: Any = None) -> tuple[list[RawTable], list[str]]:
+def read_tabular(path: str | os.PathLike, *, mapping: Any = None,
+                 max_rows: int | None = None) -> tuple[list[RawTable], list[str]]:
     """Dispatch on the extension: ``.csv``/``.txt`` -> :func:`read_csv`, ``.xlsx``/``.xlsm`` -> :func:`read_xlsx`."""
     ext = Path(path).suffix.lower()
     if ext in CSV_EXTENSIONS:
-        return read_csv(path, mapping=mapping)
+        return read_csv(path, mapping=mapping, max_rows=max_rows)
     if ext in XLSX_EXTENSIONS:
-        return read_xlsx(path, mapping=mapping)
+        return read_xlsx(path, mapping=mapping, max_rows=max_rows)
     raise IngestError(f"{_name(path)}: unknown file type {ext or '(none)'!r}; capcheck reads .csv, .xlsx, "
                       ".xlsm and .pdf")

@@ -1,0 +1,152 @@
+"""The limits on what capcheck reads, one named constant and one check per limit.
+
+A document beyond a limit is refused with an :class:`~checker.ingest.errors.IngestError` that names
+the file, the limit and what to do; it is never half-read into memory first. The checks run before
+the expensive step they protect (the file size before the file is read, the sizes a ZIP archive
+declares before any member is decompressed, the row count while rows are read).
+
+| limit | value | where |
+|---|---|---|
+| :data:`MAX_FILE_BYTES` | 100 MiB | any schedule file, before it is read |
+| :data:`MAX_ROWS` | 100,000 | filled rows of one schedule (CSV, XLSX, PDF, DataFrame) |
+| :data:`MAX_COLUMNS` | 200 | filled columns of a row |
+| :data:`MAX_CELL_CHARS` | 32,767 | characters in one cell that capcheck reads |
+| :data:`MAX_XLSX_UNCOMPRESSED_BYTES` | 200 MiB | the members of an XLSX archive, as declared |
+| :data:`MAX_COMPRESSION_RATIO` | 100 | any XLSX member over :data:`RATIO_FLOOR_BYTES` |
+| :data:`MAX_SHEETS` | 50 | worksheets of one workbook |
+| :data:`MAX_PDF_PAGES` | 200 | pages of a PDF (``--max-pages`` changes it) |
+
+Python's :mod:`zipfile` never returns more bytes from a member than its declared ``file_size``
+(the reader stops there and then fails the CRC check), so checking the declared sizes bounds what
+decompression can produce even when the header lies.
+"""
+
+from __future__ import annotations
+
+import os
+import zipfile
+from typing import Iterable
+
+from checker.ingest.errors import IngestError
+
+MiB = 1024 * 1024
+
+#: Any schedule file (CSV, XLSX, PDF). A schedule of 100,000 rows as CSV is about 10 MB.
+MAX_FILE_BYTES = 100 * MiB
+
+#: Filled (non-blank) rows of one schedule, headings and notes included in the count as they are
+#: read; blank rows are not counted. The engine is benchmarked on 100,000 caps.
+MAX_ROWS = 100_000
+
+#: Filled columns of one row (trailing blank cells do not count).
+MAX_COLUMNS = 200
+
+#: Characters in one cell that capcheck parses; the largest a spreadsheet cell holds (the
+#: published limit of Microsoft Excel's specification, 32,767 characters; from memory).
+MAX_CELL_CHARS = 32_767
+
+#: The sum of the uncompressed sizes an XLSX archive declares for its members. A 100,000-row
+#: schedule of 13 columns written by openpyxl is about 56 MB of sheet XML (measured).
+MAX_XLSX_UNCOMPRESSED_BYTES = 200 * MiB
+
+#: Uncompressed over compressed size of one member. Spreadsheet XML deflates about 13:1
+#: (measured on openpyxl output); a ZIP bomb is near the deflate maximum of about 1000:1.
+MAX_COMPRESSION_RATIO = 100
+
+#: Members smaller than this are not ratio-checked (a small, very regular part is harmless).
+RATIO_FLOOR_BYTES = 1 * MiB
+
+#: Worksheets of one workbook (each is opened and sized when the workbook loads).
+MAX_SHEETS = 50
+
+#: Pages of a PDF schedule (the default of ``capcheck check --max-pages``).
+MAX_PDF_PAGES = 200
+
+
+def _n(v: int) -> str:
+    return f"{v:,}"
+
+
+def _mib(v: int) -> str:
+    return f"{v / MiB:.0f} MiB" if v >= MiB else f"{_n(v)} bytes"
+
+
+def check_file_size(path: str | os.PathLike, name: str | None = None, limit: int = MAX_FILE_BYTES) -> int:
+    """The file's size in bytes; IngestError when it is larger than ``limit``."""
+    shown = name if name is not None else os.fspath(path)
+    try:
+        size = os.stat(path).st_size
+    except FileNotFoundError:
+        raise IngestError(f"{shown}: file not found") from None
+    except OSError as exc:
+        raise IngestError(f"{shown}: cannot read the file ({exc.strerror or exc})") from None
+    if size > limit:
+        raise IngestError(f"{shown}: the file is {_mib(size)}, larger than the limit of {_mib(limit)} "
+                          "for a schedule; split the schedule into smaller files, or for a PDF send "
+                          "the schedule pages only")
+    return size
+
+
+def check_rows(count: int, name: str, limit: int = MAX_ROWS, where: str = "") -> None:
+    """IngestError when ``count`` filled rows exceed ``limit``."""
+    if count > limit:
+        raise IngestError(f"{name}{where}: more than {_n(limit)} filled rows, the limit for one schedule "
+                          f"(rows limit {_n(limit)}); split the schedule into files of at most "
+                          f"{_n(limit)} rows")
+
+
+def check_columns(count: int, name: str, row: int | None = None, limit: int = MAX_COLUMNS,
+                  where: str = "") -> None:
+    """IngestError when a row has more than ``limit`` filled columns."""
+    if count > limit:
+        at = f" row {row}" if row is not None else ""
+        raise IngestError(f"{name}{where}:{at} has a filled cell in column {_n(count)}, beyond the limit of "
+                          f"{_n(limit)} columns; remove the cells far to the right of the schedule")
+
+
+def check_cell_text(text: str, where: str, limit: int = MAX_CELL_CHARS) -> None:
+    """IngestError when a cell's text is longer than ``limit`` characters."""
+    if len(text) > limit:
+        raise IngestError(f"{where}: the cell holds {_n(len(text))} characters, more than the limit of "
+                          f"{_n(limit)} for one cell")
+
+
+def cell_text_problem(value: object, limit: int = MAX_CELL_CHARS) -> str | None:
+    """The message of :func:`check_cell_text` for a cell (without a place), or None when it fits."""
+    if isinstance(value, str) and len(value) > limit:
+        return f"the cell holds {_n(len(value))} characters, more than the limit of {_n(limit)} for one cell"
+    return None
+
+
+def check_sheets(count: int, name: str, limit: int = MAX_SHEETS) -> None:
+    """IngestError when a workbook has more than ``limit`` worksheets."""
+    if count > limit:
+        raise IngestError(f"{name}: the workbook has {_n(count)} worksheets, more than the limit of "
+                          f"{_n(limit)}; save the schedule sheet on its own as .xlsx or .csv")
+
+
+def check_archive(members: Iterable[zipfile.ZipInfo], name: str,
+                  max_total: int = MAX_XLSX_UNCOMPRESSED_BYTES, max_ratio: float = MAX_COMPRESSION_RATIO,
+                  floor: int = RATIO_FLOOR_BYTES) -> int:
+    """Check the sizes a ZIP archive declares, before anything is decompressed.
+
+    IngestError when the declared uncompressed total exceeds ``max_total`` or a member larger than
+    ``floor`` is compressed more than ``max_ratio`` : 1 (the mark of a ZIP bomb). Returns the total.
+    """
+    total = 0
+    for info in members:
+        size = int(info.file_size)
+        total += size
+        if size > floor:
+            ratio = size / max(int(info.compress_size), 1)
+            if ratio > max_ratio:
+                raise IngestError(
+                    f"{name}: refused: the workbook part {info.filename!r} would expand from "
+                    f"{_mib(int(info.compress_size))} to {_mib(size)} ({ratio:,.0f}:1, more than the limit "
+                    f"of {max_ratio:g}:1); this is how a ZIP bomb looks, and no workbook needs it; "
+                    "ask for the schedule as exported by the spreadsheet program, or as CSV")
+        if total > max_total:
+            raise IngestError(
+                f"{name}: refused: the workbook would expand to more than {_mib(max_total)} (the limit for "
+                "an XLSX schedule); save the schedule sheet on its own, or as CSV")
+    return total
