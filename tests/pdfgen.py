@@ -705,6 +705,7 @@ XLSX_CASES: dict[str, XlsxSpec] = {
     "lo_borders": XlsxSpec(borders=True),
     "lo_no_borders": XlsxSpec(borders=False),
     "lo_two_line_heading_no_borders": XlsxSpec(borders=False, two_line_heading=True),
+    "lo_two_line_heading_borders": XlsxSpec(borders=True, two_line_heading=True),
     "lo_multipage_repeated_no_borders": XlsxSpec(borders=False, n_rows=90, title=False,
                                                  notes=False),
     "lo_multipage_not_repeated_borders": XlsxSpec(borders=True, n_rows=90, title=False,

@@ -7,7 +7,6 @@ Every failure is an IngestError whose message names the file and says what to do
 from __future__ import annotations
 
 import random
-from pathlib import Path
 
 import pytest
 
@@ -178,3 +177,19 @@ def test_corrupted_bytes_never_end_in_a_traceback(bad_dir):
             assert all(len(r) == len(t.headings) for t in tables for r in t.rows)
             outcomes["read"] += 1
     assert outcomes["read"] + outcomes["error"] == 25
+
+
+def test_drawing_only_pdf(bad_dir):
+    """Text converted to outlines (or a drawing with no words) has nothing to read."""
+    from reportlab.lib.pagesizes import A4
+    from reportlab.pdfgen import canvas
+
+    path = bad_dir / "outlines.pdf"
+    c = canvas.Canvas(str(path), pagesize=A4)
+    for k in range(12):
+        c.line(40, 780 - 14 * k, 540, 780 - 14 * k)
+        c.bezier(40 + 30 * k, 600, 50 + 30 * k, 620, 60 + 30 * k, 580, 70 + 30 * k, 600)
+    c.showPage()
+    c.save()
+    msg = _error(path)
+    assert "no text to read" in msg and "outlines" in msg

@@ -297,3 +297,15 @@ def test_check_on_the_sample_pdf_equals_check_on_the_csv(tmp_path):
         assert from_pdf.findings["src_page"].notna().all()
         assert [r["errors"] for r in from_pdf.rejected] == [r["errors"] for r in from_csv.rejected]
         assert all(r["source"]["page"] == 1 for r in from_pdf.rejected)
+
+
+def test_reads_without_the_heading_mapper(rl_case, monkeypatch):
+    """The heading row is recognised by a keyword list of its own when checker.ingest.headings
+    is absent or broken (it is imported lazily and any failure falls back quietly)."""
+    import sys
+
+    monkeypatch.setitem(sys.modules, "checker.ingest.headings", None)   # import -> ImportError
+    for case in ("unruled", "ruled", "two_line_headings_unruled"):
+        exp = rl_case(case)
+        tables, _ = read_pdf_tables(exp.path)
+        assert_reads_as(tables, exp)

@@ -175,8 +175,8 @@ def _read(name: str, strategy: str, max_pages: int | None,
         raise IngestError(
             f"no schedule table found in {name}: no page has a heading row with at least three "
             f"schedule headings (such as mark, piles, pile diameter, cap size or depth, column, "
-            f"load, concrete, bars, cover). Check that this is the schedule, force a method "
-            f"with the PDF strategy option, or give the schedule as CSV/XLSX."
+            f"load, concrete, bars, cover). Check that this is the schedule, force a reading "
+            f"method (--pdf-strategy lines or text), or give the schedule as CSV/XLSX."
             + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
     for t in tables:
         if not t.rows:

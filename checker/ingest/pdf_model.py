@@ -21,6 +21,7 @@ class Layout:
     headings: list[str]
     ruled: bool
     rotation: int = 0
+    pitch: float | None = None       # line pitch of the body (unruled), for the next page
 
     @property
     def ncols(self) -> int:

@@ -196,12 +196,14 @@ class _Geometry:
 
 
 def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: list[float], *,
-             heading_top: float | None, continuation: bool) -> tuple[list[Line], int]:
-    """The body lines of a table, from ``lines[start]``; returns (lines, index after the body)."""
+             heading_top: float | None, continuation: bool,
+             pitch: float | None = None) -> tuple[list[Line], int]:
+    """The body lines of a table, from ``lines[start]``; returns (lines, index after the body).
+    ``pitch``: the line pitch of the same table on the page before, if known."""
     ncols = len(geo.cells)
     need = max(2, math.ceil(0.5 * ncols))
     accepted: list[Line] = []
-    diffs: list[float] = []
+    diffs: list[float] = [pitch] if pitch else []
     idx = start
     n = len(lines)
     while idx < n:
@@ -209,8 +211,10 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
         words = ln.words
         ref_top = accepted[-1].top if accepted else heading_top
         if ref_top is not None:
-            pitch = _median(diffs) if diffs else 1.35 * max(ln.size, 1.0)
-            limit = (3.4 if accepted else 4.5) * max(pitch, 1.0 * ln.size)
+            # the row pitch: steps between rows, not the tight steps of wrapped lines in a row
+            steps = [d for d in diffs if d > 1.3 * ln.size]
+            est = _median(steps) if steps else 1.8 * max(ln.size, 1.0)
+            limit = (3.4 if accepted else 4.5) * max(est, 1.0 * ln.size)
             if ln.top - ref_top > limit:
                 break
         if (table_rules and accepted and ln.top > table_rules[-1]
@@ -223,7 +227,19 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
             # on a page without a heading: skip what is above the first line that fits
             if (not stop and inside[0].x0 < geo.col0_lim and len(inside) >= need
                     and len(inside) <= ncols + 2):
-                accepted.append(ln)
+                # wrapped text of the first row sitting tight above its mark line
+                lead: list[Line] = []
+                k = idx - 1
+                while k >= 0 and len(lead) < 3:
+                    up, below = lines[k], (lead[0] if lead else ln)
+                    fits = [w for w in up.words if geo.inside(w)]
+                    if (below.top - up.top > 1.3 * up.size or not fits
+                            or fits[0].x0 < geo.col0_lim or is_stop_text(up.words[0].text)
+                            or any(_crossings(w, geo.regs) >= 1 for w in fits)):
+                        break
+                    lead.insert(0, up)
+                    k -= 1
+                accepted.extend(lead + [ln])
             idx += 1
             continue
         if stop:
@@ -531,6 +547,11 @@ def _build(body: list[Line], geo: _Geometry, headings: list[str] | None, layout:
            page_no: int, hrules: Sequence[HRule], vrules: Sequence[VRule],
            table_rules: list[float], band: tuple[float, float], method: str) -> PageTable:
     rows = _group_rows(body, geo, table_rules)
+    size = _median([ln.size for ln in body]) if body else 0.0
+    steps = [b.top - a.top for a, b in zip(body, body[1:]) if b.top - a.top > 1.3 * size]
+    if steps:
+        layout = Layout(cells=layout.cells, headings=list(layout.headings), ruled=layout.ruled,
+                        rotation=layout.rotation, pitch=_median(steps))
     vx = _vrule_xs(vrules, *band)
     cells, notes = _cells_of(body, rows, geo, vx, page_no)
     if headings is not None:
@@ -595,7 +616,8 @@ def continue_table(lines: Sequence[Line], page_no: int, prev: Layout, *,
     cells = [HCell(x0, x1, h) for (x0, x1), h in zip(prev.cells, prev.headings)]
     geo = _Geometry.of(cells)
     trules = _table_rules(hrules, geo, -math.inf)
-    body, _ = _collect(lines, 0, geo, trules, heading_top=None, continuation=True)
+    body, _ = _collect(lines, 0, geo, trules, heading_top=None, continuation=True,
+                       pitch=prev.pitch)
     if not body:
         return None
     band = (body[0].top, body[0].bottom)
