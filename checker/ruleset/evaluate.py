@@ -225,8 +225,8 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     gu = np.where(not_app, np.nan, gu)
 
     # messages, one template per check; rendered per group of rows that share a template
-    message = [""] * n
-    action = [""] * n
+    message = np.full(n, "", dtype=object)
+    action = np.full(n, "", dtype=object)
     if not render:
         return RuleResult(rule, sev, out_v, out_l, gu, message, action, None, code)
     menv = dict(env)
@@ -245,15 +245,11 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
         bad_rows = rows[g_fail[rows]]
         mt = c.message or rule.message
         okt = c.message or rule.ok_message or rule.message
-        for idx, text in zip(bad_rows.tolist(), mt.render_many(menv, bad_rows)):
-            message[idx] = text
-        for idx, text in zip(ok_rows.tolist(), okt.render_many(menv, ok_rows)):
-            message[idx] = text
+        _put(message, bad_rows, mt.render_many(menv, bad_rows))
+        _put(message, ok_rows, okt.render_many(menv, ok_rows))
         at = c.action or rule.action
-        for idx, text in zip(bad_rows.tolist(), at.render_many(menv, bad_rows)):
-            action[idx] = text
-    for idx in np.flatnonzero(not_app).tolist():
-        message[idx] = f"Not applicable: {rule.not_applicable}."
+        _put(action, bad_rows, at.render_many(menv, bad_rows))
+    message[not_app] = f"Not applicable: {rule.not_applicable}."
     miss_rows = np.flatnonzero(g_missing & ~not_app)
     if miss_rows.size:
         names = sorted(rule.names | {n_ for c in rule.checks if c.applies for n_ in c.applies.names})
@@ -263,12 +259,20 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
             what = ", ".join(gaps) if gaps else "an input"
             message[idx] = f"Cannot be verified: {what} not given or not computable."
             action[idx] = f"Provide {what} so that the check can be made."
-    for idx in np.flatnonzero(notes != "").tolist():
-        message[idx] = f"{message[idx]} {notes[idx]}".strip()
+    noted = np.flatnonzero(notes != "")
+    if noted.size:
+        _put(message, noted, [f"{m} {t}".strip() for m, t in zip(message[noted].tolist(), notes[noted].tolist())])
     variants = None
     if grading is not None:
         variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
     return RuleResult(rule, sev, out_v, out_l, gu, message, action, variants, code)
+
+
+def _put(target: np.ndarray, rows: np.ndarray, texts: list[str]) -> None:
+    if rows.size:
+        vals = np.empty(rows.size, dtype=object)
+        vals[:] = texts
+        target[rows] = vals
 
 
 def _combo_name(c) -> str:
@@ -429,8 +433,8 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
         "limit": np.concatenate([r.limit for r in results])[order],
         "unit": per_rule([r.rule.unit for r in results]),
         "utilisation": np.concatenate([r.util for r in results])[order],
-        "message": obj([m for r in results for m in r.message]),
-        "action": obj([a for r in results for a in r.action]),
+        "message": np.concatenate([np.asarray(r.message, dtype=object) for r in results])[order],
+        "action": np.concatenate([np.asarray(r.action, dtype=object) for r in results])[order],
         "src_file": src("src_file"),
         "src_sheet": src("src_sheet"),
         "src_page": src("src_page"),

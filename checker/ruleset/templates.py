@@ -51,6 +51,8 @@ class Template:
         n = len(index)
         if n == 0:
             return []
+        if not self.parts:
+            return [""] * n
         cols: list[list[str]] = []
         for p in self.parts:
             if isinstance(p, str):
