@@ -171,3 +171,9 @@ def print_working(review, mark: str, console: Console) -> None:
                           Text(line.text))
             continue
         console.print(Text(line.text))
+    from checker.report.variants_table import variants_table  # here: variants_table imports this module
+
+    table = variants_table(review, mark)
+    if table is not None:
+        console.print(Text(""))
+        console.print(table)
