@@ -26,6 +26,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable, Mapping, Sequence
 
+from checker.ingest import limits
 from checker.ingest.errors import IngestError
 from checker.ingest.notation import DEFAULT_SCALE, UNIT_NAMES, UNITS, clean_text, normalise_unit
 
@@ -337,14 +338,23 @@ def mapping_from_dict(pairs: Mapping[str, str], source: str = "<mapping>") -> He
 def load_mapping(path: str | Path) -> HeadingMap:
     """Read a TOML mapping file: a ``[headings]`` table of ``"Heading as written" = "field [unit]"``."""
     p = Path(path)
+    if not p.exists():
+        raise IngestError(f"{p}: mapping file not found")
+    raw = limits.read_bytes(p, str(p), limits.MAX_MAPPING_BYTES, what="a mapping file",
+                            advice="a mapping file needs one line per heading")
     try:
-        data = tomllib.loads(p.read_text(encoding="utf-8-sig"))
-    except FileNotFoundError:
-        raise IngestError(f"{p}: mapping file not found") from None
-    except (OSError, UnicodeDecodeError) as exc:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
         raise IngestError(f"{p}: cannot read the mapping file ({exc})") from None
+    problem = limits.toml_text_problem(text)
+    if problem:
+        raise IngestError(f"{p}: not read as a mapping file: {problem}")
+    try:
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise IngestError(f"{p}: not a valid TOML mapping file ({exc})") from None
+    except RecursionError:
+        raise IngestError(f"{p}: not read as a mapping file: nested too deeply") from None
     table = data.get("headings")
     if not isinstance(table, dict):
         raise IngestError(f'{p}: no [headings] table; write e.g. [headings] "Pile Ø (m)" = "pile_dia [m]"')

@@ -288,20 +288,21 @@ def bounded_rows(rows: Iterator[Sequence[Any]], name: str, *, where: str = "",
     filled = 0
     prev_blank = False
     for number, row in enumerate(rows, start=1):
+        if _blank_row(row):                 # passed on as [] (its cells say nothing)
+            if prev_blank:
+                continue
+            prev_blank = True
+            yield number, []
+            continue
         if not isinstance(row, list):
             row = list(row)
         if len(row) > limits.MAX_COLUMNS:
             row = _trim_blank_tail(row)
             limits.check_columns(len(row), name, number, where=where)
-        if _blank_row(row):
-            if prev_blank:
-                continue
-            prev_blank = True
-        else:
-            prev_blank = False
-            filled += 1
-            if filled > cap:
-                limits.check_rows(filled, name, cap - HEADING_SCAN, where)
+        prev_blank = False
+        filled += 1
+        if filled > cap:
+            limits.check_rows(filled, name, cap - HEADING_SCAN, where)
         yield number, row
 
 
@@ -351,13 +352,7 @@ def read_csv(path: str | os.PathLike, *, mapping: Any = None, vocabulary: str = 
     beyond the limits (:mod:`checker.ingest.limits`)."""
     name = _name(path)
     hmap = resolve_mapping(mapping)
-    limits.check_file_size(path, name)
-    try:
-        data = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise IngestError(f"{name}: file not found") from None
-    except OSError as exc:
-        raise IngestError(f"{name}: cannot read the file ({exc.strerror or exc})") from None
+    data = limits.read_bytes(path, name)
     _sniff_kind(data, name)
     text, notes = decode_text(data, name)
     del data
@@ -454,17 +449,26 @@ def precheck_xlsx(path: str | os.PathLike, name: str) -> None:
 
 
 def _defused_error(exc: BaseException) -> bool:
+    """defusedxml refused a part (openpyxl may wrap its error in a ValueError of its own)."""
     try:
         from defusedxml import DefusedXmlException
     except ImportError:                    # pragma: no cover - defusedxml is a dependency
         return False
-    return isinstance(exc, DefusedXmlException)
+    seen: set[int] = set()
+    cur: BaseException | None = exc
+    while cur is not None and id(cur) not in seen:
+        if isinstance(cur, DefusedXmlException):
+            return True
+        seen.add(id(cur))
+        cur = cur.__cause__ or cur.__context__
+    return False
 
 
 def _open_workbook(path: str | os.PathLike, name: str) -> Any:
     import openpyxl
     from openpyxl.utils.exceptions import InvalidFileException
 
+    limits.check_file_size(path, name)
     try:
         with open(path, "rb") as fh:
             head = fh.read(8)
@@ -479,7 +483,6 @@ def _open_workbook(path: str | os.PathLike, name: str) -> Any:
     if not head.startswith(b"PK"):
         raise IngestError(f"{name}: not an XLSX workbook (it is not a zip archive); if it is a CSV, "
                           "give it the .csv extension")
-    limits.check_file_size(path, name)
     precheck_xlsx(path, name)
     try:
         return openpyxl.load_workbook(path, read_only=True, data_only=True, keep_links=False)
