@@ -253,21 +253,37 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     q["tie_cut_y"] = st.tension_across_centreline(Hy, Y, mask)
     three = npile == 3
     q["tie_side_3"] = np.full(n, np.nan)
+    base_pick = None
+    tie_base_3 = tie_incl_3 = np.full(n, np.nan)
     if X.shape[1] >= 3:  # the array width, not a value of any cap
         sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
-        q["tie_side_3"] = np.where(three & mask[:, :3].all(axis=1), np.max(sides, axis=1), np.nan)
+        ok3 = three & mask[:, :3].all(axis=1)
+        q["tie_side_3"] = np.where(ok3, np.max(sides, axis=1), np.nan)
+        # the base side is the side most nearly along x (side k joins piles k and k+1)
+        dx = np.abs(np.stack([X[:, (k + 1) % 3] - X[:, k] for k in range(3)], axis=1))
+        dl = np.hypot(dx, np.stack([Y[:, (k + 1) % 3] - Y[:, k] for k in range(3)], axis=1))
+        base_pick = np.argmax(np.where(dl > 0, dx / np.where(dl > 0, dl, 1.0), -1.0), axis=1)
+        rows3 = np.arange(n)
+        tie_base_3 = np.where(ok3, sides[rows3, base_pick], np.nan)
+        incl = sides.copy()
+        incl[rows3, base_pick] = -np.inf
+        tie_incl_3 = np.where(ok3, np.max(incl, axis=1), np.nan)
     q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
     # Three-pile caps are checked on the ties along the triangle's sides (reference §6): the base side
     # against the x layer over the base row; the two inclined sides (60 degrees to x) against the
     # orthogonal mesh resolved onto them, As,x cos²60 + As,y sin²60 (common practice for a mesh).
+    # (the x layer is credited to the inclined sides only with what the base tie leaves spare)
     q["tie_x_orth"], q["tie_y_orth"] = q["tie_x"].copy(), q["tie_y"].copy()
     side = three & ~np.isnan(q["tie_side_3"])
-    as_side_y = 0.25 * q["as_tie_x"] + 0.75 * q["as_tie_y"]
-    for k, prov in (("x", q["as_tie_x"]), ("y", as_side_y)):
-        q[f"tie_{k}"] = np.where(side, q["tie_side_3"], q[f"tie_{k}"])
-        q[f"as_req_{k}"] = np.where(side, q["as_req_side_3"], q[f"as_req_{k}"])
+    as_req_base = st.tie_steel_required(tie_base_3, fyd)
+    q["as_tie_y_orth_prov"] = q["as_tie_y"].copy()
+    as_side_y = 0.75 * q["as_tie_y"] + 0.25 * np.fmax(q["as_tie_x"] - as_req_base, 0.0)
+    for k, t_side, prov in (("x", tie_base_3, q["as_tie_x"]), ("y", tie_incl_3, as_side_y)):
+        req = st.tie_steel_required(t_side, fyd)
+        q[f"tie_{k}"] = np.where(side, t_side, q[f"tie_{k}"])
+        q[f"as_req_{k}"] = np.where(side, req, q[f"as_req_{k}"])
         q[f"as_tie_{k}"] = np.where(side, prov, q[f"as_tie_{k}"])
-        q[f"util_tie_{k}"] = np.where(side, q[f"as_req_{k}"] / prov, q[f"util_tie_{k}"])
+        q[f"util_tie_{k}"] = np.where(side, req / prov, q[f"util_tie_{k}"])
     # method variant: the column-width allowance ((3l² − a²) forms, reference §6), always computed
     eu2_cw = st.column_second_moment(cx, rnd)
     ev2_cw = st.column_second_moment(cy, rnd)
@@ -275,16 +291,24 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     Hy_cw = st.pile_node_force(Y, R, mask, N, d_y, ev2_cw)
     tx_cw = st.tie_rows_check(Hx_cw, Y, mask, as_x, fyd, le3_b, phi_p, W, cover)
     ty_cw = st.tie_rows_check(Hy_cw, X, mask, as_y, fyd, le3_b, phi_p, L, cover)
-    side_cw = np.full(n, np.nan)
-    if X.shape[1] >= 3:
+    base_cw = incl_cw = np.full(n, np.nan)
+    if base_pick is not None:
         sides_cw = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx_cw[:, :3], Hy_cw[:, :3])
-        side_cw = np.where(three & mask[:, :3].all(axis=1), np.max(sides_cw, axis=1), np.nan)
-    for k, t, prov in (("x", tx_cw, q["as_tie_x"]), ("y", ty_cw, as_side_y)):
-        q[f"tie_{k}_cw"] = np.where(side, side_cw, t["T"])
-        q[f"as_req_{k}_cw"] = np.where(side, st.tie_steel_required(side_cw, fyd), t["as_req"])
+        ok3 = three & mask[:, :3].all(axis=1)
+        rows3 = np.arange(n)
+        base_cw = np.where(ok3, sides_cw[rows3, base_pick], np.nan)
+        incl = sides_cw.copy()
+        incl[rows3, base_pick] = -np.inf
+        incl_cw = np.where(ok3, np.max(incl, axis=1), np.nan)
+    as_side_y_cw = 0.75 * q["as_tie_y_orth_prov"] + 0.25 * np.fmax(
+        q["as_tie_x"] - st.tie_steel_required(base_cw, fyd), 0.0)
+    for k, t, t_side, prov in (("x", tx_cw, base_cw, q["as_tie_x"]), ("y", ty_cw, incl_cw, as_side_y_cw)):
+        q[f"tie_{k}_cw"] = np.where(side, t_side, t["T"])
+        q[f"as_req_{k}_cw"] = np.where(side, st.tie_steel_required(t_side, fyd), t["as_req"])
         q[f"as_tie_{k}_cw"] = np.where(side, prov, t["as_prov"])
 
-    z = np.fmin(d_x, d_y)
+    # lever arm of the struts: the x layer for two-pile caps (no y ties), else the lower layer
+    z = np.where(npile == 2, d_x, np.fmin(d_x, d_y))
     theta = st.strut_angle(r, z[:, None])
     inclined = mask & (r > 0.5)
     th_min = geo.row_min(np.where(inclined, theta, np.nan), inclined)

@@ -10,6 +10,7 @@ utilisation, else the highest utilisation of those that could be evaluated.
 from __future__ import annotations
 
 import operator
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -151,9 +152,12 @@ def stated_methods(text_values, rule: Rule) -> dict[str, np.ndarray]:
         names = [v.name for v in rule.variants if v.family == fam]
         lookup = {}
         for t in uniq:
-            norm = " " + " ".join(t.lower().replace("_", "-").replace("/", " ").split()) + " "
-            hits = [nm for nm in names if f" {nm} " in norm or f"-{nm} " in norm or f" {nm}-" in norm
-                    or nm.replace("-", " ") in norm]
+            # whole words only ("end-bearing piles" does not state the bearing node method);
+            # "column width" written with a space reads as "column-width"
+            words = re.split(r"[\s,;/()]+", t.lower().replace("_", "-"))
+            words = [w for w in words if w]
+            grams = set(words) | {f"{a}-{b}" for a, b in zip(words, words[1:])}
+            hits = [nm for nm in names if nm in grams]
             lookup[t] = hits[0] if len(hits) == 1 else ""
         out[fam] = np.array([lookup.get(t, "") if isinstance(t, str) else "" for t in texts.tolist()],
                             dtype=object)
@@ -194,7 +198,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
         evaluated = np.stack([~o.missing for o in outs]) & allowed
         n_fail = fails.sum(axis=0)
         n_eval = evaluated.sum(axis=0)
-        grading = (combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed)
+        grading = (combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, first_allowed)
         # some but not all accepted methods fail: a query, not a verdict
         mixed = (n_fail > 0) & (n_fail < n_eval)
         all_fail = (n_fail > 0) & (n_fail == n_eval)
@@ -229,26 +233,23 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     action = np.full(n, "", dtype=object)
     if not render:
         return RuleResult(rule, sev, out_v, out_l, gu, message, action, None, code)
-    menv = dict(env)
-    menv["value"] = out_v
-    menv["limit"] = out_l
-    menv["utilisation"] = gu
-    menv["unit"] = rule.unit
-    for j, c in enumerate(rule.checks):
-        rows = np.flatnonzero((g == j) & ~not_app & ~g_missing)
-        if rows.size == 0:
-            continue
-        menv["label"] = c.label
-        ok_rows = rows[~g_fail[rows]]
-        if render == "issues":  # passed checks keep an empty message (fast path for big schedules)
-            ok_rows = ok_rows[sev[ok_rows] != "ok"]
-        bad_rows = rows[g_fail[rows]]
-        mt = c.message or rule.message
-        okt = c.message or rule.ok_message or rule.message
-        _put(message, bad_rows, mt.render_many(menv, bad_rows))
-        _put(message, ok_rows, okt.render_many(menv, ok_rows))
-        at = c.action or rule.action
-        _put(action, bad_rows, at.render_many(menv, bad_rows))
+    # each cap's message uses the quantities of the method its value and limit come from
+    if grading is not None:
+        reported = grading[-1]
+        groups = [(ci, reported == ci) for ci in np.unique(reported).tolist()]
+        uses = [[(a, b) for v in c for a, b in v.use] for c in grading[0]]
+    else:
+        groups = [(0, np.ones(n, bool))]
+        uses = [[(a, b) for v in (combos[0] if combos else ()) for a, b in v.use]]
+    for ci, in_group in groups:
+        menv = dict(env)
+        for a, b in uses[ci]:
+            menv[a] = env[b]
+        menv["value"] = out_v
+        menv["limit"] = out_l
+        menv["utilisation"] = gu
+        menv["unit"] = rule.unit
+        _render_group(rule, menv, in_group, g, g_fail, g_missing, not_app, sev, render, message, action)
     message[not_app] = f"Not applicable: {rule.not_applicable}."
     miss_rows = np.flatnonzero(g_missing & ~not_app)
     if miss_rows.size:
@@ -268,6 +269,24 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     return RuleResult(rule, sev, out_v, out_l, gu, message, action, variants, code)
 
 
+def _render_group(rule, menv, in_group, g, g_fail, g_missing, not_app, sev, render, message, action):
+    for j, c in enumerate(rule.checks):
+        rows = np.flatnonzero(in_group & (g == j) & ~not_app & ~g_missing)
+        if rows.size == 0:
+            continue
+        menv["label"] = c.label
+        ok_rows = rows[~g_fail[rows]]
+        if render == "issues":  # passed checks keep an empty message (fast path for big schedules)
+            ok_rows = ok_rows[sev[ok_rows] != "ok"]
+        bad_rows = rows[g_fail[rows]]
+        mt = c.message or rule.message
+        okt = c.message or rule.ok_message or rule.message
+        _put(message, bad_rows, mt.render_many(menv, bad_rows))
+        _put(message, ok_rows, okt.render_many(menv, ok_rows))
+        at = c.action or rule.action
+        _put(action, bad_rows, at.render_many(menv, bad_rows))
+
+
 def _put(target: np.ndarray, rows: np.ndarray, texts: list[str]) -> None:
     if rows.size:
         vals = np.empty(rows.size, dtype=object)
@@ -285,7 +304,7 @@ VARIANT_COLUMNS = ("variant_lo", "util_lo", "variant_hi", "util_hi", "variants_a
 def _grade_notes(rule, grading, not_app, message, action, scale, render):
     """Per cap: the spread over the accepted methods (vectorised columns), and, for the few caps
     where some accepted method fails, the sentence the comment carries."""
-    combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed = grading
+    combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, _reported = grading
     U = np.stack([o.util for o in outs])
     Uv = np.where(evaluated, U, np.nan)
     lo_i = np.argmin(np.where(np.isnan(Uv), np.inf, Uv), axis=0)
