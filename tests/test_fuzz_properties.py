@@ -337,10 +337,6 @@ def test_generated_expressions_compile_and_evaluate_or_are_refused(text, values)
     assert arr.dtype.kind in "fb" and arr.size in (1, len(values))
 
 
-@pytest.mark.xfail(strict=True, raises=TypeError,
-                   reason="checker/ruleset/expr.py: numpy refuses '-' on booleans, so arithmetic on a "
-                          "comparison loads but raises TypeError when a schedule is checked (reported to "
-                          "the owner of expr.py; remove this mark when it is fixed)")
 @pytest.mark.parametrize("text", ["-(a < b)", "(a < b) - (b < a)", "-isnan(a)"])
 def test_arithmetic_on_a_comparison_loads_and_evaluates(text):
     try:

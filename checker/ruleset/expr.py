@@ -27,6 +27,11 @@ class ExprError(ValueError):
     """An expression is not allowed or not well formed; the message says why."""
 
 
+def _num(x):
+    """Truth values as 1.0 / 0.0, so that arithmetic on a comparison is defined (``-(a < b)``)."""
+    return np.asarray(x, dtype=float) if np.ndim(x) else float(x)
+
+
 def _where(cond, a, b):
     return np.where(np.asarray(cond, dtype=bool), a, b)
 
@@ -42,7 +47,7 @@ FUNCTIONS: dict[str, tuple[Callable, int, int]] = {
     "tan": (lambda x: np.tan(np.radians(x)), 1, 1),
     "atan": (lambda x: np.degrees(np.arctan(x)), 1, 1),
     "where": (_where, 3, 3),
-    "isnan": (np.isnan, 1, 1),
+    "isnan": (lambda x: _num(np.isnan(x)), 1, 1),
 }
 """Trigonometric functions work in degrees, the unit of angles in the rule files."""
 
@@ -165,7 +170,7 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
         if isinstance(node.op, ast.UAdd):
             return operand
         if isinstance(node.op, ast.Not):
-            return lambda env: np.logical_not(operand(env))
+            return lambda env: _num(np.logical_not(operand(env)))
         raise ExprError(f"the operator {type(node.op).__name__} is not allowed")
 
     if isinstance(node, ast.BoolOp):
@@ -176,7 +181,7 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
             out = parts[0](env)
             for p in parts[1:]:
                 out = combine(out, p(env))
-            return out
+            return _num(out)
 
         return boolop
 
@@ -188,7 +193,7 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
             raise ExprError(f"the comparison {type(node.ops[0]).__name__} is not allowed")
         left = _compile(node.left, names, count, d)
         right = _compile(node.comparators[0], names, count, d)
-        return lambda env: op(left(env), right(env))
+        return lambda env: _num(op(left(env), right(env)))
 
     if isinstance(node, ast.Call):
         if not isinstance(node.func, ast.Name):

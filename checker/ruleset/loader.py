@@ -116,17 +116,40 @@ class Profile:
         return f"{name} = {v}" + (f" ({src})" if src else "")
 
 
+MAX_KEY = 1_000  # characters of a key or table header; tomllib's time grows with the square of a dotted key's depth
+
+
 def _read_toml(path: Path) -> dict:
+    """Read a rule or profile file: a regular file, at most MAX_RULE_FILE_BYTES, no key or table name
+    longer than MAX_KEY, valid UTF-8 TOML. Anything else is refused with the file and the reason."""
+    import stat
+
     try:
-        size = path.stat().st_size
+        st = path.stat()
     except OSError as exc:
         raise RuleFileError(f"{path}: cannot be read ({exc.strerror})") from None
-    if size > MAX_RULE_FILE_BYTES:
-        raise RuleFileError(f"{path}: {size} bytes is larger than the {MAX_RULE_FILE_BYTES} bytes allowed")
+    if not stat.S_ISREG(st.st_mode):
+        raise RuleFileError(f"{path}: not a regular file (rule files are plain TOML files)")
+    if st.st_size > MAX_RULE_FILE_BYTES:
+        raise RuleFileError(f"{path}: {st.st_size} bytes is larger than the {MAX_RULE_FILE_BYTES} bytes allowed")
     try:
-        return tomllib.loads(path.read_text(encoding="utf-8"))
+        with path.open("rb") as fh:
+            raw = fh.read(MAX_RULE_FILE_BYTES + 1)
+    except OSError as exc:
+        raise RuleFileError(f"{path}: cannot be read ({exc.strerror})") from None
+    if len(raw) > MAX_RULE_FILE_BYTES:
+        raise RuleFileError(f"{path}: larger than the {MAX_RULE_FILE_BYTES} bytes allowed")
+    try:
+        text = raw.decode("utf-8")
     except UnicodeDecodeError:
         raise RuleFileError(f"{path}: is not UTF-8 text") from None
+    for no, line in enumerate(text.splitlines(), start=1):
+        key = line.split("=", 1)[0] if "=" in line and not line.lstrip().startswith("[") else line
+        if len(key) > MAX_KEY:
+            raise RuleFileError(f"{path}: line {no}: a key or table name of {len(key)} characters is longer "
+                                f"than the {MAX_KEY} allowed")
+    try:
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise RuleFileError(f"{path}: not valid TOML ({exc})") from None
     except RecursionError:

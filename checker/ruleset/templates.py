@@ -15,6 +15,7 @@ import numpy as np
 
 UNIT_SCALE = {"kN": 1e-3, "kNm": 1e-6, "MN": 1e-6, "m": 1e-3, "%": 100.0, "": 1.0}
 _FORMATTER = string.Formatter()
+_SPEC = __import__("re").compile(r"^[<>^]?[+\- ]?\d{0,2},?(\.\d{1,2})?[fgde%]?$")
 
 
 class TemplateError(ValueError):
@@ -124,8 +125,9 @@ def parse_template(text: str, known: set[str]) -> Template:
             raise TemplateError(
                 f"template {text!r}: unknown unit '{unit}' (allowed: {', '.join(u for u in UNIT_SCALE if u)})"
             )
-        if spec and ("{" in spec or len(spec) > 12):
-            raise TemplateError(f"template {text!r}: format '{spec}' is not allowed")
+        if spec and not _SPEC.match(spec):
+            raise TemplateError(f"template {text!r}: format '{spec}' is not allowed "
+                                "(e.g. '.0f', '.2f', ',.0f', 'g'; width and precision at most two digits)")
         try:
             format(1.0, spec)
         except ValueError:
