@@ -15,8 +15,15 @@ what the page holds (``strategy="auto"``):
 
 A table is recognised by its heading row (at least three cells that look like schedule
 headings); a page without a heading row continues the table before it when its rows fit that
-table's columns. Bad documents raise :class:`IngestError` with a message for the user; a page that
-cannot be read becomes a note and the rest are still read.
+table's columns. Provenance: ``RawTable.pages`` is the 1-based page of each row and
+``row_numbers`` its row within that page's table, data rows counted from 1 (spacer rows, wrapped
+continuation lines, title and notes rows are not counted). Empty cells are ``""``.
+
+Bad documents raise :class:`IngestError` with a message for the user (file not found, not a PDF,
+encrypted with a password, damaged, no text layer, no schedule table, more pages than
+``max_pages``). A truncated file is salvaged as far as it goes (cut after its last complete
+object, given a trailer) and its surviving pages are read, with a note. A page that cannot be
+read becomes a note and the others are still read.
 """
 
 from __future__ import annotations
@@ -192,7 +199,7 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
                prev: Layout | None) -> tuple[list[PageTable], bool | str, str | None]:
     """(tables, True when the page has text else what it holds instead, note)."""
     content = page_content(page)
-    if not content.chars:
+    if not content.ltchars:
         if content.images:
             return [], "image", (f"page {page_no}: no text layer (a scanned image?); reading "
                                  f"scans (OCR) is out of scope, skipped")
@@ -200,7 +207,7 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
             return [], "drawing", (f"page {page_no}: no text to read (drawing only, or text "
                                    f"drawn as outlines), skipped")
         return [], "blank", f"page {page_no}: blank, skipped"
-    rotation = text_direction(content.chars)
+    rotation = text_direction(content.ltchars)
     ruled = len(content.hsegs) >= 2 and len(content.vsegs) >= 2
     if strategy in ("auto", "lines") and rotation == 0 and ruled:
         from checker.ingest.pdf_ruled import find_ruled_tables

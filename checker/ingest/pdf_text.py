@@ -121,13 +121,23 @@ class PageContent:
     its text layer; coordinates are pdfplumber's (points, origin top left, rotation applied).
     """
 
-    chars: list[tuple]            # (text, x0, x1, top, bottom, size, upright, matrix)
+    ltchars: list                 # pdfminer LTChar objects
     hsegs: list[tuple[float, float, float]]    # horizontal rules (x0, x1, y)
     vsegs: list[tuple[float, float, float]]    # vertical rules (x, top, bottom)
     images: int
     drawings: int
     width: float
     height: float
+    mb_x0: float = 0.0
+    off: float = 0.0
+
+    @property
+    def chars(self) -> list[tuple]:
+        """(text, x0, x1, top, bottom, size, upright, matrix) per glyph, pdfplumber's frame
+        (built only when the text layer is read: a ruled page does not need them)."""
+        mb_x0, off = self.mb_x0, self.off
+        return [(c.get_text(), c.x0 + mb_x0, c.x1 + mb_x0, off - c.y1, off - c.y0, c.size,
+                 c.upright, c.matrix) for c in self.ltchars]
 
 
 def page_content(page) -> PageContent:
@@ -145,8 +155,7 @@ def page_content(page) -> PageContent:
     while stack:
         obj = stack.pop()
         if isinstance(obj, LTChar):
-            chars.append((obj.get_text(), obj.x0 + mb_x0, obj.x1 + mb_x0, off - obj.y1,
-                          off - obj.y0, obj.size, obj.upright, obj.matrix))
+            chars.append(obj)
         elif isinstance(obj, (LTLine, LTRect, LTCurve)):
             drawings += 1
             x0, x1, y0, y1 = obj.x0 + mb_x0, obj.x1 + mb_x0, off - obj.y1, off - obj.y0
@@ -164,7 +173,7 @@ def page_content(page) -> PageContent:
             images += 1
         elif isinstance(obj, LTContainer):
             stack.extend(obj._objs)
-    return PageContent(chars, hsegs, vsegs, images, drawings, width, height)
+    return PageContent(chars, hsegs, vsegs, images, drawings, width, height, mb_x0, off)
 
 
 def glyphs_from_chars(chars: Iterable[tuple], rotation: int = 0, page_w: float = 0.0,
@@ -183,14 +192,15 @@ def glyphs_from_chars(chars: Iterable[tuple], rotation: int = 0, page_w: float =
     return [Glyph(c[0], c[3], c[4], page_w - c[2], page_w - c[1], c[5]) for c in chars]
 
 
-def text_direction(chars: Sequence[tuple]) -> int:
-    """0 when most glyphs are upright, else 90 (text reads up the page) or 270 (down)."""
+def text_direction(ltchars: Sequence) -> int:
+    """0 when most glyphs (pdfminer LTChars) are upright, else 90 (text reads up the page) or
+    270 (down)."""
     upright = up = down = 0
-    for c in chars:
-        if c[6]:
+    for c in ltchars:
+        if c.upright:
             upright += 1
             continue
-        m = c[7] or (1, 0, 0, 1, 0, 0)
+        m = c.matrix or (1, 0, 0, 1, 0, 0)
         # matrix (a, b, c, d): the text's x direction in PDF space is (a, b); PDF y points up
         if m[1] > 0:
             up += 1
