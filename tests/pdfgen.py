@@ -167,6 +167,7 @@ class Spec:
     style: str = "grid"             # grid | none | hrules (top/mid/bottom) | rowrules |
                                     # gridbody (a grid round the data rows, heading outside)
     head_valign: str = "top"        # top | middle | bottom: headings with fewer lines
+    head_rule: bool = False         # grid: a rule between heading lines 1 and 2 (two grid rows)
     cell_valign: str = "top"        # top | middle | bottom: cells beside a wrapped cell
     font_size: float = 7.0
     rows_per_page: int | None = None
@@ -371,6 +372,8 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
                 else:
                     c.line(x, top, x, table_bottom)
             c.line(xs[0], top, xs[-1], top)
+            if spec.head_rule:      # the unit line of the heading as a grid row of its own
+                c.line(xs[0], top - pad - lead - 0.2 * pad, xs[-1], top - pad - lead - 0.2 * pad)
             if span:                # rule under the spanning heading only
                 c.line(xs[span[0]], top - pad - lead - 0.2 * pad,
                        xs[span[-1] + 1], top - pad - lead - 0.2 * pad)
@@ -665,6 +668,7 @@ REPORTLAB_CASES: dict[str, Spec] = {
                                            repeat_heading=False, title=True),
     "two_line_headings_ruled": Spec(style="grid", cols="two"),
     "two_line_headings_unruled": Spec(style="none", cols="two"),
+    "two_heading_grid_rows_ruled": Spec(style="grid", cols="two", head_rule=True),
     "spanning_heading_ruled": Spec(style="grid", cols="span"),
     "spanning_heading_unruled": Spec(style="none", cols="span"),
     "combined_lxwxd_ruled": Spec(style="grid", cols="lwd"),
