@@ -335,8 +335,27 @@ def mapping_from_dict(pairs: Mapping[str, str], source: str = "<mapping>") -> He
     return out
 
 
+def mapping_from_toml(text: str, source: str = "<mapping>") -> HeadingMap:
+    """A mapping file's text -> :class:`HeadingMap`; IngestError naming ``source`` when it is refused."""
+    problem = limits.toml_text_problem(text)
+    if problem:
+        raise IngestError(f"{source}: not read as a mapping file: {problem}")
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise IngestError(f"{source}: not a valid TOML mapping file ({exc})") from None
+    except RecursionError:
+        raise IngestError(f"{source}: not read as a mapping file: nested too deeply") from None
+    table = data.get("headings")
+    if not isinstance(table, dict):
+        raise IngestError(f'{source}: no [headings] table; write e.g. [headings] "Pile Ø (m)" = "pile_dia [m]"')
+    return mapping_from_dict(table, source)
+
+
 def load_mapping(path: str | Path) -> HeadingMap:
-    """Read a TOML mapping file: a ``[headings]`` table of ``"Heading as written" = "field [unit]"``."""
+    """Read a TOML mapping file: a ``[headings]`` table of ``"Heading as written" = "field [unit]"``
+    (at most :data:`checker.ingest.limits.MAX_MAPPING_BYTES`, lines of at most
+    :data:`checker.ingest.limits.MAX_TOML_LINE_CHARS` characters)."""
     p = Path(path)
     if not p.exists():
         raise IngestError(f"{p}: mapping file not found")
@@ -346,19 +365,7 @@ def load_mapping(path: str | Path) -> HeadingMap:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise IngestError(f"{p}: cannot read the mapping file ({exc})") from None
-    problem = limits.toml_text_problem(text)
-    if problem:
-        raise IngestError(f"{p}: not read as a mapping file: {problem}")
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise IngestError(f"{p}: not a valid TOML mapping file ({exc})") from None
-    except RecursionError:
-        raise IngestError(f"{p}: not read as a mapping file: nested too deeply") from None
-    table = data.get("headings")
-    if not isinstance(table, dict):
-        raise IngestError(f'{p}: no [headings] table; write e.g. [headings] "Pile Ø (m)" = "pile_dia [m]"')
-    return mapping_from_dict(table, str(p))
+    return mapping_from_toml(text, str(p))
 
 
 def resolve_mapping(mapping: Any) -> HeadingMap | None:
