@@ -15,6 +15,9 @@ pages bare ``extract_tables()`` finds no table at all (it needs rules), so there
 the floor of parsing the pages; ``pdfplumber_text_strategy_s`` adds pdfplumber's own text
 strategy for comparison (which splits unruled schedules into wrong columns, see libraries.md).
 Target: ratio <= 1.3.
+
+Wall-clock times (``*_s``, ``ratio``) move with whatever else the machine is running; the CPU
+times of this process (``cpu_*``) are steadier on a shared machine and are reported beside them.
 """
 
 from __future__ import annotations
@@ -36,6 +39,7 @@ ROWS_PER_PAGE = 40
 
 
 def _bare(path: Path, **settings) -> int:
+    """Bare pdfplumber, default settings unless given: every page's extract_tables()."""
     import pdfplumber
 
     n = 0
@@ -52,30 +56,30 @@ def _ours(path: Path) -> int:
     return sum(len(t.rows) for t in tables)
 
 
-def _best(fn, path: Path, repeat: int, **kw) -> tuple[float, int]:
-    best = float("inf")
-    out = 0
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn(path, **kw)
-        best = min(best, time.perf_counter() - t0)
-    return best, out
+def _timed(fn, path: Path, **kw) -> tuple[float, float, int]:
+    """(wall-clock s, CPU s of this process, result)."""
+    w0, c0 = time.perf_counter(), time.process_time()
+    out = fn(path, **kw)
+    return time.perf_counter() - w0, time.process_time() - c0, out
 
 
 def run_case(path: Path, pages: int, repeat: int, text_strategy: bool) -> dict:
-    ours = bare = float("inf")
+    inf = float("inf")
+    ours, bare, ours_cpu, bare_cpu = inf, inf, inf, inf
     rows = tables = 0
     for _ in range(repeat):              # alternate, best of each
-        t, tables = _best(_bare, path, 1)
-        bare = min(bare, t)
-        t, rows = _best(_ours, path, 1)
-        ours = min(ours, t)
+        w, c, tables = _timed(_bare, path)
+        bare, bare_cpu = min(bare, w), min(bare_cpu, c)
+        w, c, rows = _timed(_ours, path)
+        ours, ours_cpu = min(ours, w), min(ours_cpu, c)
     res = {"pages": pages, "capcheck_s": round(ours, 3), "pdfplumber_extract_tables_s":
-           round(bare, 3), "ratio": round(ours / bare, 3), "rows_read": rows,
+           round(bare, 3), "ratio": round(ours / bare, 3),
+           "cpu_capcheck_s": round(ours_cpu, 3), "cpu_pdfplumber_s": round(bare_cpu, 3),
+           "cpu_ratio": round(ours_cpu / bare_cpu, 3), "rows_read": rows,
            "pdfplumber_tables_found": tables}
     if text_strategy:
-        t, _ = _best(_bare, path, 1, vertical_strategy="text", horizontal_strategy="text")
-        res["pdfplumber_text_strategy_s"] = round(t, 3)
+        w, _, _ = _timed(_bare, path, vertical_strategy="text", horizontal_strategy="text")
+        res["pdfplumber_text_strategy_s"] = round(w, 3)
     return res
 
 
