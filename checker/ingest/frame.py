@@ -36,6 +36,7 @@ from checker.ingest.notation import (
     bars_from_spacing,
     clean_text,
     concrete_from_fck,
+    is_real_number,
     parse_bars,
     parse_column,
     parse_concrete,
@@ -186,12 +187,10 @@ def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique
     return _Unique(codes, uniq, outs, blank_u, errs)
 
 
-_FIGURE_TYPES = (str, int, float, np.integer, np.floating)
-
-
 def _figure_type(v: Any) -> bool:
-    """A cell that may hold a figure: text or a real number (not a bool, date, complex, bytes ...)."""
-    return isinstance(v, _FIGURE_TYPES) and not isinstance(v, (bool, np.bool_))
+    """A cell that may hold a figure: text or a real number (int, float, Decimal, Fraction, numpy's;
+    not a bool, date, complex number, bytes ...)."""
+    return isinstance(v, str) or is_real_number(v)
 
 
 def _to_float_array(col: pd.Series) -> np.ndarray | None:
@@ -278,8 +277,10 @@ def _quote_cell(v: Any) -> str:
 
 
 def _text(v: Any) -> str:
-    if isinstance(v, float) and math.isfinite(v) and v == int(v) and abs(v) < 1e15:
-        return str(int(v))
+    if isinstance(v, (float, np.floating)):
+        f = float(v)
+        if math.isfinite(f) and f == int(f) and abs(f) < 1e15:
+            return str(int(f))
     if isinstance(v, str):
         if v.isascii() and v.isprintable() and "  " not in v:     # no tabs, line breaks or controls
             return v.strip()

@@ -8,8 +8,10 @@ text, so mapping a column of repeated values costs one parse per distinct value.
 
 from __future__ import annotations
 
+import decimal
 import functools
 import math
+import numbers
 import re
 import unicodedata
 from dataclasses import dataclass
@@ -27,6 +29,7 @@ class NotationError(ValueError):
 T = TypeVar("T")
 
 _MEMO_LIMIT = 50_000
+_PLAIN_KEYS = (str, int, float)
 
 
 def _memo(fn: Callable[..., T]) -> Callable[..., T]:
@@ -35,9 +38,9 @@ def _memo(fn: Callable[..., T]) -> Callable[..., T]:
 
     @functools.wraps(fn)
     def wrapper(*args: Any) -> T:
-        # True == 1 and hash(True) == hash(1): a bool must not share a memo slot with a number
-        key = args if not any(isinstance(a, (bool, np.bool_)) for a in args) else \
-            tuple((bool, a) if isinstance(a, (bool, np.bool_)) else a for a in args)
+        # True == 1 == 1.0 == Decimal(1) and they hash alike: only str, int and float (read alike
+        # by every parser) share memo slots; any other type is keyed with its type
+        key = tuple(a if type(a) in _PLAIN_KEYS else (type(a), a) for a in args)
         try:
             hit = cache.get(key)
         except TypeError:                       # unhashable argument: no memo
@@ -160,6 +163,15 @@ def _hinted(fn: Callable[..., T]) -> Callable[..., T]:
     return wrapper
 
 
+#: cell types read as numbers: every real number type (int, float, Fraction, numpy's), and Decimal;
+#: never a bool
+REAL_TYPES = (numbers.Real, decimal.Decimal)
+
+
+def is_real_number(v: Any) -> bool:
+    return isinstance(v, REAL_TYPES) and not isinstance(v, (bool, np.bool_))
+
+
 def _finite(v: float, original: Any) -> float:
     if not math.isfinite(v):
         raise NotationError(f"{_quote(original)} is too large a number")
@@ -236,10 +248,10 @@ def parse_quantity(text: Any) -> Quantity:
     """
     if isinstance(text, bool):
         raise NotationError(f"{_quote(text)} is not a number")
-    if isinstance(text, (int, float, np.integer, np.floating)):
+    if is_real_number(text):
         try:
             v = float(text)
-        except OverflowError:
+        except (OverflowError, ValueError):
             raise NotationError(f"{_quote(text)} is too large a number") from None
         if math.isnan(v):
             raise NotationError("empty cell")
@@ -430,10 +442,10 @@ def parse_column(text: Any, scale: float = 1.0) -> ColumnSize:
     """Column size: ``600x400`` (along x by along y; also ``600 x 400``, ``600×400``, ``600X400``),
     ``600`` or ``600 sq`` (square), ``D600``, ``Ø600``, ``600 dia`` (circular). Lengths in mm unless
     the cell says ``m``/``cm``, or the heading's unit factor ``scale`` applies."""
-    if isinstance(text, (int, float, np.integer, np.floating)) and not isinstance(text, (bool, np.bool_)):
+    if is_real_number(text):
         try:
             v = float(text)
-        except OverflowError:
+        except (OverflowError, ValueError):
             raise NotationError(f"{_quote(text)} is too large a number") from None
         if math.isnan(v):
             raise NotationError("empty cell")

@@ -11,9 +11,12 @@ Not collected by pytest (no ``test_`` prefix); imported as ``fuzz.schedules``.
 from __future__ import annotations
 
 import datetime as dt
+import decimal
+import fractions
 import math
 
 import numpy as np
+import pandas as pd
 from hypothesis import strategies as st
 
 from checker.model import CONCRETE_CLASSES, STANDARD_BAR_SIZES
@@ -103,8 +106,6 @@ def valid_rows(draw, min_size: int = 1, max_size: int = 6) -> list[dict[str, obj
 
 def frame_of(rows: list[dict[str, object]], fields: tuple[str, ...] | None = None):
     """A DataFrame with the schedule headings (object cells, as a sheet would hold them)."""
-    import pandas as pd
-
     fields = tuple(HEADINGS) if fields is None else fields
     return pd.DataFrame({HEADINGS[f]: pd.Series([r.get(f) for r in rows], dtype=object) for f in fields})
 
@@ -126,7 +127,9 @@ HOSTILE_CELLS: tuple[object, ...] = (
     "a" * 5000, "\U0001f600",
     0, -1, 1, 10 ** 30, 10 ** 400, -(10 ** 400), 2 ** 63, 2 ** 64 + 1,
     0.0, -0.0, 1e308, 1.7976931348623157e308, 5e-324, float("nan"), float("inf"), float("-inf"),
-    np.int64(600), np.float32(600.5), np.nan, None, True, False, np.bool_(True),
+    np.int64(600), np.float32(600.5), np.float16(600), np.uint8(200), np.nan, None, True, False, np.bool_(True),
+    decimal.Decimal("600"), decimal.Decimal("NaN"), decimal.Decimal("-Infinity"), fractions.Fraction(3, 2),
+    pd.NA, pd.NaT, pd.Timestamp("2024-01-01"), np.datetime64("2024-01-01"), pd.Timedelta("1D"),
     dt.datetime(2024, 1, 2, 3, 4, 5), dt.date(2024, 1, 2), dt.time(12, 0), dt.timedelta(days=2),
     b"600", bytearray(b"12H25"), complex(1, 2), [600], {"a": 1}, (600, 400),
 )
