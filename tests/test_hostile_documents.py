@@ -480,6 +480,22 @@ def test_a_pipe_or_device_behind_a_schedule_name_is_refused(tmp_path):
         assert "not a regular file" in refusal(link)
 
 
+def test_coordinates_with_thousands_of_positions_for_one_cap(tmp_path):
+    """The least pile centres come from pairwise distances; 20,000 positions would be 3 GB of them."""
+    sched = tmp_path / "s.csv"
+    sched.write_text(",".join(HEAD) + "\n" + ",".join(map(str, row(1))) + "\n" + ",".join(map(str, row(2))) + "\n")
+    coords = tmp_path / "xy.csv"
+    with open(coords, "w") as fh:
+        fh.write("mark,x,y\n")
+        fh.writelines(f"PC1,{i},{i % 7}\n" for i in range(20_000))
+        fh.write("PC2,-900,-900\nPC2,900,-900\nPC2,-900,900\nPC2,900,900\n")
+    with bounded(5.0, mib=200):
+        s = read_schedule(sched, coords=coords)
+    assert list(s.caps["mark"]) == ["PC2"]
+    (err,) = s.rejected[0]["errors"]
+    assert err.startswith("piles") and "20,000 positions" in err
+
+
 def test_long_cells(tmp_path):
     p = tmp_path / "long.csv"
     long_mark = "P" * (limits.MAX_CELL_CHARS + 10)

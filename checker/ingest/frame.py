@@ -64,6 +64,7 @@ DERIVED_FROM: dict[str, tuple[str, ...]] = {
 }
 
 _TEXT_FIELDS = ("mark", "exposure", "pile_type", "method")
+_MAX_COORD_PILES = 64           # positions of one cap read from a coordinates table
 _NUMERIC_KINDS = ("length", "force", "moment", "stress", "area", "count")
 _BAR_ENDS = {
     **dict.fromkeys(("straight", "str", "straight bars"), "straight"),
@@ -591,11 +592,20 @@ def _apply_coords(out: dict[str, np.ndarray], coords: pd.DataFrame, problems: di
                 continue
             xy = groups[m]
             count = len(xy)
+            if count > _MAX_COORD_PILES:
+                # the model allows at most 6 piles; the pairwise distances of thousands of positions
+                # would take gigabytes, so say so here and go no further with this cap
+                errors.add("piles", [r], [f"{labels.get('piles', 'piles')}: the pile coordinates give {count:,} "
+                                          f"positions for {m!r}; a cap of more than {_MAX_COORD_PILES} piles "
+                                          "is not read"])
+                continue
             if count >= 2:
-                d = np.sqrt(((xy[:, None, :] - xy[None, :, :]) ** 2).sum(-1))
+                with np.errstate(over="ignore", invalid="ignore"):
+                    d = np.sqrt(((xy[:, None, :] - xy[None, :, :]) ** 2).sum(-1))
                 least = float(d[np.triu_indices(count, 1)].min())
                 if least <= 0:
-                    errors.add("piles", [r], [f"pile coordinates for {m!r}: two piles at the same position"])
+                    errors.add("piles", [r], [f"{labels.get('piles', 'piles')}: the pile coordinates for {m!r} "
+                                              "put two piles at the same position"])
                     continue
                 if np.isnan(out["pile_spacing"][r]):
                     out["pile_spacing"][r] = least

@@ -145,9 +145,8 @@ def check_rows(count: int, name: str, limit: int | None = None, where: str = "")
     """IngestError when ``count`` filled rows exceed ``limit`` (default :data:`MAX_ROWS`)."""
     limit = MAX_ROWS if limit is None else limit
     if count > limit:
-        raise IngestError(f"{name}{where}: more than {_n(limit)} filled rows, the limit for one schedule "
-                          f"(rows limit {_n(limit)}); split the schedule into files of at most "
-                          f"{_n(limit)} rows")
+        raise IngestError(f"{name}{where}: more than {_n(limit)} filled rows, the limit for one schedule; "
+                          f"split the schedule into files of at most {_n(limit)} rows")
 
 
 def check_columns(count: int, name: str, row: int | None = None, limit: int | None = None,

@@ -401,7 +401,7 @@ def bars_from_spacing(width_mm: Any, cover_mm: Any, dia_mm: Any, centres_mm: Any
     small for one bar gives n <= 0, which the model refuses.
     """
     w, c, d, s = (np.asarray(a, dtype=float) for a in (width_mm, cover_mm, dia_mm, centres_mm))
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         n = np.floor((w - 2.0 * c - d) / s + 1e-9) + 1.0
     return n if n.ndim else float(n)
 
