@@ -293,6 +293,14 @@ def test_zip_member_claiming_gigabytes_is_refused_by_size_before_decompression(t
     assert "refused" in msg and ("200 MiB" in msg or ":1" in msg)
 
 
+def test_shared_strings_beyond_their_limit_are_refused_unread(tmp_path, monkeypatch):
+    good = with_shared_strings(workbook(tmp_path / "plain.xlsx"), tmp_path / "good.xlsx")
+    _forge_sizes(good, "xl/sharedStrings.xml", limits.MAX_SHARED_STRINGS_BYTES + 1)
+    monkeypatch.setattr(zipfile.ZipFile, "open", lambda *a, **k: pytest.fail("a member was decompressed"))
+    msg = refusal(good)
+    assert "shared strings" in msg and "limit of 32 MiB" in msg
+
+
 def test_total_expansion_beyond_the_limit_is_refused(tmp_path, monkeypatch):
     good = workbook(tmp_path / "good.xlsx")
     monkeypatch.setattr(limits, "MAX_XLSX_UNCOMPRESSED_BYTES", 5_000)

@@ -13,6 +13,7 @@ declares before any member is decompressed, the row count while rows are read).
 | :data:`MAX_CELL_CHARS` | 32,767 | characters in one cell that capcheck reads |
 | :data:`MAX_XLSX_UNCOMPRESSED_BYTES` | 200 MiB | the members of an XLSX archive, as declared |
 | :data:`MAX_COMPRESSION_RATIO` | 100 | any XLSX member over :data:`RATIO_FLOOR_BYTES` |
+| :data:`MAX_SHARED_STRINGS_BYTES` | 32 MiB | the shared-strings part (held in memory whole) |
 | :data:`MAX_SHEETS` | 50 | worksheets of one workbook |
 | :data:`MAX_PDF_PAGES` | 200 | pages of a PDF (``--max-pages`` changes it) |
 | :data:`MAX_MAPPING_BYTES` | 256 KiB | a heading mapping file (TOML) |
@@ -58,6 +59,11 @@ MAX_XLSX_UNCOMPRESSED_BYTES = 200 * MiB
 #: Uncompressed over compressed size of one member. Spreadsheet XML deflates about 13:1
 #: (measured on openpyxl output); a ZIP bomb is near the deflate maximum of about 1000:1.
 MAX_COMPRESSION_RATIO = 100
+
+#: The shared-strings part of a workbook, which openpyxl holds in memory whole (as one Python
+#: string per entry: 32 MiB of tiny entries is about 150 MB). A 100,000-row schedule with a
+#: different mark on every row needs a few MB.
+MAX_SHARED_STRINGS_BYTES = 32 * MiB
 
 #: Members smaller than this are not ratio-checked (a small, very regular part is harmless).
 RATIO_FLOOR_BYTES = 1 * MiB
@@ -198,6 +204,10 @@ def check_archive(members: Iterable[zipfile.ZipInfo], name: str, max_total: int 
     for info in members:
         size = int(info.file_size)
         total += size
+        if info.filename.lower().endswith("sharedstrings.xml") and size > MAX_SHARED_STRINGS_BYTES:
+            raise IngestError(
+                f"{name}: refused: the shared strings of the workbook would expand to {_mib(size)}, more than "
+                f"the limit of {_mib(MAX_SHARED_STRINGS_BYTES)}; save the schedule sheet on its own, or as CSV")
         if size > floor:
             ratio = size / max(int(info.compress_size), 1)
             if ratio > max_ratio:
