@@ -197,3 +197,12 @@ def test_bad_mapping_files(tmp_path, text, fragment):
 def test_missing_mapping_file(tmp_path):
     with pytest.raises(IngestError, match="not found"):
         load_mapping(tmp_path / "nope.toml")
+
+
+@pytest.mark.parametrize("heading, field", [
+    ("Cap size (mm) L", "cap_length"), ("Cap size (mm) W", "cap_width"), ("Cap size (mm) D", "cap_depth"),
+    ("Cap size B", "cap_width"), ("Cap size H", "cap_depth"),
+])
+def test_group_heading_over_short_sub_headings(heading, field):
+    """A group heading 'Cap size (mm)' over L / W / D columns, joined as a PDF table gives it."""
+    assert match_heading(heading)[0] == field
