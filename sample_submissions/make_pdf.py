@@ -18,7 +18,7 @@ import re
 import sys
 from pathlib import Path
 
-FIRM = "Example Structures LLP (fictitious)"
+FIRM = "Kestrel Vale Structures (fictitious)"
 
 
 def _numeric(values: list[str]) -> bool:
