@@ -116,7 +116,7 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
            coords: str | Path | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
-           messages: str = "all") -> Review:
+           messages: str = "all", max_rows: int | None = None) -> Review:
     """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
 
     Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
@@ -128,10 +128,12 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
 
     ruleset = load_ruleset(profile, rules_dir, overrides, drop_variants)
     if isinstance(source, pd.DataFrame):
-        sched = schedule_from_frame(source, mapping=mapping)
+        sched = schedule_from_frame(source, mapping=mapping, **({"max_rows": max_rows} if max_rows else {}))
         name = "<dataframe>"
     else:
         kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords}
+        if max_rows:
+            kwargs["max_rows"] = max_rows
         if str(source).lower().endswith(".pdf"):
             kwargs.update(pdf_strategy=pdf_strategy, max_pages=max_pages)
             if progress is not None:

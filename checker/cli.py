@@ -11,6 +11,7 @@ from rich.console import Console
 from rich.text import Text
 
 from checker.findings import SEVERITY_ORDER
+from checker.ingest.limits import MAX_PDF_PAGES, MAX_ROWS
 
 EXIT_OK = 0            # nothing at or above --fail-on
 EXIT_FINDINGS = 1      # something at or above --fail-on
@@ -42,7 +43,10 @@ def _input(p: argparse.ArgumentParser) -> None:
     p.add_argument("--coords", metavar="FILE", help="CSV of explicit pile coordinates: mark, x, y (mm)")
     p.add_argument("--pdf-strategy", choices=("auto", "lines", "text"), default="auto",
                    help="force the PDF table strategy (default: chosen per page)")
-    p.add_argument("--max-pages", type=int, default=200, help="refuse PDFs with more pages than this (default 200)")
+    p.add_argument("--max-pages", type=int, default=MAX_PDF_PAGES,
+                   help=f"refuse PDFs with more pages than this (default {MAX_PDF_PAGES})")
+    p.add_argument("--max-rows", type=int, default=MAX_ROWS,
+                   help=f"refuse schedules with more rows than this (default {MAX_ROWS:,})")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress bar")
 
 
@@ -116,7 +120,7 @@ def _review(args, console_err: Console, messages: str = "all"):
         return review(args.file, profile=args.profile, rules_dir=args.rules_dir,
                       overrides=dict(args.overrides), mapping=args.mapping, coords=args.coords,
                       pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb,
-                      drop_variants=args.drop_variants, messages=messages)
+                      drop_variants=args.drop_variants, messages=messages, max_rows=args.max_rows)
     finally:
         if prog is not None:
             prog.stop()

@@ -152,7 +152,8 @@ def check_rows(count: int, name: str, limit: int | None = None, where: str = "")
     limit = MAX_ROWS if limit is None else limit
     if count > limit:
         raise IngestError(f"{name}{where}: more than {_n(limit)} filled rows, the limit for one schedule; "
-                          f"split the schedule into files of at most {_n(limit)} rows")
+                          f"split the schedule into files of at most {_n(limit)} rows, or raise the "
+                          "limit with --max-rows N")
 
 
 def check_columns(count: int, name: str, row: int | None = None, limit: int | None = None,

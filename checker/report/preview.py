@@ -41,7 +41,7 @@ def print_preview(args, out: Console, err: Console) -> int:
     from checker.cli import EXIT_OK, EXIT_UNREADABLE
     from checker.ingest.schedule import read_schedule
 
-    kwargs = {"mapping": args.mapping, "coords": args.coords}
+    kwargs = {"mapping": args.mapping, "coords": args.coords, "max_rows": args.max_rows}
     if str(args.file).lower().endswith(".pdf"):
         kwargs.update(pdf_strategy=args.pdf_strategy, max_pages=args.max_pages)
     sched = read_schedule(args.file, **kwargs)

@@ -22,19 +22,37 @@ def _cell_text(v: Any) -> str:
     return "" if v is None else str(v)
 
 
+def _csv_safe(v: Any) -> str:
+    """Text that a spreadsheet will not run as a formula: a cell starting with = + - @ (or a tab or
+    carriage return) gets a leading apostrophe (OWASP, CSV injection). Numbers are left as they are."""
+    text = _cell_text(v)
+    if text and text[0] in "=+-@\t\r" and not _is_number(text):
+        return "'" + text
+    return text
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
 def comments_csv(comments: list[Comment]) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\r\n")
     w.writerow([f"Caution: {CAUTION}"])
     w.writerow(COMMENT_HEADINGS)
     for c in comments:
-        w.writerow([_cell_text(v) for v in c.cells()])
+        w.writerow([_csv_safe(v) for v in c.cells()])
     return buf.getvalue()
 
 
 def _md_escape(v: Any) -> str:
     text = _cell_text(v)
     text = text.replace("\\", "\\\\").replace("|", "\\|")
+    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     text = text.replace("\r\n", "\n").replace("\n", "<br>")
     return text
 

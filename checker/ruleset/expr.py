@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import ast
 import operator
+import warnings
 from dataclasses import dataclass
 from typing import Callable, Mapping
 
@@ -103,7 +104,11 @@ def compile_expression(text: str, known: set[str] | frozenset[str] | None = None
     if len(src) > MAX_LENGTH:
         raise ExprError(f"the expression is {len(src)} characters long; at most {MAX_LENGTH} are allowed")
     try:
-        tree = ast.parse(src, mode="eval")
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", SyntaxWarning)  # e.g. '1and b': refused, not warned about
+            tree = ast.parse(src, mode="eval")
+    except SyntaxWarning as exc:
+        raise ExprError(f"not a valid expression ({exc})") from None
     except SyntaxError as exc:
         raise ExprError(f"not a valid expression ({exc.msg})") from None
     except (ValueError, RecursionError, MemoryError):
