@@ -93,6 +93,11 @@ def comment_key(cap: str, rule: str) -> str:
     return f"{cap}/{rule}"
 
 
+def none_if_nan(v: Any) -> Any:
+    """None for None, NaN, pd.NA and NaT; the value otherwise."""
+    return _none_if_nan(v)
+
+
 def _none_if_nan(v: Any) -> Any:
     if v is None:
         return None

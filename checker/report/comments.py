@@ -21,6 +21,7 @@ import pandas as pd
 
 from checker.findings import (
     SEVERITY_ORDER,
+    none_if_nan,
     comment_key,
     describe_source,
     sort_findings,
@@ -117,15 +118,7 @@ SHORT_CAUTION = (
 )
 
 
-def _nan_to_none(v: Any) -> Any:
-    if v is None:
-        return None
-    try:
-        if pd.isna(v):
-            return None
-    except (TypeError, ValueError):
-        return v
-    return v
+_nan_to_none = none_if_nan
 
 
 def _float_or_none(v: Any) -> float | None:

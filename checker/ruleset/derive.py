@@ -263,11 +263,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         dx = np.abs(np.stack([X[:, (k + 1) % 3] - X[:, k] for k in range(3)], axis=1))
         dl = np.hypot(dx, np.stack([Y[:, (k + 1) % 3] - Y[:, k] for k in range(3)], axis=1))
         base_pick = np.argmax(np.where(dl > 0, dx / np.where(dl > 0, dl, 1.0), -1.0), axis=1)
-        rows3 = np.arange(n)
-        tie_base_3 = np.where(ok3, sides[rows3, base_pick], np.nan)
-        incl = sides.copy()
-        incl[rows3, base_pick] = -np.inf
-        tie_incl_3 = np.where(ok3, np.max(incl, axis=1), np.nan)
+        tie_base_3, tie_incl_3 = _base_and_inclined(sides, base_pick, ok3)
     q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
     # Three-pile caps are checked on the ties along the triangle's sides (reference §6): the base side
     # against the x layer over the base row; the two inclined sides (60 degrees to x) against the
@@ -294,12 +290,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     base_cw = incl_cw = np.full(n, np.nan)
     if base_pick is not None:
         sides_cw = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx_cw[:, :3], Hy_cw[:, :3])
-        ok3 = three & mask[:, :3].all(axis=1)
-        rows3 = np.arange(n)
-        base_cw = np.where(ok3, sides_cw[rows3, base_pick], np.nan)
-        incl = sides_cw.copy()
-        incl[rows3, base_pick] = -np.inf
-        incl_cw = np.where(ok3, np.max(incl, axis=1), np.nan)
+        base_cw, incl_cw = _base_and_inclined(sides_cw, base_pick, three & mask[:, :3].all(axis=1))
     as_side_y_cw = 0.75 * q["as_tie_y_orth_prov"] + 0.25 * np.fmax(
         q["as_tie_x"] - st.tie_steel_required(base_cw, fyd), 0.0)
     for k, t, t_side, prov in (("x", tx_cw, base_cw, q["as_tie_x"]), ("y", ty_cw, incl_cw, as_side_y_cw)):
@@ -438,6 +429,15 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
                    piles={"R": R, "R_col": R_col, "Hx": Hx, "Hy": Hy, "theta": theta, "r": r,
                           "face_dist": face_dist},
                    text={"stated_diff_what": what})
+
+
+def _base_and_inclined(sides: np.ndarray, base_pick: np.ndarray, ok3: np.ndarray):
+    """Three-pile caps: the base side's tie force and the larger of the two inclined sides' [N]."""
+    rows = np.arange(sides.shape[0])
+    base = np.where(ok3, sides[rows, base_pick], np.nan)
+    incl = sides.copy()
+    incl[rows, base_pick] = -np.inf
+    return base, np.where(ok3, np.max(incl, axis=1), np.nan)
 
 
 def _rel_diff(stated: np.ndarray, checked: np.ndarray) -> np.ndarray:
