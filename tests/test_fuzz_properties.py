@@ -371,7 +371,7 @@ def mutated_schedule(draw):
     for _ in range(draw(st.integers(1, 3))):
         i = draw(st.integers(0, len(rows) - 1))
         for fld, cell in draw(_mutations()):
-            if cell == "<lookalike>":
+            if isinstance(cell, str) and cell == "<lookalike>":
                 old = rows[i].get(fld)
                 cell = mutate_text(draw, str(old)) if old is not None else None
             rows[i][fld] = cell
