@@ -17,9 +17,18 @@ Tolerance policy (stated once, used by every numeric test through the ``tol`` fi
 
 from __future__ import annotations
 
+import os
+
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import settings
+
+# In CI the property tests draw the same examples every run (a red CI then means a change broke
+# something, not that a new random example turned up); locally they explore new examples each run.
+settings.register_profile("ci", derandomize=True, deadline=None)
+if os.environ.get("CI"):
+    settings.load_profile("ci")
 
 
 class Tolerance:
