@@ -158,10 +158,8 @@ def write_files(review, paths: list[str], *, force: bool, meta: dict, previous_p
                 console_err: Console) -> list[Path]:
     if not paths:
         return []
-    try:
-        from checker.report import write_outputs
-    except ImportError:
-        write_outputs = None
+    from checker.report import write_outputs
+
     previous = None
     if previous_path:
         from checker.revision import carry_over, read_previous_sheet
@@ -171,20 +169,7 @@ def write_files(review, paths: list[str], *, force: bool, meta: dict, previous_p
         console_err.print(Text.assemble(("Revision: ", "bold"), previous.summary()))
         for w in previous.warnings:
             console_err.print(Text(f"note: {w}", style="dim"))
-    if write_outputs is not None:
-        return write_outputs(review, paths, force=force, meta=meta, previous=previous)
-    # until the sheet writers exist: JSON only
-    from checker.report.json_out import write_json
-
-    out = []
-    for p in map(Path, paths):
-        if p.suffix.lower() != ".json":
-            raise _UsageError(f"-o {p}: only .json can be written in this version")
-        if p.exists() and not force:
-            raise _UsageError(f"-o {p}: the file exists; use --force to overwrite it")
-        write_json(review, p)
-        out.append(p)
-    return out
+    return write_outputs(review, paths, force=force, meta=meta, previous=previous)
 
 
 def cmd_check(args, out: Console, err: Console) -> int:
@@ -260,11 +245,6 @@ def cmd_demo(args, out: Console, err: Console) -> int:
     print_findings(rv, out)
     stem = folder / "harbourside-rev-A"
     exts = [".json", ".xlsx", ".html", ".csv", ".md"]
-    try:
-        import checker.report  # noqa: F401
-        from checker.report import write_outputs  # noqa: F401
-    except ImportError:
-        exts = [".json"]
     meta = {"project": "Harbourside Logistics Hub (fictitious)", "revision": "A",
             "submission": sample.name, "checker": "demo"}
     written = write_files(rv, [str(stem) + e for e in exts], force=True, meta=meta, previous_path=None,

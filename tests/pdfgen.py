@@ -21,7 +21,7 @@ import random
 import shutil
 import subprocess
 import tempfile
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 # --------------------------------------------------------------------------------------------

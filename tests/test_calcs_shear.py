@@ -128,7 +128,7 @@ def test_bs8110_handbook_av_s16_and_s28(tol):
 def test_strips_when_spacing_over_3phi(tol):
     # spacing 2400 > 3 × 600: enhancement only over 3φ = 1800 strips per pile on the section
     # line, clipped to the width; unenhanced vRd,c elsewhere (reference §9)
-    W, d, vr = 4500.0, 900.0, None
+    W, d = 4500.0, 900.0
     out, rho, vrdc = _shear(4, 2400, 600, 500, d, W, 8000.0, 4000e3)
     # piles at y = ±1200, strips [−2100, −300] and [300, 2100], inside ±2250 → 3600 mm
     tol.same(out["b_enh"], [3600.0])

@@ -5,7 +5,6 @@ from __future__ import annotations
 import csv
 import io
 import sys
-import time
 import types
 import zipfile
 from pathlib import Path

@@ -3,7 +3,6 @@
 import textwrap
 
 import numpy as np
-import pandas as pd
 import pytest
 
 from checker.ruleset.catalogue import QUANTITIES

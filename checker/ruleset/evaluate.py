@@ -87,6 +87,7 @@ class _Outcome:
     fail: np.ndarray
     missing: np.ndarray
     any_use: np.ndarray
+    mixed: np.ndarray | None = None   # some accepted methods fail, others pass (a query)
 
 
 def _governing(rule: Rule, env, n: int) -> _Outcome:
@@ -214,7 +215,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
         hit = g_fail & _as_bool(o.when(env), n)
         code[hit] = _RANK[o.severity]
         notes[hit] = o.note
-    mixed = getattr(out, "mixed", None)
+    mixed = out.mixed
     if mixed is not None:
         code[mixed & ~g_missing] = _RANK["query"]
     code[g_missing & ~g_fail] = _RANK["query"]
@@ -427,11 +428,6 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
         # text that is constant per rule: categorical codes, not 2.5 million string objects
         cats, inv = np.unique(np.array(values, dtype=object), return_inverse=True)
         return pd.Categorical.from_codes(inv[rule_codes], categories=cats)
-
-    def obj(values) -> np.ndarray:
-        a = np.empty(n * k, dtype=object)
-        a[:] = values
-        return a[order]
 
     def src(col):
         if col not in caps:

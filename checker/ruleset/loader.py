@@ -19,7 +19,7 @@ from pydantic import ValidationError
 from checker.findings import SEVERITY_ORDER
 from checker.ruleset.catalogue import QUANTITIES
 from checker.ruleset.expr import Expression, ExprError, compile_expression
-from checker.ruleset.schema import CheckSpec, OverrideSpec, ProfileFile, RuleFile, RuleSpec
+from checker.ruleset.schema import ProfileFile, RuleFile, RuleSpec
 from checker.ruleset.templates import Template, TemplateError, parse_template
 
 MAX_RULE_FILE_BYTES = 512 * 1024
