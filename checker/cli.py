@@ -18,7 +18,13 @@ EXIT_FINDINGS = 1      # something at or above --fail-on
 EXIT_UNREADABLE = 2    # the input (schedule, rule file, option) cannot be read at all
 EXIT_INTERNAL = 3      # a fault in capcheck itself; the message says how to report it
 
-SAMPLE_DIR = Path(__file__).resolve().parent.parent / "sample_submissions"
+
+
+def sample_dir() -> Path:
+    """The bundled sample submission: the top-level folder in a source checkout, else the package's copy."""
+    from checker.resources import data_dir
+
+    return data_dir("sample_submissions")
 
 
 def _kv(text: str) -> tuple[str, str]:
@@ -50,12 +56,19 @@ def _input(p: argparse.ArgumentParser) -> None:
     p.add_argument("-q", "--quiet", action="store_true", help="no progress bar")
 
 
+def _version() -> str:
+    from checker.resources import version
+
+    return version()
+
+
 def build_parser() -> argparse.ArgumentParser:
     ap = argparse.ArgumentParser(
         prog="capcheck",
         description="Independent check of reinforced-concrete pile cap schedules to EN 1992-1-1. "
                     "An aid to a competent checking engineer, never a statement that a design is safe.",
     )
+    ap.add_argument("--version", action="version", version=f"capcheck {_version()}")
     sub = ap.add_subparsers(dest="command", metavar="COMMAND")
 
     c = sub.add_parser("check", help="check a schedule and list the findings")
@@ -89,6 +102,8 @@ def build_parser() -> argparse.ArgumentParser:
     d = sub.add_parser("demo", help="check the bundled sample submission and write its outputs")
     d.add_argument("--out", metavar="DIR", help="output folder (default: a new capcheck-demo folder here)")
     _common(d)
+
+    sub.add_parser("schema", help="print the JSON Schema of the --format json output (capcheck.findings/1)")
     return ap
 
 
@@ -235,7 +250,8 @@ def cmd_demo(args, out: Console, err: Console) -> int:
     from checker.api import review
     from checker.report.terminal import print_findings, print_summary
 
-    sample = SAMPLE_DIR / "harbourside-rev-A.csv"
+    samples = sample_dir()
+    sample = samples / "harbourside-rev-A.csv"
     if not sample.exists():
         raise _UsageError(f"the sample submission {sample} is missing from this installation")
     folder = Path(args.out) if args.out else _demo_dir(Path.cwd() / "capcheck-demo")
@@ -249,7 +265,7 @@ def cmd_demo(args, out: Console, err: Console) -> int:
             "submission": sample.name, "checker": "demo"}
     written = write_files(rv, [str(stem) + e for e in exts], force=True, meta=meta, previous_path=None,
                           console_err=err)
-    sample_b = SAMPLE_DIR / "harbourside-rev-B.csv"
+    sample_b = samples / "harbourside-rev-B.csv"
     sheet_a = stem.with_suffix(".xlsx")
     if sample_b.exists() and sheet_a.exists():
         rv_b = review(sample_b, profile=args.profile, rules_dir=args.rules_dir, overrides=dict(args.overrides),
@@ -266,8 +282,16 @@ def cmd_demo(args, out: Console, err: Console) -> int:
     return EXIT_OK
 
 
+def cmd_schema(args, out: Console, err: Console) -> int:
+    from checker.resources import findings_schema_text
+
+    text = findings_schema_text()
+    sys.stdout.write(text if text.endswith("\n") else text + "\n")
+    return EXIT_OK
+
+
 COMMANDS = {"check": cmd_check, "explain": cmd_explain, "rules": cmd_rules, "columns": cmd_columns,
-            "demo": cmd_demo}
+            "demo": cmd_demo, "schema": cmd_schema}
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -105,3 +105,33 @@ def make_caps():
     def _make(*overrides: dict) -> pd.DataFrame:
         return caps_frame(*[cap_row(**o) for o in overrides])
     return _make
+
+
+# ---- the JSON contract: every JSON document a test reads can be checked against the published schema ----
+
+_FINDINGS_VALIDATOR = None
+
+
+def validate_findings_json(doc: dict) -> dict:
+    """Validate a ``capcheck.findings/1`` document against the JSON Schema shipped in the package
+    (checker/schema/findings-1.json); raise ``jsonschema.ValidationError`` if it does not conform,
+    else return the document. jsonschema (test extra) is imported only when a test needs it."""
+    global _FINDINGS_VALIDATOR
+    if _FINDINGS_VALIDATOR is None:
+        import json
+
+        import jsonschema
+
+        from checker.resources import findings_schema_text
+
+        schema = json.loads(findings_schema_text())
+        jsonschema.Draft202012Validator.check_schema(schema)
+        _FINDINGS_VALIDATOR = jsonschema.Draft202012Validator(schema)
+    _FINDINGS_VALIDATOR.validate(doc)
+    return doc
+
+
+@pytest.fixture(scope="session")
+def findings_json():
+    """``findings_json(doc)`` validates a findings document against the published schema."""
+    return validate_findings_json

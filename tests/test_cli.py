@@ -21,18 +21,25 @@ REV_A = SAMPLES / "harbourside-rev-A.csv"
 GOLDEN = Path(__file__).parent / "data" / "golden"
 
 
-def run_json(capsys, *args) -> tuple[int, dict]:
-    code = main(["check", *map(str, args), "--format", "json"])
-    out = capsys.readouterr().out
-    return code, json.loads(out)
+@pytest.fixture
+def run_json(capsys, findings_json):
+    """``run_json(*args)``: ``capcheck check ARGS --format json`` -> (exit code, the document), the
+    document validated against the published JSON Schema (checker/schema/findings-1.json)."""
+
+    def run(*args) -> tuple[int, dict]:
+        code = main(["check", *map(str, args), "--format", "json"])
+        out = capsys.readouterr().out
+        return code, findings_json(json.loads(out))
+
+    return run
 
 
 def strip_source(doc: dict) -> list[dict]:
     return [{k: v for k, v in r.items() if k != "source"} for r in doc["results"]]
 
 
-def test_json_contract_on_the_sample(capsys):
-    code, doc = run_json(capsys, REV_A)
+def test_json_contract_on_the_sample(run_json):
+    code, doc = run_json(REV_A)
     assert code == EXIT_FINDINGS  # the sample holds unsafe caps on purpose (sample_submissions/README.md)
     assert doc["schema"] == "capcheck.findings/1"
     assert doc["profile"] == "uk-na"
@@ -56,16 +63,16 @@ def test_json_contract_on_the_sample(capsys):
 
 
 @pytest.mark.parametrize("other", ["harbourside-rev-A.xlsx", "harbourside-rev-A.pdf"])
-def test_same_results_from_csv_xlsx_and_pdf(capsys, other):
-    _, a = run_json(capsys, REV_A)
-    _, b = run_json(capsys, SAMPLES / other)
+def test_same_results_from_csv_xlsx_and_pdf(run_json, other):
+    _, a = run_json(REV_A)
+    _, b = run_json(SAMPLES / other)
     assert strip_source(a) == strip_source(b)
     assert a["summary"] == b["summary"]
 
 
-def test_intended_findings_of_the_sample(capsys):
+def test_intended_findings_of_the_sample(run_json):
     """The faults the sample's README says each cap carries are found (and compliant caps pass)."""
-    _, doc = run_json(capsys, REV_A)
+    _, doc = run_json(REV_A)
     bad = {}
     for r in doc["results"]:
         if r["severity"] != "ok":
@@ -131,18 +138,18 @@ def test_rules_and_columns_commands(capsys):
     assert "cannot be read" in flat and "2 layers 8H20" in flat and "row 21" in flat
 
 
-def test_outputs_are_not_overwritten_without_force(tmp_path, capsys):
+def test_outputs_are_not_overwritten_without_force(tmp_path, capsys, findings_json):
     target = tmp_path / "findings.json"
     assert main(["check", str(REV_A), "-o", str(target)]) == EXIT_FINDINGS
     first = target.read_text(encoding="utf-8")
-    assert json.loads(first)["schema"] == "capcheck.findings/1"
+    assert findings_json(json.loads(first))["schema"] == "capcheck.findings/1"
     main(["check", str(REV_A), "-o", str(target)])
     assert target.read_text(encoding="utf-8") == first  # the first file is left as it was
     siblings = sorted(p.name for p in tmp_path.iterdir())
     assert len(siblings) == 2
 
 
-def test_demo_writes_every_output_and_closes_comments(tmp_path, monkeypatch, capsys):
+def test_demo_writes_every_output_and_closes_comments(tmp_path, monkeypatch, capsys, findings_json):
     monkeypatch.chdir(tmp_path)
     assert main(["demo"]) == EXIT_OK
     out = capsys.readouterr().out
@@ -152,6 +159,8 @@ def test_demo_writes_every_output_and_closes_comments(tmp_path, monkeypatch, cap
         for ext in ("json", "xlsx", "html", "csv", "md"):
             assert f"harbourside-rev-{rev}.{ext}" in names
     assert "closed" in out
+    for rev in ("A", "B"):
+        findings_json(json.loads((folder / f"harbourside-rev-{rev}.json").read_text(encoding="utf-8")))
     wb = openpyxl.load_workbook(folder / "harbourside-rev-B.xlsx")
     assert any("omment" in ws.title for ws in wb.worksheets)
 

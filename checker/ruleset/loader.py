@@ -31,12 +31,14 @@ class RuleFileError(ValueError):
 
 
 def packaged_rules_dir() -> Path:
-    """The top-level ``rules/`` folder of the project (``CAPCHECK_RULES`` overrides)."""
+    """The packaged rule files and profiles (``CAPCHECK_RULES`` overrides): the top-level ``rules/``
+    folder in a source checkout, the copy inside the installed package otherwise (checker/resources.py)."""
     env = os.environ.get("CAPCHECK_RULES")
     if env:
         return Path(env)
-    here = Path(__file__).resolve().parent.parent.parent / "rules"
-    return here
+    from checker.resources import data_dir
+
+    return data_dir("rules")
 
 
 @dataclass(frozen=True)
