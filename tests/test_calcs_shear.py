@@ -58,9 +58,7 @@ def _shear(piles, l, phi, col, d, W, as_l, N, av_mode="inside-pile", fck=30.0):
     R = rea.pile_reactions(X, Y, m, [N])
     rho = shr.rho_l(as_l, W, d)
     vrdc = shr.v_rdc(fck, d, rho)
-    s_min = geo.spacing_min(X, Y, m)
-    out = shr.beam_shear(X, Y, R, m, [col], [phi], [d], [W], vrdc, s_min <= 3 * phi,
-                         av_mode=av_mode)
+    out = shr.beam_shear(X, Y, R, m, [col], [phi], [d], [W], vrdc, av_mode=av_mode)
     return out, rho, vrdc
 
 
@@ -145,7 +143,7 @@ def test_no_section_outside_column_face():
     X, Y = geo.standard_layout([2], [1800])
     m = np.isfinite(X)
     R = rea.pile_reactions(X, Y, m, [2e6])
-    o = shr.beam_shear(Y, X, R, m, [500.0], [600.0], [850.0], [2700.0], [0.4], [True])
+    o = shr.beam_shear(Y, X, R, m, [500.0], [600.0], [850.0], [2700.0], [0.4])
     assert np.isnan(o["vrd"][0])
 
 

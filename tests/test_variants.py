@@ -194,37 +194,41 @@ def test_tie_steel_y_four_piles(tol, mark, n_bars, expect, failing, passing):
     tol.same(rows["centre-node"].utilisation, h["as_c"] / h["as_tie"])
 
 
-def test_tie_steel_three_piles_side_ties(tol):
-    """Three piles: tie-steel-x carries the base side tie, tie-steel-y the inclined sides. Each
-    corner's node force (H_x = x R/d_x, H_y = y R/d_y) is resolved onto its two sides (reference §6
-    derivation): at a base pile the inclined side takes T_i = 2|H_y|/sqrt(3) = R l/(3 d_y) and the base
-    side T_b = H_x - |H_y|/sqrt(3) = R l (1/(2 d_x) - 1/(6 d_y)); with d_x = d_y = d both are
-    N l/(9d) per side. Column width: R -> K = R - N a²/(6 l²) (sum x² = sum y² = l²/2); the three-pile
-    column-width form is derived in the reference, not published (O6)."""
+def test_tie_steel_three_piles_orthogonal_mesh(tol):
+    """Three piles with an orthogonal mesh (reference decision 11): each direction's bars carry
+    that direction's force only. Pile nodes: apex (0, l/sqrt(3)), base (+-l/2, -l/(2 sqrt(3))).
+    x: one tie row, the base row, T = (l/2) R/d_x, against the bars within 1.5 phi of the base
+    pile line (single row: the band, BS 8110-1 3.11.4.2 practice, from memory); the tension across
+    x = 0 is the same force against the whole layer and does not govern.
+    y: the three y lines are l/2 = 900 <= 3 phi apart (layer shared) and none is a tie between two
+    piles, so the layer carries the tension across y = 0 (statics about the top node):
+    T = y_apex R/d_y = l R/(sqrt(3) d_y) (= N s/(3 sqrt(3) d) for the symmetric cap, EN 1992-1-1
+    6.5.3). Column width: R -> K = R - N a²/(6 l²) (sum x² = sum y² = l²/2, reference §6)."""
     L, W, h, l, a, N = 2700, 3000, 1012.5, 1800, 500, 3000
     d_x = h - 75 - 25 / 2                                  # 925
     d_y = h - 75 - 25 - 25 / 2                             # 900
     sw = sw_kn(L, W, h)                                    # 1.35·25·2.7·3.0·1.0125 = 276.8 kN
     R = (N + sw) / 3                                       # point node, kN
     K = R - N * a**2 / (6 * l**2)                          # column width, kN
-    t_b, t_i = R * l * (1 / (2 * d_x) - 1 / (6 * d_y)), R * l / (3 * d_y)       # 698.7 kN, 728.2 kN
-    t_b_cw, t_i_cw = K * l * (1 / (2 * d_x) - 1 / (6 * d_y)), K * l / (3 * d_y)
-    as_x = bars(11, 25)                                    # base side: the x layer over its one tie row
-    # inclined sides: the mesh resolved onto them, 0.75 As,y + 0.25 (As,x spare after the base tie)
-    # (common practice for a mesh), As,y per row: three pile lines along y share the layer (G5)
-    as_side = 0.75 * bars(11, 25) / 3 + 0.25 * max(as_x - t_b * 1e3 / FYD, 0.0)
-    as_side_cw = 0.75 * bars(11, 25) / 3 + 0.25 * max(as_x - t_b_cw * 1e3 / FYD, 0.0)
+    t_x, t_y = R * l / (2 * d_x), R * l / (math.sqrt(3) * d_y)        # 1063.0 kN, 1261.1 kN
+    t_x_cw, t_y_cw = K * l / (2 * d_x), K * l / (math.sqrt(3) * d_y)
+    # base row at y = -519.6; band +-900 clipped to the bar spread +-(1500 - 75): 1800 of 2850 mm
+    as_band_x = bars(11, 25) * 1800 / 2850
     rv = check(cap(THREE, "T3"))
-    tol.same(rv.quantity("T3", "tie_x"), t_b * 1e3)
-    tol.same(rv.quantity("T3", "tie_y"), t_i * 1e3)
-    tol.same(rv.quantity("T3", "tie_x_cw"), t_b_cw * 1e3)
-    tol.same(rv.quantity("T3", "tie_y_cw"), t_i_cw * 1e3)
+    tol.same(rv.quantity("T3", "tie_x"), t_x * 1e3)
+    tol.same(rv.quantity("T3", "tie_y"), t_y * 1e3)
+    tol.same(rv.quantity("T3", "tie_x_cw"), t_x_cw * 1e3)
+    tol.same(rv.quantity("T3", "tie_y_cw"), t_y_cw * 1e3)
+    tol.same(rv.quantity("T3", "tie_cut_y"), t_y * 1e3)
     rows = per_variant(rv, "T3", "tie-steel-y")
-    tol.same(rows["centre-node"].limit, t_i * 1e3 / FYD)
-    tol.same(rows["column-width"].limit, t_i_cw * 1e3 / FYD)
-    tol.same(rows["centre-node"].value, as_side)
-    tol.same(rows["column-width"].value, as_side_cw)
-    tol.same(per_variant(rv, "T3", "tie-steel-x")["column-width"].value, as_x)
+    tol.same(rows["centre-node"].limit, t_y * 1e3 / FYD)
+    tol.same(rows["column-width"].limit, t_y_cw * 1e3 / FYD)
+    tol.same(rows["centre-node"].value, bars(11, 25))     # the whole y layer, y bars only
+    tol.same(rows["column-width"].value, bars(11, 25))
+    tol.same(per_variant(rv, "T3", "tie-steel-x")["column-width"].value, as_band_x)
+    tol.same(per_variant(rv, "T3", "tie-steel-x")["centre-node"].limit, t_x * 1e3 / FYD)
+    # 5400 mm² of y bars against 2900.5 mm² (centre node): ok under both nodes
+    assert result(rv, "T3", "tie-steel-y")["severity"] == "ok"
 
 
 # =============================================================================================
@@ -609,13 +613,16 @@ def test_closed_form_four_piles_O5_and_S17(tol):
 
 
 def test_closed_form_three_piles_O6_derived(tol):
-    """The three-pile column-width form is derived in the reference, not published (§6, O6)."""
-    # O6: N = 3000, l = 1800, a = 500, d = 900: the inclined sides, at d_y = 900
+    """Three piles (§6, O6): N = 3000, l = 1800, a = 500, d_y = 900, no self-weight. The side ties of
+    the triangle, N l/(9d) per side, are shown in the working (tie_side_3); the orthogonal y layer
+    carries the tension across y = 0, N l/(3 sqrt(3) d) (reference decision 11), and with the column
+    width N(2l² - a²)/(6 sqrt(3) l d) [D: K = N/3 - N a²/(6 l²) times l/(sqrt(3) d)]."""
     rv = check(cap(THREE, "O6", method="truss column-width"), overrides=NO_SW)
-    tol.printed(rv.quantity("O6", "tie_y") / 1e3, "666.67")          # N l/(9d) per side
-    tol.printed(rv.quantity("O6", "tie_y_cw") / 1e3, "640.95")       # N(2l² − a²)/(18 l d), derived only
-    tol.printed(rv.quantity("O6", "tie_y_cw") / 3000e3, "0.213649")  # O10 T/N, derived only
-    tol.printed(result(rv, "O6", "tie-steel-y")["limit"], "1474.2")
+    tol.printed(rv.quantity("O6", "tie_side_3") / 1e3, "666.67")     # N l/(9d) per side (O6)
+    tol.same(rv.quantity("O6", "tie_y"), 3000e3 * 1800 / (3 * math.sqrt(3) * 900))       # 1154.70 kN
+    tol.same(rv.quantity("O6", "tie_y_cw"),
+             3000e3 * (2 * 1800**2 - 500**2) / (6 * math.sqrt(3) * 1800 * 900))       # 1110.15 kN
+    tol.same(result(rv, "O6", "tie-steel-y")["limit"], rv.quantity("O6", "tie_y_cw") / FYD)
 
 
 # =============================================================================================

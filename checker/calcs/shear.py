@@ -174,15 +174,19 @@ def enhanced_resistance(vrdc, beta, b_enh, width, d):
 
 
 def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, vrdc,
-               spacing_le_3phi, av_mode="inside-pile", tol=1.0):
+               av_mode="inside-pile", tol=1.0):
     """Common practice: beam shear on the critical sections of one direction (reference §9)
 
     For each pile i off the column centre the section parallel to the other axis lies at
     |c_i| − 0.3φ; it is considered where it lies outside the column face. VEd is the sum of
     the reactions of the piles on that side at or beyond pile i; av is the distance from the
     column face to the section (``av_mode="clear"``: to the pile's inner face), β = av/2d
-    within 0.25..1 (:func:`beta_av`); the enhanced width is the whole width W where the least
-    pile spacing is ≤ 3φ, else the 3φ strips (clipped to W) of the piles on that section line.
+    within 0.25..1 (:func:`beta_av`); the enhanced width is the whole width W where the piles on
+    the section's line are at most 3φ apart (each has a neighbour on the line within 3φ), else
+    the 3φ strips (clipped to W) of the piles on that line; a line holding a single pile has its
+    strip. The decision is made on the spacing of the piles along the section, not on the least
+    pile spacing of the group (reference decision 12: the corner rows of a 5-pile cap are s√2
+    apart).
     The governing section has the largest VEd/VRd over both sides [CP].
 
     Args:
@@ -195,7 +199,6 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
         d: effective depth of the bars crossing the section (n,) [mm]
         width: section width (W for shear-x) (n,) [mm]
         vrdc: vRd,c of the section (n,) [MPa]
-        spacing_le_3phi: 1.0 where the least pile spacing ≤ 3φ (n,) [-]
         av_mode: "inside-pile" (UK practice, default) or "clear" (EC2-literal) [-]
         tol: tolerance for "same side / same line" comparisons [mm]
 
@@ -232,18 +235,26 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
         np.multiply(near, R[:, j:j + 1], out=buf)
         ved += buf
 
-    # enhanced width: the whole width where the spacing is ≤ 3φ, else the 3φ strips of the piles
-    # on the section line (worked out only for the caps that need it)
-    le3 = np.broadcast_to(np.asarray(spacing_le_3phi, dtype=bool), (n,))
-    b_enh = np.broadcast_to(W, a.shape).copy()
-    k = np.flatnonzero(~le3)
-    ck, mk, hk, pk = coord[k], mask[k], 0.5 * W[k], phi[k]
-    strip = np.where(mk, np.clip(across[k] + 1.5 * pk, -hk, hk)
-                     - np.clip(across[k] - 1.5 * pk, -hk, hk), 0.0)
-    strips = np.zeros_like(ck)
+    # enhanced width: the whole width where the piles on the section's line are at most 3φ
+    # apart, else the 3φ strips of the piles on that line
+    hW = 0.5 * W
+    strip = np.where(mask, np.clip(across + 1.5 * phi, -hW, hW) - np.clip(across - 1.5 * phi, -hW, hW),
+                     0.0)
+    strips = np.zeros_like(a)
+    nearest = np.full(a.shape, np.inf)  # nearest other pile on the same line [mm]
+    cm = np.where(mask, coord, np.nan)
+    am = np.where(mask, across, np.nan)
     for j in range(coord.shape[1]):  # over pile slots
-        strips += strip[:, j:j + 1] * (np.abs(ck[:, j:j + 1] - ck) <= tol)  # pile j on i's line
-    b_enh[k] = np.minimum(strips, W[k])
+        on_line = np.abs(cm[:, j:j + 1] - cm) <= tol  # pile j on pile i's line (NaN: False)
+        strips += strip[:, j:j + 1] * on_line
+        dist = np.abs(am[:, j:j + 1] - am)
+        np.minimum(nearest, np.where(on_line & (dist > tol), dist, np.inf), out=nearest)
+    close = nearest <= 3.0 * phi * (1 + 1e-9)
+    line_close = np.ones_like(close)
+    for j in range(coord.shape[1]):  # every pile of the line has a neighbour within 3φ
+        on_line = np.abs(cm[:, j:j + 1] - cm) <= tol
+        line_close &= ~on_line | close[:, j:j + 1]
+    b_enh = np.where(line_close, np.broadcast_to(W, a.shape), np.minimum(strips, W))
     vrd = enhanced_resistance(col(vrdc), beta, b_enh, W, dd)
     util = ved / vrd
 

@@ -79,21 +79,17 @@ def tie_steel_required(tie_force, fyd):
     return np.asarray(tie_force, dtype=float) / fyd
 
 
-def tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, cover):
-    """Common practice: steel counted in a tie row, BS 8110 3.11.4.2 distribution (reference G5)
+def tie_band_steel(row_coord, as_total, pile_dia, width, cover):
+    """Common practice: steel of a layer counted in the band over a tie row (BS 8110-1 3.11.4.2)
 
-    Where the pile spacing is at most 3φ the whole layer is shared equally between the tie
-    rows; otherwise only the bars within 1.5φ each side of the pile line count (reference §4 G5,
-    §6; [V: S15, S16], 9.8.1(3) [M]) [CP]. Uniformly spaced bars are assumed: the band's share is
+    Where the tie rows are more than 3φ apart (or there is a single row) only the bars within
+    1.5φ each side of the pile line count (reference §4 G5, §6, decision 12; 9.8.1(3) [M])
+    [CP; band width from memory]. Uniformly spaced bars are assumed: the band's share is
     As_total × (band width inside the bar spread) / (bar spread W − 2·cover).
-    Bands of rows closer than 3φ are not merged (a possible double count, e.g. the y-rows of a
-    3-pile cap with s/2 < 3φ).
 
     Args:
         row_coord: coordinate of the row's pile line across the bars (n, m) [mm]
         as_total: area of the whole layer (n,) [mm²]
-        rows: number of tie rows in the direction (n,) [count]
-        spacing_le_3phi: 1.0 where the least pile spacing ≤ 3φ (n,) [-]
         pile_dia: pile diameter φ (n,) [mm]
         width: cap dimension across the bars (W for x bars) (n,) [mm]
         cover: side cover to the bar ends (n,) [mm]
@@ -102,46 +98,43 @@ def tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, 
         steel counted for the row of each pile, (n, m) [mm²]
     """
     as_total = np.asarray(as_total, dtype=float)
-    rows = np.asarray(rows, dtype=float)
     half = (0.5 * np.asarray(width, dtype=float) - np.asarray(cover, dtype=float))[:, None]
     b = (1.5 * np.asarray(pile_dia, dtype=float))[:, None]
     band = np.clip(row_coord + b, -half, half) - np.clip(row_coord - b, -half, half)
-    band_share = as_total[:, None] * band / (2.0 * half)
-    rows_s = np.where(rows > 0, rows, np.nan)
-    equal_share = (as_total / rows_s)[:, None]
-    return np.where(np.asarray(spacing_le_3phi, dtype=bool)[:, None], equal_share, band_share)
+    return as_total[:, None] * band / (2.0 * half)
 
 
-def tie_rows_check(H, row_coord, mask, as_total, fyd, spacing_le_3phi, pile_dia, width, cover,
-                   tol=1.0):
-    """Common practice: tie rows of one direction and the governing row's utilisation
+def tie_row_lines(H, row_coord, mask, tol=1.0):
+    """Derived: the tie rows of one direction, the distinct pile lines carrying H ≠ 0
 
-    The rows are the distinct pile lines (coordinate across the bars, merged within ``tol``)
-    that carry a horizontal force H ≠ 0. A row's tie force is the largest |H| at its piles;
-    its steel is :func:`tie_band_steel`; utilisation T_row/(fyd As_row). The governing row is
-    the one with the largest utilisation [CP].
+    A row is a line of piles (coordinate across the bars, merged within ``tol``) whose node
+    forces along the bars are not zero. Its force is the largest |H| at its piles. A row is
+    *two-sided* when it holds node forces of both signs (a tie between two pile nodes, e.g. the
+    rows of 2-, 4-, 5- and 6-pile caps); a one-sided row (each y line of a 3-pile cap) pulls
+    only against the rest of the layer [D].
 
     Args:
         H: horizontal node forces along the tie direction (n, m) [N]
         row_coord: pile coordinates across the bars (n, m) [mm]
         mask: real piles (n, m) [-]
-        as_total: area of the whole layer (n,) [mm²]
-        fyd: design yield strength (n,) [MPa]
-        spacing_le_3phi: 1.0 where the least pile spacing ≤ 3φ (n,) [-]
-        pile_dia, width, cover: as :func:`tie_band_steel` (n,) [mm]
         tol: merge tolerance for pile lines [mm]
 
     Returns:
-        dict of (n,) arrays: ``T`` governing row force [N], ``as_req`` [mm²], ``as_prov`` [mm²],
-        ``util`` [-], ``rows`` [count], ``t_total`` sum of the row forces [N];
-        NaN (rows 0) where the direction has no tie
+        dict of (n, m) arrays at each pile: ``t_row`` its row's force [N], ``first`` True at one
+        representative pile per row, ``active`` [-], ``two_sided`` [-]; and (n,) ``rows``
+        [count], ``gap`` the least distance between two row lines (inf with one row) [mm]
     """
     absH = np.abs(H)
     active = mask & np.isfinite(absH) & (absH > 0.0)
     rc = np.where(active, row_coord, np.nan)
     aH = np.where(active, absH, 0.0)
+    pos = np.where(active & (H > 0), 1.0, 0.0)
+    neg = np.where(active & (H < 0), 1.0, 0.0)
     t_row = np.zeros_like(aH)  # the row force seen at pile i: max |H| over its row
+    has_pos = np.zeros_like(aH)
+    has_neg = np.zeros_like(aH)
     first = active.copy()       # one representative pile per row (the first slot of the line)
+    gap = np.full(aH.shape, np.inf)
     buf = np.empty_like(aH)
     same = np.empty_like(aH, dtype=bool)
     for j in range(H.shape[1]):  # over pile slots (at most a few), never over caps
@@ -149,20 +142,109 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, spacing_le_3phi, pile_dia,
         np.abs(buf, out=buf)
         np.less_equal(buf, tol, out=same)
         np.maximum(t_row, aH[:, j:j + 1] * same, out=t_row)  # |H| ≥ 0, so ×same masks it
+        np.maximum(has_pos, pos[:, j:j + 1] * same, out=has_pos)
+        np.maximum(has_neg, neg[:, j:j + 1] * same, out=has_neg)
+        other = np.where(np.isnan(buf) | (buf <= tol), np.inf, buf)
+        np.minimum(gap, other, out=gap)
         first[:, j + 1:] &= ~same[:, j + 1:]
-    rows = first.sum(axis=1).astype(float)  # one representative per distinct line
-    as_row = tie_band_steel(row_coord, as_total, rows, spacing_le_3phi, pile_dia, width, cover)
+    return {"t_row": t_row, "first": first, "active": active,
+            "two_sided": active & (has_pos > 0) & (has_neg > 0),
+            "rows": first.sum(axis=1).astype(float), "gap": np.min(gap, axis=1)}
+
+
+def tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol=1.0):
+    """Common practice: tie rows of one direction and the governing row's utilisation
+
+    Rows from :func:`tie_row_lines`. Where the rows are at most 3φ apart the layer is
+    distributed uniformly and shared equally by the two-sided rows (the ties between pile
+    nodes); one-sided rows are then carried by the layer as a whole (:func:`tie_layer_check`).
+    Where the rows are more than 3φ apart, or there is one row, each row counts the bars of
+    its band (:func:`tie_band_steel`). The decision is made on the spacing of the tie rows, not
+    on the least pile spacing of the group (reference decision 12; BS 8110-1 3.11.4.2, from
+    memory) [CP]. Utilisation T_row/(fyd As_row); the governing row has the largest.
+
+    Args:
+        H: horizontal node forces along the tie direction (n, m) [N]
+        row_coord: pile coordinates across the bars (n, m) [mm]
+        mask: real piles (n, m) [-]
+        as_total: area of the whole layer (n,) [mm²]
+        fyd: design yield strength (n,) [MPa]
+        pile_dia, width, cover: as :func:`tie_band_steel` (n,) [mm]
+        tol: merge tolerance for pile lines [mm]
+
+    Returns:
+        dict of (n,) arrays: ``T`` governing row force [N], ``as_req`` [mm²], ``as_prov`` [mm²],
+        ``util`` [-], ``rows`` [count], ``t_total`` sum of the row forces [N], ``shared`` 1.0
+        where the layer is shared, ``full`` 1.0 where every row counts the whole layer [-];
+        NaN where the direction has no row that the check covers
+    """
+    lines = tie_row_lines(H, row_coord, mask, tol)
+    t_row, first, rows = lines["t_row"], lines["first"], lines["rows"]
+    phi = np.asarray(pile_dia, dtype=float)
+    shared = (rows >= 2) & (lines["gap"] <= 3.0 * phi * (1 + 1e-9))
+    n_two = np.sum(first & lines["two_sided"], axis=1).astype(float)
+    as_total = np.asarray(as_total, dtype=float)
+    equal = (as_total / np.where(n_two > 0, n_two, np.nan))[:, None]
+    band = tie_band_steel(row_coord, as_total, phi, width, cover)
+    as_row = np.where(shared[:, None], equal, band)
+    counted = lines["active"] & np.where(shared[:, None], lines["two_sided"], True)
     fyd = np.asarray(fyd, dtype=float)
     util = t_row / (fyd[:, None] * as_row)
-    key = np.where(active, np.where(np.isnan(util), np.inf, util), -np.inf)
+    key = np.where(counted, np.where(np.isnan(util), np.inf, util), -np.inf)
     g = np.argmax(key, axis=1)[:, None]
-    has = rows > 0
+    has = counted.any(axis=1)
     T = np.where(has, np.take_along_axis(t_row, g, axis=1)[:, 0], np.nan)
     as_prov = np.where(has, np.take_along_axis(as_row, g, axis=1)[:, 0], np.nan)
     u = np.where(has, np.take_along_axis(util, g, axis=1)[:, 0], np.nan)
-    t_total = np.where(has, np.sum(np.where(first, t_row, 0.0), axis=1), np.nan)
+    t_total = np.where(rows > 0, np.sum(np.where(first, t_row, 0.0), axis=1), np.nan)
+    band_min = np.min(np.where(lines["active"], band, np.inf), axis=1)
+    full = shared | (band_min >= as_total * (1 - 1e-9))
     return {"T": T, "as_req": tie_steel_required(T, fyd), "as_prov": as_prov, "util": u,
-            "rows": rows, "t_total": t_total}
+            "rows": rows, "t_total": t_total, "shared": shared.astype(float),
+            "full": np.where(rows > 0, full.astype(float), np.nan)}
+
+
+def tie_layer_check(H, coord, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol=1.0):
+    """EN 1992-1-1:2004 6.5.3
+
+    The tie steel of one direction (with 9.8.1(3)), rows and the whole layer. Two conditions, both to be met, the larger utilisation governing:
+    * each tie row against the steel counted for it (:func:`tie_rows_check`);
+    * the tension across the column centreline (:func:`tension_across_centreline`, statics
+      about the top node: Σ c_i R_i / z over one side) against the whole layer, the only
+      steel that crosses that line in this direction (reference decision 11) [D].
+    Bars of one direction are never credited to the other. For the symmetric 3-pile cap the
+    layer condition gives x: N s/(6d) and y: N s/(3√3 d) [D].
+
+    Args:
+        H: horizontal node forces along the tie direction (n, m) [N]
+        coord: pile coordinates along the tie direction (n, m) [mm]
+        row_coord: pile coordinates across the bars (n, m) [mm]
+        mask: real piles (n, m) [-]
+        as_total: area of the whole layer (n,) [mm²]
+        fyd: design yield strength (n,) [MPa]
+        pile_dia, width, cover: as :func:`tie_band_steel` (n,) [mm]
+        tol: merge tolerance for pile lines [mm]
+
+    Returns:
+        the :func:`tie_rows_check` dict for the governing condition, with ``cut`` the tension
+        across the centreline [N], ``util_rows`` and ``util_cut`` [-], ``by_layer`` 1.0 where
+        the layer condition governs [-]
+    """
+    rows = tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol)
+    cut = tension_across_centreline(H, coord, mask, tol)
+    as_total = np.asarray(as_total, dtype=float)
+    fyd = np.asarray(fyd, dtype=float)
+    util_cut = cut / (fyd * as_total)
+    key_r = np.where(np.isnan(rows["util"]), -np.inf, rows["util"])
+    key_c = np.where(np.isnan(util_cut), -np.inf, util_cut)
+    by_layer = (key_c > key_r) | (np.isnan(rows["T"]) & np.isfinite(cut))
+    out = dict(rows)
+    out["T"] = np.where(by_layer, cut, rows["T"])
+    out["as_prov"] = np.where(by_layer, as_total, rows["as_prov"])
+    out["util"] = np.where(by_layer, util_cut, rows["util"])
+    out["as_req"] = tie_steel_required(out["T"], fyd)
+    out.update(cut=cut, util_rows=rows["util"], util_cut=util_cut, by_layer=by_layer.astype(float))
+    return out
 
 
 def tension_across_centreline(H, coord, mask, tol=1.0):

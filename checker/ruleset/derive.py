@@ -175,7 +175,6 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     r = geo.radial_distances(X, Y, mask)
     face_dist = geo.column_face_distances(X, Y, mask, cx, cy, rnd)
     le3 = np.where(np.isnan(s_min), np.nan, _flag(s_min <= 3.0 * phi_p * (1 + 1e-9)))
-    le3_b = le3 == 1.0
     q.update(
         n_piles=npile, d_x=d_x, d_y=d_y, d_mean=d_mean, spacing_min=s_min,
         edge_min=geo.edge_min(X, Y, mask, L, W, phi_p),
@@ -235,68 +234,47 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     )
 
     # ---- strut-and-tie ------------------------------------------------------------------
+    # Each direction: its tie rows against the steel counted for them, and the tension across
+    # the column centreline against the whole layer (statics about the top node, reference
+    # decisions 11 and 12); bars of one direction are never credited to the other. Both the
+    # default truss and the column-width allowance ((3l² − a²) forms, reference §6) are computed.
     column_width = str(_pget(p, "tie_node")) == "column-width"
-    eu2 = st.column_second_moment(cx, rnd) * column_width
-    ev2 = st.column_second_moment(cy, rnd) * column_width
-    Hx = st.pile_node_force(X, R, mask, N, d_x, eu2)
-    Hy = st.pile_node_force(Y, R, mask, N, d_y, ev2)
-    tx = st.tie_rows_check(Hx, Y, mask, as_x, fyd, le3_b, phi_p, W, cover)
-    ty = st.tie_rows_check(Hy, X, mask, as_y, fyd, le3_b, phi_p, L, cover)
-    for k, t in (("x", tx), ("y", ty)):
-        q[f"tie_{k}"] = t["T"]
-        q[f"as_req_{k}"] = t["as_req"]
-        q[f"as_tie_{k}"] = t["as_prov"]
-        q[f"util_tie_{k}"] = t["util"]
-        q[f"tie_rows_{k}"] = t["rows"]
-        q[f"tie_total_{k}"] = t["t_total"]
-    q["tie_cut_x"] = st.tension_across_centreline(Hx, X, mask)
-    q["tie_cut_y"] = st.tension_across_centreline(Hy, Y, mask)
-    three = npile == 3
+    e_x = st.column_second_moment(cx, rnd)
+    e_y = st.column_second_moment(cy, rnd)
+    ties = {}
+    for sfx, ex, ey in (("", e_x * column_width, e_y * column_width), ("_cw", e_x, e_y)):
+        hx = st.pile_node_force(X, R, mask, N, d_x, ex)
+        hy = st.pile_node_force(Y, R, mask, N, d_y, ey)
+        ties[sfx] = (hx, hy)
+        tx = st.tie_layer_check(hx, X, Y, mask, as_x, fyd, phi_p, W, cover)
+        ty = st.tie_layer_check(hy, Y, X, mask, as_y, fyd, phi_p, L, cover)
+        for k, t in (("x", tx), ("y", ty)):
+            q[f"tie_{k}{sfx}"] = t["T"]
+            q[f"as_req_{k}{sfx}"] = t["as_req"]
+            q[f"as_tie_{k}{sfx}"] = t["as_prov"]
+            if sfx:
+                continue
+            q[f"util_tie_{k}"] = t["util"]
+            q[f"tie_rows_{k}"] = t["rows"]
+            q[f"tie_total_{k}"] = t["t_total"]
+            q[f"tie_cut_{k}"] = t["cut"]
+            q[f"as_req_cut_{k}"] = st.tie_steel_required(t["cut"], fyd)
+            q[f"tie_by_layer_{k}"] = t["by_layer"]
+            q[f"util_rows_{k}"] = t["util_rows"]
+            q[f"util_cut_{k}"] = t["util_cut"]
+            q[f"tie_shared_{k}"] = t["shared"]
+            q[f"tie_full_{k}"] = t["full"]
+    Hx, Hy = ties[""]
+    q["tie_full_width"] = np.where(np.isnan(q["tie_full_x"]) & np.isnan(q["tie_full_y"]), np.nan,
+                                   np.fmin(q["tie_full_x"], q["tie_full_y"]))
+    # three-pile caps: the ties along the triangle's sides, for the working only (a detail with
+    # bars along the sides); the orthogonal mesh is checked on its own two directions above
+    three = (npile == 3) & (mask[:, :3].all(axis=1) if X.shape[1] >= 3 else False)
     q["tie_side_3"] = np.full(n, np.nan)
-    base_pick = None
-    tie_base_3 = tie_incl_3 = np.full(n, np.nan)
     if X.shape[1] >= 3:  # the array width, not a value of any cap
         sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
-        ok3 = three & mask[:, :3].all(axis=1)
-        q["tie_side_3"] = np.where(ok3, np.max(sides, axis=1), np.nan)
-        # the base side is the side most nearly along x (side k joins piles k and k+1)
-        dx = np.abs(np.stack([X[:, (k + 1) % 3] - X[:, k] for k in range(3)], axis=1))
-        dl = np.hypot(dx, np.stack([Y[:, (k + 1) % 3] - Y[:, k] for k in range(3)], axis=1))
-        base_pick = np.argmax(np.where(dl > 0, dx / np.where(dl > 0, dl, 1.0), -1.0), axis=1)
-        tie_base_3, tie_incl_3 = _base_and_inclined(sides, base_pick, ok3)
+        q["tie_side_3"] = np.where(three, np.max(sides, axis=1), np.nan)
     q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
-    # Three-pile caps are checked on the ties along the triangle's sides (reference §6): the base side
-    # against the x layer over the base row; the two inclined sides (60 degrees to x) against the
-    # orthogonal mesh resolved onto them, As,x cos²60 + As,y sin²60 (common practice for a mesh).
-    # (the x layer is credited to the inclined sides only with what the base tie leaves spare)
-    q["tie_x_orth"], q["tie_y_orth"] = q["tie_x"].copy(), q["tie_y"].copy()
-    side = three & ~np.isnan(q["tie_side_3"])
-    as_req_base = st.tie_steel_required(tie_base_3, fyd)
-    q["as_tie_y_orth_prov"] = q["as_tie_y"].copy()
-    as_side_y = 0.75 * q["as_tie_y"] + 0.25 * np.fmax(q["as_tie_x"] - as_req_base, 0.0)
-    for k, t_side, prov in (("x", tie_base_3, q["as_tie_x"]), ("y", tie_incl_3, as_side_y)):
-        req = st.tie_steel_required(t_side, fyd)
-        q[f"tie_{k}"] = np.where(side, t_side, q[f"tie_{k}"])
-        q[f"as_req_{k}"] = np.where(side, req, q[f"as_req_{k}"])
-        q[f"as_tie_{k}"] = np.where(side, prov, q[f"as_tie_{k}"])
-        q[f"util_tie_{k}"] = np.where(side, req / prov, q[f"util_tie_{k}"])
-    # method variant: the column-width allowance ((3l² − a²) forms, reference §6), always computed
-    eu2_cw = st.column_second_moment(cx, rnd)
-    ev2_cw = st.column_second_moment(cy, rnd)
-    Hx_cw = st.pile_node_force(X, R, mask, N, d_x, eu2_cw)
-    Hy_cw = st.pile_node_force(Y, R, mask, N, d_y, ev2_cw)
-    tx_cw = st.tie_rows_check(Hx_cw, Y, mask, as_x, fyd, le3_b, phi_p, W, cover)
-    ty_cw = st.tie_rows_check(Hy_cw, X, mask, as_y, fyd, le3_b, phi_p, L, cover)
-    base_cw = incl_cw = np.full(n, np.nan)
-    if base_pick is not None:
-        sides_cw = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx_cw[:, :3], Hy_cw[:, :3])
-        base_cw, incl_cw = _base_and_inclined(sides_cw, base_pick, three & mask[:, :3].all(axis=1))
-    as_side_y_cw = 0.75 * q["as_tie_y_orth_prov"] + 0.25 * np.fmax(
-        q["as_tie_x"] - st.tie_steel_required(base_cw, fyd), 0.0)
-    for k, t, t_side, prov in (("x", tx_cw, base_cw, q["as_tie_x"]), ("y", ty_cw, incl_cw, as_side_y_cw)):
-        q[f"tie_{k}_cw"] = np.where(side, t_side, t["T"])
-        q[f"as_req_{k}_cw"] = np.where(side, st.tie_steel_required(t_side, fyd), t["as_req"])
-        q[f"as_tie_{k}_cw"] = np.where(side, prov, t["as_prov"])
 
     # lever arm of the struts: the x layer for two-pile caps (no y ties), else the lower layer
     z = np.where(npile == 2, d_x, np.fmin(d_x, d_y))
@@ -332,7 +310,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         as_l = as_x if k == "x" else as_y
         rho = shr.rho_l(as_l, width, d)
         vrdc = shr.v_rdc(fck, d, rho, gamma_c=gamma_c, crd_c_factor=crd)
-        s = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc, le3_b,
+        s = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc,
                            av_mode=av_mode)
         vmax = shr.v_ed_max(width, d, nu, fcd_shear)
         q[f"rho_{k}"] = rho
@@ -349,7 +327,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"vrd_max_{k}"] = np.where(np.isnan(s["ved_max"]), np.nan, vmax)
         # method variant: the other definition of av (reference decision 7)
         other = "clear" if av_mode != "clear" else "inside-pile"
-        s2 = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc, le3_b, av_mode=other)
+        s2 = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc, av_mode=other)
         alt_sfx, own_sfx = ("clear", "inside") if other == "clear" else ("inside", "clear")
         q[f"ved_{k}_{alt_sfx}"], q[f"vrd_{k}_{alt_sfx}"] = s2["ved"], s2["vrd"]
         q[f"ved_{k}_{own_sfx}"], q[f"vrd_{k}_{own_sfx}"] = s["ved"], s["vrd"]
@@ -429,15 +407,6 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
                    piles={"R": R, "R_col": R_col, "Hx": Hx, "Hy": Hy, "theta": theta, "r": r,
                           "face_dist": face_dist},
                    text={"stated_diff_what": what})
-
-
-def _base_and_inclined(sides: np.ndarray, base_pick: np.ndarray, ok3: np.ndarray):
-    """Three-pile caps: the base side's tie force and the larger of the two inclined sides' [N]."""
-    rows = np.arange(sides.shape[0])
-    base = np.where(ok3, sides[rows, base_pick], np.nan)
-    incl = sides.copy()
-    incl[rows, base_pick] = -np.inf
-    return base, np.where(ok3, np.max(incl, axis=1), np.nan)
 
 
 def _rel_diff(stated: np.ndarray, checked: np.ndarray) -> np.ndarray:
