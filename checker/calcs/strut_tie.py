@@ -355,9 +355,9 @@ def equivalent_square_side(area):
 
 
 def tie_zone_height(cover, phi):
-    """EN 1992-1-1:2004 6.5.4, Figure 6.27 (CCT node)
+    """EN 1992-1-1:2004 6.5.4, Figure 6.27
 
-    Height u of the tie zone below the node, taken as twice the depth to the centre of the
+    CCT node: height u of the tie zone below the node, taken as twice the depth to the centre of the
     lowest bar layer, u = 2(c + φ/2): the tie is centred in the zone (s0 = c + φ/2 in Fig.
     6.27, one layer) [M for the figure]. The second layer is not credited (conservative:
     the smaller u gives the narrower strut face).
@@ -373,9 +373,9 @@ def tie_zone_height(cover, phi):
 
 
 def strut_face_width(a1, u, theta_deg):
-    """EN 1992-1-1:2004 6.5.4, Figure 6.27 (CCT node)
+    """EN 1992-1-1:2004 6.5.4, Figure 6.27
 
-    Width of the node face normal to the strut, a2 = a1 sin θ + u cos θ, with a1 the bearing
+    CCT node: width of the node face normal to the strut, a2 = a1 sin θ + u cos θ, with a1 the bearing
     width in the plane of the strut and u the height of the tie zone [M].
 
     Args:
@@ -391,9 +391,9 @@ def strut_face_width(a1, u, theta_deg):
 
 
 def strut_stress_node_geometry(force, a1, b, u, theta_deg):
-    """EN 1992-1-1:2004 6.5.4(4), Figure 6.27: strut stress at a pile node sized with the tie zone
+    """EN 1992-1-1:2004 6.5.4(4), Figure 6.27
 
-    σ = C/(a2 b) with the strut force C = F/sin θ, a2 = a1 sin θ + u cos θ (Fig. 6.27) and b the
+    Strut stress at a pile node sized with the tie zone: σ = C/(a2 b) with the strut force C = F/sin θ, a2 = a1 sin θ + u cos θ (Fig. 6.27) and b the
     node dimension normal to the plane of the strut [M]. For a pile head of area A capcheck uses
     a1 = b = √A (an equivalent square, :func:`equivalent_square_side`). With u = 0 this is the
     simple sizing F/(A sin² θ) of :func:`strut_face_stress`; the tie zone widens the face.
@@ -414,9 +414,9 @@ def strut_stress_node_geometry(force, a1, b, u, theta_deg):
 
 
 def partially_loaded_area_ratio(b1, d1, h, length, width):
-    """EN 1992-1-1:2004 6.7(2), (3), Eq. (6.63), Figure 6.29
+    """EN 1992-1-1:2004 6.7(3), Figure 6.29
 
-    √(Ac1/Ac0) for a concentric load on Ac0 = b1 × d1 spread to the design distribution area
+    Partially loaded area (6.7(2), Eq. (6.63)): √(Ac1/Ac0) for a concentric load on Ac0 = b1 × d1 spread to the design distribution area
     Ac1 = b2 × d2, geometrically similar to Ac0 with the same centre (6.7(3)) [M]. Ac1 is
     limited by the distribution depth, h ≥ b2 − b1 and h ≥ d2 − d1 (Fig. 6.29), and by the
     member outline, b2 ≤ L and d2 ≤ W: with b2 = λ b1, d2 = λ d1,
