@@ -82,3 +82,15 @@ def test_array_equals_elements(tol):
     arr = anc.design_anchorage_length(lb, phi, 1.0, a2)
     for i in range(4):
         tol.same(arr[i], anc.design_anchorage_length(lb[i], phi[i], 1.0, anc.alpha2(cd[i], phi[i])))
+
+
+def test_bond_strength_limited_at_c60_75(tol):
+    # EN 1992-1-1:2004 8.4.2(2) [M]: fctk,0.05 taken at C60/75 for higher classes. Table 3.1 values
+    # (from memory for C60/75 and C70/85): fctk,0.05 = 3.1 (C60/75), 3.2 (C70/85).
+    # fbd = 2.25·1.0·1.0·3.1/1.5 = 4.650 MPa for both C60/75 and C70/85 (not 4.800 at C70/85).
+    fck_b = anc.fck_for_bond(np.array([30.0, 60.0, 70.0, 90.0]))
+    tol.same(fck_b, [30.0, 60.0, 60.0, 60.0])
+    fbd = anc.bond_strength(mat.fctd(mat.fctk_005(fck_b)), 25.0)
+    tol.printed(fbd[1], "4.650")
+    tol.printed(fbd[2], "4.650")
+    tol.printed(anc.bond_strength(mat.fctd(mat.fctk_005(70.0)), 25.0), "4.800")

@@ -67,13 +67,36 @@ def test_cmin_dur_combinations_and_unknown():
 
 
 def test_cover_o9(tol):
-    # O9: 50 mm on blinding ≥ k1 = 40 → OK; nominal cover also ≥ cmin,dur + Δcdev
-    req = det.nominal_cover_required(det.cmin_dur("XC2"), 25.0, delta_c_dev=10.0, k1=40.0)
-    tol.same(req, 40.0)
-    assert 50.0 >= req
+    # O9 (reference §15, rule from memory [M], arithmetic [D]): on blinding cmin >= k1 = 40 mm and
+    # cnom = 40 + Δcdev 10 = 50 mm (4.4.1.3(4), 4.4.1.1(2) Eq. 4.1): 50 mm is at the limit, 45 fails.
+    # (The previous expectation, 40 mm, took k1 as the nominal cover: the unconservative reading of
+    # issue 10, item 5.)
+    req = det.nominal_cover_required(det.cmin_dur("XC2"), det.cmin_bond(25.0, 25.0),
+                                     delta_c_dev=10.0, k1=40.0)
+    tol.same(req, 50.0)                                    # max(25, 25 (XC2), 10, 40) + 10
+    assert 50.0 >= req and not 45.0 >= req
+    # XS3: cmin,dur = 45 (Table 4.4N, S4, from memory) governs: 45 + 10 = 55
     tol.same(det.nominal_cover_required(det.cmin_dur("XS3"), 25.0), 55.0)
-    tol.same(det.nominal_cover_required(det.cmin_dur("XC2"), 40.0), 50.0)  # cmin,b = φ
-    tol.same(det.nominal_cover_required(np.nan, 25.0), 40.0)  # no exposure: other terms only
+    # cmin,b = φ = 40 (4.4.1.2(3), Table 4.2): max(40, 25, 10, 40) + 10 = 50
+    tol.same(det.nominal_cover_required(det.cmin_dur("XC2"), 40.0), 50.0)
+    # no exposure: the other terms only, k1 + Δcdev = 50
+    tol.same(det.nominal_cover_required(np.nan, 25.0), 50.0)
+    # H50 bars: cmin,b = 50 > k1: 50 + 10 = 60 (4.4.1.2(3))
+    tol.same(det.nominal_cover_required(np.nan, 50.0), 60.0)
+
+
+def test_cmin_bond_is_the_bar_nearest_the_face(tol):
+    # 4.4.1.2(3), Table 4.2 [M]: cmin,b = diameter of the bar; the cover is measured to the lowest
+    # layer (x bars). H40 x under H25 y: 40 (not the smaller 25 of the old rule).
+    tol.same(det.cmin_bond(40.0, 25.0), 40.0)
+    # H12 x under H40 y: the y bars sit at c + 12, and need c + 12 >= 40, so c >= 28 > 12
+    tol.same(det.cmin_bond(12.0, 40.0), 28.0)
+    tol.same(det.cmin_bond(np.array([20.0, 16.0]), np.array([np.nan, 16.0])), [20.0, 16.0])
+
+
+def test_distribution_steel_twenty_percent(tol):
+    # 9.3.1.1(2) (from memory): secondary steel >= 20 % of the principal; 6H25 = 2945.2 mm² -> 589.0
+    tol.printed(det.distribution_steel(6 * np.pi * 25**2 / 4), "589.0")
 
 
 def test_bending_alternative_o4(tol):

@@ -102,3 +102,10 @@ def test_structuralcodes_fyd(fyk, tol):
     from structuralcodes.codes import ec2_2004 as sc
 
     tol.lib(mat.fyd(fyk, gamma_s=1.15), sc.fyd(fyk, gamma_s=1.15))
+
+
+def test_fck_for_shear_uk_na(tol):
+    # UK NA to BS EN 1992-1-1, 3.1.2(2)P (from memory; reference S12): shear strength of classes
+    # above C50/60 as C50/60; the recommended values set no limit
+    tol.same(mat.fck_for_shear(np.array([30.0, 50.0, 60.0, 90.0]), 50.0), [30.0, 50.0, 50.0, 50.0])
+    tol.same(mat.fck_for_shear(np.array([60.0, 90.0])), [60.0, 90.0])

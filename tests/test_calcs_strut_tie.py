@@ -250,6 +250,53 @@ def test_node_stresses_o4_o5(tol):
     tol.same(st.column_area(600.0, 600.0, True), np.pi * 300.0 ** 2)
 
 
+def test_strut_face_with_the_tie_zone_fig_6_27(tol):
+    """EN 1992-1-1:2004 Fig. 6.27 [M]: a2 = a1 sinθ + u cosθ; σ = C/(a2 b), C = R/sinθ. O5-like
+    node: R = 1000 kN on a φ600 pile head, θ with sin²θ = 1/3 (four piles, run l/√2 = d√2),
+    cover 75 and H25: u = 2(75 + 12.5) = 175 mm (capcheck's choice: the tie zone centred on the
+    lowest layer), a1 = b = √(π·300²) = 531.74 mm (equivalent square of the pile head, capcheck's
+    convention). a2 = 531.74·0.57735 + 175·0.81650 = 306.99 + 142.89 = 449.88 mm;
+    σ = (1000e3/0.57735)/(449.88·531.74) = 7.240 MPa against R/(A sin²θ) = 10.610 MPa."""
+    R, A = 1000e3, np.pi * 300.0 ** 2
+    b = st.equivalent_square_side(A)
+    tol.printed(b, "531.74")
+    u = st.tie_zone_height(75.0, 25.0)
+    tol.same(u, 175.0)
+    theta = np.degrees(np.arcsin(np.sqrt(1 / 3)))
+    a2 = st.strut_face_width(b, u, theta)
+    tol.printed(a2, "449.88")
+    sig = st.strut_stress_node_geometry(R, b, b, u, theta)
+    tol.printed(sig, "7.240")
+    tol.printed(st.strut_face_stress(R, A, theta), "10.610")
+    # with no tie zone the geometry gives the simple sizing back (identity)
+    tol.same(st.strut_stress_node_geometry(R, b, b, 0.0, theta), st.strut_face_stress(R, A, theta))
+    # vertical strut: the bearing stress
+    tol.same(st.strut_stress_node_geometry(R, b, b, u, 90.0), st.bearing_stress(R, A))
+    # vectorised over caps and piles
+    got = st.strut_stress_node_geometry(np.full((2, 3), R), np.full((2, 1), b), np.full((2, 1), b),
+                                        np.full((2, 1), u), np.full((2, 3), theta))
+    tol.same(got, np.full((2, 3), sig))
+
+
+def test_partially_loaded_area_6_7(tol):
+    """EN 1992-1-1:2004 6.7(2), (3), Eq. (6.63), Fig. 6.29 [M]: FRdu/Ac0 = fcd √(Ac1/Ac0) ≤ 3 fcd,
+    Ac1 similar to Ac0, b2 − b1 ≤ h, d2 − d1 ≤ h, within the member."""
+    # 400 × 400 on h = 1200 in a 2700 cap: b2 = 1600 -> ratio 4.0, capped at 3.0 (issue 10, item 7)
+    r = st.partially_loaded_area_ratio(400.0, 400.0, 1200.0, 2700.0, 2700.0)
+    tol.same(r, 4.0)
+    fcd = mat.fcd(32.0, alpha_cc=0.85)                     # 18.133 MPa
+    tol.printed(st.partially_loaded_limit(fcd, r), "54.40")
+    # 600 × 400 on h = 300: the longer side limits, b2 − b1 ≤ h -> λ = 1 + 300/600 = 1.5
+    # (d2 = 600, d2 − d1 = 200 ≤ 300): Ac1/Ac0 = 2.25
+    tol.same(st.partially_loaded_area_ratio(600.0, 400.0, 300.0, 3000.0, 3000.0), 1.5)
+    # the plan governs: 600 square in a 1350 cap, h = 1500: λ = min(3.5, 2.25) = 2.25
+    tol.same(st.partially_loaded_area_ratio(600.0, 600.0, 1500.0, 1350.0, 1350.0), 2.25)
+    # vectorised
+    tol.same(st.partially_loaded_area_ratio(np.array([400.0, 600.0]), np.array([400.0, 600.0]),
+                                            np.array([1200.0, 1500.0]), np.array([2700.0, 1350.0]),
+                                            np.array([2700.0, 1350.0])), [4.0, 2.25])
+
+
 @pytest.mark.parametrize("d_nom, d_design", [(350, 330), (399, 379), (400, 380), (600, 570),
                                              (1000, 950), (1200, 1150)])
 def test_pile_design_diameter_s25(d_nom, d_design, tol):

@@ -42,6 +42,23 @@ def bond_strength(fctd, phi, eta1=1.0):
     return 2.25 * eta1 * eta2(phi) * np.asarray(fctd, dtype=float)
 
 
+def fck_for_bond(fck, fck_max=60.0):
+    """EN 1992-1-1:2004 8.4.2(2)
+
+    Cylinder strength at which fctd is taken in the bond strength: fctk,0.05 is limited to the
+    value of C60/75 because of the greater brittleness of higher-strength concrete, unless a
+    higher average bond strength is verified [M], i.e. fctd at min(fck, 60).
+
+    Args:
+        fck: characteristic cylinder strength [MPa]
+        fck_max: class whose tensile strength bounds the bond strength, 60 (C60/75) [MPa]
+
+    Returns:
+        fck for fctd in Eq. (8.2) [MPa]
+    """
+    return np.minimum(np.asarray(fck, dtype=float), fck_max)
+
+
 def bar_stress(tie_force, as_prov, fyd):
     """EN 1992-1-1:2004 8.4.3(2)
 

@@ -150,24 +150,60 @@ def cmin_dur(exposure):
     return vals[inv].reshape(text.shape)
 
 
-def nominal_cover_required(cmin_dur, phi, delta_c_dev=10.0, k1=40.0):
+def distribution_steel(as_main, proportion=0.2):
+    """EN 1992-1-1:2004 9.3.1.1(2)
+
+    Secondary (distribution) reinforcement of a one-way slab, at least 20 % of the principal
+    reinforcement (from memory) [M]; capcheck applies it to the bars across a two-pile cap,
+    which carry no tie, as an accepted alternative to 9.2.1.1(1) over the cap length.
+
+    Args:
+        as_main: principal (main tie) steel provided [mm²]
+        proportion: 0.2 [-]
+
+    Returns:
+        As,min of the distribution steel [mm²]
+    """
+    return proportion * np.asarray(as_main, dtype=float)
+
+
+def cmin_bond(phi_lowest, phi_second=0.0):
+    """EN 1992-1-1:2004 4.4.1.2(3), Table 4.2
+
+    Minimum cover for bond cmin,b = the bar diameter (separated bars), for the bars nearest the
+    face: the lowest layer (φx, the cover is measured to it). The second layer sits at c + φx
+    from the soffit, so its own cmin,b = φy asks c ≥ φy − φx; the larger governs [M].
+
+    Args:
+        phi_lowest: diameter of the lowest layer (the x bars) [mm]
+        phi_second: diameter of the second layer (the y bars), 0 if none [mm]
+
+    Returns:
+        cmin,b to be met by the stated cover [mm]
+    """
+    lo = np.asarray(phi_lowest, dtype=float)
+    return np.fmax(lo, np.asarray(phi_second, dtype=float) - lo)
+
+
+def nominal_cover_required(cmin_dur, cmin_b, delta_c_dev=10.0, k1=40.0):
     """EN 1992-1-1:2004 4.4.1.1(2), Eq. (4.1)
 
-    Cover required: cnom = cmin + Δcdev with cmin = max(cmin,b = φ, cmin,dur, 10 mm) (4.4.1.2,
-    Eq. 4.2), and for concrete cast on prepared ground including blinding cnom ≥ k1 = 40 mm
-    (4.4.1.3(4), recommended) [M]. A missing cmin,dur (no exposure class) drops that term.
+    Cover required (with 4.4.1.2(2), Eq. (4.2), and 4.4.1.3(4)): cnom = cmin + Δcdev, cmin = max(cmin,b, cmin,dur, 10 mm) (Eq. 4.2), and
+    for concrete cast on prepared ground including blinding the minimum k1 (40 mm, UK NA and
+    recommended, from memory), to which Δcdev is added as to every minimum (4.4.1.3(4);
+    reference O9: 40 + 10 = 50 mm) [M]. A missing cmin,dur (no exposure class) drops that term.
 
     Args:
         cmin_dur: durability minimum, NaN if not known [mm]
-        phi: bar diameter for cmin,b [mm]
+        cmin_b: minimum cover for bond (:func:`cmin_bond`) [mm]
         delta_c_dev: allowance for deviation, recommended 10 [mm]
-        k1: minimum nominal cover on blinding, recommended 40 [mm]
+        k1: minimum cover on blinding [mm]
 
     Returns:
         cnom required [mm]
     """
-    cmin = np.fmax(np.maximum(np.asarray(phi, dtype=float), 10.0), cmin_dur)
-    return np.maximum(cmin + delta_c_dev, k1)
+    cmin = np.fmax(np.maximum(np.asarray(cmin_b, dtype=float), 10.0), cmin_dur)
+    return np.maximum(cmin, k1) + delta_c_dev
 
 
 def moment_at_column_face(coord, reaction, mask, column_size):

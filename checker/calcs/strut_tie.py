@@ -420,6 +420,124 @@ def strut_face_stress(force, area, theta_deg):
     return np.asarray(force, dtype=float) / (area * s * s)
 
 
+def equivalent_square_side(area):
+    """Derived: side of the square of the same area as a node face, b = √A
+
+    Used for the width of the pile node normal to the plane of the strut, and for the node
+    width a1 in that plane, where the pile head is circular (an equivalent square of the pile
+    head area; capcheck's convention, stated in the working) [D].
+
+    Args:
+        area: node face area (pile head) [mm²]
+
+    Returns:
+        b [mm]
+    """
+    return np.sqrt(np.asarray(area, dtype=float))
+
+
+def tie_zone_height(cover, phi):
+    """EN 1992-1-1:2004 6.5.4, Figure 6.27
+
+    CCT node: height u of the tie zone below the node, taken as twice the depth to the centre of the
+    lowest bar layer, u = 2(c + φ/2): the tie is centred in the zone (s0 = c + φ/2 in Fig.
+    6.27, one layer) [M for the figure]. The second layer is not credited (conservative:
+    the smaller u gives the narrower strut face).
+
+    Args:
+        cover: nominal cover to the lowest bars [mm]
+        phi: diameter of the lowest bars [mm]
+
+    Returns:
+        u [mm]
+    """
+    return 2.0 * (np.asarray(cover, dtype=float) + 0.5 * np.asarray(phi, dtype=float))
+
+
+def strut_face_width(a1, u, theta_deg):
+    """EN 1992-1-1:2004 6.5.4, Figure 6.27
+
+    CCT node: width of the node face normal to the strut, a2 = a1 sin θ + u cos θ, with a1 the bearing
+    width in the plane of the strut and u the height of the tie zone [M].
+
+    Args:
+        a1: bearing width of the node in the plane of the strut [mm]
+        u: height of the tie zone (:func:`tie_zone_height`) [mm]
+        theta_deg: strut inclination to the horizontal [degrees]
+
+    Returns:
+        a2 [mm]
+    """
+    t = np.radians(np.asarray(theta_deg, dtype=float))
+    return np.asarray(a1, dtype=float) * np.sin(t) + np.asarray(u, dtype=float) * np.cos(t)
+
+
+def strut_stress_node_geometry(force, a1, b, u, theta_deg):
+    """EN 1992-1-1:2004 6.5.4(4), Figure 6.27
+
+    Strut stress at a pile node sized with the tie zone: σ = C/(a2 b) with the strut force C = F/sin θ, a2 = a1 sin θ + u cos θ (Fig. 6.27) and b the
+    node dimension normal to the plane of the strut [M]. For a pile head of area A capcheck uses
+    a1 = b = √A (an equivalent square, :func:`equivalent_square_side`). With u = 0 this is the
+    simple sizing F/(A sin² θ) of :func:`strut_face_stress`; the tie zone widens the face.
+
+    Args:
+        force: vertical force on the node (pile reaction) [N]
+        a1: bearing width of the node in the plane of the strut [mm]
+        b: node dimension normal to the plane [mm]
+        u: height of the tie zone [mm]
+        theta_deg: strut inclination to the horizontal [degrees]
+
+    Returns:
+        σ on the strut face [MPa]
+    """
+    s = np.sin(np.radians(np.asarray(theta_deg, dtype=float)))
+    c = np.asarray(force, dtype=float) / s
+    return c / (strut_face_width(a1, u, theta_deg) * b)
+
+
+def partially_loaded_area_ratio(b1, d1, h, length, width):
+    """EN 1992-1-1:2004 6.7(3), Figure 6.29
+
+    Partially loaded area (6.7(2), Eq. (6.63)): √(Ac1/Ac0) for a concentric load on Ac0 = b1 × d1 spread to the design distribution area
+    Ac1 = b2 × d2, geometrically similar to Ac0 with the same centre (6.7(3)) [M]. Ac1 is
+    limited by the distribution depth, h ≥ b2 − b1 and h ≥ d2 − d1 (Fig. 6.29), and by the
+    member outline, b2 ≤ L and d2 ≤ W: with b2 = λ b1, d2 = λ d1,
+    λ = min(1 + h/max(b1, d1), L/b1, W/d1), and √(Ac1/Ac0) = λ (not below 1). A circle of
+    diameter D is the case b1 = d1 = D (Ac1 a circle of diameter λD).
+
+    Args:
+        b1, d1: loaded area dimensions along x and y (circle: D, D) [mm]
+        h: depth available for the distribution (the cap depth) [mm]
+        length, width: member plan dimensions along x and y [mm]
+
+    Returns:
+        √(Ac1/Ac0) [-] (the cap of 3.0 in Eq. 6.63 is applied by :func:`partially_loaded_limit`)
+    """
+    b1 = np.asarray(b1, dtype=float)
+    d1 = np.asarray(d1, dtype=float)
+    lam = np.minimum(1.0 + np.asarray(h, dtype=float) / np.maximum(b1, d1),
+                     np.minimum(np.asarray(length, dtype=float) / b1, np.asarray(width, dtype=float) / d1))
+    return np.maximum(lam, 1.0)
+
+
+def partially_loaded_limit(fcd, area_ratio_sqrt, cap=3.0):
+    """EN 1992-1-1:2004 6.7(2), Eq. (6.63)
+
+    Bearing stress on a partially loaded area, FRdu/Ac0 = fcd √(Ac1/Ac0) ≤ 3.0 fcd [M]. The
+    transverse (bursting) forces of 6.7(4) must be taken by reinforcement; capcheck does not
+    check it (said in the working).
+
+    Args:
+        fcd: design compressive strength [MPa]
+        area_ratio_sqrt: √(Ac1/Ac0) (:func:`partially_loaded_area_ratio`) [-]
+        cap: upper bound of the factor, 3.0 in Eq. (6.63) [-]
+
+    Returns:
+        σRdu = FRdu/Ac0 [MPa]
+    """
+    return np.asarray(fcd, dtype=float) * np.minimum(np.asarray(area_ratio_sqrt, dtype=float), cap)
+
+
 def node_limit(k, nu_prime, fcd):
     """EN 1992-1-1:2004 6.5.4(4), Eq. (6.60)
 

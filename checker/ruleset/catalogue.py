@@ -166,6 +166,17 @@ DERIVED: dict[str, tuple[str, str]] = {
     "lbd_y_table": ("mm", "lbd of the y bars with Table 3.1 values"),
     "lbd_y_formula": ("mm", "lbd of the y bars with the Table 3.1 formulas"),
     "pile_dia_design": ("mm", "pile diameter used for the node area (2.3.4.2(2) for uncased piles)"),
+    "cmin_b": ("mm", "minimum cover for bond, the lowest bar (and c >= phi_y - phi_x for the second layer)"),
+    "as_min_y_dist": ("mm²", "minimum y steel as distribution steel, 20 % of the x steel for two-pile caps"),
+    "sigma_pile_geom": ("MPa", "governing pile node strut stress sized with the tie zone, Fig. 6.27"),
+    "b_pile_node": ("mm", "side of the square of the pile head area (node width a1 = b)"),
+    "u_tie": ("mm", "height of the tie zone, 2 (c + phi_x/2)"),
+    "a2_pile_node": ("mm", "strut face width a1 sin theta + u cos theta at the governing pile"),
+    "pla_ratio": ("", "sqrt(Ac1/Ac0) of the column on the cap, 6.7"),
+    "node_col_limit_pla": ("MPa", "column bearing limit on a partially loaded area, fcd sqrt(Ac1/Ac0) <= 3 fcd"),
+    "fck_shear": ("MPa", "fck used in vRd,c and vmin (UK NA: at most C50/60)"),
+    "fck_bond": ("MPa", "fck at which fctd is taken for bond (at most C60/75, 8.4.2(2))"),
+    "fctd_bond": ("MPa", "design tensile strength used for bond"),
 }
 
 QUANTITIES: dict[str, tuple[str, str]] = {**FIELDS, **DERIVED}

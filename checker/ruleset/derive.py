@@ -57,7 +57,7 @@ DEFAULTS: dict[str, float | str] = {
     "crd_c_factor": 0.18, "vrdmax_coeff": 0.5,
     "k1_node": 1.0, "k2_node": 0.85, "k3_node": 0.75, "node_factor": 1.0,
     "concrete_density": 25.0, "pile_tolerance": 75.0, "dg": 20.0, "delta_c_dev": 10.0,
-    "cover_k1": 40.0, "eta1": 1.0, "stated_tolerance": 0.05,
+    "cover_k1": 40.0, "eta1": 1.0, "fck_shear_max": 50.0, "stated_tolerance": 0.05,
     "material_values": "table", "tie_node": "centre", "shear_av": "inside-pile",
 }
 
@@ -193,7 +193,9 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     fyd = mat.fyd(fyk, gamma_s=float(_pget(p, "gamma_s")))
     nu_p = mat.nu_prime(fck)
     nu = mat.nu(fck)
-    q.update(fcd=fcd, fcd_shear=fcd_shear, fctm=fctm, fctk_005=fctk, fctd=fctd, fyd=fyd,
+    # UK NA 3.1.2(2)P: shear strength of classes above C50/60 taken as C50/60 (vRd,c, vmin)
+    fck_v = mat.fck_for_shear(fck, fck_max=float(_pget(p, "fck_shear_max")))
+    q.update(fck_shear=fck_v, fcd=fcd, fcd_shear=fcd_shear, fctm=fctm, fctk_005=fctk, fctd=fctd, fyd=fyd,
              nu_prime=nu_p, nu=nu, table_class=mat.table_listed(fck))
 
     # ---- reactions ----------------------------------------------------------------------
@@ -228,10 +230,14 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         as_max_x=det.as_max(W * h), as_max_y=det.as_max(L * h),
         as_max=det.as_max(np.fmin(W, L) * h),
         cmin_dur=c_dur,
-        cover_req=det.nominal_cover_required(c_dur, phi_max,
+        cmin_b=det.cmin_bond(phx, phy),
+        cover_req=det.nominal_cover_required(c_dur, det.cmin_bond(phx, phy),
                                              delta_c_dev=float(_pget(p, "delta_c_dev")),
                                              k1=float(_pget(p, "cover_k1"))),
     )
+    # method variant of min-steel-y: across a two-pile cap (no tie along y) the distribution steel,
+    # 20 % of the main steel (EN 1992-1-1:2004 9.3.1.1(2), from memory); other caps keep 9.2.1.1(1)
+    q["as_min_y_dist"] = np.where(npile == 2, det.distribution_steel(as_x), q["as_min_y"])
 
     # ---- strut-and-tie ------------------------------------------------------------------
     # Each direction: its tie rows against the steel counted for them, and the tension across
@@ -290,6 +296,21 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     k_pile = st.pile_node_factor(npile, k1=float(_pget(p, "k1_node")),
                                  k2=float(_pget(p, "k2_node")), k3=float(_pget(p, "k3_node")))
     node_factor = float(_pget(p, "node_factor"))
+    # strut face sized with the tie zone (Fig. 6.27): a1 = b = side of the equivalent square of the
+    # pile head, u = 2(c + phi_x/2) of the lowest layer
+    b_pile = st.equivalent_square_side(a_pile)
+    u_tie = st.tie_zone_height(cover, phx)
+    sig_geom = st.strut_stress_node_geometry(R, b_pile[:, None], b_pile[:, None], u_tie[:, None], theta)
+    gov = np.argmax(np.where(mask, sig_geom, -np.inf), axis=1) if n else np.zeros(0, int)
+    th_gov = theta[np.arange(n), gov] if n else np.zeros(0)
+    pla = st.partially_loaded_area_ratio(cx, cy, h, L, W)
+    q.update(
+        b_pile_node=b_pile, u_tie=u_tie,
+        a2_pile_node=np.where(npile >= 2, st.strut_face_width(b_pile, u_tie, th_gov), np.nan),
+        sigma_pile_geom=geo.row_max(sig_geom, mask),
+        pla_ratio=pla,
+        node_col_limit_pla=st.partially_loaded_limit(fcd, pla),
+    )
     q.update(
         pile_dia_design=dp,
         sigma_col=st.bearing_stress(N, a_col),
@@ -309,7 +330,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     for k, coord, across, col, d, width in (("x", X, Y, cx, d_x, W), ("y", Y, X, cy, d_y, L)):
         as_l = as_x if k == "x" else as_y
         rho = shr.rho_l(as_l, width, d)
-        vrdc = shr.v_rdc(fck, d, rho, gamma_c=gamma_c, crd_c_factor=crd)
+        vrdc = shr.v_rdc(fck_v, d, rho, gamma_c=gamma_c, crd_c_factor=crd)
         s = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc,
                            av_mode=av_mode)
         vmax = shr.v_ed_max(width, d, nu, fcd_shear)
@@ -339,7 +360,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     u1 = pun.basic_control_perimeter(cx, cy, d_mean, rnd)
     ved_red = pun.reduced_punching_force(N, R_col, face_dist, mask, 2.0 * d_mean)
     rho2 = pun.rho_two_way(q["rho_x"], q["rho_y"])
-    vrdc2 = shr.v_rdc(fck, d_mean, rho2, gamma_c=gamma_c, crd_c_factor=crd)
+    vrdc2 = shr.v_rdc(fck_v, d_mean, rho2, gamma_c=gamma_c, crd_c_factor=crd)
     on = applies == 1.0
     q.update(
         u0=u0, ved0=pun.shear_stress_column_face(N, u0, d_mean),
@@ -352,9 +373,12 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
 
     # ---- anchorage ----------------------------------------------------------------------
     eta1 = float(_pget(p, "eta1"))
-    fbd_x = anc.bond_strength(fctd, phx, eta1=eta1)
-    fbd_y = anc.bond_strength(fctd, phy, eta1=eta1)
-    q.update(fbd=np.fmin(fbd_x, fbd_y), fbd_x=fbd_x, fbd_y=fbd_y)
+    # 8.4.2(2): fctd for bond at no more than C60/75
+    fck_b = anc.fck_for_bond(fck)
+    fctd_b = mat.fctd(mat.fctk_005(fck_b, values=values), alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
+    fbd_x = anc.bond_strength(fctd_b, phx, eta1=eta1)
+    fbd_y = anc.bond_strength(fctd_b, phy, eta1=eta1)
+    q.update(fck_bond=fck_b, fctd_bond=fctd_b, fbd=np.fmin(fbd_x, fbd_y), fbd_x=fbd_x, fbd_y=fbd_y)
     outer_x = geo.row_max(np.abs(X), mask)
     outer_y = geo.row_max(np.abs(Y), mask)
     for k, phi, fbd_k, clear, half, outer in (("x", phx, fbd_x, clear_x, 0.5 * L, outer_x),
@@ -370,7 +394,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"lb_avail_{k}"] = anc.available_length(half, cover, outer, phi_p, h, phi, bent)
         # method variant: the other material-value convention (Table 3.1 values or formulas)
         alt = "formula" if values != "formula" else "table"
-        fctd_alt = mat.fctd(mat.fctk_005(fck, values=alt), alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
+        fctd_alt = mat.fctd(mat.fctk_005(fck_b, values=alt), alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
         fbd_alt = anc.bond_strength(fctd_alt, phi, eta1=eta1)
         lb_alt = anc.basic_anchorage_length(phi, sig, fbd_alt)
         q[f"lbd_{k}_{alt}"] = anc.design_anchorage_length(lb_alt, phi, a1, a2)
