@@ -52,9 +52,36 @@ def test_o7_two_piles_transverse_moment(tol):
 def test_o7_four_piles_biaxial_tolerance(tol):
     # O7: 4 piles with ex = ey = 75 mm: elastic Pmax = 1166.67 kN (not the bilinear 1173.61)
     X, Y, m = _layout(4, 1800)
-    hi, lo = rea.tolerance_reactions(X, Y, m, [4000e3], [0.0], [0.0], tolerance=75.0)
+    hi, lo = rea.tolerance_reactions(X, Y, m, [4000e3], [0.0], [0.0], tolerance=75.0, per_axis=True)
     tol.printed(hi / 1e3, "1166.67")
     tol.printed(lo / 1e3, "833.33")
+
+
+def test_four_piles_tolerance_in_any_direction(tol):
+    # 75 mm in any direction (reference decision 10): the worst shift is along the diagonal to the
+    # corner pile, 75 mm there = 53.03 mm along each axis: R = N/4 + N e/(4·s/sqrt2)... by hand:
+    # R = N/4 + N·e·sqrt(r_x² + r_y²), r_x = r_y = (s/2)/(4 (s/2)²) = 1/(2 s) = 2.7778e-4 /mm
+    # -> 1000 + 4000 × 75 × sqrt(2) × 2.7778e-4 = 1117.85 kN (against 1166.67 for (75, 75))
+    X, Y, m = _layout(4, 1800)
+    hi, lo = rea.tolerance_reactions(X, Y, m, [4000e3], [0.0], [0.0], tolerance=75.0)
+    r = 1.0 / (2 * 1800.0)
+    tol.same(hi, [1000e3 + 4000e3 * 75.0 * np.sqrt(2) * r])
+    tol.printed(hi / 1e3, "1117.85")
+    tol.same(lo, [1000e3 - 4000e3 * 75.0 * np.sqrt(2) * r])
+    # the worst shift points away from the most loaded pile: towards (-1, -1) for a (+, +) corner
+    # or an equivalent corner; its angle is a multiple of 45 degrees off the axes
+    ang = rea.tolerance_direction(X, Y, m, [4000e3], [0.0], [0.0], tolerance=75.0)
+    assert np.isclose(abs(ang[0]) % 90.0, 45.0)
+
+
+def test_two_piles_tolerance_same_both_ways(tol):
+    # two piles: the transverse shift is taken by the restraint (dropped), so the any-direction
+    # and the per-axis readings coincide (O7: 1083.33 kN)
+    X, Y, m = _layout(2, 1800)
+    a = rea.tolerance_reactions(X, Y, m, [2000e3], [0.0], [0.0], tolerance=75.0)
+    b = rea.tolerance_reactions(X, Y, m, [2000e3], [0.0], [0.0], tolerance=75.0, per_axis=True)
+    tol.same(a, b)
+    tol.printed(a[0] / 1e3, "1083.33")
 
 
 def test_self_weight_s15_reconstruction(tol):
@@ -126,7 +153,7 @@ def test_statics_explicit_groups(pts, N, mx, my):
 @given(st.integers(2, 6), spacing, loads, st.floats(0.0, 150.0))
 def test_tolerance_equals_extra_moments(piles, s, N, e):
     X, Y, m = _layout(piles, s)
-    hi, lo = rea.tolerance_reactions(X, Y, m, [N], [0.0], [0.0], tolerance=e)
+    hi, lo = rea.tolerance_reactions(X, Y, m, [N], [0.0], [0.0], tolerance=e, per_axis=True)
     best_hi, best_lo = -np.inf, np.inf
     for sx in (-1, 1):
         for sy in (-1, 1):
@@ -134,6 +161,26 @@ def test_tolerance_equals_extra_moments(piles, s, N, e):
             best_hi, best_lo = max(best_hi, np.nanmax(R)), min(best_lo, np.nanmin(R))
     assert np.isclose(hi[0], best_hi) and np.isclose(lo[0], best_lo)
     assert hi[0] >= N / piles * (1 - 1e-12)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(2, 6), spacing, loads, st.floats(0.0, 150.0))
+def test_tolerance_any_direction_is_the_sweep_over_directions(piles, s, N, e):
+    # a shift of e at angle phi adds the moments -N e sin(phi) about x and -N e cos(phi) about y;
+    # a fine sweep of phi can only approach the closed form from below, and never exceed it
+    X, Y, m = _layout(piles, s)
+    hi, lo = rea.tolerance_reactions(X, Y, m, [N], [0.0], [0.0], tolerance=e)
+    phi = np.radians(np.arange(0.0, 360.0, 0.5))
+    best_hi, best_lo = -np.inf, np.inf
+    for p_ in phi:
+        R = rea.pile_reactions(X, Y, m, [N], [-N * e * np.sin(p_)], [-N * e * np.cos(p_)])
+        best_hi, best_lo = max(best_hi, np.nanmax(R)), min(best_lo, np.nanmin(R))
+    slack = 1e-9 * abs(N) + 1e-6
+    assert best_hi <= hi[0] + slack and best_lo >= lo[0] - slack
+    # 0.5 degree steps: within 1 - cos(0.25 degrees) = 1e-5 of the swing
+    assert np.isclose(best_hi, hi[0], rtol=1e-5) and np.isclose(best_lo, lo[0], rtol=1e-5)
+    hi_ax, _ = rea.tolerance_reactions(X, Y, m, [N], [0.0], [0.0], tolerance=e, per_axis=True)
+    assert hi[0] <= hi_ax[0] + slack
 
 
 def test_array_equals_element_by_element(tol):

@@ -80,7 +80,9 @@ def test_intended_findings_of_the_sample(run_json):
     assert bad["PC8"]["pile-spacing"] == "non-compliant"
     assert bad["PC9"]["edge-distance"] == "non-compliant"
     assert bad["PC10"]["strut-angle"] == "non-compliant"
-    assert bad["PC10"]["tie-steel-x"] == "unsafe"
+    # x: fails the truss, passes bending theory at 0.997 (an accepted method): a query naming both
+    assert bad["PC10"]["tie-steel-x"] == "query"
+    assert bad["PC10"]["tie-steel-y"] == "unsafe"
     assert bad["PC11"]["bar-diameter"] == "non-compliant"
     assert bad["PC12"]["min-steel-x"] == "non-compliant"
     assert bad["PC13"]["pile-embedment"] == "non-compliant"

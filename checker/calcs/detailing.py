@@ -206,46 +206,75 @@ def nominal_cover_required(cmin_dur, cmin_b, delta_c_dev=10.0, k1=40.0):
     return np.maximum(cmin, k1) + delta_c_dev
 
 
-def moment_at_column_face(coord, reaction, mask, column_size):
+def moment_at_column_face(coord, reaction, mask, column_size, inset=0.0):
     """Common practice: bending moment at the column face, Σ R_i (|c_i| − c/2) on the worse side
 
     Bending-theory alternative (reference §8; 9.8.1(2) [M]) [CP]: the cap as a wide beam
-    cantilevering from the column face, loaded by the pile reactions on one side.
+    cantilevering from the section, loaded by the reactions of the piles beyond it. The section
+    is at the column face, or ``inset`` × the column width inside it (0.15, the section of
+    EN 1992-1-1:2004 9.8.2.2(3) Fig. 9.13 for pad footings, is the usual alternative; from
+    memory). The cap's own weight on the cantilever is not deducted (conservative).
 
     Args:
         coord: pile coordinates along the span (n, m) [mm]
         reaction: pile reactions (n, m) [N]
         mask: real piles (n, m) [-]
         column_size: column dimension along the span (n,) [mm]
+        inset: section inside the column face as a fraction of the column width [-]
 
     Returns:
-        M at the column face [N·mm]
+        M at the section [N·mm]
     """
-    lever = np.maximum(np.abs(coord) - 0.5 * np.asarray(column_size, dtype=float)[:, None], 0.0)
+    edge = (0.5 - float(inset)) * np.asarray(column_size, dtype=float)[:, None]
+    lever = np.maximum(np.abs(coord) - edge, 0.0)
     m = np.where(mask, reaction * lever, 0.0)
     pos = np.sum(np.where(coord > 0, m, 0.0), axis=1)
     neg = np.sum(np.where(coord < 0, m, 0.0), axis=1)
     return np.maximum(pos, neg)
 
 
-def bending_steel(moment, b, d, fck, fyd):
-    """Common practice: rectangular-block bending steel As = M/(fyd z) (reference §8)
+def lever_arm(moment, b, d, fcd, fck):
+    """EN 1992-1-1:2004 3.1.7(3)
 
-    K = M/(b d² fck), z = d[0.5 + √(0.25 − K/1.134)] ≤ 0.95 d (Concrete Centre How-to formula)
-    [M]; NaN where K > 0.2835 (no real z; compression steel would be needed well before).
+    Lever arm of a singly reinforced rectangular section with the rectangular stress block
+    (λ = 0.8, η = 1.0 for fck ≤ 50 MPa; λ = 0.8 − (fck − 50)/400, η = 1.0 − (fck − 50)/200
+    above, Eq. (3.19)–(3.22)): with s = λx, M = η fcd b s (d − s/2), so
+    z = d [0.5 + √(0.25 − M/(2 η fcd b d²))] ≤ 0.95 d (the 0.95 d cap is common practice) [D].
+    With αcc = 0.85 and γc = 1.5 this is the familiar z = d[0.5 + √(0.25 − K/1.134)],
+    K = M/(b d² fck). NaN where the section cannot carry M without compression steel.
+
+    Args:
+        moment: design moment M [N·mm]
+        b: width [mm]
+        d: effective depth [mm]
+        fcd: design compressive strength (αcc fck/γc) [MPa]
+        fck: characteristic cylinder strength [MPa]
+
+    Returns:
+        z [mm]
+    """
+    d = np.asarray(d, dtype=float)
+    fck = np.asarray(fck, dtype=float)
+    eta = np.where(fck <= 50.0, 1.0, 1.0 - (fck - 50.0) / 200.0)
+    disc = 0.25 - np.asarray(moment, dtype=float) / (2.0 * eta * np.asarray(fcd, dtype=float) * b * d * d)
+    return np.minimum(d * (0.5 + np.sqrt(np.where(disc >= 0, disc, np.nan))), 0.95 * d)
+
+
+def bending_steel(moment, b, d, fcd, fck, fyd):
+    """Common practice: bending steel of the cap as a wide beam, As = M/(fyd z) (reference §8)
+
+    z from :func:`lever_arm` (EN 1992-1-1:2004 3.1.7(3), z ≤ 0.95 d) [CP]; NaN where compression
+    steel would be needed.
 
     Args:
         moment: design moment [N·mm]
         b: width [mm]
         d: effective depth [mm]
+        fcd: design compressive strength [MPa]
         fck: characteristic cylinder strength [MPa]
         fyd: design yield strength [MPa]
 
     Returns:
         As [mm²]
     """
-    d = np.asarray(d, dtype=float)
-    K = np.asarray(moment, dtype=float) / (b * d * d * fck)
-    disc = 0.25 - K / 1.134
-    z = np.minimum(d * (0.5 + np.sqrt(np.where(disc >= 0, disc, np.nan))), 0.95 * d)
-    return moment / (fyd * z)
+    return moment / (fyd * lever_arm(moment, b, d, fcd, fck))

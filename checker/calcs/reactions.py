@@ -90,33 +90,76 @@ def pile_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, _terms=None):
     return np.where(mask, R, np.nan)
 
 
-def tolerance_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0):
-    """Common practice: pile positional tolerance as a group shift of (±e, ±e)
+def _tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis):
+    """R0 and the largest change of each pile's reaction under a group shift of size e [N]."""
+    N = np.asarray(n_ed, dtype=float)
+    terms = _group_terms(X, Y, mask)
+    zero = np.zeros_like(N)
+    R0 = pile_reactions(X, Y, mask, N, mx_ed, my_ed, _terms=terms)
+    # R is linear in the moments: a shift (ex, ey) of the group adds the moments −N·ey about x
+    # and −N·ex about y, i.e. −N (ey r_x + ex r_y) at each pile, r_x and r_y the unit-moment
+    # responses
+    rx = pile_reactions(X, Y, mask, zero, np.ones_like(N), zero, _terms=terms)
+    ry = pile_reactions(X, Y, mask, zero, zero, np.ones_like(N), _terms=terms)
+    if per_axis:
+        reach = np.abs(rx) + np.abs(ry)          # the worst of the four (±e, ±e) shifts
+    else:
+        reach = np.hypot(rx, ry)                 # max over the direction of |cos·r_y + sin·r_x|
+    return R0, (N * tolerance)[:, None] * reach, rx, ry
 
-    Worst reactions when the whole group is displaced by e in x and in y from its nominal
-    position relative to the column (engineering reference §13, G14: 75 mm is the usual
-    piling-specification value [V: S20]) [CP]. The shift is equivalent to the extra moments
-    N·e about each axis; the extreme reactions over the four sign combinations are returned. As in :func:`pile_reactions`, a moment the group cannot resist is dropped.
+
+def tolerance_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0, per_axis=False):
+    """Common practice: pile positional tolerance as a group shift of e in the worst direction
+
+    Worst reactions when the whole group is displaced from its nominal position relative to the
+    column by e in any direction (the usual piling-specification wording, 75 mm; engineering
+    reference §13, decision 10, G14 [V: S20]) [CP]. The shift is equivalent to the extra moments
+    N·e; each pile's reaction is linear in them, so its extreme over the direction is
+    R0 ± N e √(r_x² + r_y²) with r_x, r_y its unit-moment responses. ``per_axis=True`` gives the
+    more severe reading, a shift of e along each axis at once, (±e, ±e) (a deviation of e√2 on
+    the diagonal): R0 ± N e (|r_x| + |r_y|). As in :func:`pile_reactions`, a moment the group
+    cannot resist is dropped.
 
     Args:
         X, Y: pile centres (n, m) [mm]
         mask: real piles (n, m) [-]
         n_ed: vertical load at the column centre (n,) [N]
         mx_ed, my_ed: applied moments (n,) [N·mm]
-        tolerance: positional tolerance e (same in x and y) [mm]
+        tolerance: positional tolerance e [mm]
+        per_axis: True for the (±e, ±e) shift [-]
 
     Returns:
-        (R_max, R_min): extreme reactions over the piles and the four shifts, (n,) each [N]
+        (R_max, R_min): extreme reactions over the piles and the shifts, (n,) each [N]
     """
-    N = np.asarray(n_ed, dtype=float)
-    terms = _group_terms(X, Y, mask)
-    zero = np.zeros_like(N)
-    R0 = pile_reactions(X, Y, mask, N, mx_ed, my_ed, _terms=terms)
-    # R is linear in the moments: the shifts add ±N·e times the unit-moment responses, and the
-    # worst of the four sign cases at each pile is R0 ± N·e (|r_x| + |r_y|)
-    rx = pile_reactions(X, Y, mask, zero, np.ones_like(N), zero, _terms=terms)
-    ry = pile_reactions(X, Y, mask, zero, zero, np.ones_like(N), _terms=terms)
-    swing = (N * tolerance)[:, None] * (np.abs(rx) + np.abs(ry))
+    R0, swing, _, _ = _tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis)
     hi = np.max(np.where(mask, R0 + swing, -np.inf), axis=1)
     lo = np.min(np.where(mask, R0 - swing, np.inf), axis=1)
     return np.where(np.isfinite(hi), hi, np.nan), np.where(np.isfinite(lo), lo, np.nan)
+
+
+def tolerance_direction(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0):
+    """Derived: direction of the group shift that gives the largest pile reaction
+
+    The shift (ex, ey) = −e (r_y, r_x)/√(r_x² + r_y²) of the most loaded pile (see
+    :func:`tolerance_reactions`) [D]; 0 where the reaction does not depend on the shift.
+
+    Args:
+        X, Y: pile centres (n, m) [mm]
+        mask: real piles (n, m) [-]
+        n_ed: vertical load at the column centre (n,) [N]
+        mx_ed, my_ed: applied moments (n,) [N·mm]
+        tolerance: positional tolerance e [mm]
+
+    Returns:
+        angle of the shift from the x axis, anticlockwise (n,) [degrees]
+    """
+    R0, swing, rx, ry = _tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, False)
+    key = np.where(mask, R0 + swing, -np.inf)
+    n = key.shape[0]
+    if key.shape[1] == 0:
+        return np.full(n, np.nan)
+    g = np.argmax(key, axis=1)
+    rows = np.arange(n)
+    gx, gy = rx[rows, g], ry[rows, g]
+    ang = np.degrees(np.arctan2(-gx, -gy))
+    return np.where((np.abs(gx) + np.abs(gy)) > 0, ang, 0.0)

@@ -175,7 +175,8 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, to
     Returns:
         dict of (n,) arrays: ``T`` governing row force [N], ``as_req`` [mm²], ``as_prov`` [mm²],
         ``util`` [-], ``rows`` [count], ``t_total`` sum of the row forces [N], ``shared`` 1.0
-        where the layer is shared, ``full`` 1.0 where every row counts the whole layer [-];
+        where the layer is shared, ``full`` 1.0 where every row counts the whole layer [-],
+        ``as_layer_counted`` the steel lying over some row (bands added, at most the layer) [mm²];
         NaN where the direction has no row that the check covers
     """
     lines = tie_row_lines(H, row_coord, mask, tol)
@@ -199,9 +200,14 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, to
     t_total = np.where(rows > 0, np.sum(np.where(first, t_row, 0.0), axis=1), np.nan)
     band_min = np.min(np.where(lines["active"], band, np.inf), axis=1)
     full = shared | (band_min >= as_total * (1 - 1e-9))
+    # the steel of the layer that lies over some row: the whole layer where shared, else the
+    # bands added up (overlapping bands counted once at most by the min)
+    bands = np.sum(np.where(first, band, 0.0), axis=1)
+    counted_layer = np.where(shared, as_total, np.minimum(bands, as_total))
     return {"T": T, "as_req": tie_steel_required(T, fyd), "as_prov": as_prov, "util": u,
             "rows": rows, "t_total": t_total, "shared": shared.astype(float),
-            "full": np.where(rows > 0, full.astype(float), np.nan)}
+            "full": np.where(rows > 0, full.astype(float), np.nan),
+            "as_layer_counted": np.where(rows > 0, counted_layer, np.nan)}
 
 
 def tie_layer_check(H, coord, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol=1.0):

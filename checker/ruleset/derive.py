@@ -59,6 +59,7 @@ DEFAULTS: dict[str, float | str] = {
     "concrete_density": 25.0, "pile_tolerance": 75.0, "dg": 20.0, "delta_c_dev": 10.0,
     "cover_k1": 40.0, "eta1": 1.0, "fck_shear_max": 50.0, "stated_tolerance": 0.05,
     "material_values": "table", "tie_node": "centre", "shear_av": "inside-pile",
+    "bending_section_inset": 0.0,
 }
 
 #: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
@@ -205,8 +206,12 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     terms = rea._group_terms(X, Y, mask)
     R = rea.pile_reactions(X, Y, mask, n_tot, mx, my, _terms=terms)
     R_col = rea.pile_reactions(X, Y, mask, N, mx, my, _terms=terms)
-    r_tol_max, r_tol_min = rea.tolerance_reactions(X, Y, mask, n_tot, mx, my,
-                                                   tolerance=float(_pget(p, "pile_tolerance")))
+    e_tol = float(_pget(p, "pile_tolerance"))
+    r_tol_max, r_tol_min = rea.tolerance_reactions(X, Y, mask, n_tot, mx, my, tolerance=e_tol)
+    # method variant: the shift of e along both axes at once (±e, ±e) (reference decision 10)
+    q["r_tol_max_axes"], q["r_tol_min_axes"] = rea.tolerance_reactions(
+        X, Y, mask, n_tot, mx, my, tolerance=e_tol, per_axis=True)
+    q["tol_direction"] = rea.tolerance_direction(X, Y, mask, n_tot, mx, my, tolerance=e_tol)
     q.update(self_weight=sw, n_total=n_tot, r_nom_max=geo.row_max(R, mask),
              r_nom_min=geo.row_min(R, mask), r_tol_max=r_tol_max, r_tol_min=r_tol_min)
 
@@ -270,6 +275,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
             q[f"util_cut_{k}"] = t["util_cut"]
             q[f"tie_shared_{k}"] = t["shared"]
             q[f"tie_full_{k}"] = t["full"]
+            q[f"as_layer_counted_{k}"] = t["as_layer_counted"]
     Hx, Hy = ties[""]
     q["tie_full_width"] = np.where(np.isnan(q["tie_full_x"]) & np.isnan(q["tie_full_y"]), np.nan,
                                    np.fmin(q["tie_full_x"], q["tie_full_y"]))
@@ -400,12 +406,21 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"lbd_{k}_{alt}"] = anc.design_anchorage_length(lb_alt, phi, a1, a2)
         q[f"lbd_{k}_{'formula' if values == 'formula' else 'table'}"] = q[f"lbd_{k}"]
 
-    # ---- bending alternative (working only) ---------------------------------------------
+    # ---- bending theory: an accepted method of the tie-steel checks (tie-method = bending) -----
+    # the cap as a wide beam at the column face (or bending_section_inset × the column width
+    # inside it), rectangular stress block (3.1.7(3)), against the steel lying over the tie rows
+    inset = float(_pget(p, "bending_section_inset"))
     for k, coord, col, d, width in (("x", X, cx, d_x, W), ("y", Y, cy, d_y, L)):
-        m = det.moment_at_column_face(coord, R, mask, col)
+        m = det.moment_at_column_face(coord, R, mask, col, inset=inset)
         m = np.where(np.isnan(npile), np.nan, m)
+        z = det.lever_arm(m, width, d, fcd, fck)
+        has = (m > 0) & np.isfinite(q[f"tie_{k}"])
         q[f"m_face_{k}"] = m
-        q[f"as_bend_{k}"] = np.where(m > 0, det.bending_steel(m, width, d, fck, fyd), np.nan)
+        q[f"z_bend_{k}"] = np.where(has, z, np.nan)
+        q[f"as_bend_{k}"] = np.where(has, det.bending_steel(m, width, d, fcd, fck, fyd), np.nan)
+        q[f"tie_{k}_bend"] = np.where(has, m / z, np.nan)      # the bar force M/z [N]
+        q[f"as_req_{k}_bend"] = q[f"as_bend_{k}"]
+        q[f"as_tie_{k}_bend"] = np.where(has, q[f"as_layer_counted_{k}"], np.nan)
 
     # ---- the designer's figures ---------------------------------------------------------
     checks = {
