@@ -288,7 +288,7 @@ def test_column_face_deducts_the_piles_under_the_column(make_caps, tol):
                           n_ed=5000e3, bars_x="14H25", bars_y="14H25", nx=14.0, phi_x=25.0,
                           ny=14.0, phi_y=25.0))
     q = derive(caps, None, {"gamma_g": 0.0}).q
-    d = q["d_mean"][0]                                          # 900 − 75 − 25 − 12.5/… = 800
+    d = q["d_mean"][0]  # d_x = 900 − 75 − 12.5 = 812.5, d_y = 900 − 75 − 25 − 12.5 = 787.5
     tol.printed(d, "800")
     tol.printed(q["dved0"][0] / 1e3, "1000")
     tol.printed(q["ved0"][0], "2.0833")                         # 4000e3/(2400 x 800)

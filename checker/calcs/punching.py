@@ -389,7 +389,7 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
         a_c = hc[sl][:, None] * np.arange(K + 1)
         fu = area_fraction_inside(sd, cell[g], np.zeros(len(g)), hc[g], K) if len(g) else np.zeros((0, K + 1))
         f_c = fractions(fu, K + 1)
-        u_c, red_c, _, _, util_c = trial(a_c, f_c)
+        _, red_c, _, _, util_c = trial(a_c, f_c)
         kbest = np.argmax(util_c, axis=1)
         k0 = np.clip(kbest - 1, 0, K - 2)
         a0 = k0 * hc[sl]
