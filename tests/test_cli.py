@@ -83,6 +83,9 @@ def test_intended_findings_of_the_sample(run_json):
     # x: fails the truss, passes bending theory at 0.997 (an accepted method): a query naming both
     assert bad["PC10"]["tie-steel-x"] == "query"
     assert bad["PC10"]["tie-steel-y"] == "unsafe"
+    # every perimeter within 2d (EN 1992-1-1:2004 6.4.4(2)): the 650 mm cap fails at a = 765 mm
+    # (vEd 0.906 against vRd 0.656 MPa); the old "piles beyond 2d only" rule passed it with vEd = 0
+    assert bad["PC10"]["punching-perimeter"] == "unsafe"
     assert bad["PC11"]["bar-diameter"] == "non-compliant"
     assert bad["PC12"]["min-steel-x"] == "non-compliant"
     assert bad["PC13"]["pile-embedment"] == "non-compliant"

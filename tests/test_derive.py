@@ -75,8 +75,17 @@ def test_o4_two_pile_cap(make_caps, tol):
     tol.printed(q["as_bend_x"], "1851.4")
     tol.printed(q["lb_avail_x"], "675")               # O8
     tol.printed(q["edge_min"], "150")
-    assert q["spacing_le_3phi"][0] == 1.0 and q["punch_applies"][0] == 0.0
-    assert np.isnan(q["ved1"][0]) and np.isnan(q["ved_y"][0])
+    assert q["spacing_le_3phi"][0] == 1.0 and np.isnan(q["ved_y"][0])
+    # punching (decision 13, issue 10 item 2): the pile faces lie outside the column face, so the
+    # perimeters within 2d are checked; W = 900 cuts them (6.4.2(1), as Figure 6.15):
+    # u(a) = 2 x 500 + 4a asin(200/a) at the governing a; it passes (vEd/vRd about 0.90)
+    assert q["punch_applies"][0] == 1.0
+    a = q["a_punch"][0]
+    tol.same(q["u1"], 1000.0 + 4.0 * a * np.arcsin(200.0 / a))
+    assert 350.0 < a < 2 * q["d_mean"][0]             # beyond the inner pile face (900 − 300 − 250)
+    tol.same(q["ved1"], q["ved_red"] / (q["u1"] * q["d_mean"]))
+    tol.same(q["vrd1"], q["vrdc_punch"] * 2 * q["d_mean"] / q["a_punch"])
+    assert 0.85 < q["ved1"][0] / q["vrd1"][0] < 0.95
     # strut of a two-pile cap: z = d_x = 850 over the run l/2 = 900 -> 43.363 degrees (reference O4)
     tol.printed(q["strut_angle_min"], "43.363")
 
@@ -106,7 +115,10 @@ def test_o5_four_pile_cap_and_profiles(make_caps, tol):
     tol.printed(q["ved_x"] / 1e3, "2000")
     tol.printed(q["vrdc_x"], "0.3422")
     tol.printed(q["as_min_x"], "3664.4")
-    assert q["punch_applies"][0] == 0.0               # piles within 2d
+    # the piles lie within 2d but outside the column face: the perimeters within 2d are checked
+    # (decision 13; the old "only beyond 2d" practice was unconservative, issue 10 item 2)
+    assert q["punch_applies"][0] == 1.0
+    assert q["ved1"][0] <= q["vrd1"][0]
     tol.same(q["ved0"], 4000e3 / (2000 * q["d_mean"]))
     tol.printed(q["r_max"], "1272.8")
     # +10 % (6.5.4(5)) option and the EN profile both pass (O5)

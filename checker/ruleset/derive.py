@@ -360,21 +360,27 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"ved_{k}_{own_sfx}"], q[f"vrd_{k}_{own_sfx}"] = s["ved"], s["vrd"]
 
     # ---- punching -----------------------------------------------------------------------
+    # every perimeter within 2d (6.4.4(2), reference decision 13): the pile reactions deducted in
+    # proportion to the pile head area inside each perimeter (common practice), the same share at
+    # the column perimeter (a = 0) for the column-face check (6.4.5(3))
     u0 = pun.column_perimeter(cx, cy, rnd)
-    applies = pun.perimeter_applies(face_dist, mask, phi_p, d_mean)
+    applies = pun.perimeter_applies(X, Y, mask, phi_p, cx, cy, rnd)
     applies = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, applies)
-    u1 = pun.basic_control_perimeter(cx, cy, d_mean, rnd)
-    ved_red = pun.reduced_punching_force(N, R_col, face_dist, mask, 2.0 * d_mean)
     rho2 = pun.rho_two_way(q["rho_x"], q["rho_y"])
     vrdc2 = shr.v_rdc(fck_v, d_mean, rho2, gamma_c=gamma_c, crd_c_factor=crd)
+    scan = pun.governing_perimeter(N, R_col, X, Y, mask, phi_p, cx, cy, rnd, L, W, d_mean, vrdc2)
+    dved0 = np.nan_to_num(scan["dv0"], nan=0.0)  # piles unknown: nothing deducted (conservative)
     on = applies == 1.0
     q.update(
-        u0=u0, ved0=pun.shear_stress_column_face(N, u0, d_mean),
+        u0=u0, dved0=dved0, ved_red0=N - dved0,
+        ved0=pun.shear_stress_column_face(N - dved0, u0, d_mean),
         vrd_max_punch=pun.v_rd_max(nu, fcd_shear, coeff=float(_pget(p, "vrdmax_coeff"))),
-        punch_applies=applies, u1=u1, ved_red=np.where(on, ved_red, np.nan),
-        ved1=np.where(on, pun.shear_stress_perimeter(ved_red, u1, d_mean), np.nan),
-        vrd1=np.where(on, pun.v_rd_column_base(vrdc2, d_mean, 2.0 * d_mean), np.nan),
-        rho_punch=rho2,
+        punch_applies=applies,
+        u1=np.where(on, scan["u"], np.nan), a_punch=np.where(on, scan["a"], np.nan),
+        a_punch_d=np.where(on, scan["a"] / d_mean, np.nan),
+        ved_red=np.where(on, scan["ved_red"], np.nan),
+        ved1=np.where(on, scan["ved"], np.nan), vrd1=np.where(on, scan["vrd"], np.nan),
+        rho_punch=rho2, vrdc_punch=vrdc2,
     )
 
     # ---- anchorage ----------------------------------------------------------------------
