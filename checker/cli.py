@@ -94,6 +94,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     r = sub.add_parser("rules", help="list the loaded rules and their limits in the active profile")
     _common(r)
+    r.add_argument("--format", choices=("text", "json"), default="text",
+                   help="stdout format: text (default) or json (every rule, its checks and parameter values)")
 
     k = sub.add_parser("columns", help="preview how a schedule's headings and rows are read")
     _input(k)
@@ -222,11 +224,14 @@ def cmd_explain(args, out: Console, err: Console) -> int:
 
 
 def cmd_rules(args, out: Console, err: Console) -> int:
-    from checker.report.terminal import print_rules
+    from checker.report.rules_view import print_rules, rules_json
     from checker.ruleset.loader import load_ruleset
 
     rs = load_ruleset(args.profile, args.rules_dir, dict(args.overrides), args.drop_variants)
-    print_rules(rs, out)
+    if args.format == "json":
+        sys.stdout.write(rules_json(rs) + "\n")
+    else:
+        print_rules(rs, out)
     return EXIT_OK
 
 

@@ -233,7 +233,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     message = np.full(n, "", dtype=object)
     action = np.full(n, "", dtype=object)
     if not render:
-        return RuleResult(rule, sev, out_v, out_l, gu, message, action, None, code)
+        return RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, None, code)
     # each cap's message uses the quantities of the method its value and limit come from
     if grading is not None:
         reported = grading[-1]
@@ -267,7 +267,16 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     variants = None
     if grading is not None:
         variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
-    return RuleResult(rule, sev, out_v, out_l, gu, message, action, variants, code)
+    return RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, variants, code)
+
+
+def _figures(rule: Rule, value: np.ndarray, limit: np.ndarray, util: np.ndarray):
+    """The value, limit and utilisation a result carries: none for a condition rule (met or not met
+    is its whole result; the numbers behind the comparison mean nothing to the reader)."""
+    if rule.is_condition:
+        blank = np.full(value.shape, np.nan)
+        return blank, blank.copy(), blank.copy()
+    return value, limit, util
 
 
 def _render_group(rule, menv, in_group, g, g_fail, g_missing, not_app, sev, render, message, action):
@@ -446,7 +455,7 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
         "clause": per_rule([r.rule.clause for r in results]),
         "value": np.concatenate([r.value for r in results])[order],
         "limit": np.concatenate([r.limit for r in results])[order],
-        "unit": per_rule([r.rule.unit for r in results]),
+        "unit": per_rule([r.rule.output_unit for r in results]),
         "utilisation": np.concatenate([r.util for r in results])[order],
         "message": np.concatenate([np.asarray(r.message, dtype=object) for r in results])[order],
         "action": np.concatenate([np.asarray(r.action, dtype=object) for r in results])[order],

@@ -24,6 +24,7 @@ from checker.ruleset.templates import Template, TemplateError, parse_template
 
 MAX_RULE_FILE_BYTES = 512 * 1024
 RESULT_NAMES = {"value", "limit", "utilisation", "unit", "label", "severity"}
+FIGURE_NAMES = {"value", "limit", "utilisation"}  # not in the texts of a condition rule
 
 
 class RuleFileError(ValueError):
@@ -85,6 +86,16 @@ class Rule:
     overrides: tuple[CompiledOverride, ...]
     file: str
     variants: tuple[CompiledVariant, ...] = ()
+    kind: str = "quantity"   # "condition": met or not met, no value, limit or utilisation shown
+
+    @property
+    def is_condition(self) -> bool:
+        return self.kind == "condition"
+
+    @property
+    def output_unit(self) -> str:
+        """The unit the results carry: none for a condition."""
+        return "" if self.is_condition else self.unit
 
     @property
     def families(self) -> list[str]:
@@ -193,14 +204,22 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
 
     def tmpl(text: str, what: str, extra: set[str] = RESULT_NAMES) -> Template:
         try:
-            return parse_template(text, known | extra)
+            t = parse_template(text, known | extra)
         except TemplateError as exc:
             raise RuleFileError(f"{where}: {what}: {exc}") from None
+        figures = sorted(t.names & FIGURE_NAMES - known)
+        if spec.kind == "condition" and figures:
+            raise RuleFileError(f"{where}: {what}: a condition rule has no {', '.join(figures)} to show "
+                                "(name the quantity itself, e.g. {n_piles:.0f})")
+        return t
 
     if spec.check and (spec.value or spec.limit or spec.compare):
         raise RuleFileError(f"{where}: give either value/compare/limit or [[rule.check]] entries, not both")
     if not spec.check and not (spec.value and spec.limit and spec.compare):
         raise RuleFileError(f"{where}: value, compare and limit are all needed")
+    if spec.kind == "condition" and spec.variant:
+        raise RuleFileError(f"{where}: a condition rule cannot have method variants "
+                            "(they are graded by utilisation, which a condition does not have)")
     checks = []
     for i, c in enumerate(spec.checks()):
         label = c.label or spec.title
@@ -246,6 +265,7 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
         overrides=overrides,
         file=file,
         variants=tuple(variants),
+        kind=spec.kind,
     )
 
 

@@ -17,6 +17,12 @@ Rule file (``rules/*.toml``)::
     action = "Increase the pile spacing to at least {limit:.0f} mm"
     working = ["s_min = {spacing_min:.0f} mm"]
 
+A rule whose result is a condition, not a quantity (a one- or two-pile cap needs its restraint
+shown; the tie steel lies in bands over the piles), declares ``kind = "condition"``: its results
+carry no value, limit or utilisation in any output (the comparison still decides met or not met),
+its message and action may not use ``{value}``, ``{limit}`` or ``{utilisation}``, and it has no
+method variants (they are graded by utilisation). ``kind = "quantity"`` is the default.
+
 A rule may instead hold several ``[[rule.check]]`` entries (each with label, value, compare, limit,
 optional applies and message); the governing check (highest utilisation) gives the result, so each
 rule still yields exactly one result per cap. ``[[rule.override]]`` entries (``when``, ``severity``,
@@ -35,6 +41,7 @@ from checker.findings import SEVERITY_ORDER
 
 RULE_ID = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 Compare = Literal[">=", ">", "<=", "<"]
+Kind = Literal["quantity", "condition"]
 UNITS = ("mm", "mm²", "kN", "kNm", "MPa", "degrees", "%", "count", "")
 
 
@@ -89,6 +96,7 @@ class RuleSpec(_Strict):
     clause: str = Field(min_length=1, max_length=200)
     severity: str
     unit: str = ""
+    kind: Kind = "quantity"
     group: str = ""
     applies: str | None = None
     not_applicable: str = "does not apply to this cap"
