@@ -47,7 +47,7 @@ def test_listing_marks_conditions_and_overrides():
     restraint = flat[flat.index("restraint Restraint of one- and two-pile caps"):]
     assert restraint.index("condition (met or not met") < restraint.index("group-size")
     assert "query where bar_ends_known < 0.5" in flat
-    assert "tie-node: centre-node (default), column-width" in flat
+    assert "tie-method: centre-node (default), column-width, bending" in flat
 
 
 def test_rules_command_at_80_columns(capsys, monkeypatch):
@@ -90,7 +90,8 @@ def test_rules_json_lists_every_rule_with_its_checks_and_parameters(capsys):
     assert by_id["tie-distribution"]["kind"] == "condition"
     tie = by_id["tie-steel-x"]["variants"]
     assert [(v["family"], v["name"], v["default"]) for v in tie] == [
-        ("tie-node", "centre-node", True), ("tie-node", "column-width", False)]
+        ("tie-method", "centre-node", True), ("tie-method", "column-width", False),
+        ("tie-method", "bending", False)]
     assert tie[1]["use"]["tie_x"] == "tie_x_cw" and tie[1]["source"]
     anch = by_id["anchorage-x"]["overrides"]
     assert anch[0]["severity"] == "query" and anch[0]["when"] == "bar_ends_known < 0.5"
@@ -103,7 +104,7 @@ def test_rules_json_follows_the_profile_set_and_dropped_variants(capsys, tmp_pat
     by_id = {r["id"]: r for r in doc["rules"]}
     p = by_id["pile-spacing"]["checks"][0]["parameters"]["spacing_factor"]
     assert p == {"value": 2.5, "source": "set on the command line"}
-    assert [v["name"] for v in by_id["tie-steel-x"]["variants"]] == ["centre-node"]
+    assert [v["name"] for v in by_id["tie-steel-x"]["variants"]] == ["centre-node", "bending"]
     prof = tmp_path / "project.toml"
     prof.write_text('name = "project"\nextends = "uk-na"\ndisable = ["group-size"]\n'
                     '[severity]\npile-spacing = "advisory"\n', encoding="utf-8")
