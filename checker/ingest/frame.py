@@ -106,8 +106,10 @@ class FrameResult:
     #: ``n_ed``, ``mx_ed``, ``my_ed`` [N, N·mm] and the row it was read from; None when the schedule
     #: has no case column, no SLS loads and no working pile capacity (one ULS case per cap, as read)
     cases: pd.DataFrame | None = None
-    #: rows read that only add a load case to a cap counted on an earlier row
+    #: rows read that only add a load case to a cap counted on an earlier row (or in a loads table)
     case_rows: int = 0
+    #: marks of the rejected rows (a loads table naming one is told so)
+    rejected_marks: frozenset[str] = frozenset()
 
 
 # --------------------------------------------------------------------------------------------
@@ -773,7 +775,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         rows = np.flatnonzero(no_loads)
         errors.add("n_ed", rows, [f"case {_case_label(case_name[r])}of mark {mk[r]!r} has no loads (no "
                                   f"{_heading_of(labels.get('n_ed', 'NEd'))!r} or SLS axial load)" for r in rows])
-    given["n_ed"] = own_loads | (named & ~cont & (in_table | (case_mode & mark_loads)))
+    given["n_ed"] = own_loads | no_loads | (named & ~cont & (in_table | (case_mode & mark_loads)))
     has_col["n_ed"] = has_col["n_ed"] | has_col.get("n_sls", np.zeros(n_total, bool)) | bool(load_marks)
     for f in REQUIRED_SOURCES:
         _required_missing(f, given[f], has_col[f], labels, errors)
@@ -848,7 +850,126 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         cap_of[heads] = np.arange(heads.size)
         rows = np.flatnonzero(keep)
         cases = case_entries(out, rows, cap_of[first_pos[rows]], provenance)
-    return FrameResult(caps, rejected, reports, notes, n_total, cases, int((keep & cont).sum()))
+    rejected_marks = frozenset(str(mk[r]) for r in bad_rows if mk[r] != "")
+    return FrameResult(caps, rejected, reports, notes, n_total, cases, int((keep & cont).sum()), rejected_marks)
+
+
+# --------------------------------------------------------------------------------------------
+# A loads table: mark, case, n_ed, mx_ed, my_ed (kind optional), one row per cap and case
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass
+class LoadsTable:
+    out: dict[str, np.ndarray]
+    provenance: pd.DataFrame
+    errors: _Errors
+    labels: dict[str, str]
+    n: int
+    reports: list[HeadingReport]
+
+    @property
+    def marks(self) -> frozenset[str]:
+        return frozenset(m for m in self.out["mark"].tolist() if m)
+
+
+def read_loads(tables: Sequence[RawTable], *, mapping: Any = None) -> LoadsTable:
+    """Loads table(s) -> the parsed rows (not yet matched to the caps of the schedule)."""
+    hmap = resolve_mapping(mapping)
+    parts, prov, reports = [], [], []
+    for t in tables:
+        report = match_headings(t.headings, hmap, "loads")
+        by = report.by_field
+        missing = [f for f in ("mark",) if f not in by]
+        if missing or not ({"n_ed", "n_sls"} & set(by)):
+            from checker.ingest.errors import IngestError
+            raise IngestError(f"{t.file}: a loads table needs the columns mark, case, n_ed (mx_ed, my_ed and "
+                              f"kind optional; or SLS loads); found {', '.join(m.field for m in report.matches) or 'none'}")
+        reports.append(report)
+        parts.append(_parse_cells(cells_of(t), report))
+        n = len(t.row_numbers)
+        prov.append(pd.DataFrame({"src_file": np.full(n, t.file, dtype=object),
+                                  "src_sheet": np.full(n, t.sheet, dtype=object),
+                                  "src_page": np.array(list(t.pages), dtype=object),
+                                  "src_row": np.array(list(t.row_numbers), dtype=object)}))
+    out = {f: np.concatenate([p.values.get(f, p_out_default(f, p.n)) for p in parts])
+           for f in ("mark", "case", "case_kind", "n_ed", "mx_ed", "my_ed", "n_sls", "mx_sls", "my_sls")}
+    errors = _Errors()
+    labels: dict[str, str] = {}
+    off = 0
+    for p in parts:
+        for fld, rows, msgs in p.errors.items:
+            errors.add(fld, rows + off, msgs)
+        for k, v in p.labels.items():
+            labels.setdefault(k, v)
+        off += p.n
+    return LoadsTable(out, pd.concat(prov, ignore_index=True), errors, labels, off, reports)
+
+
+def p_out_default(f: str, n: int) -> np.ndarray:
+    return np.full(n, "", dtype=object) if f in ("mark", "case", "case_kind") else np.full(n, np.nan)
+
+
+def attach_loads(res: FrameResult, loads: LoadsTable) -> None:
+    """Match the rows of a loads table to the caps read (in place): each row is a load case of its cap,
+    or is rejected naming its file, row and mark (a mark not in the schedule or rejected there, a case
+    that repeats, a case without loads). Nothing else is lost."""
+    out, prov, n = loads.out, loads.provenance, loads.n
+    mk = out["mark"].astype(object)
+    name = out["case"].astype(object)
+    cap_marks = pd.Index(res.caps["mark"].astype(str))
+    cap = cap_marks.get_indexer(mk) if n else np.zeros(0, np.int64)
+    errors = loads.errors
+    lab = loads.labels.get("mark", "mark")
+    unknown = np.flatnonzero((cap < 0) & (mk != ""))
+    errors.add("mark", unknown, [
+        f"{lab}: {mk[r]!r} was rejected in the schedule, so its load case {_case_label(name[r])}is not checked"
+        if mk[r] in res.rejected_marks else
+        f"{lab}: {mk[r]!r} is not a mark of the schedule; this load case {_case_label(name[r])}belongs to no cap"
+        for r in unknown])
+    blank = np.flatnonzero(mk == "")
+    errors.add("mark", blank, [f"{lab}: missing"] * blank.size)
+    no_loads = np.flatnonzero(np.isnan(out["n_ed"]) & np.isnan(out["n_sls"]) & (mk != ""))
+    errors.add("n_ed", no_loads, [f"case {_case_label(name[r])}of mark {mk[r]!r} has no loads (no "
+                                  f"{_heading_of(loads.labels.get('n_ed', 'n_ed'))!r} or SLS axial load)"
+                                  for r in no_loads])
+    bad_n = np.flatnonzero(~np.isnan(out["n_ed"]) & (out["n_ed"] <= 0))
+    errors.add("n_ed", bad_n, [f"{loads.labels.get('n_ed', 'n_ed')}: {_fmtn(out['n_ed'][r] / 1e3)} kN must be "
+                               "greater than 0" for r in bad_n])
+    # repeated cases: against the schedule's own cases of the cap, then within the table
+    sched = res.cases if res.cases is not None else pd.DataFrame({"cap": [], "case": []})
+    base_case = sched["case"].astype(str).str.replace(r" (ULS|SLS)$", "", regex=True) if len(sched) else sched["case"]
+    keys = pd.Series(list(zip(sched["cap"].tolist(), base_case.tolist())) +
+                     list(zip(cap.tolist(), name.tolist())), dtype=object)
+    dup = keys.duplicated(keep="first").to_numpy()[len(sched):] & (cap >= 0)
+    if dup.any():
+        rows = np.flatnonzero(dup)
+        first = pd.Series(np.arange(len(keys))).groupby(keys.to_numpy()).transform("first").to_numpy()[len(sched):]
+        clab = loads.labels.get("case", "case")
+        msgs = []
+        for r in rows.tolist():
+            f = int(first[r])
+            where = (_where(prov, f - len(sched)) if f >= len(sched) else
+                     f"row {sched['src_row'].iat[f]} of the schedule {sched['src_file'].iat[f]}")
+            msgs.append(f"{clab}: case {name[r]!r} of mark {mk[r]!r} repeats {where}; each load case of a cap "
+                        "needs its own name" if name[r] else
+                        f"{clab}: missing; mark {mk[r]!r} has several load cases (first on {where}): each needs "
+                        "its own name")
+        errors.add("case", rows, msgs)
+    per_row: dict[int, list[str]] = {}
+    for _fld, rows, msgs in errors.items:
+        for r, msg in zip(rows.tolist(), msgs):
+            per_row.setdefault(r, []).append(msg)
+    bad = np.zeros(n, bool)
+    bad[list(per_row)] = True
+    for r in sorted(per_row):
+        res.rejected.append({"source": _source(prov, r), "errors": list(dict.fromkeys(per_row[r]))})
+    rows = np.flatnonzero(~bad)
+    added = case_entries(out, rows, cap[rows], prov)
+    res.cases = added if res.cases is None else pd.concat([res.cases, added], ignore_index=True).sort_values(
+        "cap", kind="stable").reset_index(drop=True)
+    res.case_rows += int(rows.size)
+    res.rows_read += n
 
 
 def _case_label(name: Any) -> str:
@@ -863,7 +984,7 @@ def _continuation_rows(out: dict[str, np.ndarray], given: dict[str, np.ndarray],
     ci = np.flatnonzero(cont)
     fi = first_pos[ci]
     diff: dict[int, list[str]] = {}
-    skip = set(CASE_FIELDS) | {"mark", "bars_x", "bars_y"}
+    skip = set(CASE_FIELDS) | {"mark"}
     keys = [k for k in out if k not in skip and (k in FIELDS or k.startswith("_text_"))]
     for k in keys:
         arr = out[k]
@@ -883,7 +1004,7 @@ def _continuation_rows(out: dict[str, np.ndarray], given: dict[str, np.ndarray],
             v, w = arr[ci], arr[fi]
             blank = (v == "") | pd.isna(v)
             differ = ~blank & (v != w)
-        if k.startswith("_text_"):
+        if k.startswith("_text_") or k in ("bars_x", "bars_y"):      # compared as parsed: nx, phi_x, sx
             differ = np.zeros(ci.size, bool)
         if blank.any():
             arr[ci[blank]] = w[blank]
@@ -894,7 +1015,8 @@ def _continuation_rows(out: dict[str, np.ndarray], given: dict[str, np.ndarray],
             shown = (lambda x: f"{_fmtn(x * scale)}{unit}") if arr.dtype.kind == "f" else repr
             diff.setdefault(int(ci[j]), []).append(f"{k} {shown(v[j])} (first row: {shown(w[j])})")
     for f, g in given.items():
-        g[ci] = g[ci] | g[fi]
+        if f not in CASE_FIELDS:
+            g[ci] = g[ci] | g[fi]
     for r, items in diff.items():
         fr = int(first_pos[r])
         errors.add("mark", [r], [f"{labels.get('mark', 'mark')}: {out['mark'][r]!r} is a further load case of the cap "

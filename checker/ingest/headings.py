@@ -314,6 +314,7 @@ def _alias_table(texts: Mapping[str, Iterable[str]], fields: Mapping[str, str]) 
 ALIASES: dict[str, dict[frozenset[str], str]] = {
     "schedule": _alias_table(_ALIAS_TEXT, SCHEDULE_FIELDS),
     "coords": _alias_table(_COORD_ALIAS_TEXT, COORD_FIELDS),
+    "loads": _alias_table({f: _ALIAS_TEXT[f] for f in LOAD_FIELDS}, LOAD_FIELDS),
 }
 
 # --------------------------------------------------------------------------------------------
@@ -454,7 +455,7 @@ def _classify(words: frozenset[str], vocabulary: str) -> tuple[str | None, str]:
     if f is not None:
         canonical = heading_key(f.replace("_", " "))[0] == words
         return f, "canonical name" if canonical else "known heading"
-    if vocabulary == "schedule":
+    if vocabulary in ("schedule", "loads"):
         for rule in WORD_RULES:
             if rule.matches(words) and rule.field in fields:
                 return rule.field, "word rule"
