@@ -85,6 +85,7 @@ class Rule:
     overrides: tuple[CompiledOverride, ...]
     file: str
     variants: tuple[CompiledVariant, ...] = ()
+    cases: str | None = None            # see schema.RuleSpec.cases; None: decided by the names it uses
 
     @property
     def families(self) -> list[str]:
@@ -246,6 +247,7 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
         overrides=overrides,
         file=file,
         variants=tuple(variants),
+        cases=spec.cases,
     )
 
 
