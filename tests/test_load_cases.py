@@ -318,3 +318,30 @@ def test_load_independent_quantities_do_not_change_with_the_loads():
         a = np.asarray(q[name], float).reshape(6, 3)
         same = (a == a[:, :1]) | (np.isnan(a) & np.isnan(a[:, :1]))
         assert same.all(), name
+
+
+# ---------------------------------------------------------------------------------------------
+# The sample submission's revision with load cases (sample_submissions/README.md)
+# ---------------------------------------------------------------------------------------------
+
+
+def test_sample_revision_with_load_cases(findings_json):
+    rv = review(SAMPLES / "harbourside-rev-C-cases.csv")
+    doc = findings_json(assert_counts(rv))
+    s = doc["summary"]
+    assert (s["rows_read"], s["caps_checked"], s["rows_rejected"], s["case_rows"]) == (18, 16, 0, 2)
+    # PC3: the moment case governs the piles and is now unsafe (it was lost as a repeated mark before):
+    # nominal apex reaction 1285 kN (test_each_check_names_its_own_governing_case) plus the 75 mm tolerance
+    pc3 = result(doc, "PC3", "pile-reaction")
+    assert (pc3["severity"], pc3["case"]) == ("unsafe", "ULS max M")
+    assert result(doc, "PC3", "tie-steel-x")["case"] == "ULS max N"
+    # PC4: a safe working load checked against its SLS reactions (self-weight unfactored)
+    pc4 = result(doc, "PC4", "pile-reaction")
+    assert (pc4["severity"], pc4["case"]) == ("ok", "gravity SLS")
+    assert result(doc, "PC4", "tie-steel-x")["case"] == "gravity ULS"
+    # PC9: a safe working load and ULS loads only: a query, not a verdict
+    pc9 = result(doc, "PC9", "pile-reaction")
+    assert pc9["severity"] == "query" and "no SLS loads are given" in pc9["message"]
+    # PC2's wind case does not govern anything; a check that does not apply names no case
+    assert result(doc, "PC2", "tie-steel-y")["case"] is None
+    assert not result(doc, "PC2", "tie-steel-y")["message"].startswith("Load case")

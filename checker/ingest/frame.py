@@ -766,7 +766,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     sls_given = given.get("n_sls", np.zeros(n_total, bool))
     own_loads = given.get("n_ed", np.zeros(n_total, bool)) | sls_given
     mark_loads = pd.Series(own_loads).groupby(mk).transform("any").to_numpy() if n_total else own_loads
-    in_table = np.isin(mk, np.array(sorted(load_marks), dtype=object)) if load_marks else np.zeros(n_total, bool)
+    in_table = marks.isin(load_marks).to_numpy(dtype=bool) if load_marks else np.zeros(n_total, bool)
     # a row without loads of its own is a cap's geometry when its loads come from other rows or a loads
     # table; a row that names a case, or is a further row of a mark, must carry its loads
     case_name = out["case"].astype(object)

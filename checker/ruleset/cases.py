@@ -185,6 +185,8 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
         res = evaluate_rule(rule, _Rows(env, gov, N), n, methods=methods, render=render)
         case = np.where(multi, ex.name[gov], None).astype(object)
         case[case == ""] = None
+        # a check that does not apply to the cap (no tie along y of a two-pile cap ...) names no case
+        case[np.isnan(res.value) & np.isnan(res.limit) & (res.code == _RANK["ok"])] = None
         if none.any():
             _no_case(rule, mode, res, none, ex, env, case, render)
         if render:
