@@ -345,3 +345,13 @@ def test_sample_revision_with_load_cases(findings_json):
     # PC2's wind case does not govern anything; a check that does not apply names no case
     assert result(doc, "PC2", "tie-steel-y")["case"] is None
     assert not result(doc, "PC2", "tie-steel-y")["message"].startswith("Load case")
+
+
+def test_the_loads_option_of_the_command(tmp_path, capsys, findings_json):
+    sched = write(tmp_path, "s.csv", THREE_PILE.splitlines()[0] + "\n" + THREE_PILE.splitlines()[1] + "\n")
+    loads = write(tmp_path, "l.csv", "Mark,Case,NEd (kN),Mx (kNm),My (kNm)\nT3,ULS max M,2400,600,\n")
+    code = main(["check", str(sched), "--loads", str(loads), "--format", "json", "--set", "pile_tolerance=0"])
+    doc = findings_json(json.loads(capsys.readouterr().out))
+    assert code == 0
+    assert result(doc, "T3", "pile-reaction")["case"] == "ULS max M"
+    assert doc["summary"]["case_rows"] == 1 and doc["summary"]["rows_read"] == 2
