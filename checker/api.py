@@ -36,6 +36,8 @@ class Review:
     pile_xy: dict[str, np.ndarray] = field(default_factory=dict)   # mark -> (m, 2) pile centres, mm
     quantities: dict[str, np.ndarray] = field(default_factory=dict)  # derived arrays, index = caps row
     notes: list[str] = field(default_factory=list)
+    cases: pd.DataFrame | None = None      # one row per (cap, load case) read, or None (one ULS case per cap)
+    case_rows: int = 0                     # rows read that only add a load case to a cap counted earlier
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
 
     def working(self, mark: str) -> list[WorkingLine]:
@@ -52,12 +54,21 @@ class Review:
     def summary(self) -> dict[str, Any]:
         from checker.findings import count_by_severity
 
-        return {
+        out = {
             "rows_read": self.rows_read,
             "caps_checked": len(self.caps),
             "rows_rejected": len(self.rejected),
             "findings": count_by_severity(self.findings),
         }
+        out.update(self.case_summary())
+        return out
+
+    def case_summary(self) -> dict[str, int]:
+        """With load cases: ``load_cases`` (cases checked, all caps) and ``case_rows`` (rows read that
+        only add a load case to a cap: rows_read == caps_checked + rows_rejected + case_rows)."""
+        if self.cases is None:
+            return {}
+        return {"load_cases": int(len(self.cases)), "case_rows": int(self.case_rows)}
 
 
 def _numeric_params(params: dict[str, Any]) -> dict[str, float]:
@@ -74,6 +85,8 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
 
     caps = schedule.caps.reset_index(drop=True)
     params = dict(ruleset.profile.params)
+    if getattr(schedule, "cases", None) is not None:
+        return _check_cases(schedule, ruleset, submission, caps, params, messages)
     with np.errstate(all="ignore"):  # NaN/inf mark "not applicable" in the arrays; no warnings for users
         derived = derive(caps, schedule.coords, params)
         env: dict[str, Any] = dict(derived.q)
@@ -112,11 +125,50 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
     )
 
 
+def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params: dict, messages: str) -> Review:
+    """check_schedule over the load cases (checker/ruleset/cases.py)."""
+    from checker.ruleset.cases import case_working, evaluate_cases, expand
+    from checker.ruleset.derive import derive
+
+    ex = expand(caps, schedule.cases)
+    with np.errstate(all="ignore"):
+        derived = derive(ex.frame, schedule.coords, params)
+        env: dict[str, Any] = dict(derived.q)
+        env.update(_numeric_params(params))
+        findings, _gov = evaluate_cases(ruleset, env, ex, caps, params,
+                                        render=True if messages == "all" else "issues")
+    marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
+    pile_xy: dict[str, np.ndarray] = {}
+    X, Y, mask = derived.X, derived.Y, derived.mask
+    for i, m in enumerate(marks.tolist()):
+        r = int(ex.starts[i])
+        pile_xy[m] = np.column_stack([X[r][mask[r]], Y[r][mask[r]]])
+
+    def working(mark: str):
+        idx = np.flatnonzero(marks == str(mark))
+        if idx.size == 0:
+            return []
+        with np.errstate(all="ignore"):
+            return case_working(ruleset, env, ex, int(idx[0]), findings[findings["cap"] == str(mark)], params)
+
+    # quantities per cap: its first load case (the working shows every case)
+    quantities = {k: v[ex.starts] for k, v in derived.q.items()
+                  if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == ex.cap.size}
+    return Review(
+        findings=findings, caps=caps, rejected=list(schedule.rejected), rows_read=int(schedule.rows_read),
+        profile_name=ruleset.profile.name, profile_params=params,
+        profile_sources=dict(ruleset.profile.sources), rules=list(ruleset.rules), submission=submission,
+        rules_dir=", ".join(ruleset.folders), pile_xy=pile_xy, quantities=quantities,
+        notes=list(getattr(schedule, "notes", []) or []), cases=schedule.cases,
+        case_rows=int(schedule.case_rows), _working=working,
+    )
+
+
 def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
            coords: str | Path | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
-           messages: str = "all", max_rows: int | None = None) -> Review:
+           messages: str = "all", max_rows: int | None = None, loads=None) -> Review:
     """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
 
     Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
@@ -128,10 +180,11 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
 
     ruleset = load_ruleset(profile, rules_dir, overrides, drop_variants)
     if isinstance(source, pd.DataFrame):
-        sched = schedule_from_frame(source, mapping=mapping, **({"max_rows": max_rows} if max_rows else {}))
+        sched = schedule_from_frame(source, mapping=mapping, loads=loads,
+                                    **({"max_rows": max_rows} if max_rows else {}))
         name = "<dataframe>"
     else:
-        kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords}
+        kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords, "loads": loads}
         if max_rows:
             kwargs["max_rows"] = max_rows
         if str(source).lower().endswith(".pdf"):

@@ -47,6 +47,8 @@ def _input(p: argparse.ArgumentParser) -> None:
     p.add_argument("file", help="the schedule: .csv, .xlsx or .pdf")
     p.add_argument("--mapping", metavar="FILE", help="TOML file mapping headings as written to capcheck fields")
     p.add_argument("--coords", metavar="FILE", help="CSV of explicit pile coordinates: mark, x, y (mm)")
+    p.add_argument("--loads", metavar="FILE", help="CSV or XLSX of load cases: mark, case, n_ed, mx_ed, my_ed, "
+                                                   "kind (ULS or SLS)")
     p.add_argument("--pdf-strategy", choices=("auto", "lines", "text"), default="auto",
                    help="force the PDF table strategy (default: chosen per page)")
     p.add_argument("--max-pages", type=int, default=MAX_PDF_PAGES,
@@ -136,6 +138,7 @@ def _review(args, console_err: Console, messages: str = "all"):
     try:
         return review(args.file, profile=args.profile, rules_dir=args.rules_dir,
                       overrides=dict(args.overrides), mapping=args.mapping, coords=args.coords,
+                      loads=getattr(args, "loads", None),
                       pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb,
                       drop_variants=args.drop_variants, messages=messages, max_rows=args.max_rows)
     finally:

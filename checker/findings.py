@@ -63,6 +63,9 @@ FINDING_COLUMNS: tuple[str, ...] = (
     "util_hi",
     "variants_accepted",
     "variants_failing",
+    # the governing load case of the result (issue 11): None for a single-case schedule or a check that
+    # does not depend on the loads
+    "case",
 )
 
 

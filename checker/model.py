@@ -52,6 +52,7 @@ CONCRETE_CLASSES: dict[str, tuple[float, float]] = {
 }
 
 BAR_ENDS: tuple[str, ...] = ("", "straight", "bent", "hooked")
+CAPACITY_BASES: tuple[str, ...] = ("", "ULS", "SLS")
 
 
 @dataclass(frozen=True)
@@ -188,7 +189,8 @@ class CapRecord(BaseModel):
     column_x: float = _f(unit="mm", doc="column size along x (circular: D)", gt=0)
     column_y: float = _f(unit="mm", doc="column size along y (circular: D)", gt=0)
     column_round: bool = _f(False, doc="True for a circular column")
-    n_ed: float = _f(unit="N", show=_KN, doc="ULS axial load, compression positive", gt=0)
+    n_ed: _OptF = _f(None, unit="N", show=_KN, doc="ULS axial load, compression positive (of the cap's first "
+                     "load case; a cap given only SLS loads or loads in a loads table may leave it blank)", gt=0)
     mx_ed: _OptF = _f(None, unit="N·mm", show=_KNM, doc="ULS moment about x")
     my_ed: _OptF = _f(None, unit="N·mm", show=_KNM, doc="ULS moment about y")
     concrete: typing.Annotated[str, OneOf(tuple(CONCRETE_CLASSES))] = _f(doc="strength class, C32/40")
@@ -207,7 +209,9 @@ class CapRecord(BaseModel):
         unit="mm", doc="diameter of bars_y")
     sy: _OptF = _f(None, unit="mm", doc="stated centres of bars_y", gt=0)
     embedment: _OptF = _f(None, unit="mm", doc="length of pile head inside the cap", ge=0)
-    pile_capacity: _OptF = _f(None, unit="N", show=_KN, doc="ULS pile resistance", gt=0)
+    pile_capacity: _OptF = _f(None, unit="N", show=_KN, doc="pile resistance (ULS) or working capacity (SLS)", gt=0)
+    capacity_basis: typing.Annotated[str, OneOf(CAPACITY_BASES)] = _f(
+        "", doc="basis of pile_capacity: ULS design resistance or SLS working capacity; '' (none given) is ULS")
     stated_pile_load: _OptF = _f(None, unit="N", show=_KN, doc="designer's maximum pile load", ge=0)
     stated_tie_x: _OptF = _f(None, unit="N", show=_KN, doc="designer's tie force along x", ge=0)
     stated_tie_y: _OptF = _f(None, unit="N", show=_KN, doc="designer's tie force along y", ge=0)

@@ -99,8 +99,8 @@ def test_heading_variants(heading, field, scale):
     assert how
 
 
-@pytest.mark.parametrize("heading", ["Remarks", "Drawing no.", "Rev", "Axial load SLS (kN)",
-                                     "Characteristic load (kN)", "Load", "", "Bars", "Dia"])
+@pytest.mark.parametrize("heading", ["Remarks", "Drawing no.", "Rev", "SLS pile load (kN)",
+                                     "Pile working load (kN)", "Load", "", "Bars", "Dia"])
 def test_unknown_headings_are_not_guessed(heading):
     assert match_heading(heading)[0] is None
 
@@ -116,12 +116,25 @@ def test_unit_must_fit_the_field():
     assert field is None and "does not fit" in note
 
 
-def test_service_loads_are_refused_with_a_note():
+def test_service_loads_are_read_as_sls_cases_never_as_uls():
+    """Issue 11: a service load heading is an SLS load case of its own (n_sls), never n_ed."""
     report = match_headings(["Mark", "Axial load SLS (kN)", "Column load (kN)"])
-    assert [m.field for m in report.matches] == ["mark", "n_ed"]
-    assert "Axial load SLS (kN)" in report.unmapped
-    assert any("serviceability" in n for n in report.notes)
+    assert [m.field for m in report.matches] == ["mark", "n_sls", "n_ed"]
+    assert any("service (SLS) value" in n for n in report.notes)
     assert any("read as the ULS value n_ed" in n for n in report.notes)   # 'Column load' has no ULS word
+
+
+@pytest.mark.parametrize("heading,field", [
+    ("Load case", "case"), ("Case", "case"), ("Combination", "case"), ("Comb.", "case"), ("Kind", "case_kind"),
+    ("SLS N (kN)", "n_sls"), ("Service load (kN)", "n_sls"), ("N_k (kN)", "n_sls"),
+    ("Characteristic load (kN)", "n_sls"), ("Working load (kN)", "n_sls"), ("Mx SLS (kNm)", "mx_sls"),
+    ("Pile SWL (kN)", "pile_capacity_working"), ("Safe working load (kN)", "pile_capacity_working"),
+    ("Allowable pile load (kN)", "pile_capacity_working"), ("Working pile capacity (kN)", "pile_capacity_working"),
+    ("Pile capacity SLS (kN)", "pile_capacity_working"), ("Pile capacity (kN)", "pile_capacity"),
+    ("Capacity basis", "capacity_basis"),
+])
+def test_load_case_and_capacity_basis_headings(heading, field):
+    assert match_heading(heading)[0] == field
 
 
 def test_match_headings_report():

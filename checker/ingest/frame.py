@@ -63,7 +63,16 @@ DERIVED_FROM: dict[str, tuple[str, ...]] = {
     "cap_length": ("size", "plan"), "cap_width": ("size", "plan"), "cap_depth": ("size",),
 }
 
-_TEXT_FIELDS = ("mark", "exposure", "pile_type", "method")
+_TEXT_FIELDS = ("mark", "exposure", "pile_type", "method", "case")
+#: per-row load fields of a schedule with load cases (every other field describes the cap)
+CASE_FIELDS: tuple[str, ...] = ("n_ed", "mx_ed", "my_ed", "n_sls", "mx_sls", "my_sls", "case", "case_kind")
+_CASE_KINDS = {**dict.fromkeys(("uls", "ultimate", "design", "str", "uls str", "str/geo", "uls str/geo"), "ULS"),
+               **dict.fromkeys(("sls", "service", "serviceability", "characteristic", "char", "working",
+                                "unfactored", "sls characteristic", "sls char", "quasi-permanent", "frequent"),
+                               "SLS")}
+_BASES = {**dict.fromkeys(("uls", "ultimate", "design", "design resistance", "rcd", "rc,d", "uls resistance"), "ULS"),
+          **dict.fromkeys(("sls", "service", "serviceability", "characteristic", "working", "swl",
+                           "safe working load", "allowable", "working load", "permissible"), "SLS")}
 _MAX_COORD_PILES = 64           # positions of one cap read from a coordinates table
 _NUMERIC_KINDS = ("length", "force", "moment", "stress", "area", "count")
 _BAR_ENDS = {
@@ -93,6 +102,14 @@ class FrameResult:
     reports: list[HeadingReport]        # heading matches, one per table
     notes: list[str]
     rows_read: int
+    #: one row per (cap, load case): ``cap`` (position in ``caps``), ``case``, ``kind`` ('ULS'/'SLS'),
+    #: ``n_ed``, ``mx_ed``, ``my_ed`` [N, N·mm] and the row it was read from; None when the schedule
+    #: has no case column, no SLS loads and no working pile capacity (one ULS case per cap, as read)
+    cases: pd.DataFrame | None = None
+    #: rows read that only add a load case to a cap counted on an earlier row (or in a loads table)
+    case_rows: int = 0
+    #: marks of the rejected rows (a loads table naming one is told so)
+    rejected_marks: frozenset[str] = frozenset()
 
 
 # --------------------------------------------------------------------------------------------
@@ -316,6 +333,21 @@ def _text_column(col: pd.Series, transform: Callable[[str], str] | None = None
     return vals.astype(object), erows, emsgs
 
 
+def _case_kind(text: str) -> str:
+    key = " ".join(text.lower().replace("_", " ").split())
+    if key in _CASE_KINDS:
+        return _CASE_KINDS[key]
+    raise NotationError(f"{text!r} is not a limit state; expected ULS or SLS")
+
+
+def _capacity_basis(text: str) -> str:
+    key = " ".join(text.lower().replace("_", " ").split())
+    if key in _BASES:
+        return _BASES[key]
+    raise NotationError(f"{text!r} is not a basis of the pile capacity; expected ULS (design resistance) "
+                        "or SLS (working capacity, SWL)")
+
+
 def _bar_ends(text: str) -> str:
     key = " ".join(text.lower().replace("_", " ").split())
     if key in _BAR_ENDS:
@@ -363,8 +395,9 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
             given[fld] = ~np.isnan(v)
             given[fld][rows] = True
             err(fld, rows, msgs)
-        elif fld in _TEXT_FIELDS or fld == "bar_ends":
-            transform = {"exposure": str.upper, "bar_ends": _bar_ends}.get(fld)
+        elif fld in _TEXT_FIELDS or fld in ("bar_ends", "case_kind", "capacity_basis"):
+            transform = {"exposure": str.upper, "bar_ends": _bar_ends, "case_kind": _case_kind,
+                         "capacity_basis": _capacity_basis}.get(fld)
             v, rows, msgs = _text_column(col, transform)
             values[fld] = v
             given[fld] = v != ""
@@ -409,8 +442,19 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
     # ---- combined and derived fields -------------------------------------------------------
     out: dict[str, np.ndarray] = {}
     for f in ("piles", "pile_dia", "pile_spacing", "n_ed", "mx_ed", "my_ed", "cover", "embedment",
-              "pile_capacity", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y"):
+              "pile_capacity", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+              "n_sls", "mx_sls", "my_sls"):
         out[f] = values.get(f, nan).copy()
+    # the pile capacity's basis: a working (SLS) heading, or a capacity_basis column; ULS otherwise
+    basis = values.get("capacity_basis", np.full(n, "", dtype=object)).astype(object)
+    working = values.get("pile_capacity_working")
+    if working is not None:
+        use_w = np.isnan(out["pile_capacity"]) & ~np.isnan(working)
+        out["pile_capacity"] = np.where(use_w, working, out["pile_capacity"])
+        basis = np.where(use_w & (basis == ""), "SLS", basis).astype(object)
+        given["pile_capacity"] = given.get("pile_capacity", np.zeros(n, bool)) | given["pile_capacity_working"]
+        labels.setdefault("pile_capacity", labels["pile_capacity_working"])
+    out["capacity_basis"] = basis
     for f in ("cap_length", "cap_width", "cap_depth"):
         v = values.get(f, nan).copy()
         for combo in ("size", "plan"):
@@ -463,7 +507,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
     else:
         out["concrete"], out["fck"] = np.full(n, "", dtype=object), nan
     out["fyk"] = np.where(np.isnan(values["fyk"]), 500.0, values["fyk"]) if "fyk" in values else np.full(n, 500.0)
-    for f in ("exposure", "pile_type", "method", "bar_ends", "mark"):
+    for f in ("exposure", "pile_type", "method", "bar_ends", "mark", "case", "case_kind"):
         out[f] = values.get(f, np.full(n, "", dtype=object))
     for s, width_field in (("x", "cap_width"), ("y", "cap_length")):
         bars = f"bars_{s}"
@@ -638,7 +682,8 @@ def cells_of(table: RawTable) -> pd.DataFrame:
 
 def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
                 coords: pd.DataFrame | None = None, coord_problems: dict[str, list[str]] | None = None,
-                cells: Sequence[pd.DataFrame] | None = None) -> FrameResult:
+                cells: Sequence[pd.DataFrame] | None = None, load_marks: frozenset[str] = frozenset()
+                ) -> FrameResult:
     """RawTable(s) of one schedule -> :class:`FrameResult` (canonical caps, rejected rows, reports).
 
     ``coords`` (mark, x, y [mm]) gives explicit pile groups: their ``piles`` is the count of positions
@@ -677,7 +722,8 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     n_total = sum(p.n for p in parts)
 
     # ---- concatenate the tables ------------------------------------------------------------
-    keys = list(FIELDS) + sorted({k for p in parts for k in p.values if k.startswith("_text_")})
+    keys = list(dict.fromkeys(list(FIELDS) + list(CASE_FIELDS))) + \
+        sorted({k for p in parts for k in p.values if k.startswith("_text_")})
     out: dict[str, np.ndarray] = {}
     for f in keys:
         arrays = []
@@ -698,7 +744,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         for k, v in p.labels.items():
             labels.setdefault(k, v)
         offset += p.n
-    for f in REQUIRED_SOURCES:
+    for f in sorted(set(REQUIRED_SOURCES) | {g for p in parts for g in p.given}):
         given[f] = np.concatenate([p.given.get(f, np.zeros(p.n, bool)) for p in parts]) if parts else np.zeros(0, bool)
         has_col[f] = np.concatenate([np.full(p.n, f in p.given) for p in parts]) if parts else np.zeros(0, bool)
     provenance = pd.concat(prov, ignore_index=True) if prov else pd.DataFrame(
@@ -707,18 +753,61 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     if coords is not None or coord_problems:
         _apply_coords(out, coords if coords is not None else pd.DataFrame(columns=["mark", "x", "y"]),
                       coord_problems or {}, errors, labels, notes, given)
+    # ---- load cases: further rows of a mark, SLS loads (issue 11) -----------------------------
+    marks = pd.Series(out["mark"], dtype=object)
+    mk = marks.to_numpy(dtype=object)
+    pos = np.arange(n_total)
+    first_pos = pd.Series(pos).groupby(mk).transform("first").to_numpy() if n_total else pos
+    named = mk != ""
+    case_mode = bool(has_col.get("case", np.zeros(0, bool)).any())
+    cont = named & (first_pos != pos) if case_mode else np.zeros(n_total, bool)
+    if cont.any():
+        _continuation_rows(out, given, cont, first_pos, provenance, labels, errors)
+    sls_given = given.get("n_sls", np.zeros(n_total, bool))
+    own_loads = given.get("n_ed", np.zeros(n_total, bool)) | sls_given
+    mark_loads = pd.Series(own_loads).groupby(mk).transform("any").to_numpy() if n_total else own_loads
+    in_table = marks.isin(load_marks).to_numpy(dtype=bool) if load_marks else np.zeros(n_total, bool)
+    # a row without loads of its own is a cap's geometry when its loads come from other rows or a loads
+    # table; a row that names a case, or is a further row of a mark, must carry its loads
+    case_name = out["case"].astype(object)
+    no_loads = ~own_loads & (cont | ((case_name != "") & ~in_table))
+    if no_loads.any():
+        rows = np.flatnonzero(no_loads)
+        errors.add("n_ed", rows, [f"case {_case_label(case_name[r])}of mark {mk[r]!r} has no loads (no "
+                                  f"{_heading_of(labels.get('n_ed', 'NEd'))!r} or SLS axial load)" for r in rows])
+    given["n_ed"] = own_loads | no_loads | (named & ~cont & (in_table | (case_mode & mark_loads)))
+    has_col["n_ed"] = has_col["n_ed"] | has_col.get("n_sls", np.zeros(n_total, bool)) | bool(load_marks)
     for f in REQUIRED_SOURCES:
         _required_missing(f, given[f], has_col[f], labels, errors)
+    for f in ("n_sls", "mx_sls", "my_sls"):
+        bad = ~np.isnan(out[f]) & (out[f] <= 0) if f == "n_sls" else np.zeros(n_total, bool)
+        if bad.any():
+            rows = np.flatnonzero(bad)
+            errors.add(f, rows, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / 1e3)} kN must be greater than 0"
+                                 for r in rows])
 
-    # ---- duplicate marks: the later row is rejected --------------------------------------------
-    marks = pd.Series(out["mark"], dtype=object)
-    dup = (marks.duplicated(keep="first") & (marks != "")).to_numpy()
-    if dup.any():
-        rows = np.flatnonzero(dup)
-        first_pos = pd.Series(np.arange(n_total)).groupby(marks.to_numpy()).transform("first").to_numpy()
-        lab = labels.get("mark", "mark")
-        errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of {_where(provenance, first_pos[r])}; "
-                                  "each cap needs its own mark" for r in rows])
+    # ---- repeated marks: a load case when there is a case column, else the later row is rejected ----
+    lab = labels.get("mark", "mark")
+    if case_mode:
+        key = pd.Series(list(zip(mk.tolist(), case_name.tolist())), dtype=object)
+        dup = (key.duplicated(keep="first") & (marks != "")).to_numpy()
+        if dup.any():
+            rows = np.flatnonzero(dup)
+            first_key = pd.Series(pos).groupby(key.to_numpy()).transform("first").to_numpy()
+            clab = labels.get("case", "case")
+            errors.add("case", rows, [
+                (f"{clab}: case {case_name[r]!r} of mark {mk[r]!r} repeats {_where(provenance, first_key[r])}; "
+                 "each load case of a cap needs its own name") if case_name[r] != "" else
+                (f"{clab}: missing; mark {mk[r]!r} is given on several rows (first on "
+                 f"{_where(provenance, first_pos[r])}): each further row needs its own load case name")
+                for r in rows])
+    else:
+        dup = (marks.duplicated(keep="first") & (marks != "")).to_numpy()
+        if dup.any():
+            rows = np.flatnonzero(dup)
+            errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of {_where(provenance, first_pos[r])}; "
+                                      "each cap needs its own mark (or give a load case column for the rows "
+                                      "of further load cases)" for r in rows])
 
     # ---- the model's constraints ---------------------------------------------------------------
     frame = pd.DataFrame({f: out[f] for f in FIELDS})
@@ -737,14 +826,233 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             if fld in have or any(s in have for s in DERIVED_FROM.get(fld, ())):
                 continue
             per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels)}:{rest}"))
+    # the further rows of a mark whose first row was rejected are not checked either
+    if cont.any():
+        for r in np.flatnonzero(cont).tolist():
+            fr = int(first_pos[r])
+            if fr in per_row:
+                per_row.setdefault(r, []).append(
+                    ("mark", f"{lab}: the first row of mark {mk[r]!r} ({_where(provenance, fr)}) was rejected, "
+                             "so this load case is not checked"))
 
     bad_rows = sorted(per_row)
     keep = np.ones(n_total, dtype=bool)
     keep[np.asarray(bad_rows, dtype=np.int64)] = False
     rejected = [{"source": _source(provenance, r), "errors": list(dict.fromkeys(m for _, m in per_row[r]))}
                 for r in bad_rows]
-    caps = _canonical(frame.loc[keep].reset_index(drop=True))
-    return FrameResult(caps, rejected, reports, notes, n_total)
+    caps = _canonical(frame.loc[keep & ~cont].reset_index(drop=True))
+    cases = None
+    wants_cases = case_mode or bool(load_marks) or bool(has_col.get("n_sls", np.zeros(0, bool)).any()) or \
+        bool(has_col.get("case_kind", np.zeros(0, bool)).any()) or bool((caps["capacity_basis"] == "SLS").any())
+    if wants_cases:
+        cap_of = np.full(n_total, -1, dtype=np.int64)
+        heads = np.flatnonzero(keep & ~cont)
+        cap_of[heads] = np.arange(heads.size)
+        rows = np.flatnonzero(keep)
+        cases = case_entries(out, rows, cap_of[first_pos[rows]], provenance)
+    rejected_marks = frozenset(str(mk[r]) for r in bad_rows if mk[r] != "")
+    return FrameResult(caps, rejected, reports, notes, n_total, cases, int((keep & cont).sum()), rejected_marks)
+
+
+# --------------------------------------------------------------------------------------------
+# A loads table: mark, case, n_ed, mx_ed, my_ed (kind optional), one row per cap and case
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass
+class LoadsTable:
+    out: dict[str, np.ndarray]
+    provenance: pd.DataFrame
+    errors: _Errors
+    labels: dict[str, str]
+    n: int
+    reports: list[HeadingReport]
+
+    @property
+    def marks(self) -> frozenset[str]:
+        return frozenset(m for m in self.out["mark"].tolist() if m)
+
+
+def read_loads(tables: Sequence[RawTable], *, mapping: Any = None) -> LoadsTable:
+    """Loads table(s) -> the parsed rows (not yet matched to the caps of the schedule)."""
+    hmap = resolve_mapping(mapping)
+    parts, prov, reports = [], [], []
+    for t in tables:
+        report = match_headings(t.headings, hmap, "loads")
+        by = report.by_field
+        missing = [f for f in ("mark",) if f not in by]
+        if missing or not ({"n_ed", "n_sls"} & set(by)):
+            from checker.ingest.errors import IngestError
+            raise IngestError(f"{t.file}: a loads table needs the columns mark, case, n_ed (mx_ed, my_ed and "
+                              f"kind optional; or SLS loads); found {', '.join(m.field for m in report.matches) or 'none'}")
+        reports.append(report)
+        parts.append(_parse_cells(cells_of(t), report))
+        n = len(t.row_numbers)
+        prov.append(pd.DataFrame({"src_file": np.full(n, t.file, dtype=object),
+                                  "src_sheet": np.full(n, t.sheet, dtype=object),
+                                  "src_page": np.array(list(t.pages), dtype=object),
+                                  "src_row": np.array(list(t.row_numbers), dtype=object)}))
+    out = {f: np.concatenate([p.values.get(f, p_out_default(f, p.n)) for p in parts])
+           for f in ("mark", "case", "case_kind", "n_ed", "mx_ed", "my_ed", "n_sls", "mx_sls", "my_sls")}
+    errors = _Errors()
+    labels: dict[str, str] = {}
+    off = 0
+    for p in parts:
+        for fld, rows, msgs in p.errors.items:
+            errors.add(fld, rows + off, msgs)
+        for k, v in p.labels.items():
+            labels.setdefault(k, v)
+        off += p.n
+    return LoadsTable(out, pd.concat(prov, ignore_index=True), errors, labels, off, reports)
+
+
+def p_out_default(f: str, n: int) -> np.ndarray:
+    return np.full(n, "", dtype=object) if f in ("mark", "case", "case_kind") else np.full(n, np.nan)
+
+
+def attach_loads(res: FrameResult, loads: LoadsTable) -> None:
+    """Match the rows of a loads table to the caps read (in place): each row is a load case of its cap,
+    or is rejected naming its file, row and mark (a mark not in the schedule or rejected there, a case
+    that repeats, a case without loads). Nothing else is lost."""
+    out, prov, n = loads.out, loads.provenance, loads.n
+    mk = out["mark"].astype(object)
+    name = out["case"].astype(object)
+    cap_marks = pd.Index(res.caps["mark"].astype(str))
+    cap = cap_marks.get_indexer(mk) if n else np.zeros(0, np.int64)
+    errors = loads.errors
+    lab = loads.labels.get("mark", "mark")
+    unknown = np.flatnonzero((cap < 0) & (mk != ""))
+    errors.add("mark", unknown, [
+        f"{lab}: {mk[r]!r} was rejected in the schedule, so its load case {_case_label(name[r])}is not checked"
+        if mk[r] in res.rejected_marks else
+        f"{lab}: {mk[r]!r} is not a mark of the schedule; this load case {_case_label(name[r])}belongs to no cap"
+        for r in unknown])
+    blank = np.flatnonzero(mk == "")
+    errors.add("mark", blank, [f"{lab}: missing"] * blank.size)
+    no_loads = np.flatnonzero(np.isnan(out["n_ed"]) & np.isnan(out["n_sls"]) & (mk != ""))
+    errors.add("n_ed", no_loads, [f"case {_case_label(name[r])}of mark {mk[r]!r} has no loads (no "
+                                  f"{_heading_of(loads.labels.get('n_ed', 'n_ed'))!r} or SLS axial load)"
+                                  for r in no_loads])
+    bad_n = np.flatnonzero(~np.isnan(out["n_ed"]) & (out["n_ed"] <= 0))
+    errors.add("n_ed", bad_n, [f"{loads.labels.get('n_ed', 'n_ed')}: {_fmtn(out['n_ed'][r] / 1e3)} kN must be "
+                               "greater than 0" for r in bad_n])
+    # repeated cases: against the schedule's own cases of the cap, then within the table
+    sched = res.cases if res.cases is not None else pd.DataFrame({"cap": [], "case": []})
+    base_case = sched["case"].astype(str).str.replace(r" (ULS|SLS)$", "", regex=True) if len(sched) else sched["case"]
+    keys = pd.Series(list(zip(sched["cap"].tolist(), base_case.tolist())) +
+                     list(zip(cap.tolist(), name.tolist())), dtype=object)
+    dup = keys.duplicated(keep="first").to_numpy()[len(sched):] & (cap >= 0)
+    if dup.any():
+        rows = np.flatnonzero(dup)
+        first = pd.Series(np.arange(len(keys))).groupby(keys.to_numpy()).transform("first").to_numpy()[len(sched):]
+        clab = loads.labels.get("case", "case")
+        msgs = []
+        for r in rows.tolist():
+            f = int(first[r])
+            where = (_where(prov, f - len(sched)) if f >= len(sched) else
+                     f"row {sched['src_row'].iat[f]} of the schedule {sched['src_file'].iat[f]}")
+            msgs.append(f"{clab}: case {name[r]!r} of mark {mk[r]!r} repeats {where}; each load case of a cap "
+                        "needs its own name" if name[r] else
+                        f"{clab}: missing; mark {mk[r]!r} has several load cases (first on {where}): each needs "
+                        "its own name")
+        errors.add("case", rows, msgs)
+    per_row: dict[int, list[str]] = {}
+    for _fld, rows, msgs in errors.items:
+        for r, msg in zip(rows.tolist(), msgs):
+            per_row.setdefault(r, []).append(msg)
+    bad = np.zeros(n, bool)
+    bad[list(per_row)] = True
+    for r in sorted(per_row):
+        res.rejected.append({"source": _source(prov, r), "errors": list(dict.fromkeys(per_row[r]))})
+    rows = np.flatnonzero(~bad)
+    added = case_entries(out, rows, cap[rows], prov)
+    res.cases = added if res.cases is None else pd.concat([res.cases, added], ignore_index=True).sort_values(
+        "cap", kind="stable").reset_index(drop=True)
+    res.case_rows += int(rows.size)
+    res.rows_read += n
+
+
+def _case_label(name: Any) -> str:
+    return f"{name!r} " if isinstance(name, str) and name else ""
+
+
+def _continuation_rows(out: dict[str, np.ndarray], given: dict[str, np.ndarray], cont: np.ndarray,
+                       first_pos: np.ndarray, provenance: pd.DataFrame, labels: dict[str, str],
+                       errors: _Errors) -> None:
+    """The further rows of a mark (load cases): blank cap fields are taken from the mark's first row;
+    a given one that differs rejects the row, naming both rows and the fields."""
+    ci = np.flatnonzero(cont)
+    fi = first_pos[ci]
+    diff: dict[int, list[str]] = {}
+    skip = set(CASE_FIELDS) | {"mark"}
+    keys = [k for k in out if k not in skip and (k in FIELDS or k.startswith("_text_"))]
+    for k in keys:
+        arr = out[k]
+        if arr.dtype == bool:
+            src = out.get("_text_column")
+            blank = (src[ci] == "") if src is not None else np.ones(ci.size, bool)
+            v, w = arr[ci], arr[fi]
+            differ = ~blank & (v != w)
+        elif arr.dtype.kind == "f":
+            v, w = arr[ci], arr[fi]
+            blank = np.isnan(v)
+            if k == "fyk" and "fyk" in given:               # the default 500 is not a given value
+                blank = blank | ~given["fyk"][ci]
+            with np.errstate(invalid="ignore"):
+                differ = ~blank & ~(np.isclose(v, w, rtol=1e-9, atol=1e-9) | (np.isnan(v) & np.isnan(w)))
+        else:
+            v, w = arr[ci], arr[fi]
+            blank = (v == "") | pd.isna(v)
+            differ = ~blank & (v != w)
+        if k.startswith("_text_") or k in ("bars_x", "bars_y"):      # compared as parsed: nx, phi_x, sx
+            differ = np.zeros(ci.size, bool)
+        if blank.any():
+            arr[ci[blank]] = w[blank]
+        for j in np.flatnonzero(differ).tolist():
+            spec = FIELDS.get(k)
+            scale = spec.show_scale if spec else 1.0
+            unit = f" {spec.show_unit}" if spec and spec.show_unit and spec.show_unit != "count" else ""
+            shown = (lambda x: f"{_fmtn(x * scale)}{unit}") if arr.dtype.kind == "f" else repr
+            diff.setdefault(int(ci[j]), []).append(f"{k} {shown(v[j])} (first row: {shown(w[j])})")
+    for f, g in given.items():
+        if f not in CASE_FIELDS:
+            g[ci] = g[ci] | g[fi]
+    for r, items in diff.items():
+        fr = int(first_pos[r])
+        errors.add("mark", [r], [f"{labels.get('mark', 'mark')}: {out['mark'][r]!r} is a further load case of the cap "
+                                 f"on {_where(provenance, fr)} but describes a different cap: {'; '.join(items)}. "
+                                 "Leave the geometry and reinforcement blank on the rows of further load cases, "
+                                 "or repeat them exactly"])
+
+
+def case_entries(out: dict[str, np.ndarray], rows: np.ndarray, cap: np.ndarray,
+                 provenance: pd.DataFrame) -> pd.DataFrame:
+    """The load cases of the rows read (positions ``rows``, caps ``cap``): a ULS entry from the
+    ``n_ed`` loads (or the kind the row states) and an SLS entry from the SLS loads of a row."""
+    parts = []
+    name = out["case"][rows].astype(object)
+    kind = out["case_kind"][rows].astype(object)
+    has_u = ~np.isnan(out["n_ed"][rows])
+    has_s = ~np.isnan(out["n_sls"][rows])
+    both = has_u & has_s
+    for sel, n_, mx, my, k, suffix in (
+            (has_u, "n_ed", "mx_ed", "my_ed", np.where(kind == "", "ULS", kind), "ULS"),
+            (has_s, "n_sls", "mx_sls", "my_sls", np.full(rows.size, "SLS", dtype=object), "SLS")):
+        idx = np.flatnonzero(sel)
+        r = rows[idx]
+        nm = name[idx]
+        nm = np.where(both[idx], np.where(nm == "", suffix, nm + " " + suffix), nm).astype(object)
+        parts.append(pd.DataFrame({
+            "cap": cap[idx], "case": nm, "kind": k[idx].astype(object),
+            "n_ed": out[n_][r], "mx_ed": out[mx][r], "my_ed": out[my][r],
+            "src_file": provenance["src_file"].to_numpy(dtype=object)[r],
+            "src_sheet": provenance["src_sheet"].to_numpy(dtype=object)[r],
+            "src_page": provenance["src_page"].to_numpy(dtype=object)[r],
+            "src_row": provenance["src_row"].to_numpy(dtype=object)[r],
+            "_order": r * 2 + (0 if suffix == "ULS" else 1),
+        }))
+    df = pd.concat(parts, ignore_index=True)
+    return df.sort_values(["cap", "_order"], kind="stable").drop(columns="_order").reset_index(drop=True)
 
 
 _FROM_TEXT = {"nx": "bars_x", "phi_x": "bars_x", "sx": "bars_x", "ny": "bars_y", "phi_y": "bars_y",

@@ -47,12 +47,20 @@ SCHEDULE_FIELDS: dict[str, str] = {
     "stated_pile_load": "force", "stated_tie_x": "force", "stated_tie_y": "force",
     "stated_as_x": "area", "stated_as_y": "area",
     "pile_type": "text", "bar_ends": "text", "method": "text",
+    # load cases (issue 11): the case of a row, its limit state, SLS loads, the capacity's basis
+    "case": "text", "case_kind": "text", "n_sls": "force", "mx_sls": "moment", "my_sls": "moment",
+    "pile_capacity_working": "force", "capacity_basis": "text",
 }
+
+#: the fields of a loads table (``--loads FILE`` or a workbook sheet): one row per cap and case
+LOAD_FIELDS: dict[str, str] = {f: SCHEDULE_FIELDS[f] for f in (
+    "mark", "case", "case_kind", "n_ed", "mx_ed", "my_ed", "n_sls", "mx_sls", "my_sls")}
 
 #: the pile coordinates table of an explicit group: mark, x, y [mm from the column centre]
 COORD_FIELDS: dict[str, str] = {"mark": "text", "x": "length", "y": "length", "pile": "text"}
 
-VOCABULARIES: dict[str, dict[str, str]] = {"schedule": SCHEDULE_FIELDS, "coords": COORD_FIELDS}
+VOCABULARIES: dict[str, dict[str, str]] = {"schedule": SCHEDULE_FIELDS, "coords": COORD_FIELDS,
+                                           "loads": LOAD_FIELDS}
 
 IGNORE = "ignore"
 
@@ -90,6 +98,11 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
     **dict.fromkeys(("reaction", "reactions", "loads"), ("load",)),
     **dict.fromkeys(("sls", "service", "serviceability", "characteristic", "char", "unfactored", "working"),
                     ("sls",)),
+    **dict.fromkeys(("swl", "allowable", "permissible"), ("swl",)),
+    **dict.fromkeys(("combination", "combinations", "comb", "combo", "lc", "cases"), ("case",)),
+    **dict.fromkeys(("nk", "n_k"), ("n", "sls")),
+    **dict.fromkeys(("mxk",), ("moment", "x", "sls")),
+    **dict.fromkeys(("myk",), ("moment", "y", "sls")),
     **dict.fromkeys(("embed", "embedded", "embedment", "embedded"), ("embedment",)),
     **dict.fromkeys(("nom", "nominal"), ("nominal",)),
     **dict.fromkeys(("cnom",), ("cover", "nominal")),
@@ -196,6 +209,22 @@ _ALIAS_TEXT: dict[str, tuple[str, ...]] = {
     "pile_type": ("pile type", "type of pile", "piling type"),
     "bar_ends": ("bar ends", "bar end", "end detail", "bar end detail", "ends", "bar anchorage", "end anchorage"),
     "method": ("method", "design method", "analysis method"),
+    "case": ("case", "load case", "load combination", "case name", "load case name", "combination name",
+             "design case", "action combination"),
+    "case_kind": ("kind", "case kind", "limit state", "case type", "load case type", "uls sls", "uls or sls"),
+    "n_sls": ("sls", "n sls", "sls n", "n k", "service load", "sls load", "sls axial load", "axial load sls",
+              "characteristic load", "working load", "column load sls", "sls column load", "axial sls",
+              "sls axial", "unfactored load", "n sls load"),
+    "mx_sls": ("mx sls", "sls mx", "moment x sls", "sls moment x", "mk x", "m x k"),
+    "my_sls": ("my sls", "sls my", "moment y sls", "sls moment y", "mk y", "m y k"),
+    "pile_capacity_working": ("swl", "pile swl", "safe working load", "pile safe working load",
+                              "allowable pile load", "allowable load", "allowable pile capacity",
+                              "working pile capacity", "pile working capacity", "pile capacity sls",
+                              "sls pile capacity", "pile capacity working", "swl pile capacity",
+                              "pile capacity swl", "service pile capacity", "characteristic pile capacity",
+                              "pile capacity characteristic", "pile capacity service", "allowable capacity"),
+    "capacity_basis": ("capacity basis", "pile capacity basis", "basis of capacity", "capacity type",
+                       "pile capacity type"),
 }
 
 _COORD_ALIAS_TEXT: dict[str, tuple[str, ...]] = {
@@ -231,6 +260,12 @@ WORD_RULES: tuple[WordRule, ...] = (
     _rule("pile_spacing", "pile centres", "s spacing"),
     _rule("stated_pile_load", "pile load", _Q),
     _rule("pile_capacity", "pile capacity", _Q),
+    _rule("pile_capacity_working", "pile capacity sls", "safe load"),
+    _rule("pile_capacity_working", "pile swl", "capacity safe load"),
+    _rule("n_sls", "n sls", "axial load column force max total"),
+    _rule("n_sls", "axial sls", "load force column n max compression"),
+    _rule("mx_sls", "moment x sls", "column max"),
+    _rule("my_sls", "moment y sls", "column max"),
     _rule("piles", "piles", "no total group"),
     _rule("n_ed", "n ed", "axial load uls design column force max"),
     _rule("n_ed", "axial", "load force uls design column n ed max compression"),
@@ -258,6 +293,7 @@ WORD_RULES: tuple[WordRule, ...] = (
 
 _ULS_WORDS = frozenset({"uls", "ed", "design"})
 _ULS_QUALIFIED = frozenset({"n_ed", "stated_pile_load", "pile_capacity"})
+_SLS_FIELDS = frozenset({"n_sls", "mx_sls", "my_sls", "pile_capacity_working"})
 
 
 def _alias_table(texts: Mapping[str, Iterable[str]], fields: Mapping[str, str]) -> dict[frozenset[str], str]:
@@ -278,6 +314,7 @@ def _alias_table(texts: Mapping[str, Iterable[str]], fields: Mapping[str, str]) 
 ALIASES: dict[str, dict[frozenset[str], str]] = {
     "schedule": _alias_table(_ALIAS_TEXT, SCHEDULE_FIELDS),
     "coords": _alias_table(_COORD_ALIAS_TEXT, COORD_FIELDS),
+    "loads": _alias_table({f: _ALIAS_TEXT[f] for f in LOAD_FIELDS}, LOAD_FIELDS),
 }
 
 # --------------------------------------------------------------------------------------------
@@ -418,7 +455,7 @@ def _classify(words: frozenset[str], vocabulary: str) -> tuple[str | None, str]:
     if f is not None:
         canonical = heading_key(f.replace("_", " "))[0] == words
         return f, "canonical name" if canonical else "known heading"
-    if vocabulary == "schedule":
+    if vocabulary in ("schedule", "loads"):
         for rule in WORD_RULES:
             if rule.matches(words) and rule.field in fields:
                 return rule.field, "word rule"
@@ -448,8 +485,11 @@ def match_heading(heading: str, vocabulary: str = "schedule",
         return None, None, 1.0, "", ""
     kind = fields[name]
     note = ""
-    if kind == "force" and how not in ("mapping file", "canonical name"):
-        if "sls" in words:
+    if name in _SLS_FIELDS and how != "mapping file":
+        note = (f"heading {heading!r} is read as a service (SLS) value, {name}: SLS loads are checked as "
+                "load cases of their own, a working pile capacity against SLS reactions")
+    elif kind == "force" and how not in ("mapping file", "canonical name"):
+        if "sls" in words or "swl" in words:
             return None, None, 1.0, "", (f"heading {heading!r} looks like a serviceability load; capcheck "
                                          "reads ULS values (map it in a mapping file if it is ULS)")
         if name in _ULS_QUALIFIED and not words & _ULS_WORDS:

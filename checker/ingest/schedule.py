@@ -17,8 +17,9 @@ import pandas as pd
 
 from checker.ingest import limits
 from checker.ingest.errors import IngestError
-from checker.ingest.frame import build_frame, cells_of, coords_frame
-from checker.ingest.headings import HeadingMatch, HeadingReport, count_known, resolve_mapping
+from checker.ingest.frame import attach_loads, build_frame, cells_of, coords_frame, read_loads
+from checker.ingest.headings import (LOAD_FIELDS, HeadingMatch, HeadingReport, count_known, match_headings,
+                                     resolve_mapping)
 from checker.ingest.raw import RawTable
 from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, read_csv, read_tabular
 
@@ -27,13 +28,39 @@ from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, r
 class Schedule:
     caps: pd.DataFrame                  # canonical frame (DEVELOPERS.md), index 0..n-1
     rejected: list[dict]                # [{"source": {"file","sheet","page","row"}, "errors": [...]}]
-    rows_read: int                      # == len(caps) + len(rejected)
+    rows_read: int                      # == len(caps) + len(rejected) + case_rows
     matches: list[HeadingMatch]         # heading -> field matches (each distinct heading once)
     unmapped: list[str]                 # headings not used (each once)
     coords: pd.DataFrame | None         # mark, x, y [mm] for explicit pile groups
     notes: list[str]                    # e.g. 'sheet "Notes" skipped: no schedule headings'
     tables: list[RawTable] = field(default_factory=list)
     reports: list[HeadingReport] = field(default_factory=list)   # per schedule table
+    #: one row per (cap, load case) (see checker.ingest.frame.FrameResult.cases), or None: one ULS case per
+    #: cap, the loads of its row
+    cases: pd.DataFrame | None = None
+    case_rows: int = 0                  # rows read that only add a load case to a cap read earlier
+
+
+def _is_loads_table(table: RawTable, hmap: Any) -> bool:
+    """A table whose headings are all loads-table fields (mark, case, kind, loads): no cap geometry."""
+    fields = {m.field for m in match_headings(table.headings, hmap, "schedule").matches}
+    return "mark" in fields and bool(fields & {"n_ed", "n_sls"}) and fields <= set(LOAD_FIELDS)
+
+
+def _read_loads_file(path: str | os.PathLike, hmap: Any, max_rows: int | None) -> list[RawTable]:
+    p = Path(path)
+    if not p.exists():
+        raise IngestError(f"{path}: loads file not found")
+    ext = p.suffix.lower()
+    if ext not in CSV_EXTENSIONS + XLSX_EXTENSIONS:
+        raise IngestError(f"{path}: a loads table is read from .csv or .xlsx (mark, case, n_ed, mx_ed, my_ed, "
+                          f"kind), not {ext or '(no extension)'}")
+    limits.check_file_size(p, str(path))
+    if ext in CSV_EXTENSIONS:
+        tables, _ = read_csv(path, mapping=hmap, vocabulary="loads")
+        return tables
+    tables, _ = read_tabular(path, mapping=hmap, max_rows=max_rows)
+    return [t for t in tables if _is_loads_table(t, hmap)] or tables[:1]
 
 
 def _is_coords_table(table: RawTable, hmap: Any) -> bool:
@@ -68,13 +95,17 @@ def _coords_from(source: Any, hmap: Any) -> tuple[pd.DataFrame, dict[str, list[s
 
 
 def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
-              cells: Sequence[pd.DataFrame] | None = None, max_rows: int | None = None) -> Schedule:
+              cells: Sequence[pd.DataFrame] | None = None, max_rows: int | None = None,
+              loads: Any = None) -> Schedule:
     schedule_tables: list[RawTable] = []
     schedule_cells: list[pd.DataFrame] = []
     coord_tables: list[RawTable] = []
+    load_tables: list[RawTable] = []
     for k, t in enumerate(tables):
         if _is_coords_table(t, hmap):
             coord_tables.append(t)
+        elif _is_loads_table(t, hmap):
+            load_tables.append(t)
         elif count_known(t.headings, "schedule", hmap) >= MIN_KNOWN:
             schedule_tables.append(t)
             if cells is not None:
@@ -94,8 +125,16 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
     if source is not None:
         coord_df, problems, cnotes = _coords_from(source, hmap)
         notes.extend(cnotes)
+    if loads is not None:
+        if load_tables:
+            notes.append(f"{_table_label(load_tables[0])}: load cases taken from {loads!s} instead")
+        load_tables = loads if isinstance(loads, list) else _read_loads_file(loads, hmap, max_rows)
+    parsed_loads = read_loads(load_tables, mapping=hmap) if load_tables else None
     res = build_frame(schedule_tables, mapping=hmap, coords=coord_df, coord_problems=problems,
-                      cells=schedule_cells if cells is not None else None)
+                      cells=schedule_cells if cells is not None else None,
+                      load_marks=parsed_loads.marks if parsed_loads is not None else frozenset())
+    if parsed_loads is not None:
+        attach_loads(res, parsed_loads)
     matches: list[HeadingMatch] = []
     seen: set[tuple] = set()
     unmapped: list[str] = []
@@ -110,13 +149,14 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
                 unmapped.append(u)
     notes.extend(n for n in res.notes if n not in notes)
     return Schedule(caps=res.caps, rejected=res.rejected, rows_read=res.rows_read, matches=matches,
-                    unmapped=unmapped, coords=coord_df, notes=notes, tables=list(tables), reports=res.reports)
+                    unmapped=unmapped, coords=coord_df, notes=notes, tables=list(tables), reports=res.reports,
+                    cases=res.cases, case_rows=res.case_rows)
 
 
 def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
                   coords: str | Path | None = None, pdf_strategy: str = "auto",
                   max_pages: int | None = None, progress: Any = None,
-                  max_rows: int | None = None) -> Schedule:
+                  max_rows: int | None = None, loads: str | Path | None = None) -> Schedule:
     """Read a pile cap schedule file.
 
     ``.csv``/``.txt`` and ``.xlsx``/``.xlsm`` are read by :mod:`checker.ingest.tabular`, ``.pdf`` by
@@ -124,6 +164,8 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
     passed on; ``max_pages`` None means :data:`checker.ingest.limits.MAX_PDF_PAGES`).
     ``max_rows``: the most data rows read (None: :data:`checker.ingest.limits.MAX_ROWS`); every
     limit of :mod:`checker.ingest.limits` applies.
+    ``loads``: a loads table (.csv or .xlsx: mark, case, n_ed, mx_ed, my_ed, kind optional), one row per
+    cap and load case; a workbook's own loads sheet is used when this is not given.
     ``mapping``: a TOML heading mapping file (see :mod:`checker.ingest.headings`). ``coords``: a CSV
     (or XLSX) of pile positions ``mark, x, y`` [mm from the column centre] for explicit groups; a
     workbook's own coordinates sheet is used when this is not given.
@@ -154,11 +196,11 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
     else:
         raise IngestError(f"{name}: unknown file type {ext or '(no extension)'!r}; capcheck reads .csv, .txt, "
                           ".xlsx, .xlsm and .pdf")
-    return _assemble(list(tables), list(notes), hmap, coords, max_rows=max_rows)
+    return _assemble(list(tables), list(notes), hmap, coords, max_rows=max_rows, loads=loads)
 
 
 def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mapping: Any = None,
-                        coords: Any = None, max_rows: int | None = None) -> Schedule:
+                        coords: Any = None, max_rows: int | None = None, loads: Any = None) -> Schedule:
     """Read a DataFrame whose columns are schedule headings as written (canonical names also map).
 
     Cells are read like spreadsheet cells, in the input units of the brief unless a heading says
@@ -174,7 +216,10 @@ def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mappin
     headings = ["" if c is None else str(c) for c in df.columns]
     grid = df.set_axis(range(df.shape[1]), axis=1)
     table = _FrameTable(grid, source, headings)
-    return _assemble([table], [], hmap, coords, cells=[grid], max_rows=max_rows)
+    if isinstance(loads, pd.DataFrame):
+        lgrid = loads.set_axis(range(loads.shape[1]), axis=1)
+        loads = [_FrameTable(lgrid, "<loads>", ["" if c is None else str(c) for c in loads.columns])]
+    return _assemble([table], [], hmap, coords, cells=[grid], max_rows=max_rows, loads=loads)
 
 
 class _FrameTable(RawTable):

@@ -520,6 +520,7 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
     notes: list[str] = []
     schedule: RawTable | None = None
     coords: RawTable | None = None
+    loads: RawTable | None = None
     first_rows: list[list[Any]] = []
     try:
         sheets = list(wb.worksheets)
@@ -551,7 +552,10 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
                 if kind is None:
                     notes.append(f'sheet "{title}" skipped: no schedule headings')
                     continue
-                if (kind == "schedule" and schedule is not None) or (kind == "coords" and coords is not None):
+                if kind == "schedule" and _loads_headings(rows[idx], hmap):
+                    kind = "loads"                  # mark, case and loads only: a loads table (issue 11)
+                if (kind == "schedule" and schedule is not None) or (kind == "coords" and coords is not None) or \
+                        (kind == "loads" and loads is not None):
                     notes.append(f'sheet "{title}" skipped: the {kind} was read from an earlier sheet')
                     continue
                 for number, row in it:
@@ -568,13 +572,22 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
             notes.extend(more)
             if kind == "schedule":
                 schedule = table
+            elif kind == "loads":
+                loads = table
             else:
                 coords = table
     finally:
         wb.close()
     if schedule is None:
         raise IngestError(_no_heading_message(name, first_rows, "schedule", " (any sheet)"))
-    return [t for t in (schedule, coords) if t is not None], notes
+    return [t for t in (schedule, coords, loads) if t is not None], notes
+
+
+def _loads_headings(row: Sequence[Any], hmap: Any) -> bool:
+    from checker.ingest.headings import LOAD_FIELDS
+
+    fields = {m.field for m in match_headings([_text(v) for v in row], hmap, "schedule").matches}
+    return "mark" in fields and bool(fields & {"n_ed", "n_sls"}) and fields <= set(LOAD_FIELDS)
 
 
 def read_tabular(path: str | os.PathLike, *, mapping: Any = None,

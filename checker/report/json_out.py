@@ -44,6 +44,7 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
             "utilisation": _num(row["utilisation"]),
             "message": row["message"],
             "source": source_of(row),
+            "case": row.get("case") if isinstance(row.get("case"), str) else None,
         }
         if row.get("action"):
             item["action"] = row["action"]
@@ -70,6 +71,7 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
             "rows_rejected": int(len(review.rejected)),
             "findings": count_by_severity(f) if len(f) else {
                 "unsafe": 0, "non-compliant": 0, "query": 0, "advisory": 0},
+            **(review.case_summary() if hasattr(review, "case_summary") else {}),
         },
         "results": results,
         "rejected": [

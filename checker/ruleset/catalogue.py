@@ -70,6 +70,7 @@ DERIVED: dict[str, tuple[str, str]] = {
     "nu_prime": ("", "nu' = 1 - fck/250"),
     "nu": ("", "nu = 0.6 (1 - fck/250)"),
     "self_weight": ("N", "factored self-weight of the cap"),
+    "gamma_g_sw": ("", "partial factor on the cap self-weight of the load case (gamma_G ULS, 1.0 SLS)"),
     "r_nom_max": ("N", "largest pile reaction, nominal positions, self-weight included"),
     "r_nom_min": ("N", "smallest pile reaction, nominal positions, self-weight included"),
     "r_tol_max": ("N", "largest pile reaction with the piles displaced by the tolerance"),
@@ -202,6 +203,26 @@ DERIVED: dict[str, tuple[str, str]] = {
 }
 
 QUANTITIES: dict[str, tuple[str, str]] = {**FIELDS, **DERIVED}
+
+#: Quantities that do not depend on the loads of a load case (geometry, materials, detailing). A rule
+#: that names only these (and profile parameters) gives the same result in every case and is evaluated
+#: once per cap; a rule naming anything else is evaluated for every load case (issue 11). A quantity
+#: missing here is treated as load-dependent, the safe side; a meta-test probes derive to keep the list
+#: honest (tests/test_load_cases.py).
+LOAD_INDEPENDENT: frozenset[str] = frozenset({
+    "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth", "column_x", "column_y",
+    "fyk", "cover", "embedment", "pile_capacity", "nx", "phi_x", "sx", "ny", "phi_y", "sy",
+    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+    "n_piles", "d_x", "d_y", "d_mean", "spacing_min", "edge_min", "plan_overhang", "r_max", "strut_angle_min",
+    "cot_theta_max", "phi_bar_min", "as_x", "as_y", "centres_x", "centres_y", "clear_x", "clear_y",
+    "clear_min_req", "as_min_x", "as_min_y", "as_min_y_dist", "as_max", "as_max_x", "as_max_y", "cover_req",
+    "cmin_dur", "cmin_b", "fck", "fcd", "fcd_shear", "fck_shear", "fctm", "fctk_005", "fctd", "fyd", "nu_prime",
+    "nu", "table_class", "k_pile_node", "node_col_limit", "node_col_limit_pla", "node_pile_limit",
+    "node_pile_limit_cct", "node_pile_limit_ctt", "pla_ratio", "b_pile_node", "u_tie", "pile_dia_design",
+    "vrdc_x", "vrdc_y", "rho_x", "rho_y", "k_x", "k_y", "av_geom_x", "av_geom_y", "u0", "vrd_max_punch",
+    "punch_applies", "rho_punch", "fbd", "fbd_x", "fbd_y", "fck_bond", "fctd_bond", "lb_avail_x",
+    "lb_avail_y", "bar_ends_known", "bar_bent", "spacing_le_3phi", "is_uncased", "column_round",
+})
 
 OUTPUT_SCALE: dict[str, float] = {"kN": 1e-3, "kNm": 1e-6, "%": 100.0}
 """Multipliers from internal units to a rule's output unit (N -> kN, N·mm -> kNm, ratio -> %)."""

@@ -200,8 +200,11 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
              nu_prime=nu_p, nu=nu, table_class=mat.table_listed(fck))
 
     # ---- reactions ----------------------------------------------------------------------
-    sw = rea.self_weight(L, W, h, gamma_g=float(_pget(p, "gamma_g")),
-                         density=float(_pget(p, "concrete_density")))
+    # the self-weight of an SLS load case is unfactored (gamma_G = 1.0, EN 1990 6.5.3); ULS: gamma_G
+    gamma_sw = np.full(n, float(_pget(p, "gamma_g")))
+    if "case_kind" in caps.columns:
+        gamma_sw = np.where(caps["case_kind"].to_numpy(dtype=object) == "SLS", 1.0, gamma_sw)
+    sw = rea.self_weight(L, W, h, gamma_g=gamma_sw, density=float(_pget(p, "concrete_density")))
     n_tot = N + sw
     terms = rea._group_terms(X, Y, mask)
     R = rea.pile_reactions(X, Y, mask, n_tot, mx, my, _terms=terms)
@@ -212,7 +215,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     q["r_tol_max_axes"], q["r_tol_min_axes"] = rea.tolerance_reactions(
         X, Y, mask, n_tot, mx, my, tolerance=e_tol, per_axis=True)
     q["tol_direction"] = rea.tolerance_direction(X, Y, mask, n_tot, mx, my, tolerance=e_tol)
-    q.update(self_weight=sw, n_total=n_tot, r_nom_max=geo.row_max(R, mask),
+    q.update(self_weight=sw, gamma_g_sw=gamma_sw, n_total=n_tot, r_nom_max=geo.row_max(R, mask),
              r_nom_min=geo.row_min(R, mask), r_tol_max=r_tol_max, r_tol_min=r_tol_min)
 
     # ---- reinforcement and detailing ----------------------------------------------------

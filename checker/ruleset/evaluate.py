@@ -73,6 +73,7 @@ class RuleResult:
     action: list[str]
     variants: dict | None = None   # the spread over the accepted methods (VARIANT_COLUMNS arrays)
     code: np.ndarray | None = None  # severity rank per cap (index into SEVERITY_ORDER)
+    case: np.ndarray | None = None  # the governing load case per cap (object: str or None), issue 11
 
 
 @dataclass
@@ -115,6 +116,27 @@ def _governing(rule: Rule, env, n: int) -> _Outcome:
     cols = np.arange(n)
     return _Outcome(applies, g, V[g, cols], L[g, cols], U[g, cols], failing[g, cols],
                     missing[g, cols], USE.any(axis=0))
+
+
+class _Layer(dict):
+    """Values set here on top of a base environment, which is read through, never copied."""
+
+    def __init__(self, base):
+        super().__init__()
+        self._base = base
+
+    def __getitem__(self, k):
+        if dict.__contains__(self, k):
+            return dict.__getitem__(self, k)
+        return self._base[k]
+
+    def __contains__(self, k):
+        return dict.__contains__(self, k) or k in self._base
+
+    def get(self, k, default=None):
+        if dict.__contains__(self, k):
+            return dict.__getitem__(self, k)
+        return self._base.get(k, default)
 
 
 class _Overlay(dict):
@@ -243,7 +265,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
         groups = [(0, np.ones(n, bool))]
         uses = [[(a, b) for v in (combos[0] if combos else ()) for a, b in v.use]]
     for ci, in_group in groups:
-        menv = dict(env)
+        menv = _Layer(env)
         for a, b in uses[ci]:
             menv[a] = env[b]
         menv["value"] = out_v
@@ -463,6 +485,8 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
         "src_sheet": src("src_sheet"),
         "src_page": src("src_page"),
         "src_row": src("src_row"),
+        "case": np.concatenate([r.case if r.case is not None else np.full(n, None, dtype=object)
+                                for r in results])[order],
     }
     for c in VARIANT_COLUMNS:
         parts = []

@@ -96,6 +96,7 @@ class Rule:
     def output_unit(self) -> str:
         """The unit the results carry: none for a condition."""
         return "" if self.is_condition else self.unit
+    cases: str | None = None            # see schema.RuleSpec.cases; None: decided by the names it uses
 
     @property
     def families(self) -> list[str]:
@@ -266,6 +267,7 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
         file=file,
         variants=tuple(variants),
         kind=spec.kind,
+        cases=spec.cases,
     )
 
 

@@ -110,6 +110,10 @@ class RuleSpec(_Strict):
     check: list[CheckSpec] = Field(default_factory=list, max_length=12)
     override: list[OverrideSpec] = Field(default_factory=list, max_length=8)
     variant: list[VariantSpec] = Field(default_factory=list, max_length=12)
+    #: over the load cases of a cap (issue 11): "uls" (default for a rule that names a load-dependent
+    #: quantity) every ULS case, the governing one reported; "capacity-basis" the cases of the pile
+    #: capacity's basis (ULS or SLS); "envelope" the largest of each quantity over the ULS cases
+    cases: Literal["uls", "capacity-basis", "envelope"] | None = None
 
     @field_validator("id")
     @classmethod
