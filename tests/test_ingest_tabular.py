@@ -392,7 +392,8 @@ def test_missing_file(tmp_path):
 def test_read_csv_returns_a_rawtable():
     (table,), notes = read_csv(SCHEDULE_A)
     assert table.headings[:3] == ["Cap ref", "No. of piles", "Pile dia (mm)"]
-    assert table.row_numbers == [5, 6, 7, 9, 10, 11] and table.sheet is None and notes == []
+    assert table.row_numbers == [5, 6, 7, 9, 10, 11] and table.sheet is None
+    assert notes == [f"{SCHEDULE_A}: blank row(s) inside the table skipped (row 8)"]
 
 
 # ---------------------------------------------------------------------------------------------
