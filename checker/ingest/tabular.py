@@ -281,8 +281,10 @@ def _one_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, fil
             numbers.append(number)
         after_blank = False
         i += 1
-    # blank rows between caps (not those after the last one) are spacers
+    # blank rows between caps (not those after the last one) are spacers; text rows after the last
+    # cap are the notes under the table, not section labels
     last = numbers[-1] if numbers else -1
+    skipped = [t for t in skipped if t[1] < last or not t[2].startswith("a section label")]
     inside = [b for b in blanks if b < last]
     if inside:
         shown = ", ".join(map(str, inside[:8])) + (" ..." if len(inside) > 8 else "")
