@@ -663,10 +663,10 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
 
 
 def _required_missing(f: str, have: np.ndarray, has_col: np.ndarray, labels: dict[str, str],
-                      errors: _Errors) -> None:
+                      errors: _Errors, offset: int = 0) -> None:
     """Blank required cells, or no column for a required field, as row errors."""
-    blank = np.flatnonzero(~have & has_col)
-    nocol = np.flatnonzero(~have & ~has_col)
+    blank = np.flatnonzero(~have & has_col) + offset
+    nocol = np.flatnonzero(~have & ~has_col) + offset
     lab = labels.get(f, f)
     if f in ("cap_length", "cap_width", "cap_depth") and lab.startswith(("size ", "plan ")):
         fld, msg = lab.split(" ", 1)[0], f"{lab}: missing"
@@ -896,8 +896,21 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         _apply_coords(out, coords if coords is not None else pd.DataFrame(columns=["mark", "x", "y"]),
                       coord_problems or {}, errors, labels, notes, given)
     problems = _table_problems(tables, parts, given, reports)
+    starts = np.cumsum([0] + [p.n for p in parts])
+
+    def part_of(r: int) -> _Parsed:
+        return parts[int(np.searchsorted(starts, r, side="right")) - 1]
+
+    def labels_at(r: int) -> dict[str, str]:
+        return {**labels, **part_of(r).labels}
+
+    def units_at(r: int) -> dict[str, tuple[str, str, float]]:
+        return part_of(r).units
+
     for f in REQUIRED_SOURCES:
-        _required_missing(f, given[f], has_col[f], labels, errors)
+        for k, p in enumerate(parts):
+            a, b = int(starts[k]), int(starts[k + 1])
+            _required_missing(f, given[f][a:b], has_col[f][a:b], {**labels, **p.labels}, errors, offset=a)
 
     # ---- one pile: a spacing of 0 means "not applicable" -------------------------------------
     with np.errstate(invalid="ignore"):
@@ -905,7 +918,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     if zero.any():
         out["pile_spacing"][zero] = np.nan
         notes.append(f"{int(zero.sum())} single-pile cap(s): a pile spacing of 0 read as not applicable")
-    _plausibility(out, labels, units, errors)
+    _plausibility(out, labels_at, units_at, errors)
 
     # ---- duplicate marks: the later row is rejected --------------------------------------------
     marks = pd.Series(out["mark"], dtype=object)
@@ -933,7 +946,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             fld, _, rest = msg.partition(":")
             if fld in have or any(s in have for s in DERIVED_FROM.get(fld, ())):
                 continue
-            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels)}:{rest}"))
+            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels_at(r))}:{rest}"))
 
     bad_rows = sorted(per_row)
     keep = np.ones(n_total, dtype=bool)
@@ -984,8 +997,8 @@ _BOUND_OK = {"mx_ed", "my_ed", "stated_pile_load", "stated_tie_x", "stated_tie_y
              "embedment"}
 
 
-def _plausibility(out: dict[str, np.ndarray], labels: dict[str, str], units: dict[str, tuple[str, str, float]],
-                  errors: _Errors) -> None:
+def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[str, str]],
+                  units_at: Callable[[int], dict[str, tuple[str, str, float]]], errors: _Errors) -> None:
     """Figures outside their plausible range (:mod:`checker.ingest.plausible`), a column larger than
     the cap, and a bar count that does not fit the cap at the least clear spacing, as row errors."""
     have: dict[str, set[int]] = {}
@@ -993,7 +1006,7 @@ def _plausibility(out: dict[str, np.ndarray], labels: dict[str, str], units: dic
         have.setdefault(fld, set()).update(rows.tolist())
     for f in PLAUSIBLE:
         v = out.get(f)
-        if v is None or f not in units:
+        if v is None:
             continue
         v = np.asarray(v, dtype=float)
         with np.errstate(invalid="ignore"):
@@ -1002,13 +1015,13 @@ def _plausibility(out: dict[str, np.ndarray], labels: dict[str, str], units: dic
             # values the model refuses on its own (0 or less) keep the model's message
             fin = np.isfinite(v) & ((v > 0) | (f in _BOUND_OK and v >= 0))
             bad = fin & ((mag < lo) | (mag > hi))
-        rows = [r for r in np.flatnonzero(bad).tolist() if r not in have.get(f, ())]
+        rows = [r for r in np.flatnonzero(bad).tolist() if r not in have.get(f, ()) and f in units_at(r)]
         if not rows:
             continue
-        kind, unit, factor = units[f]
-        lab = labels.get(f, f)
-        errors.add(f, rows, [f"{lab}: {plausible_problem(f, kind, float(v[r]), unit, factor)}" for r in rows])
+        errors.add(f, rows, [f"{labels_at(r).get(f, f)}: {plausible_problem(f, *units_at(r)[f][:1], float(v[r]), *units_at(r)[f][1:])}"
+                             for r in rows])
         have.setdefault(f, set()).update(rows)
+        out[f][rows] = np.nan            # not judged again by the model's cross-field checks
     bad_col = lambda f: have.get(f, set())  # noqa: E731
     cx, cy, L, W = (np.asarray(out[k], dtype=float) for k in ("column_x", "column_y", "cap_length", "cap_width"))
     with np.errstate(invalid="ignore"):
@@ -1017,8 +1030,7 @@ def _plausibility(out: dict[str, np.ndarray], labels: dict[str, str], units: dic
             if not (bad_col("column_x") | bad_col("column_y") | bad_col("cap_length") | bad_col("cap_width")
                     | bad_col("column") | bad_col("size") | bad_col("plan")) & {r}]
     if rows:
-        lab = labels.get("column", "column")
-        errors.add("column", rows, [f"{lab}: {_fmtn(cx[r])} x {_fmtn(cy[r])} mm does not fit within the cap plan "
+        errors.add("column", rows, [f"{labels_at(r).get('column', 'column')}: {_fmtn(cx[r])} x {_fmtn(cy[r])} mm does not fit within the cap plan "
                                     f"{_fmtn(L[r])} x {_fmtn(W[r])} mm (L x W)" for r in rows])
     cover = np.asarray(out["cover"], dtype=float)
     for s_, width_name, width in (("x", "width", W), ("y", "length", L)):
@@ -1031,9 +1043,8 @@ def _plausibility(out: dict[str, np.ndarray], labels: dict[str, str], units: dic
             bad = np.isnan(cen) & (n_ >= 2) & (need > room) & (room > 0)
         rows = [r for r in np.flatnonzero(bad).tolist() if r not in bad_col(f"bars_{s_}") and r not in bad_col("cover")]
         if rows:
-            lab = labels.get(f"bars_{s_}", f"bars_{s_}")
             errors.add(f"bars_{s_}", rows, [
-                f"{lab}: {_fmtn(n_[r])} bars of {_fmtn(phi[r])} mm do not fit across the cap {width_name} of "
+                f"{labels_at(r).get(f'bars_{s_}', f'bars_{s_}')}: {_fmtn(n_[r])} bars of {_fmtn(phi[r])} mm do not fit across the cap {width_name} of "
                 f"{_fmtn(width[r])} mm inside {_fmtn(cover[r])} mm covers at the least clear spacing of "
                 f"{_fmtn(MIN_CLEAR_BARS)} mm ({_fmtn(need[r])} mm needed, {_fmtn(room[r])} mm available)"
                 for r in rows])

@@ -322,7 +322,7 @@ def _hide_duplicate_columns(headings: list[str], hidden: set[int], vocabulary: s
         if fields.get(i) and fields[i] in visible:
             notes.append(f"{file}: {where}hidden column {letter} {headings[i]!r} not used: a visible column "
                          f"has the same heading ({fields[i]})")
-            out[i] = ""
+            out[i] = f"{headings[i]} [hidden column, not used]"
         else:
             notes.append(f"{file}: {where}column {letter} {headings[i]!r} is hidden in the workbook; read")
     return out
@@ -341,8 +341,13 @@ def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, f
 def _note_rows_after(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], stop: int, mapped_cols: set[int],
                      notes: list[str], file: str, sheet: str | None) -> None:
     """The table ended at ``stop``; say so if rows further down look like schedule rows."""
-    later = [int(row_numbers[k]) for k in range(stop + 1, len(rows))
-             if sum(1 for c in _filled(rows[k]) if c in mapped_cols) >= MIN_KNOWN]
+    later = []
+    for k in range(stop + 1, len(rows)):
+        first = _first_text(rows[k])
+        if _END_RE.match(first) and not re.match(r"\s*(?:sub-?\s*)?totals?\b|\s*grand", first, re.IGNORECASE):
+            break                           # a revision box or signature block: the sheet's end matter
+        if sum(1 for c in _filled(rows[k]) if c in mapped_cols) >= MIN_KNOWN:
+            later.append(int(row_numbers[k]))
     if later:
         where = f'sheet "{sheet}", ' if sheet else ""
         notes.append(f"{file}: {where}the table ends at row {int(row_numbers[stop])} (notes, totals or a "

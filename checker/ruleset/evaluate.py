@@ -260,7 +260,8 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
             gaps = [nm for nm, a in arrays.items() if a.dtype.kind == "f" and np.isnan(a[idx])]
             words = list(dict.fromkeys(plain_words(nm) for nm in gaps)) or ["an input of this check"]
             what = words[0] if len(words) == 1 else ", ".join(words[:-1]) + " and " + words[-1]
-            verb = "is" if len(words) == 1 else "are"
+            plural = len(words) > 1 or (what.endswith("s") and not what.endswith("ss"))
+            verb = "are" if plural else "is"
             message[idx] = f"Cannot be verified: {what} {verb} not given (or cannot be worked out from the schedule)."
             action[idx] = f"Give {what} so that the check can be made."
     noted = np.flatnonzero(notes != "")
