@@ -413,3 +413,14 @@ def test_the_comment_sheet_and_html_list_the_marks_of_rejected_rows(tmp_path):
     marks = [r[4] for r in ws.iter_rows(min_row=3, values_only=True)]
     assert set(marks) == {"PC6", "PC7", "PC11"}
     assert "<td>PC7</td>" in Path(html).read_text(encoding="utf-8")
+
+
+def test_a_pdf_schedule_split_over_pages_gives_each_record_its_own_page_and_row():
+    """The sample PDF continues its table over pages: one table, and no two records (caps checked,
+    rows rejected, rows skipped) share a page and row number."""
+    pdf = Path(__file__).resolve().parents[1] / "sample_submissions" / "harbourside-rev-A.pdf"
+    s = read_schedule(pdf)
+    accounted(s)
+    where = [(c.src_page, c.src_row) for c in s.caps.itertuples()] + \
+        [(r["source"]["page"], r["source"]["row"]) for r in s.rejected + s.skipped]
+    assert len(where) == len(set(where)) == s.rows_read

@@ -3,14 +3,15 @@
 Finding the table in a sheet:
 
 * the heading row is the first row (of the first :data:`HEADING_SCAN` rows) in which at least
-  :data:`MIN_KNOWN` cells map to known fields; title and note rows above it are skipped;
-* a second heading row directly under it is joined onto it when it holds no figures and is either a
-  unit row (``(mm)``, ``kN``) or labels that make more headings map (``Bottom bars`` over ``X | Y``,
-  the group heading spread over the blank cells of a merged heading);
-* blank rows inside the table are spacers and skipped; a blank row followed by something that is not
-  a data row (a row with fewer than :data:`MIN_KNOWN` filled cells under mapped headings: notes, a
-  key, a signature block) ends the table, as does a row that starts with 'Notes' and has at most two
-  filled cells; a repeat of the heading row is skipped.
+  :data:`MIN_KNOWN` cells map to known fields; title and project rows above it are skipped;
+* a group row directly above it, and up to two rows under it (labels under merged group headings,
+  then a units row such as ``(mm)``, ``kN``), are joined onto it when more headings map
+  (:func:`_heading_block`);
+* the table runs to the end of the sheet: blank rows and section labels (one or two text cells, no
+  figures: ``GRID D-F``) between caps are skipped and noted; a repeated heading row, a row hidden in
+  the workbook or struck through is skipped with its reason (``RawTable.skipped``); the table ends at
+  a notes row, a totals row or a revision box, or, after a blank row, at a row that fills fewer than
+  :data:`MIN_KNOWN` mapped columns. A further heading row below starts another table.
 
 Row numbers are the spreadsheet's (1-based, the heading row counted) so that a user finds the row.
 """
