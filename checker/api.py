@@ -38,6 +38,9 @@ class Review:
     notes: list[str] = field(default_factory=list)
     cases: pd.DataFrame | None = None      # one row per (cap, load case) read, or None (one ULS case per cap)
     case_rows: int = 0                     # rows read that only add a load case to a cap counted earlier
+    skipped: list[dict[str, Any]] = field(default_factory=list)    # [{"source": {...}, "reason": ...}]
+    table_problems: list[dict[str, Any]] = field(default_factory=list)  # [{"source": {...}, "errors": [...]}]
+    unused_headings: list[str] = field(default_factory=list)       # headings of the schedule not read
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
 
     def working(self, mark: str) -> list[WorkingLine]:
@@ -58,6 +61,7 @@ class Review:
             "rows_read": self.rows_read,
             "caps_checked": len(self.caps),
             "rows_rejected": len(self.rejected),
+            "rows_skipped": len(self.skipped),
             "findings": count_by_severity(self.findings),
         }
         out.update(self.case_summary())
@@ -101,11 +105,23 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
             sel = mask[i]
             pile_xy[m] = np.column_stack([X[i][sel], Y[i][sel]])
 
+    applied = list(getattr(schedule, "applied", []) or [])
+
     def working(mark: str):
         idx = np.flatnonzero(marks == str(mark))
         if idx.size == 0:
             return []
-        return working_lines(ruleset, env, int(idx[0]), findings[findings["cap"] == str(mark)])
+        lines = working_lines(ruleset, env, int(idx[0]), findings[findings["cap"] == str(mark)])
+        given = applied[int(idx[0])] if int(idx[0]) < len(applied) else []
+        if not given:
+            return lines
+        out, current = [], None
+        for line in lines:                  # each check's working names the project-file values
+            out.append(line)
+            if line.rule != current:
+                current = line.rule
+                out.extend(WorkingLine(line.rule, f"  input: {t}") for t in given)
+        return out
 
     return Review(
         findings=findings,
@@ -121,6 +137,9 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
         pile_xy=pile_xy,
         quantities=dict(derived.q),
         notes=list(getattr(schedule, "notes", []) or []),
+        skipped=list(getattr(schedule, "skipped", []) or []),
+        table_problems=list(getattr(schedule, "problems", []) or []),
+        unused_headings=list(getattr(schedule, "unmapped", []) or []),
         _working=working,
     )
 
@@ -168,9 +187,14 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
            coords: str | Path | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
-           messages: str = "all", max_rows: int | None = None, loads=None) -> Review:
+           messages: str = "all", max_rows: int | None = None, loads=None, sheet: str | None = None,
+           defaults: Any = None) -> Review:
     """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
 
+    ``sheet``: the one sheet of a workbook to read (default: every sheet with schedule headings).
+    ``defaults``: values for blank cells and missing columns, as a project file's ``[defaults]``
+    table (a dict such as ``{"exposure": "XC2", "cover": 75}``) or parsed
+    (:class:`checker.ingest.frame.Defaults`); each value applied is named in the notes and the working.
     Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
     Raises ``checker.ingest.errors.IngestError`` when nothing can be read, and
     ``checker.ruleset.loader.RuleFileError`` when a rule or profile file is refused.
@@ -178,13 +202,19 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
     from checker.ingest.schedule import read_schedule, schedule_from_frame
     from checker.ruleset.loader import load_ruleset
 
+    from checker.ingest.frame import Defaults, read_defaults
+
     ruleset = load_ruleset(profile, rules_dir, overrides, drop_variants)
+    if defaults is not None and not isinstance(defaults, Defaults):
+        defaults = read_defaults(defaults)
     if isinstance(source, pd.DataFrame):
-        sched = schedule_from_frame(source, mapping=mapping, loads=loads,
+        sched = schedule_from_frame(source, mapping=mapping, loads=loads, defaults=defaults,
                                     **({"max_rows": max_rows} if max_rows else {}))
         name = "<dataframe>"
     else:
-        kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords, "loads": loads}
+        kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords, "loads": loads, "defaults": defaults}
+        if sheet is not None:
+            kwargs["sheet"] = sheet
         if max_rows:
             kwargs["max_rows"] = max_rows
         if str(source).lower().endswith(".pdf"):

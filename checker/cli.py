@@ -49,6 +49,10 @@ def _input(p: argparse.ArgumentParser) -> None:
     p.add_argument("--coords", metavar="FILE", help="CSV of explicit pile coordinates: mark, x, y (mm)")
     p.add_argument("--loads", metavar="FILE", help="CSV or XLSX of load cases: mark, case, n_ed, mx_ed, my_ed, "
                                                    "kind (ULS or SLS)")
+    p.add_argument("--sheet", metavar="NAME", help="read only this sheet of a workbook (default: every sheet "
+                   "with schedule headings)")
+    p.add_argument("--project", metavar="FILE", help="TOML project file: project, submission, revision, checker, "
+                   "and a [defaults] table for values the schedule leaves blank")
     p.add_argument("--pdf-strategy", choices=("auto", "lines", "text"), default="auto",
                    help="force the PDF table strategy (default: chosen per page)")
     p.add_argument("--max-pages", type=int, default=MAX_PDF_PAGES,
@@ -85,7 +89,6 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--working", action="store_true", help="include the working in the JSON")
     c.add_argument("--force", action="store_true", help="overwrite existing output files")
     c.add_argument("--previous", metavar="SHEET", help="the previous revision's comment sheet (.xlsx) to carry responses from")
-    c.add_argument("--project", metavar="FILE", help="TOML file with project, submission, revision, checker")
     c.add_argument("--revision", help="revision label for the comment sheet")
     c.add_argument("--checker", dest="checker_name", help="checker's name for the comment sheet")
 
@@ -140,7 +143,8 @@ def _review(args, console_err: Console, messages: str = "all"):
                       overrides=dict(args.overrides), mapping=args.mapping, coords=args.coords,
                       loads=getattr(args, "loads", None),
                       pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb,
-                      drop_variants=args.drop_variants, messages=messages, max_rows=args.max_rows)
+                      drop_variants=args.drop_variants, messages=messages, max_rows=args.max_rows,
+                      sheet=getattr(args, "sheet", None), defaults=_project_defaults(args))
     finally:
         if prog is not None:
             prog.stop()
@@ -154,15 +158,35 @@ def _exit_for(review, fail_on: str) -> int:
     return EXIT_FINDINGS if present & blocking else EXIT_OK
 
 
+def _project(args) -> dict:
+    """The project file's tables (empty without --project); a clear message when it cannot be read."""
+    if not getattr(args, "project", None):
+        return {}
+    import tomllib
+
+    from checker.ingest import limits
+
+    try:
+        raw = limits.read_bytes(Path(args.project), str(args.project), limits.MAX_MAPPING_BYTES,
+                                what="a project file", advice="a project file is a few lines of TOML")
+        return tomllib.loads(raw.decode("utf-8-sig"))
+    except (UnicodeDecodeError, tomllib.TOMLDecodeError, RecursionError) as exc:
+        raise _UsageError(f"--project {args.project}: cannot be read ({exc})") from None
+
+
+def _project_defaults(args):
+    data = _project(args)
+    if "defaults" not in data:
+        return None
+    from checker.ingest.frame import read_defaults
+
+    return read_defaults(data["defaults"], f"--project {args.project}")
+
+
 def _meta(args) -> dict:
     meta: dict = {}
     if getattr(args, "project", None):
-        import tomllib
-
-        try:
-            meta.update(tomllib.loads(Path(args.project).read_text(encoding="utf-8")))
-        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-            raise _UsageError(f"--project {args.project}: cannot be read ({exc})") from None
+        meta.update({k: v for k, v in _project(args).items() if k != "defaults" and not isinstance(v, dict)})
     if getattr(args, "revision", None):
         meta["revision"] = args.revision
     if getattr(args, "checker_name", None):

@@ -217,6 +217,7 @@ class CapRecord(BaseModel):
     stated_tie_y: _OptF = _f(None, unit="N", show=_KN, doc="designer's tie force along y", ge=0)
     stated_as_x: _OptF = _f(None, unit="mm²", doc="designer's steel area required, bars_x", ge=0)
     stated_as_y: _OptF = _f(None, unit="mm²", doc="designer's steel area required, bars_y", ge=0)
+    stated_d: _OptF = _f(None, unit="mm", doc="designer's effective depth d", ge=0)
     pile_type: str = _f("", doc="e.g. uncased bored")
     bar_ends: typing.Annotated[str, OneOf(BAR_ENDS)] = _f("", doc="straight, bent or hooked; '' if not stated")
     method: str = _f("", doc="the designer's stated method")

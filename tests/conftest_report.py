@@ -160,7 +160,7 @@ def make_review(findings: list[dict[str, Any]] | None = None, caps=CAPS, *,
     caps_df = caps_frame(caps, src_file=submission)
     pile_xy = {c[0]: layout(c[1], c[3]) for c in caps}
     if rejected is None:
-        rejected = [{"source": {"file": submission, "sheet": None, "page": None, "row": 9},
+        rejected = [{"source": {"file": submission, "sheet": None, "page": None, "row": 9}, "mark": "PC9",
                      "errors": ["pile_dia: 'six hundred' is not a number", "cap_depth missing"]}]
     return Review(
         findings=frame,

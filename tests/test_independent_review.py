@@ -58,7 +58,7 @@ def bars(n, phi):
     # smaller bar, H25, and k1 as the nominal cover.)
     ("CV-H40", 45, "12H40", "12H25", "non-compliant", "bond, 4.4.1.2(3)"),
     # H25 both ways at 45: bond 25 + 10 = 35 is met, k1 + Δcdev = 50 is not (reference O9: 45 fails)
-    ("CV-K1", 45, "12H25", "12H25", "non-compliant", "on blinding, k1 + delta_c_dev, 4.4.1.3(4)"),
+    ("CV-K1", 45, "12H25", "12H25", "non-compliant", "on blinding, k1 + Δcdev, 4.4.1.3(4)"),
     # 50 mm meets every term (O9: at the limit)
     ("CV-OK", 50, "12H40", "12H25", "ok", None),
 ])

@@ -26,7 +26,7 @@ PROVENANCE = ["src_file", "src_sheet", "src_page", "src_row"]
 
 
 def check_counts(s: Schedule) -> None:
-    assert s.rows_read == len(s.caps) + len(s.rejected)
+    assert s.rows_read == len(s.caps) + len(s.rejected) + len(s.skipped)
     assert list(s.caps.columns) == list(FRAME_COLUMNS)
     assert list(s.caps.index) == list(range(len(s.caps)))
 
@@ -267,8 +267,11 @@ def test_all_reasons_of_a_row(tmp_path):
 
 def test_required_field_without_a_column(tmp_path):
     s = _one(tmp_path, "PC1,4,600,1800,2700,2700,1200,,600,4500,C32/40,12H25,12H25",
-             head="Mark,Piles,Pile dia,Spacing,L,W,Depth,Size,Column,NEd,Concrete,Bars X,Bars Y\n")
-    assert s.rejected[0]["errors"] == ["cover: not given (no column of the schedule maps to it; see capcheck columns)"]
+             head="Mark,Piles,Pile dia,Spacing,L,W,Depth,Btm cvr,Column,NEd,Concrete,Bars X,Bars Y\n")
+    assert s.rejected[0]["errors"] == ["cover: not given (the table has no column for it; see the table's problem)"]
+    (problem,) = s.problems                              # said once, at the table, with the hint
+    assert problem["source"]["row"] == 1 and problem["errors"][0].startswith("no column maps to cover")
+    assert "'Btm cvr'" in problem["errors"][0] and '"Btm cvr" = "cover"' in problem["errors"][0]
 
 
 def test_size_and_separate_dimensions(tmp_path):
@@ -287,8 +290,8 @@ def test_spacing_form_derives_bar_count(tmp_path):
 
 
 def test_derived_field_errors_quote_the_cell(tmp_path):
-    # a 100 mm wide cap cannot take one H25 inside 75 mm covers: floor((100 - 150 - 25)/150) + 1 = 0
-    s = _one(tmp_path, "PC1,4,600,1800,2700,100,1200,,600,4500,C32/40,75,H25@150,12H25,")
+    # a 310 mm wide cap cannot take one H25 inside 150 mm covers: floor((310 - 300 - 25)/150) + 1 = 0
+    s = _one(tmp_path, "PC1,4,600,1800,2700,310,1200,,300,4500,C32/40,150,H25@150,12H25,")
     errs = s.rejected[0]["errors"]
     assert "nx (from 'H25@150' in column 'Bars X'): 0 must be at least 1" in errs, errs
 
@@ -392,7 +395,8 @@ def test_missing_file(tmp_path):
 def test_read_csv_returns_a_rawtable():
     (table,), notes = read_csv(SCHEDULE_A)
     assert table.headings[:3] == ["Cap ref", "No. of piles", "Pile dia (mm)"]
-    assert table.row_numbers == [5, 6, 7, 9, 10, 11] and table.sheet is None and notes == []
+    assert table.row_numbers == [5, 6, 7, 9, 10, 11] and table.sheet is None
+    assert notes == [f"{SCHEDULE_A}: blank row(s) inside the table skipped (row 8)"]
 
 
 # ---------------------------------------------------------------------------------------------

@@ -195,10 +195,11 @@ def test_all_checks_has_every_result(sheet):
 def test_rejected_rows_sheet(sheet):
     _, wb = sheet
     ws = wb["Rejected rows"]
-    assert _headings(ws) == ["File", "Sheet", "Page", "Row", "Reasons"]
+    assert _headings(ws) == ["File", "Sheet", "Page", "Row", "Mark", "Reasons"]
     row = next(ws.iter_rows(min_row=3, max_row=3, values_only=True))
     assert row[0] == "ashgrove-caps-rev1.csv" and row[3] == 9
-    assert "six hundred" in row[4] and "cap_depth missing" in row[4]
+    assert row[4] == "PC9"                                           # the mark, when it was read
+    assert "six hundred" in row[5] and "cap_depth missing" in row[5]
 
 
 def test_no_rejected_sheet_when_none(tmp_path):

@@ -60,7 +60,8 @@ def test_a_condition_rule_loads_and_reports_no_figures(tmp_path):
     assert np.isnan(res.value).all() and np.isnan(res.limit).all() and np.isnan(res.util).all()
     assert res.message[0] == "A 2-pile cap needs restraint." and res.action[0] == "Show the restraint."
     assert res.message[1] == "Stable group."
-    assert res.message[2].startswith("Cannot be verified: n_piles")
+    # the missing input named in plain words, never by its internal name
+    assert res.message[2].startswith("Cannot be verified: the number of piles is not given")
     fast = evaluate_rule(rule, {"n_piles": np.array([2.0])}, 1, render=False)
     assert np.isnan(fast.value).all() and np.isnan(fast.util).all()
 

@@ -171,7 +171,8 @@ def test_evaluation_ok_fail_query_and_not_applicable(tmp_path):
     assert res.util[1] == pytest.approx(1800 / 1500)
     assert res.message[1] == "1500 against 1800"
     assert res.message[2].startswith("Not applicable")
-    assert "spacing_min" in res.message[3]
+    # the missing input in plain words, never the quantity's name (issue 11)
+    assert "the closest pile centres are not given" in res.message[3] and "spacing_min" not in res.message[3]
 
 
 def test_governing_check_and_override(tmp_path):

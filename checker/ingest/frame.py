@@ -45,7 +45,10 @@ from checker.ingest.notation import (
     parse_steel_grade,
 )
 from checker.ingest.limits import MAX_CELL_CHARS, cell_text_problem
-from checker.ingest.raw import RawTable
+from checker.ingest.plausible import MIN_CLEAR_BARS, PLAUSIBLE
+from checker.ingest.plausible import inside as plausible_inside
+from checker.ingest.plausible import problem as plausible_problem
+from checker.ingest.raw import FormulaCell, RawTable
 from checker.model import FIELDS, FRAME_COLUMNS, validate_frame
 
 #: fields a schedule must give (pile_spacing only for 2 or more piles; the model checks that)
@@ -98,7 +101,7 @@ class _Errors:
 @dataclass
 class FrameResult:
     caps: pd.DataFrame                  # canonical frame, index 0..n-1
-    rejected: list[dict]                # {"source": {...}, "errors": [...]}
+    rejected: list[dict]                # {"source": {...}, "mark": "PC1" (when read), "errors": [...]}
     reports: list[HeadingReport]        # heading matches, one per table
     notes: list[str]
     rows_read: int
@@ -110,6 +113,106 @@ class FrameResult:
     case_rows: int = 0
     #: marks of the rejected rows (a loads table naming one is told so)
     rejected_marks: frozenset[str] = frozenset()
+    problems: list[dict] = field(default_factory=list)   # {"source": {... heading row}, "errors": [...]}
+    applied: list[list[str]] = field(default_factory=list)  # per cap: the project-file values applied
+
+
+# --------------------------------------------------------------------------------------------
+# Project defaults
+# --------------------------------------------------------------------------------------------
+
+#: keys of a project file's [defaults] table -> the schedule field they fill
+DEFAULT_KEYS: dict[str, str] = {
+    "exposure": "exposure", "exposure_class": "exposure", "concrete": "concrete", "concrete_class": "concrete",
+    "fyk": "fyk", "steel_grade": "fyk", "cover": "cover", "nominal_cover": "cover", "pile_type": "pile_type",
+    "bar_ends": "bar_ends", "method": "method", "methods": "method", "accepted_methods": "method",
+}
+
+
+@dataclass
+class Defaults:
+    """The values a project file gives for blank cells (or missing columns), parsed, and the words
+    that name each one in notes and in the working ('exposure XC2 from the project file')."""
+
+    values: dict[str, Any]
+    texts: dict[str, str]
+    source: str = "the project file"
+
+
+def read_defaults(table: Any, source: str = "the project file") -> Defaults:
+    """A project file's ``[defaults]`` table -> :class:`Defaults`; IngestError naming the file and key."""
+    from checker.ingest.errors import IngestError
+
+    if not isinstance(table, dict):
+        raise IngestError(f"{source}: [defaults] must be a table of key = value")
+    values: dict[str, Any] = {}
+    texts: dict[str, str] = {}
+    where = "from the project file"
+    for key, raw in table.items():
+        k = str(key).strip().lower().replace(" ", "_").replace("-", "_")
+        fld = DEFAULT_KEYS.get(k)
+        if fld is None:
+            raise IngestError(f"{source}: [defaults] {key!r} is not a value capcheck takes from a project file; "
+                              f"known: {', '.join(sorted(set(DEFAULT_KEYS.values())))}")
+        try:
+            if fld == "method":
+                items = raw if isinstance(raw, list) else [raw]
+                if not all(isinstance(x, str) and x.strip() for x in items):
+                    raise NotationError("expected a method name or a list of them")
+                values[fld] = " ".join(x.strip() for x in items)
+                texts[fld] = f"accepted methods {', '.join(x.strip() for x in items)} {where}"
+            elif fld == "concrete":
+                c = parse_concrete(str(raw))
+                values[fld] = (c.name, c.fck)
+                texts[fld] = f"concrete {c.name} {where}"
+            elif fld == "fyk":
+                values[fld] = parse_steel_grade(raw if not isinstance(raw, bool) else str(raw))
+                texts[fld] = f"fyk {_fmtn(values[fld])} MPa {where}"
+            elif fld == "cover":
+                v = parse_number(raw if not isinstance(raw, bool) else str(raw), "length", 1.0)
+                if not plausible_inside("cover", v):
+                    raise NotationError(f"{v:g} mm is outside the plausible range of a cover")
+                values[fld] = v
+                texts[fld] = f"cover {_fmtn(v)} mm {where}"
+            elif fld == "bar_ends":
+                values[fld] = _bar_ends(str(raw))
+                texts[fld] = f"bar ends {values[fld]} {where}"
+            else:
+                if not isinstance(raw, str) or not raw.strip():
+                    raise NotationError("expected text")
+                text = clean_text(raw)
+                values[fld] = text.upper() if fld == "exposure" else text
+                texts[fld] = f"{fld.replace('_', ' ')} {values[fld]} {where}"
+        except NotationError as exc:
+            raise IngestError(f"{source}: [defaults] {key} = {raw!r}: {exc}") from None
+    return Defaults(values, texts, source)
+
+
+_THOUSANDS_RE = re.compile(r"^[+-]?[1-9][0-9]{0,2}(?:,[0-9]{3})+(?:\.[0-9]+)?$")
+
+
+def _thousands(col: pd.Series, fld: str, scale: float, label: str) -> tuple[pd.Series, str | None]:
+    """Commas read as thousands separators in a load column when the column reads consistently:
+    every comma is followed by exactly three digits and no such cell, read with a decimal comma,
+    would be a plausible value of the field. Otherwise the column is unchanged (and '1,500' stays
+    refused as ambiguous)."""
+    if col.dtype.kind != "O":
+        return col, None
+    mask = col.map(lambda v: isinstance(v, str) and "," in v).to_numpy(dtype=bool)
+    if not mask.any():
+        return col, None
+    texts: dict[Any, str] = {}
+    for v in pd.unique(col[mask]):
+        t = clean_text(v).replace(" ", "")
+        if not _THOUSANDS_RE.match(t):
+            return col, None
+        if t.count(",") == 1 and "." not in t and plausible_inside(fld, float(t.replace(",", ".")) * scale):
+            return col, None
+        texts[v] = t.replace(",", "")
+    col = col.copy()
+    col[mask] = col[mask].map(texts)
+    return col, (f"{label}: ',' read as a thousands separator in {int(mask.sum())} cell(s) (every comma is "
+                 "followed by three digits and none reads as a plausible decimal)")
 
 
 # --------------------------------------------------------------------------------------------
@@ -367,20 +470,39 @@ class _Parsed:
     errors: _Errors
     labels: dict[str, str]              # ingest/model field -> label for messages
     n: int
+    units: dict[str, tuple[str, str, float]] = field(default_factory=dict)  # field -> (kind, unit, factor)
+    notes: list[str] = field(default_factory=list)
+    applied: list[tuple[np.ndarray, str]] = field(default_factory=list)    # (rows, 'exposure XC2 from ...')
 
 
 def _label(fld: str, heading: str | None) -> str:
     return f"{fld} (column {heading!r})" if heading else fld
 
 
-def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
-    """Parse the mapped columns of one table. ``cells`` columns are positions 0..k-1."""
+_SHOWN_DEFAULT = {"length": "mm", "force": "kN", "moment": "kNm", "area": "mm²", "stress": "MPa", "count": ""}
+
+
+def _formula_cells(col: pd.Series) -> np.ndarray:
+    """Row positions of the cells that are formulas saved without a calculated value."""
+    if col.dtype.kind != "O":
+        return np.empty(0, np.int64)
+    return np.flatnonzero(col.map(lambda v: isinstance(v, FormulaCell)).to_numpy(dtype=bool))
+
+
+def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool = False,
+                 defaults: Defaults | None = None) -> _Parsed:
+    """Parse the mapped columns of one table. ``cells`` columns are positions 0..k-1.
+    ``formulas``: the table may hold :class:`FormulaCell` cells; ``defaults``: the project file's
+    values for blank cells and missing columns."""
     n = len(cells)
     errors = _Errors()
     values: dict[str, np.ndarray] = {}
     given: dict[str, np.ndarray] = {}
     labels: dict[str, str] = {}
+    units: dict[str, tuple[str, str, float]] = {}
+    notes: list[str] = []
     nan = np.full(n, np.nan)
+    no_value: dict[str, np.ndarray] = {}
 
     def err(fld: str, rows: np.ndarray, msgs: Sequence[str]) -> None:
         errors.add(fld, rows, [f"{labels[fld]}: {m}" for m in msgs])
@@ -389,6 +511,20 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
         fld, kind = m.field, SCHEDULE_FIELDS[m.field]
         col = cells.iloc[:, m.column]
         labels[fld] = _label(fld, m.heading)
+        units[fld] = (kind, m.unit or _SHOWN_DEFAULT.get(kind, ""), m.scale)
+        if formulas:
+            frows = _formula_cells(col)
+            if frows.size:
+                err(fld, frows, [f"{str(col.iat[r])[:60]!r} is a formula saved without its calculated value "
+                                 "(the workbook was written by a program that does not calculate); open it in "
+                                 "a spreadsheet program, save it and read it again" for r in frows.tolist()])
+                col = col.copy()
+                col.iloc[frows] = None
+                no_value[fld] = frows
+        if kind in ("force", "moment") and fld in PLAUSIBLE:
+            col, note = _thousands(col, fld, m.scale, labels[fld])
+            if note:
+                notes.append(note)
         if kind in _NUMERIC_KINDS and fld not in ("column", "size", "plan"):
             v, rows, msgs = _steel(col) if fld == "fyk" else _numeric(col, kind, m.scale)
             values[fld] = v
@@ -439,11 +575,14 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
             given[fld] = ~u.blank
             err(fld, *u.error_rows())
 
+    for fld, frows in no_value.items():                 # named above; not also 'missing'
+        if fld in given:
+            given[fld][frows] = True
     # ---- combined and derived fields -------------------------------------------------------
     out: dict[str, np.ndarray] = {}
     for f in ("piles", "pile_dia", "pile_spacing", "n_ed", "mx_ed", "my_ed", "cover", "embedment",
               "pile_capacity", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
-              "n_sls", "mx_sls", "my_sls"):
+              "n_sls", "mx_sls", "my_sls", "stated_d"):
         out[f] = values.get(f, nan).copy()
     # the pile capacity's basis: a working (SLS) heading, or a capacity_basis column; ULS otherwise
     basis = values.get("capacity_basis", np.full(n, "", dtype=object)).astype(object)
@@ -455,6 +594,30 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
         given["pile_capacity"] = given.get("pile_capacity", np.zeros(n, bool)) | given["pile_capacity_working"]
         labels.setdefault("pile_capacity", labels["pile_capacity_working"])
     out["capacity_basis"] = basis
+    applied: list[tuple[np.ndarray, str]] = []
+    bad_rows: dict[str, set[int]] = {}
+    for fld, rows, _ in errors.items:
+        bad_rows.setdefault(fld, set()).update(rows.tolist())
+
+    def blank_of(f: str, arr: np.ndarray) -> np.ndarray:
+        mask = np.isnan(arr) if arr.dtype.kind == "f" else (arr == "")
+        if bad_rows.get(f):
+            mask[list(bad_rows[f])] = False
+        return mask
+
+    def apply_default(f: str, arr: np.ndarray, value: Any, text: str) -> np.ndarray:
+        mask = blank_of(f, arr)
+        if not mask.any():
+            return arr
+        arr = arr.copy()
+        arr[mask] = value
+        given[f] = given.get(f, np.zeros(n, bool)) | mask
+        labels.setdefault(f, f"{f} (project file)")
+        applied.append((np.flatnonzero(mask), text))
+        return arr
+
+    if defaults is not None and "cover" in defaults.values:
+        out["cover"] = apply_default("cover", out["cover"], defaults.values["cover"], defaults.texts["cover"])
     for f in ("cap_length", "cap_width", "cap_depth"):
         v = values.get(f, nan).copy()
         for combo in ("size", "plan"):
@@ -468,6 +631,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
                               for r in rows])
             v = np.where(np.isnan(v), alt, v)
             labels.setdefault(f, labels[combo])
+            units.setdefault(f, units[combo])
         out[f] = v
     if "_col_x" in values:
         out["column_x"], out["column_y"] = values["_col_x"], values["_col_y"]
@@ -486,6 +650,8 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
     for f in ("column_x", "column_y", "column_round"):
         if "column" in labels:
             labels.setdefault(f, f"{f} (column {_heading_of(labels['column'])!r})")
+            if "column" in units:
+                units.setdefault(f, units["column"])
     # concrete and fck: the class gives fck; a bare fck column gives the class
     fck_col = values.get("fck")
     if "concrete" in values:
@@ -506,9 +672,20 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
         labels["concrete"] = labels["fck"]
     else:
         out["concrete"], out["fck"] = np.full(n, "", dtype=object), nan
-    out["fyk"] = np.where(np.isnan(values["fyk"]), 500.0, values["fyk"]) if "fyk" in values else np.full(n, 500.0)
+    if defaults is not None and "concrete" in defaults.values:
+        name, fck = defaults.values["concrete"]
+        before = blank_of("concrete", np.asarray(out["concrete"], dtype=object))
+        out["concrete"] = apply_default("concrete", np.asarray(out["concrete"], dtype=object), name,
+                                        defaults.texts["concrete"])
+        out["fck"] = np.where(before, fck, out["fck"])
+    fyk = values.get("fyk", nan)
+    if defaults is not None and "fyk" in defaults.values:
+        fyk = apply_default("fyk", fyk, defaults.values["fyk"], defaults.texts["fyk"])
+    out["fyk"] = np.where(np.isnan(fyk), 500.0, fyk)
     for f in ("exposure", "pile_type", "method", "bar_ends", "mark", "case", "case_kind"):
         out[f] = values.get(f, np.full(n, "", dtype=object))
+        if defaults is not None and f in defaults.values:
+            out[f] = apply_default(f, np.asarray(out[f], dtype=object), defaults.values[f], defaults.texts[f])
     for s, width_field in (("x", "cap_width"), ("y", "cap_length")):
         bars = f"bars_{s}"
         out[bars] = values.get(bars, np.full(n, "", dtype=object))
@@ -525,21 +702,21 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport) -> _Parsed:
         sources = [f, *combos]
         if any(s in given for s in sources):       # a value, or a cell that could not be read
             given[f] = ~np.isnan(out[f]) | np.logical_or.reduce([given.get(s, none) for s in sources])
-    return _Parsed(out, given, errors, labels, n)
+    return _Parsed(out, given, errors, labels, n, units, notes, applied)
 
 
 def _required_missing(f: str, have: np.ndarray, has_col: np.ndarray, labels: dict[str, str],
-                      errors: _Errors) -> None:
+                      errors: _Errors, offset: int = 0) -> None:
     """Blank required cells, or no column for a required field, as row errors."""
-    blank = np.flatnonzero(~have & has_col)
-    nocol = np.flatnonzero(~have & ~has_col)
+    blank = np.flatnonzero(~have & has_col) + offset
+    nocol = np.flatnonzero(~have & ~has_col) + offset
     lab = labels.get(f, f)
     if f in ("cap_length", "cap_width", "cap_depth") and lab.startswith(("size ", "plan ")):
         fld, msg = lab.split(" ", 1)[0], f"{lab}: missing"
     else:
         fld, msg = f, f"{lab}: missing"
     errors.add(fld, blank, [msg] * blank.size)
-    errors.add(f, nocol, [f"{f}: not given (no column of the schedule maps to it; see capcheck columns)"]
+    errors.add(f, nocol, [f"{f}: not given (the table has no column for it; see the table's problem)"]
                * nocol.size)
 
 
@@ -682,8 +859,8 @@ def cells_of(table: RawTable) -> pd.DataFrame:
 
 def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
                 coords: pd.DataFrame | None = None, coord_problems: dict[str, list[str]] | None = None,
-                cells: Sequence[pd.DataFrame] | None = None, load_marks: frozenset[str] = frozenset()
-                ) -> FrameResult:
+                cells: Sequence[pd.DataFrame] | None = None, load_marks: frozenset[str] = frozenset(),
+                defaults: Defaults | None = None) -> FrameResult:
     """RawTable(s) of one schedule -> :class:`FrameResult` (canonical caps, rejected rows, reports).
 
     ``coords`` (mark, x, y [mm]) gives explicit pile groups: their ``piles`` is the count of positions
@@ -709,7 +886,10 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             if not str(h or "").strip() and i < grid.shape[1] and \
                     not grid.iloc[:, i].map(_is_blank, na_action="ignore").fillna(True).all():
                 notes.append(f"{table.file}: column {i + 1} has no heading; not read")
-        parts.append(_parse_cells(grid, report))
+        parts.append(_parse_cells(grid, report, formulas=table.sheet is not None, defaults=defaults))
+        for note in parts[-1].notes:
+            if note not in notes:
+                notes.append(note)
         n = len(grid)
         prov.append(pd.DataFrame({
             "src_file": np.full(n, table.file, dtype=object),
@@ -735,14 +915,21 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         out[f] = np.concatenate(arrays) if arrays else np.empty(0)
     errors = _Errors()
     labels: dict[str, str] = {}
+    units: dict[str, tuple[str, str, float]] = {}
     given: dict[str, np.ndarray] = {}
     has_col: dict[str, np.ndarray] = {}
+    applied_rows: dict[int, list[str]] = {}
     offset = 0
     for p in parts:
         for fld, rows, msgs in p.errors.items:
             errors.add(fld, rows + offset, msgs)
         for k, v in p.labels.items():
             labels.setdefault(k, v)
+        for k, v in p.units.items():
+            units.setdefault(k, v)
+        for rows, text in p.applied:
+            for r in (rows + offset).tolist():
+                applied_rows.setdefault(r, []).append(text)
         offset += p.n
     for f in sorted(set(REQUIRED_SOURCES) | {g for p in parts for g in p.given}):
         given[f] = np.concatenate([p.given.get(f, np.zeros(p.n, bool)) for p in parts]) if parts else np.zeros(0, bool)
@@ -777,8 +964,30 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
                                   f"{_heading_of(labels.get('n_ed', 'NEd'))!r} or SLS axial load)" for r in rows])
     given["n_ed"] = own_loads | no_loads | (named & ~cont & (in_table | (case_mode & mark_loads)))
     has_col["n_ed"] = has_col["n_ed"] | has_col.get("n_sls", np.zeros(n_total, bool)) | bool(load_marks)
+    problems = _table_problems(tables, parts, given, reports)
+    starts = np.cumsum([0] + [p.n for p in parts])
+
+    def part_of(r: int) -> _Parsed:
+        return parts[int(np.searchsorted(starts, r, side="right")) - 1]
+
+    def labels_at(r: int) -> dict[str, str]:
+        return {**labels, **part_of(r).labels}
+
+    def units_at(r: int) -> dict[str, tuple[str, str, float]]:
+        return part_of(r).units
+
     for f in REQUIRED_SOURCES:
-        _required_missing(f, given[f], has_col[f], labels, errors)
+        for k, p in enumerate(parts):
+            a, b = int(starts[k]), int(starts[k + 1])
+            _required_missing(f, given[f][a:b], has_col[f][a:b], {**labels, **p.labels}, errors, offset=a)
+
+    # ---- one pile: a spacing of 0 means "not applicable" -------------------------------------
+    with np.errstate(invalid="ignore"):
+        zero = (out["piles"] == 1) & (out["pile_spacing"] == 0)
+    if zero.any():
+        out["pile_spacing"][zero] = np.nan
+        notes.append(f"{int(zero.sum())} single-pile cap(s): a pile spacing of 0 read as not applicable")
+    _plausibility(out, labels_at, units_at, errors)
     for f in ("n_sls", "mx_sls", "my_sls"):
         bad = ~np.isnan(out[f]) & (out[f] <= 0) if f == "n_sls" else np.zeros(n_total, bool)
         if bad.any():
@@ -825,7 +1034,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             fld, _, rest = msg.partition(":")
             if fld in have or any(s in have for s in DERIVED_FROM.get(fld, ())):
                 continue
-            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels)}:{rest}"))
+            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels_at(r))}:{rest}"))
     # the further rows of a mark whose first row was rejected are not checked either
     if cont.any():
         for r in np.flatnonzero(cont).tolist():
@@ -838,9 +1047,22 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     bad_rows = sorted(per_row)
     keep = np.ones(n_total, dtype=bool)
     keep[np.asarray(bad_rows, dtype=np.int64)] = False
-    rejected = [{"source": _source(provenance, r), "errors": list(dict.fromkeys(m for _, m in per_row[r]))}
-                for r in bad_rows]
+    marks_out = out["mark"]
+    rejected = []
+    for r in bad_rows:
+        rec: dict[str, Any] = {"source": _source(provenance, r)}
+        if isinstance(marks_out[r], str) and marks_out[r]:
+            rec["mark"] = marks_out[r]
+        rec["errors"] = list(dict.fromkeys(m for _, m in per_row[r]))
+        rejected.append(rec)
     caps = _canonical(frame.loc[keep & ~cont].reset_index(drop=True))
+    applied = [applied_rows.get(r, []) for r in np.flatnonzero(keep & ~cont).tolist()]
+    if defaults is not None:
+        for fld, text in defaults.texts.items():
+            caps_with = [caps["mark"].iat[i] for i, a in enumerate(applied) if text in a]
+            if caps_with:
+                shown = ", ".join(map(str, caps_with[:8])) + (" ..." if len(caps_with) > 8 else "")
+                notes.append(f"{text}, for {len(caps_with)} cap(s) whose schedule leaves it blank ({shown})")
     cases = None
     wants_cases = case_mode or bool(load_marks) or bool(has_col.get("n_sls", np.zeros(0, bool)).any()) or \
         bool(has_col.get("case_kind", np.zeros(0, bool)).any()) or bool((caps["capacity_basis"] == "SLS").any())
@@ -851,7 +1073,8 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         rows = np.flatnonzero(keep)
         cases = case_entries(out, rows, cap_of[first_pos[rows]], provenance)
     rejected_marks = frozenset(str(mk[r]) for r in bad_rows if mk[r] != "")
-    return FrameResult(caps, rejected, reports, notes, n_total, cases, int((keep & cont).sum()), rejected_marks)
+    return FrameResult(caps, rejected, reports, notes, n_total, cases=cases, case_rows=int((keep & cont).sum()),
+                       rejected_marks=rejected_marks, problems=problems, applied=applied)
 
 
 # --------------------------------------------------------------------------------------------
@@ -1053,6 +1276,86 @@ def case_entries(out: dict[str, np.ndarray], rows: np.ndarray, cap: np.ndarray,
         }))
     df = pd.concat(parts, ignore_index=True)
     return df.sort_values(["cap", "_order"], kind="stable").drop(columns="_order").reset_index(drop=True)
+
+
+def _table_problems(tables: Sequence[RawTable], parts: Sequence[_Parsed], given: dict[str, np.ndarray],
+                    reports: Sequence[HeadingReport]) -> list[dict]:
+    """A required field that no column of a table gives, reported once for the table (with the
+    headings left unused, which a mapping file can map); its rows say only that the column is missing."""
+    out: list[dict] = []
+    offset = 0
+    for table, part, report in zip(tables, parts, reports):
+        lacking = [f for f in REQUIRED_SOURCES if f not in part.given and not given[f][offset:offset + part.n].all()]
+        if lacking and part.n:
+            unused = [u for u in report.unmapped]
+            hint = (f"headings not used: {', '.join(repr(u) for u in unused[:12])}; map the right one in a mapping file "
+                    f"(--mapping FILE, [headings] \"{unused[0]}\" = \"{lacking[0]}\")" if unused else
+                    "no heading of the table is left unused; add the column, or map its heading in a mapping file "
+                    "(--mapping FILE)")
+            page = table.pages[0] if table.pages else None
+            out.append({"source": {"file": table.file, "sheet": table.sheet, "page": page,
+                                   "row": table.heading_row},
+                        "errors": [f"no column maps to {', '.join(lacking)}, so no row of this table can be checked "
+                                   f"({hint}; see capcheck columns)"]})
+        offset += part.n
+    return out
+
+
+_BOUND_OK = {"mx_ed", "my_ed", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+             "embedment"}
+
+
+def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[str, str]],
+                  units_at: Callable[[int], dict[str, tuple[str, str, float]]], errors: _Errors) -> None:
+    """Figures outside their plausible range (:mod:`checker.ingest.plausible`), a column larger than
+    the cap, and a bar count that does not fit the cap at the least clear spacing, as row errors."""
+    have: dict[str, set[int]] = {}
+    for fld, rows, _ in errors.items:
+        have.setdefault(fld, set()).update(rows.tolist())
+    for f in PLAUSIBLE:
+        v = out.get(f)
+        if v is None:
+            continue
+        v = np.asarray(v, dtype=float)
+        with np.errstate(invalid="ignore"):
+            lo, hi = PLAUSIBLE[f]
+            mag = np.abs(v) if f in ("mx_ed", "my_ed") else v
+            # values the model refuses on its own (0 or less) keep the model's message
+            fin = np.isfinite(v) & ((v > 0) | (f in _BOUND_OK and v >= 0))
+            bad = fin & ((mag < lo) | (mag > hi))
+        rows = [r for r in np.flatnonzero(bad).tolist() if r not in have.get(f, ()) and f in units_at(r)]
+        if not rows:
+            continue
+        errors.add(f, rows, [f"{labels_at(r).get(f, f)}: {plausible_problem(f, *units_at(r)[f][:1], float(v[r]), *units_at(r)[f][1:])}"
+                             for r in rows])
+        have.setdefault(f, set()).update(rows)
+        out[f][rows] = np.nan            # not judged again by the model's cross-field checks
+    bad_col = lambda f: have.get(f, set())  # noqa: E731
+    cx, cy, L, W = (np.asarray(out[k], dtype=float) for k in ("column_x", "column_y", "cap_length", "cap_width"))
+    with np.errstate(invalid="ignore"):
+        big = (cx > L) | (cy > W)
+    rows = [r for r in np.flatnonzero(big).tolist()
+            if not (bad_col("column_x") | bad_col("column_y") | bad_col("cap_length") | bad_col("cap_width")
+                    | bad_col("column") | bad_col("size") | bad_col("plan")) & {r}]
+    if rows:
+        errors.add("column", rows, [f"{labels_at(r).get('column', 'column')}: {_fmtn(cx[r])} x {_fmtn(cy[r])} mm does not fit within the cap plan "
+                                    f"{_fmtn(L[r])} x {_fmtn(W[r])} mm (L x W)" for r in rows])
+    cover = np.asarray(out["cover"], dtype=float)
+    for s_, width_name, width in (("x", "width", W), ("y", "length", L)):
+        n_ = np.asarray(out[f"n{s_}"], dtype=float)
+        phi = np.asarray(out[f"phi_{s_}"], dtype=float)
+        cen = np.asarray(out[f"s{s_}"], dtype=float)
+        with np.errstate(invalid="ignore"):
+            need = n_ * phi + (n_ - 1) * np.maximum(MIN_CLEAR_BARS, 0)
+            room = width - 2 * cover
+            bad = np.isnan(cen) & (n_ >= 2) & (need > room) & (room > 0)
+        rows = [r for r in np.flatnonzero(bad).tolist() if r not in bad_col(f"bars_{s_}") and r not in bad_col("cover")]
+        if rows:
+            errors.add(f"bars_{s_}", rows, [
+                f"{labels_at(r).get(f'bars_{s_}', f'bars_{s_}')}: {_fmtn(n_[r])} bars of {_fmtn(phi[r])} mm do not fit across the cap {width_name} of "
+                f"{_fmtn(width[r])} mm inside {_fmtn(cover[r])} mm covers at the least clear spacing of "
+                f"{_fmtn(MIN_CLEAR_BARS)} mm ({_fmtn(need[r])} mm needed, {_fmtn(room[r])} mm available)"
+                for r in rows])
 
 
 _FROM_TEXT = {"nx": "bars_x", "phi_x": "bars_x", "sx": "bars_x", "ny": "bars_y", "phi_y": "bars_y",

@@ -45,7 +45,7 @@ SCHEDULE_FIELDS: dict[str, str] = {
     "concrete": "text", "fck": "stress", "fyk": "stress", "cover": "length", "exposure": "text",
     "bars_x": "bars", "bars_y": "bars", "embedment": "length", "pile_capacity": "force",
     "stated_pile_load": "force", "stated_tie_x": "force", "stated_tie_y": "force",
-    "stated_as_x": "area", "stated_as_y": "area",
+    "stated_as_x": "area", "stated_as_y": "area", "stated_d": "length",
     "pile_type": "text", "bar_ends": "text", "method": "text",
     # load cases (issue 11): the case of a row, its limit state, SLS loads, the capacity's basis
     "case": "text", "case_kind": "text", "n_sls": "force", "mx_sls": "moment", "my_sls": "moment",
@@ -168,7 +168,7 @@ _ALIAS_TEXT: dict[str, tuple[str, ...]] = {
     "cap_width": ("width", "width b", "width w", "b", "w", "cap width", "cap b", "cap w", "breadth", "width y",
                   "ly", "cap width b", "cap width w", "plan width", "cap size w", "cap size b", "size w",
                   "size b", "cap dimensions w"),
-    "cap_depth": ("depth", "cap depth", "cap depth h", "h", "d", "depth h", "depth d", "thickness",
+    "cap_depth": ("depth", "cap depth", "cap depth h", "h", "depth h", "thickness",
                   "cap thickness", "overall depth", "cap h", "cap d", "overall depth h", "cap size d",
                   "cap size h", "size d", "size h", "cap dimensions d"),
     "size": ("size", "cap size", "l x w x d", "size l x w x d", "l x b x h", "l x b x d", "l x w x h",
@@ -206,6 +206,8 @@ _ALIAS_TEXT: dict[str, tuple[str, ...]] = {
                     "asx req", "area of steel req x"),
     "stated_as_y": ("as req y", "as required y", "as reqd y", "area req y", "steel area req y", "as y req",
                     "asy req", "area of steel req y"),
+    "stated_d": ("d", "effective depth", "eff depth", "effective depth d", "d eff", "deff", "d effective",
+                 "design effective depth", "depth d eff"),
     "pile_type": ("pile type", "type of pile", "piling type"),
     "bar_ends": ("bar ends", "bar end", "end detail", "bar end detail", "ends", "bar anchorage", "end anchorage"),
     "method": ("method", "design method", "analysis method"),
@@ -271,9 +273,10 @@ WORD_RULES: tuple[WordRule, ...] = (
     _rule("n_ed", "axial", "load force uls design column n ed max compression"),
     _rule("mx_ed", "moment x", "ed uls design column max"),
     _rule("my_ed", "moment y", "ed uls design column max"),
-    _rule("cap_depth", "depth", "cap h d overall total pile"),
-    _rule("cap_length", "length", "cap l x plan overall pile"),
-    _rule("cap_width", "width", "cap b w y plan overall pile"),
+    _rule("cap_depth", "depth", "cap h overall total"),
+    _rule("stated_d", "effective depth", "d eff design"),
+    _rule("cap_length", "length", "cap l x plan overall"),
+    _rule("cap_width", "width", "cap b w y plan overall"),
     _rule("cover", "cover", "nominal bottom c min bars"),
     _rule("stated_tie_x", "tie x", "force t uls design"),
     _rule("stated_tie_y", "tie y", "force t uls design"),
@@ -462,6 +465,25 @@ def _classify(words: frozenset[str], vocabulary: str) -> tuple[str | None, str]:
     return None, ""
 
 
+_ELEMENT_RE = re.compile(r"^\s*(?P<el>pile\s*cap|cap|pile)\b[\s:.,/\-]*(?P<rest>.+)$", re.IGNORECASE)
+#: what a heading that starts with 'Pile' may name (a 'Pile depth' is not the cap's depth)
+_PILE_FIELDS = frozenset({"pile_dia", "pile_spacing", "piles", "pile_capacity", "stated_pile_load", "embedment",
+                          "pile_type"})
+
+
+def _element_first(heading: str, unit: str | None) -> tuple[str | None, str, str | None]:
+    """A heading that names the element first, 'Cap concrete grade', 'Pile cap L x W x D', 'Pile nominal
+    dia': the rest of it mapped alone ('Pile ...' only to a field of the piles)."""
+    m = _ELEMENT_RE.match(clean_text(heading))
+    if not m:
+        return None, "", unit
+    rwords, runit = heading_key(m.group("rest"))
+    name, _ = _classify(rwords, "schedule")
+    if name is None or (m.group("el").lower() == "pile" and name not in _PILE_FIELDS):
+        return None, "", unit
+    return name, "element named first", unit or runit
+
+
 def match_heading(heading: str, vocabulary: str = "schedule",
                   mapping: HeadingMap | None = None) -> tuple[str | None, str | None, float, str, str]:
     """One heading -> (field or None, unit display or None, scale, how, problem note or '')."""
@@ -478,6 +500,8 @@ def match_heading(heading: str, vocabulary: str = "schedule",
             unit = entry.unit or unit
     if name is None:
         name, how = _classify(words, vocabulary)
+    if name is None and vocabulary == "schedule":
+        name, how, unit = _element_first(str(heading), unit)
     if name is None:
         if "sls" in words:
             return None, None, 1.0, "", (f"heading {heading!r} looks like a serviceability value; capcheck "

@@ -314,7 +314,7 @@ class BarSpec:
     centres: float | None
 
 
-_BAR_TYPE = r"(?:H|T|Ø|DIA\.?)"
+_BAR_TYPE = r"(?:H|T|Y|Ø|DIA\.?)"
 _COUNT = r"(?P<count>[0-9]{1,4})\s*(?:NO\.?|NOS\.?|NR\.?|N°|X)?\s*"
 _CENTRES = (r"\s*(?:@|AT|-|/)\s*(?P<centres>[0-9]{1,4}(?:[.,][0-9]+)?)\s*(?:MM)?\s*"
             r"(?:C/C|CC|CRS\.?|CTRS\.?|CTS\.?|CENTRES|CENTERS)?")
@@ -330,15 +330,16 @@ _BAR_FORMS = [
 _LAYER_RE = re.compile(r"(?:^|\s)\(?(?:[BT][1-4]|BTM|BOT|BOTTOM)\)?(?=$|\s)", re.ASCII)
 _LAYERS_RE = re.compile(r"LAYER|\b[2-9]\s*L\b|\bDOUBLE\b", re.ASCII)
 _BUNDLE_RE = re.compile(r"BUNDLE|PAIR|\bGROUPS?\b|\bTWIN", re.ASCII)
-_MARK_RE = re.compile(r"(?<![A-Z])(?:H|T|Ø|DIA\.?)\s*[0-9]+", re.ASCII)
-_OTHER_TYPE_RE = re.compile(r"(?:^|[0-9\s])([A-GI-SU-Z])\s*([0-9]{1,3})\b", re.ASCII)
+_MARK_RE = re.compile(r"(?<![A-Z])(?:H|T|Y|Ø|DIA\.?)\s*[0-9]+", re.ASCII)
+_OTHER_TYPE_RE = re.compile(r"(?:^|[0-9\s])([A-GI-SU-XZ])\s*([0-9]{1,3})\b", re.ASCII)
 _SIZES_TEXT = ", ".join(map(str, STANDARD_BAR_SIZES))
 
 
 @_memo
 @_hinted
 def parse_bars(text: Any) -> BarSpec:
-    """One layer of bars in BS 8666 notation (grade letter H; legacy T; also Ø or 'dia').
+    """One layer of bars in BS 8666 notation (grade letter H; legacy T and Y, high-yield bars as
+    older schedules write them, ``14Y12``; also Ø or 'dia').
 
     Count forms: ``10H25``, ``10 no. H25``, ``10No H25``, ``10T25``, ``10Ø25``, ``10 no. 25 dia``;
     spacing forms: ``H25@150``, ``H25-150``, ``H25 at 150 c/c``, ``T20-200``; both: ``8H25@150``.
@@ -371,7 +372,7 @@ def parse_bars(text: Any) -> BarSpec:
         other = _OTHER_TYPE_RE.search(core)
         if other and not _MARK_RE.search(core):
             raise NotationError(f"{_quote(text)}: bar type {other.group(1)!r} is not recognised; "
-                                "use H (BS 8666), T (legacy), Ø or dia")
+                                "use H (BS 8666), T or Y (legacy), Ø or dia")
         raise NotationError(f"{_quote(text)} is not a bar notation; expected e.g. 10H25, 10 no. H25 or H25@150")
     groups = m.groupdict()
     dia = int(groups["dia"])

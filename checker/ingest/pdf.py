@@ -142,8 +142,12 @@ def _read(name: str, strategy: str, max_pages: int | None,
                     notes[-1] = (f"page {page_no}: nothing to read (its content was lost in the "
                                  f"damaged file), skipped")
                 continue
+            taken = 0                       # rows of this page already numbered (two tables on a page)
             for pt in page_tables:
                 notes.extend(pt.notes)
+                if pt.row_numbers and taken and min(pt.row_numbers) <= taken:
+                    pt.row_numbers = [r + taken for r in pt.row_numbers]   # no two records share page and row
+                taken = max([taken, *pt.row_numbers])
                 if pt.headings is None:
                     notes.append(f"page {page_no}: no heading row; read as a continuation of "
                                  f"the table from page {started[id(current)]}")

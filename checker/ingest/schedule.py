@@ -17,7 +17,7 @@ import pandas as pd
 
 from checker.ingest import limits
 from checker.ingest.errors import IngestError
-from checker.ingest.frame import attach_loads, build_frame, cells_of, coords_frame, read_loads
+from checker.ingest.frame import Defaults, attach_loads, build_frame, cells_of, coords_frame, read_loads
 from checker.ingest.headings import (LOAD_FIELDS, HeadingMatch, HeadingReport, count_known, match_headings,
                                      resolve_mapping)
 from checker.ingest.raw import RawTable
@@ -27,8 +27,8 @@ from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, r
 @dataclass
 class Schedule:
     caps: pd.DataFrame                  # canonical frame (DEVELOPERS.md), index 0..n-1
-    rejected: list[dict]                # [{"source": {"file","sheet","page","row"}, "errors": [...]}]
-    rows_read: int                      # == len(caps) + len(rejected) + case_rows
+    rejected: list[dict]                # [{"source": {"file","sheet","page","row"}, "mark": ..., "errors": [...]}]
+    rows_read: int                      # == len(caps) + len(rejected) + len(skipped) + case_rows
     matches: list[HeadingMatch]         # heading -> field matches (each distinct heading once)
     unmapped: list[str]                 # headings not used (each once)
     coords: pd.DataFrame | None         # mark, x, y [mm] for explicit pile groups
@@ -39,6 +39,10 @@ class Schedule:
     #: cap, the loads of its row
     cases: pd.DataFrame | None = None
     case_rows: int = 0                  # rows read that only add a load case to a cap read earlier
+
+    skipped: list[dict] = field(default_factory=list)    # [{"source": {...}, "reason": ..., "text": ...}]
+    problems: list[dict] = field(default_factory=list)   # of a whole table: [{"source": {...}, "errors": [...]}]
+    applied: list[list[str]] = field(default_factory=list)   # per cap: project-file values applied
 
 
 def _is_loads_table(table: RawTable, hmap: Any) -> bool:
@@ -96,7 +100,7 @@ def _coords_from(source: Any, hmap: Any) -> tuple[pd.DataFrame, dict[str, list[s
 
 def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
               cells: Sequence[pd.DataFrame] | None = None, max_rows: int | None = None,
-              loads: Any = None) -> Schedule:
+              loads: Any = None, defaults: Defaults | None = None) -> Schedule:
     schedule_tables: list[RawTable] = []
     schedule_cells: list[pd.DataFrame] = []
     coord_tables: list[RawTable] = []
@@ -132,9 +136,13 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
     parsed_loads = read_loads(load_tables, mapping=hmap) if load_tables else None
     res = build_frame(schedule_tables, mapping=hmap, coords=coord_df, coord_problems=problems,
                       cells=schedule_cells if cells is not None else None,
-                      load_marks=parsed_loads.marks if parsed_loads is not None else frozenset())
+                      load_marks=parsed_loads.marks if parsed_loads is not None else frozenset(),
+                      defaults=defaults)
     if parsed_loads is not None:
         attach_loads(res, parsed_loads)
+    skipped = [{"source": {"file": t.file, "sheet": t.sheet, "page": page, "row": row}, "reason": reason,
+                **({"text": text} if text else {})}
+               for t in schedule_tables for page, row, reason, text in t.skipped]
     matches: list[HeadingMatch] = []
     seen: set[tuple] = set()
     unmapped: list[str] = []
@@ -148,15 +156,17 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
             if u not in unmapped:
                 unmapped.append(u)
     notes.extend(n for n in res.notes if n not in notes)
-    return Schedule(caps=res.caps, rejected=res.rejected, rows_read=res.rows_read, matches=matches,
+    return Schedule(caps=res.caps, rejected=res.rejected, rows_read=res.rows_read + len(skipped), matches=matches,
                     unmapped=unmapped, coords=coord_df, notes=notes, tables=list(tables), reports=res.reports,
-                    cases=res.cases, case_rows=res.case_rows)
+                    cases=res.cases, case_rows=res.case_rows,
+                    skipped=skipped, problems=res.problems, applied=res.applied)
 
 
 def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
                   coords: str | Path | None = None, pdf_strategy: str = "auto",
                   max_pages: int | None = None, progress: Any = None,
-                  max_rows: int | None = None, loads: str | Path | None = None) -> Schedule:
+                  max_rows: int | None = None, loads: str | Path | None = None, sheet: str | None = None,
+                  defaults: Defaults | None = None) -> Schedule:
     """Read a pile cap schedule file.
 
     ``.csv``/``.txt`` and ``.xlsx``/``.xlsm`` are read by :mod:`checker.ingest.tabular`, ``.pdf`` by
@@ -166,6 +176,8 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
     limit of :mod:`checker.ingest.limits` applies.
     ``loads``: a loads table (.csv or .xlsx: mark, case, n_ed, mx_ed, my_ed, kind optional), one row per
     cap and load case; a workbook's own loads sheet is used when this is not given.
+    ``sheet``: the one sheet of a workbook to read (None: every sheet with schedule headings).
+    ``defaults``: the project file's values for blank cells (:func:`checker.ingest.frame.read_defaults`).
     ``mapping``: a TOML heading mapping file (see :mod:`checker.ingest.headings`). ``coords``: a CSV
     (or XLSX) of pile positions ``mark, x, y`` [mm from the column centre] for explicit groups; a
     workbook's own coordinates sheet is used when this is not given.
@@ -183,8 +195,10 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
     ext = p.suffix.lower()
     if ext in CSV_EXTENSIONS + XLSX_EXTENSIONS + (".pdf",):
         limits.check_file_size(p, name)
+    if sheet is not None and ext not in XLSX_EXTENSIONS:
+        raise IngestError(f"{name}: --sheet {sheet} chooses a sheet of a workbook (.xlsx, .xlsm); this file has none")
     if ext in CSV_EXTENSIONS + XLSX_EXTENSIONS:
-        tables, notes = read_tabular(path, mapping=hmap, max_rows=max_rows)
+        tables, notes = read_tabular(path, mapping=hmap, max_rows=max_rows, sheet=sheet)
     elif ext == ".pdf":
         from checker.ingest.pdf import read_pdf_tables
 
@@ -196,11 +210,12 @@ def read_schedule(path: str | os.PathLike, *, mapping: str | Path | None = None,
     else:
         raise IngestError(f"{name}: unknown file type {ext or '(no extension)'!r}; capcheck reads .csv, .txt, "
                           ".xlsx, .xlsm and .pdf")
-    return _assemble(list(tables), list(notes), hmap, coords, max_rows=max_rows, loads=loads)
+    return _assemble(list(tables), list(notes), hmap, coords, max_rows=max_rows, loads=loads, defaults=defaults)
 
 
 def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mapping: Any = None,
-                        coords: Any = None, max_rows: int | None = None, loads: Any = None) -> Schedule:
+                        coords: Any = None, max_rows: int | None = None, loads: Any = None,
+                        defaults: Defaults | None = None) -> Schedule:
     """Read a DataFrame whose columns are schedule headings as written (canonical names also map).
 
     Cells are read like spreadsheet cells, in the input units of the brief unless a heading says
@@ -219,7 +234,7 @@ def schedule_from_frame(df: pd.DataFrame, *, source: str = "<dataframe>", mappin
     if isinstance(loads, pd.DataFrame):
         lgrid = loads.set_axis(range(loads.shape[1]), axis=1)
         loads = [_FrameTable(lgrid, "<loads>", ["" if c is None else str(c) for c in loads.columns])]
-    return _assemble([table], [], hmap, coords, cells=[grid], max_rows=max_rows, loads=loads)
+    return _assemble([table], [], hmap, coords, cells=[grid], max_rows=max_rows, loads=loads, defaults=defaults)
 
 
 class _FrameTable(RawTable):

@@ -3,14 +3,15 @@
 Finding the table in a sheet:
 
 * the heading row is the first row (of the first :data:`HEADING_SCAN` rows) in which at least
-  :data:`MIN_KNOWN` cells map to known fields; title and note rows above it are skipped;
-* a second heading row directly under it is joined onto it when it holds no figures and is either a
-  unit row (``(mm)``, ``kN``) or labels that make more headings map (``Bottom bars`` over ``X | Y``,
-  the group heading spread over the blank cells of a merged heading);
-* blank rows inside the table are spacers and skipped; a blank row followed by something that is not
-  a data row (a row with fewer than :data:`MIN_KNOWN` filled cells under mapped headings: notes, a
-  key, a signature block) ends the table, as does a row that starts with 'Notes' and has at most two
-  filled cells; a repeat of the heading row is skipped.
+  :data:`MIN_KNOWN` cells map to known fields; title and project rows above it are skipped;
+* a group row directly above it, and up to two rows under it (labels under merged group headings,
+  then a units row such as ``(mm)``, ``kN``), are joined onto it when more headings map
+  (:func:`_heading_block`);
+* the table runs to the end of the sheet: blank rows and section labels (one or two text cells, no
+  figures: ``GRID D-F``) between caps are skipped and noted; a repeated heading row, a row hidden in
+  the workbook or struck through is skipped with its reason (``RawTable.skipped``); the table ends at
+  a notes row, a totals row or a revision box, or, after a blank row, at a row that fills fewer than
+  :data:`MIN_KNOWN` mapped columns. A further heading row below starts another table.
 
 Row numbers are the spreadsheet's (1-based, the heading row counted) so that a user finds the row.
 """
@@ -22,14 +23,15 @@ import io
 import os
 import re
 import zipfile
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterator, Sequence
 
 from checker.ingest import limits
 from checker.ingest.errors import IngestError
-from checker.ingest.headings import HeadingMap, count_known, match_headings, resolve_mapping
+from checker.ingest.headings import HeadingMap, count_known, match_heading, match_headings, resolve_mapping
 from checker.ingest.notation import clean_text, normalise_unit, parse_quantity
-from checker.ingest.raw import RawTable
+from checker.ingest.raw import FormulaCell, RawTable
 
 CSV_EXTENSIONS = (".csv", ".txt", ".tsv")
 XLSX_EXTENSIONS = (".xlsx", ".xlsm")
@@ -105,9 +107,21 @@ def find_heading_row(rows: Sequence[Sequence[Any]], vocabulary: str = "schedule"
     return None
 
 
+def _singular(text: str) -> str:
+    """'PILES' -> 'PILE' (a group heading read as the element it names), else the text."""
+    t = text.rstrip()
+    return t[:-1] if len(t) > 3 and t[-1:] in "sS" and t[-2:-1] not in "sS" else text
+
+
 def _join_headings(head: Sequence[Any], below: Sequence[Any], vocabulary: str,
-                   mapping: HeadingMap | None) -> list[str] | None:
-    """The two rows joined into one heading row, or None when ``below`` is not part of the heading."""
+                   mapping: HeadingMap | None, above: bool = False) -> list[str] | None:
+    """The two rows joined into one heading row, or None when ``below`` is not part of the heading.
+
+    ``below`` is a units row (its units are appended in brackets), or labels under a group heading:
+    the group heading spreads right over the blank (merged) cells, and each column takes the first
+    of 'group label', 'group (singular) label', 'label alone' that maps to a field (so 'PILES' over
+    'Dia' is 'PILE Dia', 'ULS DESIGN ACTIONS' over 'NEd' is 'NEd'). Accepted only when more
+    headings map than before."""
     filled = _filled(below)
     if not filled or any(_is_figure(below[i]) for i in filled):
         return None
@@ -115,70 +129,170 @@ def _join_headings(head: Sequence[Any], below: Sequence[Any], vocabulary: str,
     h = [_text(head[i]) if i < len(head) else "" for i in range(n)]
     b = [_text(below[i]) if i < len(below) else "" for i in range(n)]
     units_only = all(_is_unit_cell(b[i]) for i in filled)
+    if units_only:
+        return [" ".join(x for x in (h[i], f"({b[i]})" if b[i] and not b[i].startswith(("(", "[")) else b[i])
+                         if x) for i in range(n)]
     # a group heading over blank (merged) cells spreads right over the labels below it
     spread = list(h)
     for i in range(1, n):
         if not spread[i] and b[i] and not h[i] and spread[i - 1] and b[i - 1]:
             spread[i] = spread[i - 1]
-    joined = [" ".join(x for x in (spread[i], b[i]) if x) for i in range(n)]
-    if units_only:
-        return [" ".join(x for x in (h[i], f"({b[i]})" if b[i] and not b[i].startswith(("(", "[")) else b[i])
-                         if x) for i in range(n)]
-    before = match_headings(h, mapping, vocabulary)
+    joined = []
+    for i in range(n):
+        if not b[i] or not spread[i]:
+            joined.append(spread[i] or b[i])
+            continue
+        candidates = [f"{spread[i]} {b[i]}", f"{_singular(spread[i])} {b[i]}", b[i]]
+        pick = next((c for c in candidates if match_heading(c, vocabulary, mapping)[0] is not None),
+                    candidates[0] if match_heading(b[i], vocabulary, mapping)[0] is None and
+                    match_heading(spread[i], vocabulary, mapping)[0] is not None else b[i])
+        joined.append(pick)
+    before = match_headings(h if not above else b, mapping, vocabulary)
     after = match_headings(joined, mapping, vocabulary)
     if len(after.matches) > len(before.matches):
         return joined
     return None
 
 
-def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, file: str,
-                 sheet: str | None = None, vocabulary: str = "schedule",
-                 mapping: HeadingMap | None = None, head_index: int | None = None
-                 ) -> tuple[RawTable | None, list[str]]:
-    """(the table in a grid of cells, notes) - see the module docstring; (None, []) without a heading row."""
+#: the first cell of a row that ends the table: totals, a revision box, a title block's signature lines
+_END_RE = re.compile(r"^\s*(?:(?:sub-?\s*)?totals?\b|grand\s+total\b|rev(?:ision)?s?\.?\s*(?:no\.?)?\s*:?\s*$|"
+                     r"revision\s+(?:history|box|table)\b|amendments?\s*:?\s*$|(?:drawn|checked|approved|"
+                     r"designed)(?:\s+by)?\s*:?\s*$|(?:drawn|checked|approved|designed)\s+by\b)",
+                     re.IGNORECASE)
+
+
+def _heading_block(rows: Sequence[Sequence[Any]], head_index: int, vocabulary: str,
+                   mapping: HeadingMap | None) -> tuple[list[str], list[int]]:
+    """(the headings, the indices of the rows they were read from): the heading row, a group
+    heading row directly above it when it makes more headings map, and up to two rows under it
+    (labels under a group heading, then a units row)."""
+    used = [head_index]
+    headings = [_text(v) for v in rows[head_index]]
+    above = head_index - 1
+    if above >= 0 and not _blank_row(rows[above]) and not _notes_row(list(rows[above])):
+        joined = _join_headings(rows[above], rows[head_index], vocabulary, mapping, above=True)
+        if joined is not None and not all(_is_unit_cell(c) for c in rows[head_index]):
+            headings = joined
+            used.insert(0, above)
+    j = head_index + 1
+    while j < len(rows) and j <= head_index + 2:
+        if _blank_row(rows[j]):
+            break
+        joined = _join_headings(headings, rows[j], vocabulary, mapping)
+        if joined is None:
+            break
+        headings = joined
+        used.append(j)
+        units = all(_is_unit_cell(c) for c in rows[j])
+        j += 1
+        if units:
+            break
+    return headings, used
+
+
+def _first_text(row: Sequence[Any]) -> str:
+    filled = _filled(row)
+    return _text(row[filled[0]])[:80] if filled else ""
+
+
+def locate_tables(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, file: str,
+                  sheet: str | None = None, vocabulary: str = "schedule",
+                  mapping: HeadingMap | None = None, head_index: int | None = None,
+                  skip_rows: dict[int, str] | None = None, hidden_columns: set[int] | None = None,
+                  ) -> tuple[list[RawTable], list[str]]:
+    """(the tables in a grid of cells, notes) - see the module docstring; ([], []) without a heading row.
+
+    ``skip_rows``: row number -> reason for rows not to read as caps (hidden, struck through);
+    ``hidden_columns``: 0-based positions of hidden columns (a hidden column whose heading maps to
+    the same field as a visible one is not used)."""
     notes: list[str] = []
+    tables: list[RawTable] = []
+    skip_rows = skip_rows or {}
+    where = f'sheet "{sheet}", ' if sheet else ""
     if head_index is None:
         head_index = find_heading_row(rows, vocabulary, mapping)
-    if head_index is None:
-        return None, notes
-    head = list(rows[head_index])
-    start = head_index + 1
-    joined = _join_headings(head, rows[start], vocabulary, mapping) if start < len(rows) else None
-    if joined is not None:
-        headings = joined
-        start += 1
-    else:
-        headings = [_text(v) for v in head]
+    base = 0
+    while head_index is not None:
+        table, end = _one_table(rows, row_numbers, file=file, sheet=sheet, vocabulary=vocabulary,
+                                mapping=mapping, head_index=head_index, skip_rows=skip_rows,
+                                hidden_columns=hidden_columns or set(), notes=notes)
+        tables.append(table)
+        if end is None or end >= len(rows):
+            break
+        nxt = find_heading_row(rows[end:], vocabulary, mapping, limit=len(rows))
+        if nxt is None:
+            _note_rows_after(rows, row_numbers, end, _mapped(table, mapping, vocabulary), notes, file, sheet)
+            break
+        notes.append(f"{file}: {where}a second table starts at row {int(row_numbers[end + nxt])}; read as well")
+        head_index = end + nxt
+        base += 1
+    return tables, notes
+
+
+def _mapped(table: RawTable, mapping: HeadingMap | None, vocabulary: str) -> set[int]:
+    return {m.column for m in match_headings(table.headings, mapping, vocabulary).matches}
+
+
+def _one_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, file: str, sheet: str | None,
+               vocabulary: str, mapping: HeadingMap | None, head_index: int, skip_rows: dict[int, str],
+               hidden_columns: set[int], notes: list[str]) -> tuple[RawTable, int | None]:
+    """One table from its heading row; (the table, the index of the row that ended it or None)."""
+    where = f'sheet "{sheet}", ' if sheet else ""
+    headings, used = _heading_block(rows, head_index, vocabulary, mapping)
+    headings = _hide_duplicate_columns(headings, hidden_columns, vocabulary, mapping, notes, file, where)
+    head_rows = [list(rows[k]) for k in used]
+    start = used[-1] + 1
     report = match_headings(headings, mapping, vocabulary)
     mapped_cols = {m.column for m in report.matches}
-    head_raw = list(head)
     data: list[list[Any]] = []
     numbers: list[int] = []
+    skipped: list[tuple[int | None, int, str, str]] = []
+    blanks: list[int] = []
+    end: int | None = None
     i = start
     n_rows = len(rows)
+    after_blank = False
     while i < n_rows:
         row = rows[i]
+        number = int(row_numbers[i])
         if _blank_row(row):
-            j = i + 1
-            while j < n_rows and _blank_row(rows[j]):
-                j += 1
-            if j >= n_rows:
-                break
-            nxt = rows[j]
-            if sum(1 for c in _filled(nxt) if c in mapped_cols) < MIN_KNOWN or _notes_row(nxt):
-                _note_rows_after(rows, row_numbers, j, mapped_cols, notes, file, sheet)
-                break
-            i = j
+            after_blank = True
+            if data:
+                blanks.append(number)
+            i += 1
             continue
-        if _notes_row(row):
-            _note_rows_after(rows, row_numbers, i, mapped_cols, notes, file, sheet)
+        if not isinstance(row, list):
+            row = list(row)
+        first = _first_text(row)
+        if _notes_row(row) or _END_RE.match(first):
+            end = i
             break
-        if row == head_raw:
-            i += 1                                   # the heading row repeated
-            continue
-        data.append(row if isinstance(row, list) else list(row))
-        numbers.append(int(row_numbers[i]))
+        reason = skip_rows.get(number)
+        if reason is not None:
+            skipped.append((None, number, reason, first))
+        elif row in head_rows:
+            skipped.append((None, number, "the heading row repeated", first))
+        elif len(row) - _n_empty(row) <= 2 and not any(_is_figure(row[c]) for c in _filled(row)) and \
+                sum(1 for c in _filled(row) if c in mapped_cols) < 2:   # mark + case: a load-case row
+            skipped.append((None, number, "a section label or note (one or two text cells, no figures)", first))
+        elif after_blank and sum(1 for c in _filled(row) if c in mapped_cols) < MIN_KNOWN:
+            end = i                                   # after a blank row, something that is not a cap
+            break
+        else:
+            data.append(row)
+            numbers.append(number)
+        after_blank = False
         i += 1
+    # blank rows between caps (not those after the last one) are spacers; text rows after the last
+    # cap are the notes under the table, not section labels
+    last = numbers[-1] if numbers else -1
+    skipped = [t for t in skipped if t[1] < last or not t[2].startswith("a section label")]
+    inside = [b for b in blanks if b < last]
+    if inside:
+        shown = ", ".join(map(str, inside[:8])) + (" ..." if len(inside) > 8 else "")
+        notes.append(f"{file}: {where}blank row(s) inside the table skipped (row {shown})")
+    for page, number, reason, first in skipped:
+        notes.append(f"{file}: {where}row {number} skipped: {reason}" + (f" ({first!r})" if first else ""))
     # the table's width: the last column with a heading or a filled cell
     width = max([len(headings)] + list(map(len, data)))
     while width and not (width <= len(headings) and headings[width - 1]) and \
@@ -187,19 +301,59 @@ def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, f
     headings = (headings + [""] * width)[:width]
     data = [r if len(r) == width else (r + [None] * (width - len(r)))[:width] for r in data]
     table = RawTable(file=file, sheet=sheet, headings=headings, rows=data, pages=[None] * len(data),
-                     row_numbers=numbers)
-    return table, notes
+                     row_numbers=numbers, skipped=skipped, heading_row=int(row_numbers[used[-1]]))
+    return table, end
+
+
+def _hide_duplicate_columns(headings: list[str], hidden: set[int], vocabulary: str, mapping: HeadingMap | None,
+                            notes: list[str], file: str, where: str) -> list[str]:
+    """A hidden column whose heading maps to the same field as a visible column is not used (the
+    visible one is); a hidden column that is the only one for its field is read, with a note."""
+    if not hidden:
+        return headings
+    from openpyxl.utils import get_column_letter
+
+    fields: dict[int, str | None] = {i: match_heading(h, vocabulary, mapping)[0] if h else None
+                                     for i, h in enumerate(headings)}
+    visible = {f for i, f in fields.items() if f and i not in hidden}
+    out = list(headings)
+    for i in sorted(hidden):
+        if i >= len(headings) or not headings[i]:
+            continue
+        letter = get_column_letter(i + 1)
+        if fields.get(i) and fields[i] in visible:
+            notes.append(f"{file}: {where}hidden column {letter} {headings[i]!r} not used: a visible column "
+                         f"has the same heading ({fields[i]})")
+            out[i] = f"{headings[i]} [hidden column, not used]"
+        else:
+            notes.append(f"{file}: {where}column {letter} {headings[i]!r} is hidden in the workbook; read")
+    return out
+
+
+def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, file: str,
+                 sheet: str | None = None, vocabulary: str = "schedule",
+                 mapping: HeadingMap | None = None, head_index: int | None = None
+                 ) -> tuple[RawTable | None, list[str]]:
+    """The first table of :func:`locate_tables` (None without a heading row), and the notes."""
+    tables, notes = locate_tables(rows, row_numbers, file=file, sheet=sheet, vocabulary=vocabulary,
+                                  mapping=mapping, head_index=head_index)
+    return (tables[0] if tables else None), notes
 
 
 def _note_rows_after(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], stop: int, mapped_cols: set[int],
                      notes: list[str], file: str, sheet: str | None) -> None:
     """The table ended at ``stop``; say so if rows further down look like schedule rows."""
-    later = [int(row_numbers[k]) for k in range(stop + 1, len(rows))
-             if sum(1 for c in _filled(rows[k]) if c in mapped_cols) >= MIN_KNOWN]
+    later = []
+    for k in range(stop + 1, len(rows)):
+        first = _first_text(rows[k])
+        if _END_RE.match(first) and not re.match(r"\s*(?:sub-?\s*)?totals?\b|\s*grand", first, re.IGNORECASE):
+            break                           # a revision box or signature block: the sheet's end matter
+        if sum(1 for c in _filled(rows[k]) if c in mapped_cols) >= MIN_KNOWN:
+            later.append(int(row_numbers[k]))
     if later:
         where = f'sheet "{sheet}", ' if sheet else ""
-        notes.append(f"{file}: {where}the table ends at row {int(row_numbers[stop])} (notes or a blank row); "
-                     f"{len(later)} row(s) below that look like schedule rows were not read "
+        notes.append(f"{file}: {where}the table ends at row {int(row_numbers[stop])} (notes, totals or a "
+                     f"revision box); {len(later)} row(s) below that look like schedule rows were not read "
                      f"(rows {later[0]} to {later[-1]})")
 
 
@@ -361,10 +515,10 @@ def read_csv(path: str | os.PathLike, *, mapping: Any = None, vocabulary: str = 
     delimiter = sniff_delimiter(text, name, hmap, vocabulary)
     rows, numbers = _parse_csv(text, delimiter, name, max_rows=max_rows)   # blank cells stay ''
     del text
-    table, more = locate_table(rows, numbers, file=name, vocabulary=vocabulary, mapping=hmap)
-    if table is None:
+    tables, more = locate_tables(rows, numbers, file=name, vocabulary=vocabulary, mapping=hmap)
+    if not tables:
         raise IngestError(_no_heading_message(name, rows, vocabulary))
-    return [table], notes + more
+    return tables, notes + more
 
 
 def _no_heading_message(name: str, rows: Sequence[Sequence[Any]], vocabulary: str,
@@ -496,29 +650,127 @@ def _open_workbook(path: str | os.PathLike, name: str) -> Any:
         raise IngestError(f"{name}: cannot read the workbook ({type(exc).__name__}: {exc})") from None
 
 
-def _sheet_rows(ws: Any) -> Iterator[tuple[Any, ...]]:
-    """The rows of a sheet from row 1, each as long as its last cell. The dimensions a sheet
-    declares are dropped first: a sheet may claim A1:XFD1048576 and hold one cell, and openpyxl
-    would pad every row (and the rows up to the claimed last one) to the claimed size."""
-    if hasattr(ws, "reset_dimensions"):
-        ws.reset_dimensions()
-    yield from ws.iter_rows(min_row=1, values_only=True)
+@dataclass
+class SheetMarks:
+    """What a sheet shows differently from what it holds: hidden rows and columns, rows whose
+    filled cells are all struck through (row number -> count), and rows with some struck cells."""
+
+    hidden_rows: set[int] = field(default_factory=set)
+    hidden_columns: set[int] = field(default_factory=set)        # 0-based
+    struck_rows: set[int] = field(default_factory=set)
+    partly_struck: dict[int, int] = field(default_factory=dict)
+
+    def skip_rows(self) -> dict[int, str]:
+        out = {r: "struck through (read as deleted)" for r in self.struck_rows}
+        out.update({r: "hidden in the workbook" for r in self.hidden_rows})
+        return out
+
+
+def _struck_styles(wb: Any) -> set[int]:
+    """Indices of the workbook's cell formats whose font is struck through."""
+    try:
+        fonts = wb._fonts
+        return {i for i, st in enumerate(wb._cell_styles) if getattr(fonts[st.fontId], "strike", False)}
+    except Exception:                     # pragma: no cover - a workbook without styles
+        return set()
+
+
+def _sheet_rows(ws: Any, marks: SheetMarks | None = None) -> Iterator[tuple[Any, ...]]:
+    """The rows of a sheet from row 1, each as long as its last cell.
+
+    The sheet's XML is parsed with openpyxl's own worksheet parser (as its read-only sheets do), so
+    that the rows and columns marked hidden, the cells whose font is struck through and the formulas
+    saved without a calculated value (:class:`~checker.ingest.raw.FormulaCell`) are known too. The
+    dimensions a sheet declares are not used: a sheet may claim A1:XFD1048576 and hold one cell."""
+    try:
+        from openpyxl.worksheet._reader import FORMULA_TAG, WorkSheetParser
+
+        wb = ws.parent
+        source = ws._get_source()
+    except Exception:                     # pragma: no cover - not a read-only worksheet
+        if hasattr(ws, "reset_dimensions"):
+            ws.reset_dimensions()
+        yield from ws.iter_rows(min_row=1, values_only=True)
+        return
+
+    class _Parser(WorkSheetParser):
+        def parse_cell(self, element: Any) -> dict:
+            d = super().parse_cell(element)
+            if d["value"] is None:
+                f = element.find(FORMULA_TAG)
+                if f is not None:
+                    d["value"] = FormulaCell("=" + (f.text or ""))
+            return d
+
+    marks = marks if marks is not None else SheetMarks()
+    struck = _struck_styles(wb)
+    with source as src:
+        parser = _Parser(src, ws._shared_strings, data_only=True, epoch=wb.epoch,
+                         date_formats=wb._date_formats, timedelta_formats=wb._timedelta_formats)
+        expected = 1
+        cols_done = False
+        for idx, cells in parser.parse():
+            if not cols_done:
+                cols_done = True
+                for attrs in parser.column_dimensions.values():
+                    if str(attrs.get("hidden", "")).lower() in ("1", "true"):
+                        try:
+                            lo, hi = int(attrs.get("min", 0)), int(attrs.get("max", 0))
+                        except ValueError:
+                            continue
+                        marks.hidden_columns.update(range(max(lo, 1) - 1, min(hi, limits.MAX_COLUMNS * 4)))
+            while expected < idx:
+                expected += 1
+                yield ()
+            dims = parser.row_dimensions.pop(str(idx), None)
+            if dims and str(dims.get("hidden", "")).lower() in ("1", "true"):
+                marks.hidden_rows.add(idx)
+            if not cells:
+                yield ()
+                expected = idx + 1
+                continue
+            vals: list[Any] = [None] * cells[-1]["column"]
+            n_struck = n_filled = 0
+            for c in cells:
+                v = c["value"]
+                col = c["column"]
+                if col > len(vals):
+                    vals.extend([None] * (col - len(vals)))
+                vals[col - 1] = v
+                if struck and v is not None and v != "":
+                    n_filled += 1
+                    if c["style_id"] in struck:
+                        n_struck += 1
+            if n_struck:
+                if n_struck == n_filled:
+                    marks.struck_rows.add(idx)
+                else:
+                    marks.partly_struck[idx] = n_struck
+            expected = idx + 1
+            yield tuple(vals)
+
+
+def _sheet_names(wb: Any) -> list[str]:
+    return [ws.title for ws in wb.worksheets]
 
 
 def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
-              max_rows: int | None = None) -> tuple[list[RawTable], list[str]]:
+              max_rows: int | None = None, sheet: str | None = None) -> tuple[list[RawTable], list[str]]:
     """An XLSX/XLSM workbook -> (tables, notes).
 
-    The schedule is the first visible sheet with a schedule heading row; the first sheet whose
-    headings are ``mark, x, y`` (pile coordinates of explicit groups) is returned after it as the
-    coordinates table. Other sheets are skipped with a note. The archive is checked before it is
-    opened (:func:`precheck_xlsx`) and rows are read within the limits (:func:`bounded_rows`).
+    Every visible sheet with a schedule heading row is read (each table names its sheet), unless
+    ``sheet`` names the one to read; the first sheet whose headings are ``mark, x, y`` (pile
+    coordinates of explicit groups) is returned after them as the coordinates table. Other sheets
+    are skipped with a note. Rows hidden in the workbook and rows whose cells are all struck
+    through are not read as caps (each is reported with its reason); a hidden column is used only
+    where no visible column has its field. The archive is checked before it is opened
+    (:func:`precheck_xlsx`) and rows are read within the limits (:func:`bounded_rows`).
     """
     name = _name(path)
     hmap = resolve_mapping(mapping)
     wb = _open_workbook(path, name)
     notes: list[str] = []
-    schedule: RawTable | None = None
+    schedules: list[RawTable] = []
     coords: RawTable | None = None
     loads: RawTable | None = None
     first_rows: list[list[Any]] = []
@@ -527,13 +779,17 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
         if not sheets:
             raise IngestError(f"{name}: the workbook has no worksheets")
         limits.check_sheets(len(sheets), name)
+        if sheet is not None and sheet not in _sheet_names(wb):
+            raise IngestError(f"{name}: no sheet named {sheet!r}; the sheets are "
+                              + ", ".join(repr(t) for t in _sheet_names(wb)))
         for ws in sheets:
             title = ws.title
-            if getattr(ws, "sheet_state", "visible") != "visible":
+            if getattr(ws, "sheet_state", "visible") != "visible" and title != sheet:
                 notes.append(f'sheet "{title}" skipped: hidden')
                 continue
+            marks = SheetMarks()
             try:
-                it = bounded_rows(_sheet_rows(ws), name, where=f', sheet "{title}"', max_rows=max_rows)
+                it = bounded_rows(_sheet_rows(ws, marks), name, where=f', sheet "{title}"', max_rows=max_rows)
                 rows: list[list[Any]] = []
                 numbers: list[int] = []
                 for number, row in it:
@@ -550,12 +806,16 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
                     idx = find_heading_row(rows, "coords", hmap)
                     kind = "coords" if idx is not None else None
                 if kind is None:
+                    if sheet is not None and title == sheet:
+                        raise IngestError(_no_heading_message(name, rows, "schedule", f', sheet "{title}"'))
                     notes.append(f'sheet "{title}" skipped: no schedule headings')
                     continue
                 if kind == "schedule" and _loads_headings(rows[idx], hmap):
                     kind = "loads"                  # mark, case and loads only: a loads table (issue 11)
-                if (kind == "schedule" and schedule is not None) or (kind == "coords" and coords is not None) or \
-                        (kind == "loads" and loads is not None):
+                if kind == "schedule" and sheet is not None and title != sheet:
+                    notes.append(f'sheet "{title}" skipped: --sheet {sheet} chooses the schedule')
+                    continue
+                if (kind == "coords" and coords is not None) or (kind == "loads" and loads is not None):
                     notes.append(f'sheet "{title}" skipped: the {kind} was read from an earlier sheet')
                     continue
                 for number, row in it:
@@ -567,20 +827,26 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
                 if _defused_error(exc):
                     raise _xml_refused(name, f'sheet "{title}"') from None
                 raise IngestError(f'{name}: sheet "{title}" cannot be read ({type(exc).__name__}: {exc})') from None
-            table, more = locate_table(rows, numbers, file=name, sheet=title,
-                                       vocabulary=kind, mapping=hmap, head_index=idx)
+            for r, k in sorted(marks.partly_struck.items()):
+                notes.append(f'{name}: sheet "{title}", row {r}: {k} cell(s) struck through; read as written')
+            tables, more = locate_tables(rows, numbers, file=name, sheet=title, vocabulary=kind, mapping=hmap,
+                                         head_index=idx, skip_rows=marks.skip_rows(),
+                                         hidden_columns=marks.hidden_columns)
             notes.extend(more)
             if kind == "schedule":
-                schedule = table
+                schedules.extend(tables)
             elif kind == "loads":
-                loads = table
+                loads = tables[0]
             else:
-                coords = table
+                coords = tables[0]
     finally:
         wb.close()
-    if schedule is None:
+    if not schedules:
         raise IngestError(_no_heading_message(name, first_rows, "schedule", " (any sheet)"))
-    return [t for t in (schedule, coords, loads) if t is not None], notes
+    if len({t.sheet for t in schedules}) > 1:
+        notes.append(f"{name}: schedule read from the sheets " + ", ".join(
+            dict.fromkeys(f'"{t.sheet}"' for t in schedules)) + " (choose one with --sheet NAME)")
+    return schedules + [t for t in (coords, loads) if t is not None], notes
 
 
 def _loads_headings(row: Sequence[Any], hmap: Any) -> bool:
@@ -591,12 +857,12 @@ def _loads_headings(row: Sequence[Any], hmap: Any) -> bool:
 
 
 def read_tabular(path: str | os.PathLike, *, mapping: Any = None,
-                 max_rows: int | None = None) -> tuple[list[RawTable], list[str]]:
+                 max_rows: int | None = None, sheet: str | None = None) -> tuple[list[RawTable], list[str]]:
     """Dispatch on the extension: ``.csv``/``.txt`` -> :func:`read_csv`, ``.xlsx``/``.xlsm`` -> :func:`read_xlsx`."""
     ext = Path(path).suffix.lower()
     if ext in CSV_EXTENSIONS:
         return read_csv(path, mapping=mapping, max_rows=max_rows)
     if ext in XLSX_EXTENSIONS:
-        return read_xlsx(path, mapping=mapping, max_rows=max_rows)
+        return read_xlsx(path, mapping=mapping, max_rows=max_rows, sheet=sheet)
     raise IngestError(f"{_name(path)}: unknown file type {ext or '(none)'!r}; capcheck reads .csv, .xlsx, "
                       ".xlsm and .pdf")

@@ -69,14 +69,21 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
             "rows_read": int(review.rows_read),
             "caps_checked": int(len(review.caps)),
             "rows_rejected": int(len(review.rejected)),
+            "rows_skipped": int(len(getattr(review, "skipped", None) or [])),
             "findings": count_by_severity(f) if len(f) else {
                 "unsafe": 0, "non-compliant": 0, "query": 0, "advisory": 0},
             **(review.case_summary() if hasattr(review, "case_summary") else {}),
         },
         "results": results,
         "rejected": [
-            {"source": r["source"], "errors": list(r["errors"])} for r in review.rejected
+            {"source": r["source"], **({"mark": r["mark"]} if r.get("mark") else {}), "errors": list(r["errors"])}
+            for r in review.rejected
         ],
+        "skipped": [dict(r) for r in getattr(review, "skipped", None) or []],
+        "table_problems": [{"source": p["source"], "errors": list(p["errors"])}
+                           for p in getattr(review, "table_problems", None) or []],
+        "unused_headings": list(getattr(review, "unused_headings", None) or []),
+        "notes": list(review.notes or []),
     }
 
 

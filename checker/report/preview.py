@@ -41,7 +41,10 @@ def print_preview(args, out: Console, err: Console) -> int:
     from checker.cli import EXIT_OK, EXIT_UNREADABLE
     from checker.ingest.schedule import read_schedule
 
-    kwargs = {"mapping": args.mapping, "coords": args.coords, "max_rows": args.max_rows}
+    from checker.cli import _project_defaults
+
+    kwargs = {"mapping": args.mapping, "coords": args.coords, "max_rows": args.max_rows,
+              "sheet": getattr(args, "sheet", None), "defaults": _project_defaults(args)}
     if str(args.file).lower().endswith(".pdf"):
         kwargs.update(pdf_strategy=args.pdf_strategy, max_pages=args.max_pages)
     sched = read_schedule(args.file, **kwargs)
@@ -86,14 +89,18 @@ def print_preview(args, out: Console, err: Console) -> int:
             if f in caps.columns and f != "mark":
                 t.add_row(f + (f" [{u}]" if u else ""), *[_cell(r.get(f), s) for r in head])
         out.print(t)
+    for p in sched.problems:
+        out.print(Text(f"\nTable problem ({describe_source(p['source'])}, heading row): ", style="bold red")
+                  + Text("; ".join(p["errors"])))
     if sched.rejected:
         out.print(Text(f"\n{len(sched.rejected)} row(s) cannot be read:", style="bold red"))
         for r in sched.rejected:
-            out.print(Text(f"  {describe_source(r['source'])}: ", style="bold") + Text("; ".join(r["errors"])))
+            mark = f" {r['mark']}" if r.get("mark") else ""
+            out.print(Text(f"  {describe_source(r['source'])}{mark}: ", style="bold") + Text("; ".join(r["errors"])))
     shown = {note for rep in (sched.reports or []) for note in rep.notes}
     for note in sched.notes:
         if note not in shown:
             out.print(Text(f"note: {note}", style="dim"))
-    out.print(Text(f"\n{sched.rows_read} rows read: {len(caps)} caps to check, {len(sched.rejected)} rejected.",
-                   style="bold"))
+    out.print(Text(f"\n{sched.rows_read} rows read: {len(caps)} caps to check, {len(sched.rejected)} rejected, "
+                   f"{len(sched.skipped)} skipped (each named in a note).", style="bold"))
     return EXIT_OK if len(caps) else EXIT_UNREADABLE

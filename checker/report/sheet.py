@@ -88,8 +88,8 @@ ALL_CHECKS_HEADINGS: tuple[str, ...] = (
 )
 ALL_CHECKS_WIDTHS = (10, 18, 26, 14, 16, 10, 10, 7, 11, 48, 36, 14, 10)
 
-REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Reasons")
-REJECTED_WIDTHS = (30, 14, 7, 7, 80)
+REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Mark", "Reasons")
+REJECTED_WIDTHS = (30, 14, 7, 7, 12, 80)
 
 ALL_CHECKS_MAX_ROWS = 100_000   # beyond this the sheet keeps the worst results and says so (XLSX
                                 # holds 1,048,576 rows; a sheet this long is a record, not a read)
@@ -445,7 +445,7 @@ def _rejected_sheet(ws: Worksheet, rejected: list[dict[str, Any]], meta: dict[st
     for rej in rejected:
         src = rej.get("source") or {}
         errors = rej.get("errors") or []
-        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"),
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), rej.get("mark") or "",
                   "\n".join(str(e) for e in errors)]
         for col, v in enumerate(values, start=1):
             styles.apply(_put(ws, row, col, v), "body")

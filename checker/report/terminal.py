@@ -87,7 +87,9 @@ def print_findings(review, console: Console, *, show_ok: bool = False) -> None:
             ("capcheck ", "bold"),
             (f"{review.submission}", "bold cyan"),
             (f"  profile {review.profile_name}  ", "dim"),
-            (f"{len(review.caps)} caps checked, {len(review.rejected)} rows rejected of {review.rows_read} read", ""),
+            (f"{len(review.caps)} caps checked, {len(review.rejected)} rows rejected"
+             + (f", {len(review.skipped)} skipped" if getattr(review, "skipped", None) else "")
+             + f" of {review.rows_read} read", ""),
         )
     )
     print_caution(console)
@@ -108,12 +110,20 @@ def print_findings(review, console: Console, *, show_ok: bool = False) -> None:
             shown = g if show_ok else g[g["severity"] != "ok"]
             for row in shown.to_dict("records"):
                 console.print(_finding_block(row))
+    for p in getattr(review, "table_problems", None) or []:
+        where = describe_source(p["source"]) or "?"
+        console.print(Text(f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): ", style="bold red")
+                      + Text("; ".join(p["errors"])))
     if review.rejected:
         console.print(Text("\nRows not checked", style="bold red"))
         for r in review.rejected:
             where = describe_source(r["source"]) or "?"
-            console.print(Text(f"  {r['source'].get('file') or ''} {where}: ", style="bold") +
+            mark = f" {r['mark']}" if r.get("mark") else ""
+            console.print(Text(f"  {r['source'].get('file') or ''} {where}{mark}: ", style="bold") +
                           Text("; ".join(r["errors"])))
+    unused = getattr(review, "unused_headings", None) or []
+    if unused:
+        console.print(Text("Headings not used: ", style="yellow") + Text(", ".join(repr(u) for u in unused)))
     for note in review.notes:
         console.print(Text(f"note: {note}", style="dim"))
     print_summary(review, console)

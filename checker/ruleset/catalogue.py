@@ -35,12 +35,14 @@ FIELDS: dict[str, tuple[str, str]] = {
     "stated_tie_y": ("N", "designer's tie force along y"),
     "stated_as_x": ("mm²", "designer's steel required along x"),
     "stated_as_y": ("mm²", "designer's steel required along y"),
+    "stated_d": ("mm", "designer's effective depth"),
 }
 
 DERIVED: dict[str, tuple[str, str]] = {
     "n_piles": ("count", "number of piles in the group (layout or explicit coordinates)"),
     "d_x": ("mm", "effective depth of the x layer, h - c - phi_x/2"),
     "d_y": ("mm", "effective depth of the y layer, h - c - phi_x - phi_y/2"),
+    "d_mean": ("mm", "mean effective depth of the two layers, (d_x + d_y)/2"),
     "d_mean": ("mm", "mean effective depth"),
     "spacing_min": ("mm", "closest pile centres"),
     "edge_min": ("mm", "least distance from a pile face to the cap edge"),
@@ -226,3 +228,34 @@ LOAD_INDEPENDENT: frozenset[str] = frozenset({
 
 OUTPUT_SCALE: dict[str, float] = {"kN": 1e-3, "kNm": 1e-6, "%": 100.0}
 """Multipliers from internal units to a rule's output unit (N -> kN, N·mm -> kNm, ratio -> %)."""
+
+
+#: What a user must give when a quantity is missing, in plain words (never the quantity's name):
+#: the schedule input behind it. Quantities not listed here are named by their meaning.
+MISSING_AS: dict[str, str] = {
+    "piles": "the number of piles", "n_piles": "the number of piles", "pile_dia": "the pile diameter", "pile_spacing": "the pile spacing",
+    "cap_length": "the cap length", "cap_width": "the cap width", "cap_depth": "the cap depth",
+    "column_x": "the column size", "column_y": "the column size", "n_ed": "the ULS axial load",
+    "fyk": "the steel grade", "cover": "the nominal cover", "embedment": "the pile embedment",
+    "pile_capacity": "the pile capacity", "nx": "the x bars", "phi_x": "the x bars", "ny": "the y bars",
+    "phi_y": "the y bars", "sx": "the x bar centres", "sy": "the y bar centres", "fck": "the concrete class",
+    "cmin_dur": "the exposure class", "stated_pile_load": "the designer's pile load",
+    "stated_tie_x": "the designer's tie force along x", "stated_tie_y": "the designer's tie force along y",
+    "stated_as_x": "the designer's steel area along x", "stated_as_y": "the designer's steel area along y",
+    "stated_d": "the designer's effective depth",
+}
+
+
+def plain_words(name: str) -> str:
+    """A quantity as the user knows it, for 'cannot be verified' texts: the input behind it
+    (:data:`MISSING_AS`), else its meaning up to the first comma or bracket, else 'an input'."""
+    import re
+
+    if name in MISSING_AS:
+        return MISSING_AS[name]
+    meaning = QUANTITIES.get(name, ("", ""))[1]
+    head = re.split(r"[,(;:]", meaning, maxsplit=1)[0].strip()
+    words = set(re.findall(r"[A-Za-z_][A-Za-z0-9_]*", head))
+    if not head or any("_" in w for w in words) or words & set(QUANTITIES):
+        return "an input of this check"
+    return "the " + head if not head.lower().startswith(("the ", "a ", "an ")) else head

@@ -47,7 +47,7 @@ INPUT_QUANTITIES: tuple[str, ...] = (
     "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth",
     "column_x", "column_y", "n_ed", "mx_ed", "my_ed", "fck", "fyk", "cover", "embedment",
     "pile_capacity", "nx", "phi_x", "sx", "ny", "phi_y", "sy",
-    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "stated_d",
 )
 
 #: Parameter defaults (the uk-na profile values of the brief).
@@ -64,7 +64,7 @@ DEFAULTS: dict[str, float | str] = {
 
 #: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
 STATED_ITEMS: tuple[str, ...] = (
-    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "stated_d",
 )
 
 
@@ -432,12 +432,16 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"as_tie_{k}_bend"] = np.where(has, q[f"as_layer_counted_{k}"], np.nan)
 
     # ---- the designer's figures ---------------------------------------------------------
+    # a schedule's single "d" is compared with the mean of the two layers' effective depths (they
+    # differ by about one bar diameter, well inside the tolerance, so either layer's d also agrees)
+    q["d_mean"] = 0.5 * (q["d_x"] + q["d_y"])
     checks = {
         "stated_pile_load": q["r_nom_max"],
         "stated_tie_x": q["tie_x"],
         "stated_tie_y": q["tie_y"],
         "stated_as_x": q["as_req_x"],
         "stated_as_y": q["as_req_y"],
+        "stated_d": q["d_mean"],
     }
     diffs = np.stack([_rel_diff(f[name], checks[name]) for name in STATED_ITEMS], axis=1)
     any_d = ~np.all(np.isnan(diffs), axis=1)

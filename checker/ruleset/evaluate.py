@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER
-from checker.ruleset.catalogue import OUTPUT_SCALE
+from checker.ruleset.catalogue import OUTPUT_SCALE, plain_words
 from checker.ruleset.loader import Rule, RuleSet
 
 _RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
@@ -280,9 +280,14 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
         arrays = {nm: np.asarray(env[nm]) for nm in names if isinstance(env.get(nm), np.ndarray)}
         for idx in miss_rows.tolist():
             gaps = [nm for nm, a in arrays.items() if a.dtype.kind == "f" and np.isnan(a[idx])]
-            what = ", ".join(gaps) if gaps else "an input"
-            message[idx] = f"Cannot be verified: {what} not given or not computable."
-            action[idx] = f"Provide {what} so that the check can be made."
+            words = list(dict.fromkeys(plain_words(nm) for nm in gaps)) or ["an input of this check"]
+            what = words[0] if len(words) == 1 else ", ".join(words[:-1]) + " and " + words[-1]
+            # "the x bars" are; "the number of piles" is (the head noun comes before "of")
+            head = what.split(" of ")[0]
+            plural = len(words) > 1 or (head.endswith("s") and not head.endswith("ss"))
+            verb = "are" if plural else "is"
+            message[idx] = f"Cannot be verified: {what} {verb} not given (or cannot be worked out from the schedule)."
+            action[idx] = f"Give {what} so that the check can be made."
     noted = np.flatnonzero(notes != "")
     if noted.size:
         _put(message, noted, [f"{m} {t}".strip() for m, t in zip(message[noted].tolist(), notes[noted].tolist())])

@@ -66,13 +66,18 @@ def valid_row(draw, mark: str) -> dict[str, object]:
     cover = draw(st.sampled_from((40, 50, 75, 100)))
     phi_x, phi_y = draw(st.sampled_from(_BAR_SIZES)), draw(st.sampled_from(_BAR_SIZES))
 
-    def bars(phi: int) -> str:
+    def bars(phi: int, across: int) -> str:
+        # a count that fits across the cap at the least clear spacing of 20 mm (a plausible cap:
+        # checker.ingest.plausible)
+        most = max(2, min(40, (across - 2 * cover + 20) // (phi + 20)))
         if draw(st.booleans()):
-            return f"{draw(st.integers(2, 40))}H{phi}"
+            return f"{draw(st.integers(2, most))}H{phi}"
         return f"H{phi}@{draw(st.sampled_from((100, 125, 150, 200, 250, 300)))}"
 
     col = draw(st.sampled_from(("rect", "square", "round")))
-    cx, cy = draw(st.integers(200, 1200)), draw(st.integers(200, 1200))
+    cx, cy = draw(st.integers(200, min(1200, length))), draw(st.integers(200, min(1200, width)))
+    if col != "rect":
+        cx = min(cx, width)
     column = {"rect": f"{cx}x{cy}", "square": str(cx), "round": f"D{cx}"}[col]
     row: dict[str, object] = {
         "mark": mark, "piles": piles, "pile_dia": _num(draw, dia),
@@ -84,7 +89,7 @@ def valid_row(draw, mark: str) -> dict[str, object]:
         "concrete": draw(st.sampled_from(sorted(CONCRETE_CLASSES))),
         "fyk": draw(st.one_of(st.none(), st.sampled_from((400, 450, 500, 550, 600)))),
         "cover": _num(draw, cover), "exposure": draw(st.one_of(st.none(), st.sampled_from(EXPOSURES))),
-        "bars_x": bars(phi_x), "bars_y": bars(phi_y),
+        "bars_x": bars(phi_x, width), "bars_y": bars(phi_y, length),
         "embedment": draw(st.one_of(st.none(), st.integers(0, 300))),
         "pile_capacity": draw(st.one_of(st.none(), st.integers(100, 12_000))),
         "bar_ends": draw(st.one_of(st.none(), st.sampled_from(("straight", "bent", "hooked")))),
