@@ -510,8 +510,11 @@ def match_heading(heading: str, vocabulary: str = "schedule",
     kind = fields[name]
     note = ""
     if name in _SLS_FIELDS and how != "mapping file":
-        note = (f"heading {heading!r} is read as a service (SLS) value, {name}: SLS loads are checked as "
-                "load cases of their own, a working pile capacity against SLS reactions")
+        what = {"pile_capacity_working": "a working (safe working load) pile capacity",
+                "n_sls": "the SLS axial load", "mx_sls": "the SLS moment about x",
+                "my_sls": "the SLS moment about y"}.get(name, "a service value")
+        note = (f"heading {heading!r} is read as {what}: SLS loads are checked as load cases of their own, "
+                "a working pile capacity against SLS reactions")
     elif kind == "force" and how not in ("mapping file", "canonical name"):
         if "sls" in words or "swl" in words:
             return None, None, 1.0, "", (f"heading {heading!r} looks like a serviceability load; capcheck "
