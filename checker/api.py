@@ -38,6 +38,7 @@ class Review:
     notes: list[str] = field(default_factory=list)
     cases: pd.DataFrame | None = None      # one row per (cap, load case) read, or None (one ULS case per cap)
     case_rows: int = 0                     # rows read that only add a load case to a cap counted earlier
+    remedy: Any = None                     # checker.remedy.RemedyResult: what would pass (issue 16), or None
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
 
     def working(self, mark: str) -> list[WorkingLine]:
@@ -75,11 +76,23 @@ def _numeric_params(params: dict[str, Any]) -> dict[str, float]:
     return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
 
 
-def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
+def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all", remedy: bool = False) -> Review:
     """Derive every quantity once, evaluate every rule, and wrap it all in a Review.
 
     ``messages="issues"`` renders the message text of results that are not ``ok`` only (passed
-    checks keep an empty message): the fast path for very large schedules on the terminal."""
+    checks keep an empty message): the fast path for very large schedules on the terminal.
+    ``remedy=True`` also searches, for every cap with an unsafe or non-compliant result, the least
+    change that would meet the listed checks (``checker.remedy``; ``Review.remedy``)."""
+    rv = _check_schedule(schedule, ruleset, submission, messages=messages)
+    if remedy:
+        from checker.remedy import search
+
+        rv.remedy = search(rv.caps, rv.findings, ruleset, rv.profile_params,
+                           coords=getattr(schedule, "coords", None), cases=getattr(schedule, "cases", None))
+    return rv
+
+
+def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
     from checker.ruleset.derive import derive
     from checker.ruleset.evaluate import evaluate, working_lines
 
@@ -168,10 +181,12 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
            coords: str | Path | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
-           messages: str = "all", max_rows: int | None = None, loads=None) -> Review:
+           messages: str = "all", max_rows: int | None = None, loads=None, remedy: bool = True) -> Review:
     """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
 
     Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
+    ``remedy``: search the least change that would meet the listed checks for each failing cap
+    (``Review.remedy``, see ``checker.remedy``); False skips it.
     Raises ``checker.ingest.errors.IngestError`` when nothing can be read, and
     ``checker.ruleset.loader.RuleFileError`` when a rule or profile file is refused.
     """
@@ -193,4 +208,4 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
                 kwargs["progress"] = progress
         sched = read_schedule(source, **kwargs)
         name = Path(source).name
-    return check_schedule(sched, ruleset, name, messages=messages)
+    return check_schedule(sched, ruleset, name, messages=messages, remedy=remedy)
