@@ -226,11 +226,12 @@ def cmd_explain(args, out: Console, err: Console) -> int:
                        f"Caps checked: {', '.join(marks[:30])}", style="red"))
         return EXIT_UNREADABLE
     print_working(rv, args.cap, out)
-    from checker.remedy import explain_lines
+    from checker.remedy import explain_lines, remedy_line
 
-    out.print(Text("\nWhat would pass (least change searched)", style="bold"))
-    for line in explain_lines(rv, args.cap):
-        out.print(Text(line))
+    if remedy_line(rv, args.cap):   # only for a cap with an unsafe or non-compliant result
+        out.print(Text("\nWhat would pass: the least change searched", style="bold"))
+        for line in explain_lines(rv, args.cap):
+            out.print(Text(line))
     return EXIT_OK
 
 

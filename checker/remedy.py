@@ -721,3 +721,14 @@ def explain_lines(review, mark: str) -> list[str]:
             i = j + 1
     lines.append(cr.text())
     return lines
+
+
+def attach_remedies(review, comments: list) -> list:
+    """Fill each unsafe or non-compliant comment's "Would pass with" cell with its cap's line."""
+    rr = getattr(review, "remedy", None)
+    if rr is None:
+        return comments
+    for c in comments:
+        if c.severity in ("unsafe", "non-compliant") and c.state == "present":
+            c.remedy = remedy_line(review, c.cap)
+    return comments
