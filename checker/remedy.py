@@ -228,7 +228,8 @@ def _verdict(code: np.ndarray, util: np.ndarray, base_code: np.ndarray, exempt: 
     sidx = np.maximum(stop, 0)
     stop_sev = np.where(passes, -1, code[rows, sidx])
     stop_util = np.where(passes, np.nan, util[rows, sidx])
-    uw = np.where(exempt[None, :] | ~np.isfinite(util), -np.inf, util)
+    # the worst utilisation of the results met (a query the scheduled cap already had is not one)
+    uw = np.where(exempt[None, :] | ~np.isfinite(util) | (code <= _Q), -np.inf, util)
     worst = uw.max(axis=1) if uw.shape[1] else np.full(len(code), -np.inf)
     worst = np.where(np.isfinite(worst), worst, np.nan)
     return passes, bad, stop, stop_sev, stop_util, worst
