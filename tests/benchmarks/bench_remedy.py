@@ -68,7 +68,7 @@ def generated(n: int, failing: float, rs) -> tuple[pd.DataFrame, pd.DataFrame]:
 def main(argv=None) -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--caps", type=int, default=1000)
-    ap.add_argument("--failing", type=float, default=0.2)
+    ap.add_argument("--failing", type=float, default=0.26)  # some changes still pass: about 20 % fail
     ap.add_argument("--repeat", type=int, default=2)
     a = ap.parse_args(argv)
     from checker.api import check_schedule
