@@ -41,6 +41,7 @@ class Review:
     skipped: list[dict[str, Any]] = field(default_factory=list)    # [{"source": {...}, "reason": ...}]
     table_problems: list[dict[str, Any]] = field(default_factory=list)  # [{"source": {...}, "errors": [...]}]
     unused_headings: list[str] = field(default_factory=list)       # headings of the schedule not read
+    remedy: Any = None                     # checker.remedy.RemedyResult: what would pass (issue 16), or None
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
 
     def working(self, mark: str) -> list[WorkingLine]:
@@ -79,11 +80,23 @@ def _numeric_params(params: dict[str, Any]) -> dict[str, float]:
     return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
 
 
-def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
+def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all", remedy: bool = False) -> Review:
     """Derive every quantity once, evaluate every rule, and wrap it all in a Review.
 
     ``messages="issues"`` renders the message text of results that are not ``ok`` only (passed
-    checks keep an empty message): the fast path for very large schedules on the terminal."""
+    checks keep an empty message): the fast path for very large schedules on the terminal.
+    ``remedy=True`` also searches, for every cap with an unsafe or non-compliant result, the least
+    change that would meet the listed checks (``checker.remedy``; ``Review.remedy``)."""
+    rv = _check_schedule(schedule, ruleset, submission, messages=messages)
+    if remedy:
+        from checker.remedy import search
+
+        rv.remedy = search(rv.caps, rv.findings, ruleset, rv.profile_params,
+                           coords=getattr(schedule, "coords", None), cases=getattr(schedule, "cases", None))
+    return rv
+
+
+def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
     from checker.ruleset.derive import derive
     from checker.ruleset.evaluate import evaluate, working_lines
 
@@ -188,7 +201,7 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
            coords: str | Path | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
            messages: str = "all", max_rows: int | None = None, loads=None, sheet: str | None = None,
-           defaults: Any = None) -> Review:
+           defaults: Any = None, remedy: bool = True) -> Review:
     """Check a schedule given as a path (CSV, XLSX, PDF) or a pandas DataFrame.
 
     ``sheet``: the one sheet of a workbook to read (default: every sheet with schedule headings).
@@ -196,6 +209,8 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
     table (a dict such as ``{"exposure": "XC2", "cover": 75}``) or parsed
     (:class:`checker.ingest.frame.Defaults`); each value applied is named in the notes and the working.
     Returns a :class:`Review`; ``.findings`` is a DataFrame with one row per cap and rule.
+    ``remedy``: search the least change that would meet the listed checks for each failing cap
+    (``Review.remedy``, see ``checker.remedy``); False skips it.
     Raises ``checker.ingest.errors.IngestError`` when nothing can be read, and
     ``checker.ruleset.loader.RuleFileError`` when a rule or profile file is refused.
     """
@@ -223,4 +238,4 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
                 kwargs["progress"] = progress
         sched = read_schedule(source, **kwargs)
         name = Path(source).name
-    return check_schedule(sched, ruleset, name, messages=messages)
+    return check_schedule(sched, ruleset, name, messages=messages, remedy=remedy)

@@ -60,6 +60,8 @@ def _input(p: argparse.ArgumentParser) -> None:
     p.add_argument("--max-rows", type=int, default=MAX_ROWS,
                    help=f"refuse schedules with more rows than this (default {MAX_ROWS:,})")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress bar")
+    p.add_argument("--no-remedy", dest="remedy", action="store_false",
+                   help="do not search the least change that would meet the listed checks for failing caps")
 
 
 def _version() -> str:
@@ -144,7 +146,8 @@ def _review(args, console_err: Console, messages: str = "all"):
                       loads=getattr(args, "loads", None),
                       pdf_strategy=args.pdf_strategy, max_pages=args.max_pages, progress=cb,
                       drop_variants=args.drop_variants, messages=messages, max_rows=args.max_rows,
-                      sheet=getattr(args, "sheet", None), defaults=_project_defaults(args))
+                      sheet=getattr(args, "sheet", None), defaults=_project_defaults(args),
+                      remedy=getattr(args, "remedy", True))
     finally:
         if prog is not None:
             prog.stop()
@@ -247,6 +250,12 @@ def cmd_explain(args, out: Console, err: Console) -> int:
                        f"Caps checked: {', '.join(marks[:30])}", style="red"))
         return EXIT_UNREADABLE
     print_working(rv, args.cap, out)
+    from checker.remedy import explain_lines, remedy_line
+
+    if remedy_line(rv, args.cap):   # only for a cap with an unsafe or non-compliant result
+        out.print(Text("\nWhat would pass: the least change searched", style="bold"))
+        for line in explain_lines(rv, args.cap):
+            out.print(Text(line))
     return EXIT_OK
 
 

@@ -44,6 +44,7 @@ COMMENT_HEADINGS: tuple[str, ...] = (
     "Designer response",
     "Checker status",
     "Key",
+    "Would pass with",   # issue 16: the least change that would meet the listed checks (checker.remedy)
 )
 
 STATUSES: tuple[str, ...] = ("open", "closed", "superseded")
@@ -223,6 +224,7 @@ class Comment:
     tool_utilisation: float | None = None
     basis_severity: str = ""       # figures a hand-closed comment was closed on (to judge "worse")
     basis_utilisation: float | None = None
+    remedy: str = ""               # what would meet the listed checks for the cap (checker.remedy), issue 16
 
     @property
     def found_cell(self) -> str:
@@ -245,6 +247,7 @@ class Comment:
             self.response,
             self.status,
             self.key,
+            self.remedy,
         ]
 
 
@@ -292,6 +295,12 @@ def build_comments(review: "Review", revision: "RevisionResult | None" = None) -
 
     Returns the comments in comment-number order.
     """
+    from checker.remedy import attach_remedies
+
+    return attach_remedies(review, _build_comments(review, revision))
+
+
+def _build_comments(review: "Review", revision: "RevisionResult | None" = None) -> list[Comment]:
     rows = comment_findings(review)
     if revision is None:
         return [_comment_from_finding(r, i) for i, r in enumerate(rows, start=1)]

@@ -258,6 +258,10 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
         out.append("</tbody></table>")
     else:
         out.append("<p>No results for this cap.</p>")
+    from checker.remedy import remedy_line
+
+    if remedy_line(review, mark):
+        out.append(f'<p class="remedy"><strong>Would pass with:</strong> {escape(remedy_line(review, mark))}</p>')
     # comments carried from a previous revision whose finding is no longer reported
     if carried:
         out.append("<h3>Comments carried from the previous revision</h3>")

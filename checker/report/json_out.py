@@ -60,7 +60,7 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
                 work_by_cap[cap] = per_rule
             item["working"] = work_by_cap[cap].get(item["rule"], [])
         results.append(item)
-    return {
+    doc = {
         "schema": SCHEMA,
         "submission": review.submission,
         "profile": review.profile_name,
@@ -85,6 +85,12 @@ def to_document(review, *, working: bool = False) -> dict[str, Any]:
         "unused_headings": list(getattr(review, "unused_headings", None) or []),
         "notes": list(review.notes or []),
     }
+    from checker.remedy import remedies_json
+
+    rem = remedies_json(review)
+    if rem is not None:
+        doc["remedies"] = rem
+    return doc
 
 
 def dumps(review, *, working: bool = False) -> str:

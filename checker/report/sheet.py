@@ -76,6 +76,7 @@ COMMENT_WIDTHS: dict[str, float] = {
     "Found": 46,
     "Severity": 13,
     "Action required": 32,
+    "Would pass with": 32,
     "Source": 11,
     "Designer response": 36,
     "Checker status": 11,

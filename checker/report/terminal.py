@@ -76,6 +76,14 @@ def _finding_block(row: dict) -> Padding:
     return Padding(Group(head, Padding(body, (0, 0, 0, 4))), (0, 0, 0, 2))
 
 
+def _remedy_line(review, cap: str, console: Console) -> None:
+    from checker.remedy import remedy_line
+
+    text = remedy_line(review, cap)
+    if text:
+        console.print(Padding(Text("⇒ " + text, style="italic green"), (0, 0, 0, 2)))
+
+
 def print_caution(console: Console) -> None:
     console.print(Panel(Text(CAUTION, style="italic"), title="Engineering caution", border_style="yellow"))
 
@@ -110,6 +118,7 @@ def print_findings(review, console: Console, *, show_ok: bool = False) -> None:
             shown = g if show_ok else g[g["severity"] != "ok"]
             for row in shown.to_dict("records"):
                 console.print(_finding_block(row))
+            _remedy_line(review, cap, console)
     for p in getattr(review, "table_problems", None) or []:
         where = describe_source(p["source"]) or "?"
         console.print(Text(f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): ", style="bold red")
