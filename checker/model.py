@@ -208,6 +208,12 @@ class CapRecord(BaseModel):
     phi_y: typing.Annotated[float, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
         unit="mm", doc="diameter of bars_y")
     sy: _OptF = _f(None, unit="mm", doc="stated centres of bars_y", gt=0)
+    # single-pile caps (issue 15, item 3): closed horizontal links carrying the splitting tie
+    links: str = _f("", doc="horizontal links (splitting steel) of a single-pile cap, as written; '' if not stated")
+    n_links: typing.Optional[int] = _f(None, unit="count", doc="number of closed link sets (count form)", ge=1)
+    phi_links: typing.Annotated[_OptF, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
+        None, unit="mm", doc="diameter of the links")
+    s_links: _OptF = _f(None, unit="mm", doc="stated vertical centres of the link sets (spacing form)", gt=0)
     embedment: _OptF = _f(None, unit="mm", doc="length of pile head inside the cap", ge=0)
     pile_capacity: _OptF = _f(None, unit="N", show=_KN, doc="pile resistance (ULS) or working capacity (SLS)", gt=0)
     capacity_basis: typing.Annotated[str, OneOf(CAPACITY_BASES)] = _f(

@@ -26,10 +26,11 @@ from checker.calcs import (  # noqa: F401
     punching,
     reactions,
     shear,
+    splitting,
     strut_tie,
 )
 
-MODULES = (materials, reactions, strut_tie, shear, punching, anchorage, detailing)
+MODULES = (materials, reactions, strut_tie, shear, punching, anchorage, detailing, splitting)
 
 __all__ = [
     "MODULES",
@@ -39,5 +40,6 @@ __all__ = [
     "punching",
     "reactions",
     "shear",
+    "splitting",
     "strut_tie",
 ]

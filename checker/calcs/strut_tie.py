@@ -530,8 +530,8 @@ def partially_loaded_limit(fcd, area_ratio_sqrt, cap=3.0):
     """EN 1992-1-1:2004 6.7(2), Eq. (6.63)
 
     Bearing stress on a partially loaded area, FRdu/Ac0 = fcd √(Ac1/Ac0) ≤ 3.0 fcd [M]. The
-    transverse (bursting) forces of 6.7(4) must be taken by reinforcement; capcheck does not
-    check it (said in the working).
+    transverse (bursting) forces of 6.7(4) must be taken by reinforcement; capcheck checks them
+    for single-pile caps only (:mod:`checker.calcs.splitting`, said in the working).
 
     Args:
         fcd: design compressive strength [MPa]

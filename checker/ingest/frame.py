@@ -39,6 +39,7 @@ from checker.ingest.notation import (
     is_real_number,
     parse_bars,
     parse_column,
+    parse_links,
     parse_concrete,
     parse_number,
     parse_size,
@@ -65,6 +66,9 @@ DERIVED_FROM: dict[str, tuple[str, ...]] = {
     "fck": ("concrete",), "concrete": ("fck",),
     "cap_length": ("size", "plan"), "cap_width": ("size", "plan"), "cap_depth": ("size",),
 }
+
+# single-pile caps (issue 15, item 3): the link notation gives the link fields
+DERIVED_FROM.update({"n_links": ("links",), "phi_links": ("links",), "s_links": ("links",)})
 
 _TEXT_FIELDS = ("mark", "exposure", "pile_type", "method", "case")
 #: per-row load fields of a schedule with load cases (every other field describes the cap)
@@ -560,6 +564,18 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
             values[f"s{suffix}"] = u.floats(3)
             given[fld] = ~u.blank
             err(fld, *u.error_rows())
+        elif fld == "links":
+            # single-pile caps (issue 15, item 3): closed link sets (count form) or their centres
+            def link(u: Any) -> tuple:
+                spec = parse_links(u)
+                return (_text(u), spec.count, spec.dia, spec.centres)
+
+            u = _map_unique(col, link, 4)
+            values["links"] = u.texts(0)
+            values["_text_links"] = _as_text(u)
+            values["n_links"], values["phi_links"], values["s_links"] = u.floats(1), u.floats(2), u.floats(3)
+            given[fld] = ~u.blank
+            err(fld, *u.error_rows())
         elif fld == "column":
             u = _map_unique(col, lambda v: tuple(parse_column(v, m.scale)), 3)
             values["_col_x"], values["_col_y"] = u.floats(0), u.floats(1)
@@ -697,6 +713,12 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
         derived = bars_from_spacing(out[width_field], out["cover"], phi, cen)
         out[f"n{s}"] = np.where(np.isnan(count), derived, count)
         out[f"phi_{s}"], out[f"s{s}"] = phi, cen
+    # single-pile caps (issue 15, item 3): links as written and as parsed ('' and NaN when not given)
+    out["links"] = values.get("links", np.full(n, "", dtype=object))
+    for f in ("n_links", "phi_links", "s_links"):
+        out[f] = values.get(f, nan)
+    if "_text_links" in values:
+        out["_text_links"] = values["_text_links"]
     none = np.zeros(n, dtype=bool)
     for f, combos in (("cap_length", ("size", "plan")), ("cap_width", ("size", "plan")), ("cap_depth", ("size",))):
         sources = [f, *combos]
@@ -1227,7 +1249,7 @@ def _continuation_rows(out: dict[str, np.ndarray], given: dict[str, np.ndarray],
             v, w = arr[ci], arr[fi]
             blank = (v == "") | pd.isna(v)
             differ = ~blank & (v != w)
-        if k.startswith("_text_") or k in ("bars_x", "bars_y"):      # compared as parsed: nx, phi_x, sx
+        if k.startswith("_text_") or k in ("bars_x", "bars_y", "links"):   # compared as parsed: nx, phi_x, sx
             differ = np.zeros(ci.size, bool)
         if blank.any():
             arr[ci[blank]] = w[blank]
@@ -1360,6 +1382,7 @@ def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[st
 
 _FROM_TEXT = {"nx": "bars_x", "phi_x": "bars_x", "sx": "bars_x", "ny": "bars_y", "phi_y": "bars_y",
               "sy": "bars_y", "column_x": "column", "column_y": "column", "column_round": "column"}
+_FROM_TEXT.update({"n_links": "links", "phi_links": "links", "s_links": "links"})  # issue 15, item 3
 
 
 def _derived_label(fld: str, r: int, out: dict[str, np.ndarray], labels: dict[str, str]) -> str:

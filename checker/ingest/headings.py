@@ -51,6 +51,8 @@ SCHEDULE_FIELDS: dict[str, str] = {
     "case": "text", "case_kind": "text", "n_sls": "force", "mx_sls": "moment", "my_sls": "moment",
     "pile_capacity_working": "force", "capacity_basis": "text",
 }
+# single-pile caps (issue 15, item 3): the horizontal links that carry the splitting tie
+SCHEDULE_FIELDS["links"] = "bars"
 
 #: the fields of a loads table (``--loads FILE`` or a workbook sheet): one row per cap and case
 LOAD_FIELDS: dict[str, str] = {f: SCHEDULE_FIELDS[f] for f in (
@@ -229,6 +231,12 @@ _ALIAS_TEXT: dict[str, tuple[str, ...]] = {
                        "pile capacity type"),
 }
 
+# single-pile caps (issue 15, item 3): the horizontal links that carry the splitting tie
+_ALIAS_TEXT["links"] = ("links", "horizontal links", "bursting links", "bursting steel", "bursting bars",
+                        "bursting reinforcement", "splitting links", "splitting steel", "splitting reinforcement",
+                        "closed links", "horizontal closed links", "link", "links horizontal", "cap links",
+                        "side links", "bursting", "bursting links horizontal")
+
 _COORD_ALIAS_TEXT: dict[str, tuple[str, ...]] = {
     "mark": _ALIAS_TEXT["mark"],
     "x": ("x", "x coord", "x coordinate", "pile x", "x offset", "dx"),
@@ -292,6 +300,13 @@ WORD_RULES: tuple[WordRule, ...] = (
     _rule("column", "column", "size section x y"),
     _rule("pile_type", "pile type", ""),
     _rule("bar_ends", "bars ends", "detail anchorage"),
+)
+
+# single-pile caps (issue 15, item 3): the horizontal links that carry the splitting tie
+WORD_RULES += (
+    _rule("links", "links", "horizontal bursting splitting closed cap side bars sets"),
+    _rule("links", "bursting", "bars horizontal splitting cap"),
+    _rule("links", "splitting", "bars horizontal cap"),
 )
 
 _ULS_WORDS = frozenset({"uls", "ed", "design"})

@@ -606,3 +606,38 @@ def _is_blank_text(value: str) -> bool:
 
 
 BLANK_TEXT = frozenset({"", "-", "--", "---", "n/a", "na", "none", "nil", "n.a."})
+
+
+# --------------------------------------------------------------------------------------------
+# Horizontal links of a single-pile cap (the splitting steel)
+# --------------------------------------------------------------------------------------------
+
+#: words a link cell may carry around the bar notation; they say what the bars are, not how many
+_LINK_WORDS_RE = re.compile(
+    r"\b(?:CLOSED|HORIZ(?:ONTAL)?\.?|BURSTING|SPLITTING|LINKS?|LKS?\.?|HOOPS?|SETS?|OF|IN|AS)\b", re.ASCII)
+_LEGS_RE = re.compile(r"\bLEGS?\b|\bLEGGED\b", re.ASCII)
+
+
+@_memo
+@_hinted
+def parse_links(text: Any) -> BarSpec:
+    """Horizontal links round a single-pile cap, in the bar notation of :func:`parse_bars`:
+    a count form is a number of closed link sets (``4H16``, ``4 no. H16 links``, ``4 sets H16``),
+    a spacing form their vertical centres (``H12@150``, ``H12 links @ 150``, ``H12-150 c/c``).
+    Words that only say what the bars are (links, closed, horizontal, bursting, sets, hoops) are
+    ignored. A stated number of legs is refused: capcheck counts two legs per closed link in each
+    plan direction (DEVELOPERS.md), so a cell that says otherwise is not guessed at.
+    """
+    if isinstance(text, str):
+        s = _cell_text(text, "a link notation").upper()
+        if _LEGS_RE.search(s):
+            raise NotationError(f"{_quote(text)}: give the links as sets of closed links (e.g. 4H16 or "
+                                "H12@150); capcheck counts two legs of each closed link in each direction")
+        core = " ".join(_LINK_WORDS_RE.sub(" ", s).split())
+        if not core:
+            raise NotationError(f"{_quote(text)} is not a link notation; expected e.g. H12@150 or 4H16")
+        try:
+            return parse_bars(core)
+        except NotationError as exc:
+            raise NotationError(str(exc).replace(_quote(core), _quote(text), 1)) from None
+    return parse_bars(text)

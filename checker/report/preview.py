@@ -24,6 +24,8 @@ PREVIEW_FIELDS = (
     ("phi_x", "mm", 1.0), ("ny", "", 1.0), ("phi_y", "mm", 1.0), ("embedment", "mm", 1.0),
     ("pile_capacity", "kN", 1e-3),
 )
+# single-pile caps (issue 15, item 3): the horizontal links as written
+PREVIEW_FIELDS += (("links", "", 1.0),)
 
 
 def _cell(v, scale: float) -> str:

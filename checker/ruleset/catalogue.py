@@ -204,6 +204,38 @@ DERIVED: dict[str, tuple[str, str]] = {
     "fctd_bond": ("MPa", "design tensile strength used for bond"),
 }
 
+# single-pile caps (issue 15, item 3): the splitting tie under the column and the pile-head bearing
+FIELDS.update({
+    "n_links": ("count", "number of closed horizontal link sets stated (count form)"),
+    "phi_links": ("mm", "diameter of the horizontal links"),
+    "s_links": ("mm", "stated vertical centres of the horizontal links (spacing form)"),
+})
+DERIVED.update({
+    "links_stated": ("", "1 where the schedule states horizontal links"),
+    "a_burst_pile": ("mm", "loaded width of the pile head for the splitting tie (circle: equivalent square)"),
+    "a_burst_col_x": ("mm", "loaded width of the column along x for the splitting tie (circle: equivalent square)"),
+    "a_burst_col_y": ("mm", "loaded width of the column along y for the splitting tie (circle: equivalent square)"),
+    "burst_full_x": ("", "1 where the splitting along x is a full discontinuity (b = L > H/2, Eq. 6.59), 0 partial"),
+    "burst_full_y": ("", "1 where the splitting along y is a full discontinuity (b = W > H/2, Eq. 6.59), 0 partial"),
+    "tie_burst_col_x": ("N", "splitting tie along x from the column end, F = N"),
+    "tie_burst_col_y": ("N", "splitting tie along y from the column end, F = N"),
+    "tie_burst_pile_x": ("N", "splitting tie along x from the pile end, F = R"),
+    "tie_burst_pile_y": ("N", "splitting tie along y from the pile end, F = R"),
+    "tie_burst_x": ("N", "governing splitting tie across the plane normal to x, 6.5.3(3)"),
+    "tie_burst_y": ("N", "governing splitting tie across the plane normal to y, 6.5.3(3)"),
+    "as_req_burst_x": ("mm²", "link steel required across the plane normal to x, T/fyd"),
+    "as_req_burst_y": ("mm²", "link steel required across the plane normal to y, T/fyd"),
+    "zone_burst_x": ("mm", "depth of the splitting zone whose links count, along x"),
+    "zone_burst_y": ("mm", "depth of the splitting zone whose links count, along y"),
+    "link_sets_x": ("count", "link sets counted within the splitting zone, along x"),
+    "link_sets_y": ("count", "link sets counted within the splitting zone, along y"),
+    "as_links_x": ("mm²", "link steel crossing the plane normal to x (2 legs per set; 0 where none stated)"),
+    "as_links_y": ("mm²", "link steel crossing the plane normal to y (2 legs per set; 0 where none stated)"),
+    "h_above_pile": ("mm", "depth above the pile head, h less the embedment (none given: h)"),
+    "pla_ratio_pile": ("", "sqrt(Ac1/Ac0) of the pile head on the cap underside, 6.7"),
+    "pile_bearing_limit": ("MPa", "pile-head bearing limit on the cap, fcd sqrt(Ac1/Ac0) <= 3 fcd"),
+})
+
 QUANTITIES: dict[str, tuple[str, str]] = {**FIELDS, **DERIVED}
 
 #: Quantities that do not depend on the loads of a load case (geometry, materials, detailing). A rule
@@ -224,6 +256,13 @@ LOAD_INDEPENDENT: frozenset[str] = frozenset({
     "vrdc_x", "vrdc_y", "rho_x", "rho_y", "k_x", "k_y", "av_geom_x", "av_geom_y", "u0", "vrd_max_punch",
     "punch_applies", "rho_punch", "fbd", "fbd_x", "fbd_y", "fck_bond", "fctd_bond", "lb_avail_x",
     "lb_avail_y", "bar_ends_known", "bar_bent", "spacing_le_3phi", "is_uncased", "column_round",
+})
+
+# single-pile caps (issue 15, item 3)
+LOAD_INDEPENDENT = LOAD_INDEPENDENT | frozenset({
+    "n_links", "phi_links", "s_links", "links_stated", "a_burst_pile", "a_burst_col_x", "a_burst_col_y",
+    "burst_full_x", "burst_full_y", "zone_burst_x", "zone_burst_y", "link_sets_x", "link_sets_y",
+    "as_links_x", "as_links_y", "h_above_pile", "pla_ratio_pile", "pile_bearing_limit",
 })
 
 OUTPUT_SCALE: dict[str, float] = {"kN": 1e-3, "kNm": 1e-6, "%": 100.0}

@@ -40,6 +40,7 @@ from checker.calcs import materials as mat
 from checker.calcs import punching as pun
 from checker.calcs import reactions as rea
 from checker.calcs import shear as shr
+from checker.calcs import splitting as spl
 from checker.calcs import strut_tie as st
 
 #: Canonical numeric input columns carried through as quantities of the same name.
@@ -430,6 +431,49 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"tie_{k}_bend"] = np.where(has, m / z, np.nan)      # the bar force M/z [N]
         q[f"as_req_{k}_bend"] = q[f"as_bend_{k}"]
         q[f"as_tie_{k}_bend"] = np.where(has, q[f"as_layer_counted_{k}"], np.nan)
+
+    # ---- single-pile caps: splitting tie and pile-head bearing (issue 15, item 3) -------------
+    # EN 1992-1-1:2004 6.5.3(3), Figure 6.25, Eq. (6.58)/(6.59): the column load spreads out from
+    # the column and gathers into the pile head; in each plan direction a = the loaded width (the
+    # column side, the pile's design diameter; circles as their equivalent square), b = the cap's
+    # plan dimension, H = the cap depth; the end with the larger tie governs (column end F = N,
+    # pile end F = R with the cap self-weight). The tie is carried by closed horizontal links, two
+    # legs per set across the plane, counted within the splitting zone (checker/calcs/splitting.py).
+    # The pile head bears on the cap as a partially loaded area (6.7, Eq. (6.63)): Ac0 = the pile
+    # head, Ac1 spread over the depth above the pile head (h less the embedment) and within the plan.
+    single = npile == 1
+    n_links = _num(caps, "n_links", n)
+    phi_links = _num(caps, "phi_links", n)
+    s_links = _num(caps, "s_links", n)
+    links_stated = ~np.isnan(phi_links) & ~(np.isnan(n_links) & np.isnan(s_links))
+    a_pile_burst = st.equivalent_square_side(a_pile)
+    r_single = geo.row_max(R, mask)
+    q["links_stated"] = _flag(links_stated)
+    q["n_links"], q["phi_links"], q["s_links"] = n_links, phi_links, s_links
+    q["a_burst_pile"] = np.where(single, a_pile_burst, np.nan)
+    for k, col, b in (("x", cx, L), ("y", cy, W)):
+        a_col_k = np.where(rnd, st.equivalent_square_side(a_col), col)
+        t_col = spl.splitting_tie(N, a_col_k, b, h)
+        t_pile = spl.splitting_tie(r_single, a_pile_burst, b, h)
+        t = np.fmax(t_col, t_pile)
+        t = np.where(np.isnan(t_col) | np.isnan(t_pile), np.nan, t)
+        zone = spl.splitting_zone_depth(b, h)
+        sets = spl.link_sets_in_zone(zone, n_links, s_links)
+        as_links = np.where(links_stated, spl.link_area_across_plane(sets, phi_links), 0.0)
+        q[f"burst_full_{k}"] = np.where(single, spl.full_discontinuity(b, h), np.nan)
+        q[f"a_burst_col_{k}"] = np.where(single, a_col_k, np.nan)
+        q[f"tie_burst_col_{k}"] = np.where(single, t_col, np.nan)
+        q[f"tie_burst_pile_{k}"] = np.where(single, t_pile, np.nan)
+        q[f"tie_burst_{k}"] = np.where(single, t, np.nan)
+        q[f"as_req_burst_{k}"] = np.where(single, st.tie_steel_required(t, fyd), np.nan)
+        q[f"zone_burst_{k}"] = np.where(single, zone, np.nan)
+        q[f"link_sets_{k}"] = np.where(single & links_stated, sets, np.nan)
+        q[f"as_links_{k}"] = np.where(single, as_links, np.nan)
+    h_above = h - np.nan_to_num(f["embedment"], nan=0.0)
+    pla_pile = st.partially_loaded_area_ratio(dp, dp, h_above, L, W)
+    q["h_above_pile"] = np.where(single, h_above, np.nan)
+    q["pla_ratio_pile"] = np.where(single, pla_pile, np.nan)
+    q["pile_bearing_limit"] = np.where(single, st.partially_loaded_limit(fcd, pla_pile), np.nan)
 
     # ---- the designer's figures ---------------------------------------------------------
     # a schedule's single "d" is compared with the mean of the two layers' effective depths (they
