@@ -203,6 +203,37 @@ def test_random_schedules_read_back(tmp_path_factory, style, cols, n_rows, seed,
     assert_reads_as(tables, exp)
 
 
+# Falsifying examples of test_random_schedules_read_back (hypothesis seed
+# 11003939935451748897198980994720878124), kept as fixed cases. A ruled grid with the spanning
+# "Cap size (mm)" heading over L, W, D, 8 rows at 7 a page, the heading not repeated: on page 2
+# the rule under the group heading and the rules between L, W and D start inside the first row
+# (PC8), so pdfplumber returns that row as a cell spanning L to D above three divided cells.
+# Top-aligned, PC8's values were read as one cell 'L' = '3300 3300 1500'; bottom-aligned beside
+# a wrapped cell, the values sat in the divided part and PC8 was read twice (9 rows for 8).
+_SPAN_CONTINUATION = {
+    "values_above_the_divided_part": dict(seed=0, wrap=False, title=False, notes=False,
+                                          valign="top"),
+    "values_in_the_divided_part": dict(seed=104, wrap=True, title=True, notes=True,
+                                       valign="bottom"),
+}
+
+
+@pytest.mark.parametrize("case", sorted(_SPAN_CONTINUATION))
+@pytest.mark.parametrize("strategy", ["auto", "lines"])
+def test_spanned_heading_rules_inside_the_first_row_of_a_continuation_page(case, strategy,
+                                                                          tmp_path):
+    k = _SPAN_CONTINUATION[case]
+    spec = pdfgen.Spec(style="grid", cols="span", n_rows=8, seed=k["seed"], spacer_every=0,
+                       wrap=k["wrap"], title=k["title"], title_box=False, notes=k["notes"],
+                       revision="", head_align="left", head_valign=k["valign"],
+                       cell_valign=k["valign"], rows_per_page=7, repeat_heading=False,
+                       touch=False, page="portrait")
+    exp = pdfgen.reportlab_pdf(tmp_path / "s.pdf", spec)
+    tables, notes = read_pdf_tables(exp.path, strategy=strategy)
+    assert_reads_as(tables, exp)
+    assert exp.pages[-1] == 2 and exp.row_numbers[-1] == 1
+    assert notes == ["page 2: no heading row; read as a continuation of the table from page 1"]
+
 # --------------------------------------------------------------------------------------------
 # LibreOffice: a spreadsheet exported to PDF by a program that is not ours
 # --------------------------------------------------------------------------------------------

@@ -3,7 +3,9 @@
 pdfplumber recovers ruled cells exactly (libraries.md); what is added here is finding the
 schedule among the page's grids (title blocks and revision boxes are grids too), joining a
 heading over two or three grid rows (spanned cells come back as ``None``), dropping spacer and
-notes rows, and reading a grid without a heading row as the continuation of the table before it.
+notes rows, reading a grid without a heading row as the continuation of the table before it, and
+reading a row whose cells under a group of columns are drawn as one cell over divided ones (grid
+rows inside the band of one row) as one row (see ``_divided_row``).
 """
 
 from __future__ import annotations
@@ -65,6 +67,88 @@ def _spanned_from_above(table, data, r: int, c: int) -> str | None:
     return None
 
 
+def _divided_row(table, rows, data, r: int, cols) -> tuple[list[str | None], list[int]] | None:
+    """Row r read together with the grid rows inside its band that divide its cells spanning
+    several columns: (raw cells of the row, the grid rows taken into it), or None.
+
+    Where rules cross a row only part of its height (the rule under a spanned group heading
+    and the rules between the group's sub-columns, drawn again on a continuation page that has
+    no heading, so that they fall inside its first row), pdfplumber returns the row as two
+    grid rows: above, one cell spanning the group's columns; below, the group's columns
+    divided, with the row's other cells spanning down over it. Both are the same row: the text
+    of the spanning cell is cut at the column edges that the grid row below shows, and each
+    column's pieces are joined top to bottom. None when row r has no such grid rows below it,
+    when one of them holds a cell outside a spanning cell of row r (a separate row under a cell
+    merged down), or when a glyph of the spanning cell straddles a column edge (text that runs
+    across the columns: a merged cell indeed). ``rows`` is ``table.rows`` (pdfplumber works it
+    out anew on every access).
+    """
+    if r + 1 >= len(rows):
+        return None
+    cells = rows[r].cells
+    ncols = len(cols)
+    bottom = rows[r].bbox[3]
+    subs: list[int] = []
+    for rr in range(r + 1, len(rows)):
+        if rows[rr].bbox[1] >= bottom - 0.5:
+            break
+        subs.append(rr)
+    if not subs:
+        return None
+    groups: list[tuple[int, int]] = []          # (first, last column) of each spanning cell
+    for c0 in range(min(ncols, len(cells))):
+        bb = cells[c0]
+        if bb is None:
+            continue
+        c1 = c0
+        while (c1 + 1 < ncols and (c1 + 1 >= len(cells) or cells[c1 + 1] is None)
+               and (cols[c1 + 1][0] + cols[c1 + 1][1]) / 2.0 < bb[2]):
+            c1 += 1
+        if c1 > c0:
+            groups.append((c0, c1))
+    group_of = {c: g for g in groups for c in range(g[0], g[1] + 1)}
+    for rr in subs:
+        for c, bb in enumerate(rows[rr].cells[:ncols]):
+            if bb is None:
+                continue
+            if c not in group_of or bb[1] < cells[group_of[c][0]][3] - 0.5:
+                return None
+    raw: list[str | None] = list(data[r])
+    page_chars = None
+    for c0, c1 in groups:
+        cuts = [c for c in range(c0 + 1, c1 + 1)
+                if any(c < len(rows[rr].cells) and rows[rr].cells[c] is not None for rr in subs)]
+        pieces: dict[int, list[str]] = {c: [] for c in [c0, *cuts]}
+        if cuts and normalise_cell(data[r][c0]):
+            bb = cells[c0]
+            if page_chars is None:
+                page_chars = table.page.chars
+            chars = [ch for ch in page_chars         # as pdfplumber's Table.extract takes them
+                     if bb[0] <= (ch["x0"] + ch["x1"]) / 2.0 < bb[2]
+                     and bb[1] <= (ch["top"] + ch["bottom"]) / 2.0 < bb[3]]
+            edges = [cols[c][0] for c in cuts]
+            if any(ch["x0"] < e - 0.5 and ch["x1"] > e + 0.5 and ch["text"].strip()
+                   for ch in chars for e in edges):
+                return None
+            from pdfplumber.utils import extract_text
+
+            bounds = [bb[0], *edges, bb[2]]
+            for k, c in enumerate([c0, *cuts]):
+                part = [ch for ch in chars if bounds[k] <= (ch["x0"] + ch["x1"]) / 2.0
+                        < bounds[k + 1]]
+                if part:
+                    pieces[c].append(extract_text(part))
+        elif data[r][c0]:
+            pieces[c0].append(data[r][c0])
+        for rr in subs:
+            for c in pieces:
+                if data[rr][c]:
+                    pieces[c].append(data[rr][c])
+        for c in range(c0, c1 + 1):
+            raw[c] = " ".join(pieces[c]) if c in pieces else None
+    return raw, subs
+
+
 def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
                       prev: Layout | None) -> list[PageTable]:
     """Every schedule table among the page's ruled grids (and grids continuing ``prev``)."""
@@ -114,14 +198,23 @@ def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
             first = last + 1
         rows: list[list[str]] = []
         numbers: list[int] = []
+        taken: set[int] = set()          # grid rows read as part of the row above them
+        grid_rows = t.rows
         for r in range(first, len(data)):
+            if r in taken:
+                continue
+            raw = data[r]
             cells = texts[r]
+            divided = _divided_row(t, grid_rows, data, r, cols)
+            if divided is not None:
+                raw, subs = divided
+                taken.update(subs)
+                cells = [normalise_cell(x) for x in raw]
             filled = [x for x in cells if x]
             if not filled:
                 continue                                    # spacer row
             if is_stop_text(filled[0]):
                 break                                       # notes inside the grid
-            raw = data[r]
             if headings is not None and _is_heading_row(cells, is_heading) and \
                     [h.lower() for h in cells] == [h.lower() for h in texts[hr]]:
                 continue                                    # heading repeated inside the grid
