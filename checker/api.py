@@ -151,9 +151,11 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         with np.errstate(all="ignore"):
             return case_working(ruleset, env, ex, int(idx[0]), findings[findings["cap"] == str(mark)], params)
 
-    # quantities per cap: its first load case (the working shows every case)
+    # quantities per cap: its first load case (the working shows every case); a quantity named only by
+    # serviceability rules (cases = "sls": the crack checks' stresses and wk) at their governing case
     quantities = {k: v[ex.starts] for k, v in derived.q.items()
                   if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == ex.cap.size}
+    quantities.update(_sls_quantities(ruleset, derived.q, _gov, ex.cap.size))
     return Review(
         findings=findings, caps=caps, rejected=list(schedule.rejected), rows_read=int(schedule.rows_read),
         profile_name=ruleset.profile.name, profile_params=params,
@@ -162,6 +164,22 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         notes=list(getattr(schedule, "notes", []) or []), cases=schedule.cases,
         case_rows=int(schedule.case_rows), _working=working,
     )
+
+
+def _sls_quantities(ruleset, q: dict, gov: dict, n_rows: int) -> dict:
+    """Quantities named only by serviceability rules, taken at those rules' governing case per cap."""
+    from checker.ruleset.cases import rule_names
+    from checker.ruleset.catalogue import LOAD_INDEPENDENT
+
+    sls = [r for r in ruleset.rules if r.cases == "sls" and r.id in gov]
+    others = set().union(*(rule_names(r) for r in ruleset.rules if r.cases != "sls"))
+    out = {}
+    for r in sls:
+        for k in rule_names(r) - others - LOAD_INDEPENDENT:
+            v = q.get(k)
+            if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == n_rows:
+                out[k] = v[gov[r.id]]
+    return out
 
 
 def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,
