@@ -171,11 +171,15 @@ def _sls_quantities(ruleset, q: dict, gov: dict, n_rows: int) -> dict:
     from checker.ruleset.cases import rule_names
     from checker.ruleset.catalogue import LOAD_INDEPENDENT
 
+    def named(r) -> set[str]:  # in its checks and in its texts (messages, actions, working)
+        texts = [r.message, r.ok_message, r.action, *r.working] + [t for c in r.checks for t in (c.message, c.action)]
+        return rule_names(r).union(*(t.names for t in texts if t is not None))
+
     sls = [r for r in ruleset.rules if r.cases == "sls" and r.id in gov]
-    others = set().union(*(rule_names(r) for r in ruleset.rules if r.cases != "sls"))
+    others = set().union(*(named(r) for r in ruleset.rules if r.cases != "sls"))
     out = {}
     for r in sls:
-        for k in rule_names(r) - others - LOAD_INDEPENDENT:
+        for k in named(r) - others - LOAD_INDEPENDENT:
             v = q.get(k)
             if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == n_rows:
                 out[k] = v[gov[r.id]]
