@@ -183,9 +183,11 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         with np.errstate(all="ignore"):
             return case_working(ruleset, env, ex, int(idx[0]), findings[findings["cap"] == str(mark)], params)
 
-    # quantities per cap: its first load case (the working shows every case)
+    # quantities per cap: its first load case (the working shows every case); a quantity named only by
+    # serviceability rules (cases = "sls": the crack checks' stresses and wk) at their governing case
     quantities = {k: v[ex.starts] for k, v in derived.q.items()
                   if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == ex.cap.size}
+    quantities.update(_sls_quantities(ruleset, derived.q, _gov, ex.cap.size))
     return Review(
         findings=findings, caps=caps, rejected=list(schedule.rejected), rows_read=int(schedule.rows_read),
         profile_name=ruleset.profile.name, profile_params=params,
@@ -194,6 +196,26 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         notes=list(getattr(schedule, "notes", []) or []), cases=schedule.cases,
         case_rows=int(schedule.case_rows), _working=working,
     )
+
+
+def _sls_quantities(ruleset, q: dict, gov: dict, n_rows: int) -> dict:
+    """Quantities named only by serviceability rules, taken at those rules' governing case per cap."""
+    from checker.ruleset.cases import rule_names
+    from checker.ruleset.catalogue import LOAD_INDEPENDENT
+
+    def named(r) -> set[str]:  # in its checks and in its texts (messages, actions, working)
+        texts = [r.message, r.ok_message, r.action, *r.working] + [t for c in r.checks for t in (c.message, c.action)]
+        return rule_names(r).union(*(t.names for t in texts if t is not None))
+
+    sls = [r for r in ruleset.rules if r.cases == "sls" and r.id in gov]
+    others = set().union(*(named(r) for r in ruleset.rules if r.cases != "sls"))
+    out = {}
+    for r in sls:
+        for k in named(r) - others - LOAD_INDEPENDENT:
+            v = q.get(k)
+            if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == n_rows:
+                out[k] = v[gov[r.id]]
+    return out
 
 
 def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,

@@ -77,6 +77,14 @@ def test_intended_findings_of_the_sample(run_json):
     for r in doc["results"]:
         if r["severity"] != "ok":
             bad.setdefault(r["cap"], {})[r["rule"]] = r["severity"]
+    # revision A gives no SLS loads: the crack checks (EN 1992-1-1:2004 7.3) ask for them on every cap
+    # with a tie in that direction, and say nothing else
+    asked = {(r["cap"], r["rule"]) for r in doc["results"] if r["rule"] in ("crack-x", "crack-y")
+             and r["severity"] == "query" and r["message"].startswith("No SLS (service) load case")}
+    assert {(c, rid) for c, rules in bad.items() for rid in rules if rid.startswith("crack-")} == asked
+    assert ("PC4", "crack-x") in asked and ("PC4", "crack-y") in asked and ("PC2", "crack-y") not in asked
+    bad = {c: {rid: s for rid, s in rules.items() if not rid.startswith("crack-")} for c, rules in bad.items()}
+    bad = {c: rules for c, rules in bad.items() if rules}
     assert bad["PC8"]["pile-spacing"] == "non-compliant"
     assert bad["PC9"]["edge-distance"] == "non-compliant"
     assert bad["PC10"]["strut-angle"] == "non-compliant"
@@ -110,7 +118,11 @@ def test_fail_on_and_exit_codes(capsys, tmp_path):
     lines = REV_A.read_text(encoding="utf-8").splitlines()
     clean.write_text("\n".join([lines[0]] + [l for l in lines if l.startswith("PC4,")]) + "\n", encoding="utf-8")
     assert main(["check", str(clean)]) == EXIT_OK
-    assert main(["check", str(clean), "--fail-on", "advisory"]) == EXIT_OK
+    # no SLS loads: the crack checks are queries asking for them (EN 1992-1-1:2004 7.3)
+    assert main(["check", str(clean), "--fail-on", "advisory"]) == EXIT_FINDINGS
+    # with the quasi-permanent load taken as 0.4 x ULS and the tables of 7.3.3(2) as the method: clean
+    assert main(["check", str(clean), "--fail-on", "advisory", "--set", "qp_ratio=0.4",
+                 "--drop-variant", "calculated"]) == EXIT_OK
     assert main(["check", str(tmp_path / "missing.csv")]) == EXIT_UNREADABLE
     err = capsys.readouterr().err
     assert "missing.csv" in err

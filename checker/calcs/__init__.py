@@ -21,6 +21,7 @@ against a licensed copy), [CP] common practice, [D] derived here, [V] verified i
 
 from checker.calcs import (  # noqa: F401
     anchorage,
+    cracking,
     detailing,
     materials,
     punching,
@@ -30,11 +31,12 @@ from checker.calcs import (  # noqa: F401
     strut_tie,
 )
 
-MODULES = (materials, reactions, strut_tie, shear, punching, anchorage, detailing, splitting)
+MODULES = (materials, reactions, strut_tie, shear, punching, anchorage, detailing, splitting, cracking)
 
 __all__ = [
     "MODULES",
     "anchorage",
+    "cracking",
     "detailing",
     "materials",
     "punching",

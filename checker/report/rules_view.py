@@ -20,7 +20,8 @@ from checker.caution import CAUTION
 from checker.report.terminal import print_caution, severity_text
 
 RULES_SCHEMA = "capcheck.rules/1"
-_GROUP_TITLES = {"detailing": "Detailing rules", "strength": "Strength rules", "": "Other rules"}
+_GROUP_TITLES = {"detailing": "Detailing rules", "strength": "Strength rules", "serviceability": "Serviceability rules",
+                 "": "Other rules"}
 
 
 def _params_of(names, profile) -> dict[str, dict[str, Any]]:

@@ -62,16 +62,21 @@ def variant_rows(review, mark: str) -> list[VariantRow]:
     env = _cap_env(review, int(idx[0]))
     f = review.findings
     accepted_by_rule: dict[str, set[str]] = {}
+    no_figures: set[str] = set()
     if len(f) and "variants_accepted" in f:
         mine = f[f["cap"].astype(str) == str(mark)]
         for rid, acc in zip(mine["rule"].astype(str), mine["variants_accepted"]):
             if isinstance(acc, str) and acc:
                 accepted_by_rule[rid] = set(acc.split("; "))
+        blank = mine["value"].astype(float).isna() & mine["limit"].astype(float).isna()
+        no_figures = set(mine.loc[blank, "rule"].astype(str))
     out: list[VariantRow] = []
     for rule in review.rules:
         combos = variant_combos(rule) if getattr(rule, "variants", ()) else []
         if len(combos) <= 1:
             continue
+        if getattr(rule, "cases", None) == "sls" and rule.id in no_figures:
+            continue  # a serviceability check without service loads (a query asking for them): no figures
         accepted = accepted_by_rule.get(rule.id)
         scale = OUTPUT_SCALE.get(rule.unit, 1.0)
         rows: list[VariantRow] = []

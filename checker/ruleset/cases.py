@@ -30,7 +30,15 @@ import pandas as pd
 
 from checker.findings import SEVERITY_ORDER
 from checker.ruleset.catalogue import LOAD_INDEPENDENT, QUANTITIES
-from checker.ruleset.evaluate import RuleResult, _put, assemble, evaluate_rule
+from checker.ruleset.evaluate import (
+    SLS_MISSING_ACTION,
+    SLS_MISSING_MESSAGE,
+    RuleResult,
+    _put,
+    assemble,
+    evaluate_rule,
+    sls_on_uls,
+)
 
 _RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
 _SEV = np.array(SEVERITY_ORDER, dtype=object)
@@ -149,6 +157,18 @@ def case_mode(rule) -> str | None:
     return "uls" if dependent else None
 
 
+def _eligible(mode: str, ex: Expanded, env: dict) -> np.ndarray:
+    """The rows (cases) a rule of this mode is checked on."""
+    if mode == "uls":
+        return ex.kind == "ULS"
+    if mode == "sls":
+        # a cap's SLS cases; where it has none, its ULS cases if the profile sets qp_ratio
+        has_sls = np.logical_or.reduceat(ex.kind == "SLS", ex.starts)[ex.cap] if ex.cap.size else np.zeros(0, bool)
+        ratio = float(env.get("qp_ratio", np.nan))
+        return (ex.kind == "SLS") | ((ex.kind == "ULS") & ~has_sls & np.isfinite(ratio))
+    return ex.kind == ex.basis
+
+
 def _kn(x: float) -> str:
     return f"{x / 1e3:.0f}"
 
@@ -176,7 +196,7 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
             results.append(res)
             continue
         core = evaluate_rule(rule, env, N, methods=methods_ex, render=False)
-        eligible = (ex.kind == "ULS") if mode == "uls" else (ex.kind == ex.basis)
+        eligible = _eligible(mode, ex, env)
         code = np.where(eligible, core.code.astype(np.int64), 99)
         util = np.where(eligible, np.nan_to_num(core.util, nan=-np.inf, posinf=1e300), -np.inf)
         order = np.lexsort((-util, code, ex.cap))
@@ -187,7 +207,20 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
         case[case == ""] = None
         # a check that does not apply to the cap (no tie along y of a two-pile cap ...) names no case
         case[np.isnan(res.value) & np.isnan(res.limit) & (res.code == _RANK["ok"])] = None
-        if none.any():
+        if mode == "sls":
+            # no SLS case: the ULS cases with qp_ratio (eligible above), else a query; a rule that
+            # does not apply to the cap stays not applicable (unless the cap has no loads at all)
+            on_uls = ~np.logical_or.reduceat(ex.kind == "SLS", ex.starts)
+            loads = ex.kind[gov] != ""
+            whats = {}
+            for c in np.flatnonzero(on_uls).tolist():
+                given = sorted(set(ex.kind[ex.starts[c]:ex.starts[c] + ex.counts[c]].tolist()) - {""})
+                whats[c] = f" (only {' and '.join(given)} loads are given)" if given else " (no loads are given)"
+            asked = sls_on_uls(rule, res, _Rows(env, gov, N), on_uls & loads, render, whats)
+            case[asked] = None
+            if (none & ~loads).any():
+                _no_case(rule, mode, res, none & ~loads, ex, env, case, render)
+        elif none.any():
             _no_case(rule, mode, res, none, ex, env, case, render)
         if render:
             named = np.flatnonzero(np.not_equal(case, None) & ~none)
@@ -268,6 +301,9 @@ def _no_case(rule, mode: str, res: RuleResult, none: np.ndarray, ex: Expanded, e
     for c in idx.tolist():
         given = kinds_of[c]
         what = f" (only {' and '.join(given)} loads are given)" if given else " (no loads are given)"
+        if mode == "sls":
+            _set(res, c, SLS_MISSING_MESSAGE.format(what=what), SLS_MISSING_ACTION, render)
+            continue
         _set(res, c, f"No ULS load case is given for this cap{what}: the check needs ULS loads.",
              "Give the ULS loads of this cap.", render)
 
@@ -308,14 +344,17 @@ def case_working(ruleset, env: dict, ex: Expanded, ci: int, findings_for_cap: pd
             for t in rule.working:
                 lines.append(WorkingLine(rule.id, "  " + t.render_one(env_one)))
         else:
+            eligible = _eligible(mode, ex, env)
             sub = _Rows(env, rows, N)
             res = evaluate_rule(rule, sub, count, render=True)
             for k, i in enumerate(rows.tolist()):
                 kind = ex.kind[i] or "no loads"
                 nm = ex.name[i] or kind
-                use = (kind == "ULS") if mode == "uls" else (kind == ex.basis[i])
+                use = bool(eligible[i])
                 note = "" if use else (f" (not compared: an {kind} case against a {ex.basis[i]} pile capacity)"
                                        if mode == "capacity-basis" else f" (not checked: an {kind} case)")
+                if use and mode == "sls" and kind == "ULS":
+                    note = f" (no SLS case: qp_ratio = {float(env.get('qp_ratio', np.nan)):g} times the ULS figures)"
                 lines.append(WorkingLine(rule.id, f"  load case {nm} ({kind}){note}:"))
                 for t in rule.working:
                     lines.append(WorkingLine(rule.id, "    " + t.render_one(per_case[k])))

@@ -35,6 +35,7 @@ import pandas as pd
 
 from checker import geometry as geo
 from checker.calcs import anchorage as anc
+from checker.calcs import cracking as crk
 from checker.calcs import detailing as det
 from checker.calcs import materials as mat
 from checker.calcs import punching as pun
@@ -61,6 +62,8 @@ DEFAULTS: dict[str, float | str] = {
     "cover_k1": 40.0, "eta1": 1.0, "fck_shear_max": 50.0, "stated_tolerance": 0.05,
     "material_values": "table", "tie_node": "centre", "shear_av": "inside-pile",
     "bending_section_inset": 0.0,
+    "qp_ratio": float("nan"), "wmax_x0": 0.3, "wmax_other": 0.3, "es": 200000.0, "crack_kt": 0.4,
+    "crack_k1": 0.8, "crack_k2": 0.5, "crack_k3": 3.4, "crack_k4": 0.425,
 }
 
 #: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
@@ -475,6 +478,13 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     q["pla_ratio_pile"] = np.where(single, pla_pile, np.nan)
     q["pile_bearing_limit"] = np.where(single, st.partially_loaded_limit(fcd, pla_pile), np.nan)
 
+    # ---- crack control of the bottom steel (EN 1992-1-1 7.3), crack-x / crack-y -------------
+    # steel stress T/As counted of the tie check's truss under the SLS case (self-weight unfactored);
+    # on a ULS row qp_ratio x the ULS stress (NaN unless the profile sets the ratio). Two accepted
+    # methods, each as the largest steel stress it allows: Tables 7.2N (with Eq. (7.6N)) or 7.3N,
+    # either met (7.3.3(2)); and the calculated wk of 7.3.4 against wmax
+    q.update(_crack_quantities(caps, q, f, p, n))
+
     # ---- the designer's figures ---------------------------------------------------------
     # a schedule's single "d" is compared with the mean of the two layers' effective depths (they
     # differ by about one bar diameter, well inside the tolerance, so either layer's d also agrees)
@@ -503,6 +513,58 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
                    piles={"R": R, "R_col": R_col, "Hx": Hx, "Hy": Hy, "theta": theta, "r": r,
                           "face_dist": face_dist},
                    text={"stated_diff_what": what})
+
+
+def _crack_quantities(caps: pd.DataFrame, q: dict, f: dict, p: dict, n: int) -> dict[str, np.ndarray]:
+    """Crack control of the bottom steel (EN 1992-1-1:2004 7.3): the quantities of crack-x/crack-y.
+
+    Per layer k (x: the lowest, cover c; y: the second, cover c + phi_x): sigma_sls_k = T/As of the
+    tie check (the governing row or the whole layer, whichever it reports), sigma_qp_k the stress the
+    check uses (the SLS case's own, or qp_ratio x the ULS stress on a ULS row), the Table 7.2N/7.3N
+    limit (either table), the calculated-width limit, and wk at sigma_qp_k.
+    """
+    out: dict[str, np.ndarray] = {}
+    ratio = float(_pget(p, "qp_ratio"))
+    sls = np.zeros(n, bool)
+    if "case_kind" in caps.columns:
+        sls = caps["case_kind"].to_numpy(dtype=object) == "SLS"
+    exp_codes, exp_uniq = pd.factorize(_text(caps, "exposure", n))
+    wmax_u = crk.wmax_exposure(np.asarray(exp_uniq, dtype=str), wmax_x0=float(_pget(p, "wmax_x0")),
+                               wmax_other=float(_pget(p, "wmax_other")))
+    wmax = wmax_u[exp_codes] if n else np.zeros(0)
+    es = float(_pget(p, "es"))
+    kt = float(_pget(p, "crack_kt"))
+    ks = {k: float(_pget(p, f"crack_{k}")) for k in ("k1", "k2", "k3", "k4")}
+    fct = q["fctm"]
+    alpha_e = es / mat.ecm(f["fck"], values=str(_pget(p, "material_values")))
+    h = f["cap_depth"]
+    out.update(wmax=wmax, alpha_e=alpha_e, fct_eff=fct)
+    for k, d, width, as_l, phi, centres, c in (
+            ("x", q["d_x"], f["cap_width"], q["as_x"], f["phi_x"], q["centres_x"], f["cover"]),
+            ("y", q["d_y"], f["cap_length"], q["as_y"], f["phi_y"], q["centres_y"], f["cover"] + f["phi_x"])):
+        sig = crk.steel_stress_service(q[f"tie_{k}"], q[f"as_tie_{k}"])
+        sig = np.where(q[f"tie_{k}"] > 0, sig, np.nan)
+        factor = crk.phi_factor_bending(fct, h, d)
+        lim_phi = crk.stress_limit_phi(phi, wmax, factor)
+        lim_s = crk.stress_limit_spacing(centres, wmax)
+        x = crk.neutral_axis_cracked(d, as_l / (width * d), alpha_e)
+        hce = crk.hc_eff(h, d, x)
+        rho = crk.rho_p_eff(as_l, width * hce)
+        close = centres <= crk.close_centres_limit(c, phi) * (1 + 1e-9)
+        sr = np.where(close, crk.sr_max_close(c, phi, rho, **ks), crk.sr_max_far(h, x))
+        sig_qp = np.where(sls, sig, ratio * sig)
+        eps = crk.strain_difference(sig_qp, alpha_e, rho, fct, kt=kt, es=es)
+        out.update({
+            f"sigma_sls_{k}": sig, f"sigma_qp_{k}": sig_qp,
+            f"crack_phi_factor_{k}": factor, f"crack_phi_star_{k}": phi / factor,
+            f"crack_sigma_phi_{k}": lim_phi, f"crack_sigma_s_{k}": lim_s,
+            f"crack_limit_{k}": np.fmax(lim_phi, lim_s),
+            f"x_cr_{k}": x, f"hc_ef_{k}": hce, f"rho_p_eff_{k}": rho, f"crack_c_{k}": np.asarray(c, dtype=float),
+            f"crack_close_{k}": crk.close_centres_limit(c, phi), f"sr_max_{k}": sr,
+            f"crack_limit_calc_{k}": crk.stress_limit_crack_width(wmax, sr, alpha_e, rho, fct, kt=kt, es=es),
+            f"eps_crack_{k}": eps, f"wk_{k}": crk.crack_width(sr, eps),
+        })
+    return out
 
 
 def _rel_diff(stated: np.ndarray, checked: np.ndarray) -> np.ndarray:

@@ -441,8 +441,52 @@ def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | 
     if n == 0:
         return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
     methods = caps["method"].to_numpy(dtype=object) if "method" in caps else None
-    results = [evaluate_rule(r, env, n, methods=methods, render=render) for r in ruleset.rules]
+    results = []
+    for r in ruleset.rules:
+        res = evaluate_rule(r, env, n, methods=methods, render=render)
+        if r.cases == "sls":  # one ULS case per cap here: no SLS case
+            sls_on_uls(r, res, env, np.ones(n, bool), render)
+        results.append(res)
     return assemble(results, caps)
+
+
+SLS_MISSING_MESSAGE = ("No SLS (service) load case is given for this cap{what}: the check needs the "
+                       "quasi-permanent loads.")
+SLS_MISSING_ACTION = ("Give the SLS (quasi-permanent) loads of this cap, or set the profile parameter qp_ratio "
+                      "(quasi-permanent over ULS load).")
+
+
+def sls_on_uls(rule: Rule, res: RuleResult, env, rows: np.ndarray, render, whats=None) -> np.ndarray:
+    """A serviceability rule (``cases = "sls"``) evaluated on the ULS case of caps that have no SLS
+    case (``rows``): where the profile sets ``qp_ratio`` the quantities already carry the ratio, and
+    the message says so; otherwise a ``query`` asking for the SLS loads. A rule that does not apply to
+    the cap stays not applicable. Returns the caps made a query."""
+    n = rows.size
+    ratio = float(env.get("qp_ratio", np.nan))
+    applies = _as_bool(rule.applies(env), n) if rule.applies is not None else np.ones(n, bool)
+    idx = np.flatnonzero(rows & applies)
+    if idx.size == 0:
+        return idx
+    if np.isfinite(ratio):
+        if render:
+            note = (f" No SLS load case is given: the service figures are qp_ratio = {ratio:g} times those "
+                    f"of the ULS case (profile parameter).")
+            said = idx[res.message[idx] != ""]
+            _put(res.message, said, [m + note for m in res.message[said].tolist()])
+        return idx[:0]
+    res.code[idx] = _RANK["query"]
+    res.severity[idx] = "query"
+    res.value[idx] = np.nan
+    res.limit[idx] = np.nan
+    res.util[idx] = np.nan
+    if res.variants is not None:
+        for k, v in res.variants.items():
+            v[idx] = np.nan if k.startswith("util") else None
+    if render:
+        what = [""] * idx.size if whats is None else [whats[i] for i in idx.tolist()]
+        _put(res.message, idx, [SLS_MISSING_MESSAGE.format(what=w) for w in what])
+        _put(res.action, idx, [SLS_MISSING_ACTION] * idx.size)
+    return idx
 
 
 def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:

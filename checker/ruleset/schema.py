@@ -112,8 +112,10 @@ class RuleSpec(_Strict):
     variant: list[VariantSpec] = Field(default_factory=list, max_length=12)
     #: over the load cases of a cap (issue 11): "uls" (default for a rule that names a load-dependent
     #: quantity) every ULS case, the governing one reported; "capacity-basis" the cases of the pile
-    #: capacity's basis (ULS or SLS); "envelope" the largest of each quantity over the ULS cases
-    cases: Literal["uls", "capacity-basis", "envelope"] | None = None
+    #: capacity's basis (ULS or SLS); "envelope" the largest of each quantity over the ULS cases;
+    #: "sls" every SLS case (a serviceability check), or, for a cap with no SLS case, its ULS cases
+    #: where the profile sets qp_ratio (the quasi-permanent over the ULS load), else a query
+    cases: Literal["uls", "capacity-basis", "envelope", "sls"] | None = None
 
     @field_validator("id")
     @classmethod

@@ -93,6 +93,8 @@ def bare_numpy(q: dict, p: dict) -> dict:
     ok["anchorage-x"] = q["lb_avail_x"] >= q["lbd_x"]
     ok["anchorage-y"] = q["lb_avail_y"] >= q["lbd_y"]
     ok["stated-vs-checked"] = ~(q["stated_diff"] > p["stated_tolerance"])
+    ok["crack-x"] = q["sigma_qp_x"] <= q["crack_limit_x"]
+    ok["crack-y"] = q["sigma_qp_y"] <= q["crack_limit_y"]
     return ok
 
 
