@@ -12,13 +12,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-
-@dataclass(frozen=True)
-class WorkingLine:
-    """One line of the calculation trace for one cap."""
-
-    rule: str
-    text: str
+from checker.findings import WorkingLine  # the trace line type is the findings model's (re-exported)
 
 
 @dataclass

@@ -233,7 +233,7 @@ def cmd_rules(args, out: Console, err: Console) -> int:
 def cmd_columns(args, out: Console, err: Console) -> int:
     from checker.report.preview import print_preview
 
-    return print_preview(args, out, err)
+    return EXIT_OK if print_preview(args, out, err) else EXIT_UNREADABLE
 
 
 def _demo_dir(base: Path) -> Path:

@@ -12,26 +12,8 @@ from rich.text import Text
 
 from checker.caution import CAUTION
 from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, source_of
+from checker.report.palette import LABEL, STYLE, severity_text  # noqa: F401  (the one palette)
 
-# capcheck's own palette: one style per severity, used by every terminal view
-STYLE = {
-    "unsafe": "bold white on red3",
-    "non-compliant": "bold dark_orange",
-    "query": "bold magenta",
-    "advisory": "cyan",
-    "ok": "green",
-}
-LABEL = {
-    "unsafe": "UNSAFE",
-    "non-compliant": "NON-COMPLIANT",
-    "query": "QUERY",
-    "advisory": "ADVISORY",
-    "ok": "ok",
-}
-
-
-def severity_text(sev: str) -> Text:
-    return Text(f" {LABEL[sev]} ", style=STYLE[sev])
 
 
 def _fmt(v, unit: str) -> str:
@@ -171,7 +153,7 @@ def print_working(review, mark: str, console: Console) -> None:
                           Text(line.text))
             continue
         console.print(Text(line.text))
-    from checker.report.variants_table import variants_table  # here: variants_table imports this module
+    from checker.report.variants_table import variants_table  # deferred: it loads the rule engine
 
     table = variants_table(review, mark)
     if table is not None:

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER
+from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER, WorkingLine
 from checker.ruleset.catalogue import OUTPUT_SCALE
 from checker.ruleset.loader import Rule, RuleSet
 
@@ -470,8 +470,6 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
 def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.DataFrame | None = None):
     """The calculation trace of cap row ``i``: per rule its clause, the formula lines with the
     values substituted, and the verdict."""
-    from checker.api import WorkingLine
-
     scalar_env = {}
     for k, v in env.items():
         if isinstance(v, np.ndarray) and v.ndim == 1:
