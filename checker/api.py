@@ -31,11 +31,20 @@ class Review:
     quantities: dict[str, np.ndarray] = field(default_factory=dict)  # derived arrays, index = caps row
     notes: list[str] = field(default_factory=list)
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
+    _working_many: Any = None              # callable(marks) -> {mark: {rule: working lines}}
 
     def working(self, mark: str) -> list[WorkingLine]:
         if self._working is None:
             return []
         return self._working(mark)
+
+    def working_by_rule(self, marks: list[str]) -> dict[str, dict[str, list[str]]] | None:
+        """``{mark: {rule id: working lines}}`` for many caps at once, each rule's lines as in
+        :meth:`working` (heading, formula lines, verdict), stripped of their indent; None when
+        this Review cannot do it in one pass (then ask :meth:`working` cap by cap)."""
+        if self._working_many is None:
+            return None
+        return self._working_many(marks)
 
     def quantity(self, mark: str, name: str) -> float:
         idx = np.flatnonzero(self.caps["mark"].astype(str).to_numpy() == str(mark))
@@ -64,7 +73,7 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
     ``messages="issues"`` renders the message text of results that are not ``ok`` only (passed
     checks keep an empty message): the fast path for very large schedules on the terminal."""
     from checker.ruleset.derive import derive
-    from checker.ruleset.evaluate import evaluate, working_lines
+    from checker.ruleset.evaluate import evaluate, working_lines, working_many
 
     caps = schedule.caps.reset_index(drop=True)
     params = dict(ruleset.profile.params)
@@ -82,11 +91,32 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
             sel = mask[i]
             pile_xy[m] = np.column_stack([X[i][sel], Y[i][sel]])
 
+    row_of = {m: i for i, m in reversed(list(enumerate(marks.tolist())))}
+    by_cap: dict[str, np.ndarray] = {}   # findings rows of each cap, grouped once on first use
+
+    def findings_of(mark: str) -> pd.DataFrame:
+        if not by_cap and len(findings):
+            by_cap.update(findings.groupby(findings["cap"].astype(str), sort=False).indices)
+        return findings.iloc[by_cap.get(str(mark), np.array([], dtype=np.int64))]
+
     def working(mark: str):
-        idx = np.flatnonzero(marks == str(mark))
-        if idx.size == 0:
+        i = row_of.get(str(mark))
+        if i is None:
             return []
-        return working_lines(ruleset, env, int(idx[0]), findings[findings["cap"] == str(mark)])
+        return working_lines(ruleset, env, i, findings_of(mark))
+
+    def many(wanted: list[str]) -> dict[str, dict[str, list[str]]]:
+        rows = [row_of[m] for m in dict.fromkeys(str(m) for m in wanted) if m in row_of]
+        cols = working_many(ruleset, env, np.array(rows, dtype=np.int64))
+        out = {marks[i]: {rid: [t.strip() for t in per_cap[k]] for rid, per_cap in cols.items()}
+               for k, i in enumerate(rows)}
+        f = findings
+        fmarks = f["cap"].astype(str).tolist()
+        for m, r, sev, msg in zip(fmarks, f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
+            lines = out.get(m, {}).get(r)
+            if lines is not None:
+                lines.append(f"  -> {sev}: {msg}".strip())
+        return out
 
     return Review(
         findings=findings,
@@ -103,6 +133,7 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all")
         quantities=dict(derived.q),
         notes=list(getattr(schedule, "notes", []) or []),
         _working=working,
+        _working_many=many,
     )
 
 

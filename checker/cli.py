@@ -192,9 +192,9 @@ def cmd_check(args, out: Console, err: Console) -> int:
     rv = _review(args, err, messages="issues" if brief else "all")
     meta = _meta(args)
     if args.format == "json":
-        from checker.report.json_out import dumps
+        from checker.report.json_out import write_document
 
-        sys.stdout.write(dumps(rv, working=args.working) + "\n")
+        write_document(rv, sys.stdout.write, working=args.working)
     else:
         from checker.report.terminal import print_findings
 
