@@ -109,6 +109,11 @@ def none_if_nan(v: Any) -> Any:
 def _none_if_nan(v: Any) -> Any:
     if v is None:
         return None
+    t = type(v)
+    if t is str or t is int:
+        return v
+    if t is float:
+        return None if v != v else v
     try:
         if pd.isna(v):
             return None

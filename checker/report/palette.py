@@ -1,9 +1,13 @@
 """capcheck's terminal palette: one style and one label per severity, used by every terminal view
-(the findings list, ``capcheck explain`` and its table of accepted methods, ``capcheck rules``)."""
+(the findings list, ``capcheck explain`` and its table of accepted methods, ``capcheck rules``),
+and the sizes of the findings view (light: the command line reads them for its help)."""
 
 from __future__ import annotations
 
 from rich.text import Text
+
+LIST_ALL_UP_TO = 40      # caps: up to this many the terminal lists every cap's findings
+WORST_CAPS = 20          # caps listed in full under the summary view (--worst N)
 
 STYLE = {
     "unsafe": "bold white on red3",
