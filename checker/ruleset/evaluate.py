@@ -487,9 +487,10 @@ def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.Data
         else:
             scalar_env[k] = v
     verdicts = {}
-    if findings_for_cap is not None:
-        for row in findings_for_cap.to_dict("records"):
-            verdicts[row["rule"]] = row
+    if findings_for_cap is not None and len(findings_for_cap):
+        f = findings_for_cap
+        for rid, sev, msg in zip(f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
+            verdicts[rid] = {"severity": sev, "message": msg}
     lines = []
     for rule in ruleset.rules:
         lines.append(WorkingLine(rule.id, f"{rule.title} [{rule.clause}]"))
