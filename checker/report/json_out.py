@@ -12,7 +12,6 @@ from __future__ import annotations
 import io
 import itertools
 import json
-import math
 from pathlib import Path
 from typing import Any, Callable, Iterator
 

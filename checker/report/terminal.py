@@ -13,7 +13,6 @@ finding: rich measures and wraps every segment, which took half a minute for 10,
 from __future__ import annotations
 
 import math
-from typing import Callable
 
 import numpy as np
 import pandas as pd
