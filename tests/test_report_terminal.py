@@ -110,3 +110,13 @@ def test_cli_piped_to_a_file_loses_nothing(tmp_path, capsys, big):
     assert len(_cap_headings(capsys.readouterr().out)) == N_CAPS
     with pytest.raises(SystemExit):
         main(["check", str(src), "--worst", "-1"])
+
+
+def test_a_recording_console_keeps_the_list():
+    rv = checker.review(synthetic_schedule(5, seed=5))
+    con = Console(record=True, width=100, color_system=None, file=io.StringIO())
+    print_findings(rv, con)
+    text = con.export_text()
+    assert set(_cap_headings(text)) == set(rv.findings["cap"])
+    for msg in rv.findings.loc[rv.findings["severity"] != "ok", "message"]:
+        assert _flat(msg) in _flat(text)
