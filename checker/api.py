@@ -12,13 +12,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-
-@dataclass(frozen=True)
-class WorkingLine:
-    """One line of the calculation trace for one cap."""
-
-    rule: str
-    text: str
+from checker.findings import WorkingLine  # the trace line type is the findings model's (re-exported)
 
 
 @dataclass
@@ -43,11 +37,20 @@ class Review:
     unused_headings: list[str] = field(default_factory=list)       # headings of the schedule not read
     remedy: Any = None                     # checker.remedy.RemedyResult: what would pass (issue 16), or None
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
+    _working_many: Any = None              # callable(marks) -> {mark: {rule: working lines}}
 
     def working(self, mark: str) -> list[WorkingLine]:
         if self._working is None:
             return []
         return self._working(mark)
+
+    def working_by_rule(self, marks: list[str]) -> dict[str, dict[str, list[str]]] | None:
+        """``{mark: {rule id: working lines}}`` for many caps at once, each rule's lines as in
+        :meth:`working` (heading, formula lines, verdict), stripped of their indent; None when
+        this Review cannot do it in one pass (then ask :meth:`working` cap by cap)."""
+        if self._working_many is None:
+            return None
+        return self._working_many(marks)
 
     def quantity(self, mark: str, name: str) -> float:
         idx = np.flatnonzero(self.caps["mark"].astype(str).to_numpy() == str(mark))
@@ -76,10 +79,6 @@ class Review:
         return {"load_cases": int(len(self.cases)), "case_rows": int(self.case_rows)}
 
 
-def _numeric_params(params: dict[str, Any]) -> dict[str, float]:
-    return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
-
-
 def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all", remedy: bool = False) -> Review:
     """Derive every quantity once, evaluate every rule, and wrap it all in a Review.
 
@@ -98,7 +97,7 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all",
 
 def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
     from checker.ruleset.derive import derive
-    from checker.ruleset.evaluate import evaluate, working_lines
+    from checker.ruleset.evaluate import evaluate, numeric_params, working_lines, working_many
 
     caps = schedule.caps.reset_index(drop=True)
     params = dict(ruleset.profile.params)
@@ -107,7 +106,7 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
     with np.errstate(all="ignore"):  # NaN/inf mark "not applicable" in the arrays; no warnings for users
         derived = derive(caps, schedule.coords, params)
         env: dict[str, Any] = dict(derived.q)
-        env.update(_numeric_params(params))
+        env.update(numeric_params(params))
         findings = evaluate(ruleset, env, caps, render=True if messages == "all" else "issues")
 
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
@@ -119,13 +118,20 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
             pile_xy[m] = np.column_stack([X[i][sel], Y[i][sel]])
 
     applied = list(getattr(schedule, "applied", []) or [])
+    row_of = {m: i for i, m in reversed(list(enumerate(marks.tolist())))}
+    by_cap: dict[str, np.ndarray] = {}   # findings rows of each cap, grouped once on first use
+
+    def findings_of(mark: str) -> pd.DataFrame:
+        if not by_cap and len(findings):
+            by_cap.update(findings.groupby(findings["cap"].astype(str), sort=False).indices)
+        return findings.iloc[by_cap.get(str(mark), np.array([], dtype=np.int64))]
 
     def working(mark: str):
-        idx = np.flatnonzero(marks == str(mark))
-        if idx.size == 0:
+        i = row_of.get(str(mark))
+        if i is None:
             return []
-        lines = working_lines(ruleset, env, int(idx[0]), findings[findings["cap"] == str(mark)])
-        given = applied[int(idx[0])] if int(idx[0]) < len(applied) else []
+        lines = working_lines(ruleset, env, i, findings_of(mark))
+        given = applied[i] if i < len(applied) else []
         if not given:
             return lines
         out, current = [], None
@@ -134,6 +140,24 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
             if line.rule != current:
                 current = line.rule
                 out.extend(WorkingLine(line.rule, f"  input: {t}") for t in given)
+        return out
+
+    def many(wanted: list[str]) -> dict[str, dict[str, list[str]]]:
+        rows = [row_of[m] for m in dict.fromkeys(str(m) for m in wanted) if m in row_of]
+        cols = working_many(ruleset, env, np.array(rows, dtype=np.int64))
+        out = {marks[i]: {rid: [t.strip() for t in per_cap[k]] for rid, per_cap in cols.items()}
+               for k, i in enumerate(rows)}
+        for i in rows:                      # the project-file values under each check's heading
+            given = applied[i] if i < len(applied) else []
+            if given:
+                for lines in out[marks[i]].values():
+                    lines[1:1] = [f"input: {t}" for t in given]
+        f = findings
+        fmarks = f["cap"].astype(str).tolist()
+        for m, r, sev, msg in zip(fmarks, f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
+            lines = out.get(m, {}).get(r)
+            if lines is not None:
+                lines.append(f"  -> {sev}: {msg}".strip())
         return out
 
     return Review(
@@ -154,19 +178,21 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
         table_problems=list(getattr(schedule, "problems", []) or []),
         unused_headings=list(getattr(schedule, "unmapped", []) or []),
         _working=working,
+        _working_many=many,
     )
 
 
 def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params: dict, messages: str) -> Review:
     """check_schedule over the load cases (checker/ruleset/cases.py)."""
     from checker.ruleset.cases import case_working, evaluate_cases, expand
+    from checker.ruleset.evaluate import numeric_params
     from checker.ruleset.derive import derive
 
     ex = expand(caps, schedule.cases)
     with np.errstate(all="ignore"):
         derived = derive(ex.frame, schedule.coords, params)
         env: dict[str, Any] = dict(derived.q)
-        env.update(_numeric_params(params))
+        env.update(numeric_params(params))
         findings, _gov = evaluate_cases(ruleset, env, ex, caps, params,
                                         render=True if messages == "all" else "issues")
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)

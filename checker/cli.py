@@ -12,6 +12,7 @@ from rich.text import Text
 
 from checker.findings import SEVERITY_ORDER
 from checker.ingest.limits import MAX_PDF_PAGES, MAX_ROWS
+from checker.report.palette import LIST_ALL_UP_TO, WORST_CAPS
 
 EXIT_OK = 0            # nothing at or above --fail-on
 EXIT_FINDINGS = 1      # something at or above --fail-on
@@ -25,6 +26,16 @@ def sample_dir() -> Path:
     from checker.resources import data_dir
 
     return data_dir("sample_submissions")
+
+
+def _count(text: str) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, not '{text}'") from None
+    if n < 0:
+        raise argparse.ArgumentTypeError(f"expected 0 or more, not {n}")
+    return n
 
 
 def _kv(text: str) -> tuple[str, str]:
@@ -88,6 +99,12 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--fail-on", choices=SEVERITY_ORDER[:-1], default="unsafe",
                    help="exit 1 when a finding at or above this severity exists (default unsafe)")
     c.add_argument("--all", action="store_true", help="list passed checks too")
+    c.add_argument("--full", action="store_true",
+                   help="list every cap's findings on the terminal, however many caps (beyond "
+                        f"{LIST_ALL_UP_TO} caps the terminal shows a summary and the worst caps; "
+                        "output to a file or a pipe is always the full list)")
+    c.add_argument("--worst", type=_count, default=WORST_CAPS, metavar="N",
+                   help=f"caps listed in full under the summary view (default {WORST_CAPS})")
     c.add_argument("--working", action="store_true", help="include the working in the JSON")
     c.add_argument("--force", action="store_true", help="overwrite existing output files")
     c.add_argument("--previous", metavar="SHEET", help="the previous revision's comment sheet (.xlsx) to carry responses from")
@@ -224,13 +241,14 @@ def cmd_check(args, out: Console, err: Console) -> int:
     rv = _review(args, err, messages="issues" if brief else "all")
     meta = _meta(args)
     if args.format == "json":
-        from checker.report.json_out import dumps
+        from checker.report.json_out import write_document
 
-        sys.stdout.write(dumps(rv, working=args.working) + "\n")
+        write_document(rv, sys.stdout.write, working=args.working)
     else:
         from checker.report.terminal import print_findings
 
-        print_findings(rv, out, show_ok=args.all)
+        print_findings(rv, out, show_ok=args.all, listing="full" if args.full else "auto",
+                       worst=args.worst)
     written = write_files(rv, args.output, force=args.force, meta=meta, previous_path=args.previous,
                           console_err=err)
     for p in written:
@@ -274,7 +292,7 @@ def cmd_rules(args, out: Console, err: Console) -> int:
 def cmd_columns(args, out: Console, err: Console) -> int:
     from checker.report.preview import print_preview
 
-    return print_preview(args, out, err)
+    return EXIT_OK if print_preview(args, out, err, defaults=_project_defaults(args)) else EXIT_UNREADABLE
 
 
 def _demo_dir(base: Path) -> Path:

@@ -92,6 +92,14 @@ class Finding:
         return comment_key(self.cap, self.rule)
 
 
+@dataclass(frozen=True)
+class WorkingLine:
+    """One line of the calculation trace of one cap: the rule it belongs to and its text."""
+
+    rule: str
+    text: str
+
+
 def comment_key(cap: str, rule: str) -> str:
     return f"{cap}/{rule}"
 
@@ -104,6 +112,11 @@ def none_if_nan(v: Any) -> Any:
 def _none_if_nan(v: Any) -> Any:
     if v is None:
         return None
+    t = type(v)
+    if t is str or t is int:
+        return v
+    if t is float:
+        return None if v != v else v
     try:
         if pd.isna(v):
             return None
@@ -159,6 +172,32 @@ def sort_findings(frame: pd.DataFrame) -> pd.DataFrame:
     rank = frame["severity"].map({s: i for i, s in enumerate(SEVERITY_ORDER)})
     out = frame.assign(_rank=rank).sort_values(["_rank", "cap", "rule"], kind="stable")
     return out.drop(columns="_rank").reset_index(drop=True)
+
+
+def severity_rank(severity: str) -> int:
+    """0 = worst; unknown or empty severities rank after ``ok``."""
+    try:
+        return SEVERITY_ORDER.index(str(severity).strip().lower())
+    except ValueError:
+        return len(SEVERITY_ORDER)
+
+
+def records(frame: pd.DataFrame, columns: tuple[str, ...] | list[str] | None = None) -> list[dict[str, Any]]:
+    """The rows of ``frame`` as dicts, like ``frame.to_dict("records")`` (NaN stays NaN, numpy
+    scalars become Python ones) but built column by column: one ``tolist()`` per column instead
+    of boxing every cell, several times faster on a findings frame of 250,000 rows."""
+    if frame is None or len(frame) == 0:
+        return []
+    cols = [c for c in (columns or frame.columns) if c in frame.columns]
+    values = [frame[c].tolist() for c in cols]
+    return [dict(zip(cols, row)) for row in zip(*values)]
+
+
+def comment_records(frame: pd.DataFrame) -> list[dict[str, Any]]:
+    """The findings rows that become comments (severity not ``ok``), in the one sort order."""
+    if frame is None or len(frame) == 0:
+        return []
+    return records(sort_findings(frame[frame["severity"] != "ok"]))
 
 
 def count_by_severity(frame: pd.DataFrame) -> dict[str, int]:

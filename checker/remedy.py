@@ -168,7 +168,7 @@ class _Engine:
         return code, util
 
     def _run(self, frame: pd.DataFrame, parent: np.ndarray):
-        from checker.api import _numeric_params
+        from checker.ruleset.evaluate import numeric_params
         from checker.ruleset.derive import _derive_arrays
         from checker.ruleset.evaluate import evaluate_rule
 
@@ -183,7 +183,7 @@ class _Engine:
                 X, Y, M = (np.asfortranarray(a[parent]) for a in (self.X, self.Y, self.mask))
                 d = _derive_arrays(frame, X, Y, M, dict(self.params))
                 env = dict(d.q)
-                env.update(_numeric_params(self.params))
+                env.update(numeric_params(self.params))
                 methods = frame["method"].to_numpy(dtype=object) if "method" in frame else None
                 for j, rule in enumerate(self.rules):
                     res = evaluate_rule(rule, env, n, methods=methods, render=False)
@@ -193,7 +193,7 @@ class _Engine:
             return self._run_cases(frame, parent, code, util)
 
     def _run_cases(self, frame, parent, code, util):
-        from checker.api import _numeric_params
+        from checker.ruleset.evaluate import numeric_params
         from checker.ruleset.cases import evaluate_cases, expand
         from checker.ruleset.derive import _derive_arrays
 
@@ -206,7 +206,7 @@ class _Engine:
         X, Y, M = (np.asfortranarray(a[rows]) for a in (self.X, self.Y, self.mask))
         d = _derive_arrays(ex.frame, X, Y, M, dict(self.params))
         env = dict(d.q)
-        env.update(_numeric_params(self.params))
+        env.update(numeric_params(self.params))
         f, _gov = evaluate_cases(self.ruleset, env, ex, frame, self.params, render=False)
         r = pd.Index(self.ids).get_indexer(f["rule"].astype(str))
         c = f["cap"].astype(int).to_numpy()

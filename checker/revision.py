@@ -29,21 +29,38 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from checker.findings import comment_key
+from checker.findings import comment_key, comment_records, records, severity_rank
 from checker.ingest.errors import IngestError
-from checker.report.comments import (
-    COMMENTS_SHEET,
-    COVER_SHEET,
-    DATA_COLUMNS,
-    DATA_MARKER,
-    DATA_SHEET,
-    STATUSES,
-    comment_findings,
-    severity_rank,
-)
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
+
+# The comment workbook's layout, owned here because this module reads back what the sheet writer
+# (checker.report.sheet) writes: the writers import these names, never the other way round.
+STATUSES: tuple[str, ...] = ("open", "closed", "superseded")
+COVER_SHEET = "Cover"
+COMMENTS_SHEET = "Comments"
+ALL_CHECKS_SHEET = "All checks"
+REJECTED_SHEET = "Rejected rows"
+DATA_SHEET = "capcheck-data"          # hidden: the tool's own figures per key, for the next revision
+DATA_MARKER = "capcheck.sheet/1"
+DATA_COLUMNS: tuple[str, ...] = (
+    "key",
+    "no",
+    "cap",
+    "rule",
+    "severity",
+    "tool_severity",
+    "tool_utilisation",
+    "value",
+    "limit",
+    "unit",
+    "message",
+    "state",
+    "status_written",
+    "basis_severity",
+    "basis_utilisation",
+)
 
 # Utilisation increases smaller than this are not treated as "worse" (figures are shown to 2 d.p.).
 WORSE_UTILISATION_TOLERANCE = 1e-3
@@ -491,12 +508,12 @@ def carry_over(review: "Review", previous: PreviousSheet) -> RevisionResult:
     """Match the previous sheet's comments to ``review`` by key and decide each new status."""
     label = next_revision(previous.revision)
     n = _REV_TOKEN          # notes are written with placeholders, then rendered (see relabel)
-    rows = comment_findings(review)
+    frame = review.findings
+    rows = comment_records(frame)
     current = {comment_key(str(r["cap"]), str(r["rule"])): r for r in rows}
     all_results: dict[str, dict[str, Any]] = {}
-    frame = review.findings
     if frame is not None and len(frame):
-        for r in frame.to_dict("records"):
+        for r in records(frame):
             all_results[comment_key(str(r["cap"]), str(r["rule"]))] = r
     caps_now: set[str] = set()
     if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):

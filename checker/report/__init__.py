@@ -13,13 +13,12 @@ force an existing name is replaced by the next free ``-revN`` name (see
 from __future__ import annotations
 
 import datetime as _dt
-import inspect
+import io
 import tomllib
-import warnings
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from checker.report.writefile import next_free_name, write_atomic, write_atomic_via_path
+from checker.report.writefile import next_free_name, write_atomic
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
@@ -129,8 +128,7 @@ def write_outputs(review: "Review", paths: list[str | Path], *, force: bool = Fa
     defaults). ``previous``: a :class:`checker.revision.RevisionResult` to carry numbers,
     responses and statuses into the new documents. Without ``force`` a name already taken is
     replaced by the next free ``-revN`` name; with ``force`` the file is replaced atomically.
-    A ``.json`` path is handed to the spine's ``checker.report.json_out.write_json``; if that
-    module is not there the path is skipped with a warning.
+    A ``.json`` path gets the JSON contract of ``checker.report.json_out`` with the working.
     """
     from checker.report.comments import build_comments
 
@@ -149,9 +147,7 @@ def write_outputs(review: "Review", paths: list[str | Path], *, force: bool = Fa
     for p in requested:
         kind = FORMATS[p.suffix.lower()]
         if kind == "json":
-            res = _write_json(review, p, force=force, meta=meta_r)
-            if res is not None:
-                written.append(res)
+            written.append(_write_json(review, p, force=force, meta=meta_r))
             continue
         target = _target(p, force)
         if kind == "sheet":
@@ -173,24 +169,17 @@ def write_outputs(review: "Review", paths: list[str | Path], *, force: bool = Fa
     return written
 
 
-def _write_json(review: "Review", path: Path, *, force: bool, meta: dict[str, Any]) -> Path | None:
-    """The JSON contract through the spine's writer, written atomically like every other output."""
-    try:
-        from checker.report import json_out
-    except ImportError as exc:
-        warnings.warn(f"{path} not written: the JSON writer is not available ({exc})", stacklevel=3)
-        return None
-    target = _target(path, force)
-    dumps = getattr(json_out, "dumps", None)
-    if dumps is not None:
-        params = inspect.signature(dumps).parameters
-        text = dumps(review, working=True) if "working" in params else dumps(review)
-        return write_atomic(target, text if text.endswith("\n") else text + "\n", force=force)
-    write_json = getattr(json_out, "write_json", None)
-    if write_json is None:
-        warnings.warn(f"{path} not written: checker.report.json_out has no writer", stacklevel=3)
-        return None
-    return write_atomic_via_path(target, lambda tmp: write_json(review, tmp), force=force)
+def _write_json(review: "Review", path: Path, *, force: bool, meta: dict[str, Any]) -> Path:
+    """The JSON contract (with the working), streamed into the atomic write as it is encoded."""
+    from checker.report.json_out import write_document
+
+    def fill(fh) -> None:
+        text = io.TextIOWrapper(fh, encoding="utf-8", newline="")
+        write_document(review, text.write, working=True)
+        text.flush()
+        text.detach()   # the binary file stays open for write_atomic to sync and close
+
+    return write_atomic(_target(path, force), fill, force=force)
 
 
 __all__ = [

@@ -19,18 +19,34 @@ from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
-from checker.findings import (
+from checker.findings import (  # noqa: F401  (severity_rank re-exported for the writers)
     SEVERITY_ORDER,
-    none_if_nan,
     comment_key,
+    comment_records,
     describe_source,
+    none_if_nan,
+    records,
+    severity_rank,
     sort_findings,
     source_of,
 )
 
+# The workbook layout (sheet names, the hidden data sheet, the statuses) belongs to the revision
+# reader, which reads back what the sheet writer writes; re-exported here for the writers.
+from checker.revision import (  # noqa: F401
+    ALL_CHECKS_SHEET,
+    COMMENTS_SHEET,
+    COVER_SHEET,
+    DATA_COLUMNS,
+    DATA_MARKER,
+    DATA_SHEET,
+    REJECTED_SHEET,
+    STATUSES,
+    RevisionResult,
+)
+
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
-    from checker.revision import RevisionResult
 
 COMMENT_HEADINGS: tuple[str, ...] = (
     "No.",
@@ -45,33 +61,6 @@ COMMENT_HEADINGS: tuple[str, ...] = (
     "Checker status",
     "Key",
     "Would pass with",   # issue 16: the least change that would meet the listed checks (checker.remedy)
-)
-
-STATUSES: tuple[str, ...] = ("open", "closed", "superseded")
-
-# Workbook layout shared by the sheet writer and the revision reader.
-COVER_SHEET = "Cover"
-COMMENTS_SHEET = "Comments"
-ALL_CHECKS_SHEET = "All checks"
-REJECTED_SHEET = "Rejected rows"
-DATA_SHEET = "capcheck-data"          # hidden: the tool's own figures per key, for the next revision
-DATA_MARKER = "capcheck.sheet/1"
-DATA_COLUMNS: tuple[str, ...] = (
-    "key",
-    "no",
-    "cap",
-    "rule",
-    "severity",
-    "tool_severity",
-    "tool_utilisation",
-    "value",
-    "limit",
-    "unit",
-    "message",
-    "state",
-    "status_written",
-    "basis_severity",
-    "basis_utilisation",
 )
 
 # What each severity means, in the words of this project (cover sheet legend, report legend).
@@ -254,7 +243,7 @@ class Comment:
 def _records(frame: pd.DataFrame) -> list[dict[str, Any]]:
     if frame is None or len(frame) == 0:
         return []
-    return sort_findings(frame).to_dict("records")
+    return records(sort_findings(frame))
 
 
 def _comment_from_finding(row: dict[str, Any], no: int) -> Comment:
@@ -287,7 +276,7 @@ def _comment_from_finding(row: dict[str, Any], no: int) -> Comment:
 
 def comment_findings(review: "Review") -> list[dict[str, Any]]:
     """The findings rows that become comments (severity != ok), in the one sort order."""
-    return [r for r in _records(review.findings) if str(r["severity"]) != "ok"]
+    return comment_records(review.findings)
 
 
 def build_comments(review: "Review", revision: "RevisionResult | None" = None) -> list[Comment]:
@@ -378,11 +367,3 @@ def count_by_status(comments: list[Comment]) -> dict[str, int]:
     for c in comments:
         counts[c.status] = counts.get(c.status, 0) + 1
     return counts
-
-
-def severity_rank(severity: str) -> int:
-    """0 = worst; unknown or empty severities rank after ``ok``."""
-    try:
-        return SEVERITY_ORDER.index(str(severity).strip().lower())
-    except ValueError:
-        return len(SEVERITY_ORDER)

@@ -21,6 +21,7 @@ from checker.findings import (
     comment_key,
     count_by_severity,
     describe_source,
+    records,
     sort_findings,
     source_of,
     worst_by_cap,
@@ -118,15 +119,24 @@ def _sev(sev: str) -> str:
     return f'<span class="sev sev-{s}">{s}</span>'
 
 
-def _anchor(mark: str, used: dict[str, str]) -> str:
-    if mark in used:
-        return used[mark]
-    base = "cap-" + (re.sub(r"[^A-Za-z0-9_-]", "_", mark) or "x")
-    a, i = base, 2
-    while a in used.values():
-        a, i = f"{base}-{i}", i + 1
-    used[mark] = a
-    return a
+class _Anchors:
+    """One HTML id per mark, unique (a mark that cleans to a taken id gets ``-2``, ``-3`` ...)."""
+
+    def __init__(self) -> None:
+        self.by_mark: dict[str, str] = {}
+        self.taken: set[str] = set()
+
+    def __call__(self, mark: str) -> str:
+        a = self.by_mark.get(mark)
+        if a is not None:
+            return a
+        base = "cap-" + (re.sub(r"[^A-Za-z0-9_-]", "_", mark) or "x")
+        a, i = base, 2
+        while a in self.taken:
+            a, i = f"{base}-{i}", i + 1
+        self.by_mark[mark] = a
+        self.taken.add(a)
+        return a
 
 
 def _cap_order(review: "Review") -> list[str]:
@@ -152,7 +162,7 @@ def _cap_rows(review: "Review") -> dict[str, dict[str, Any]]:
     if caps is None or "mark" not in getattr(caps, "columns", ()) or len(caps) == 0:
         return {}
     out: dict[str, dict[str, Any]] = {}
-    for rec in caps.to_dict("records"):
+    for rec in records(caps):
         out.setdefault(str(rec["mark"]), rec)
     return out
 
@@ -315,7 +325,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     infos = _cap_rows(review)
     rows_by_cap: dict[str, list[dict[str, Any]]] = {}
     if len(f):
-        for rec in sort_findings(f).to_dict("records"):
+        for rec in records(sort_findings(f)):
             rows_by_cap.setdefault(str(rec["cap"]), []).append(rec)
     carried_by_cap: dict[str, list[Comment]] = {}
     for c in comments:
@@ -328,7 +338,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
         detailed = [m for i, m in enumerate(marks) if i in keep]
     else:
         detailed = marks
-    anchors: dict[str, str] = {}
+    anchors = _Anchors()
     title = f"Pile cap check report: {meta.get('submission', '')}"
 
     h = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
@@ -374,7 +384,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
              + "</tr></thead><tbody>")
     detailed_set = set(detailed)
     for m in marks:
-        a = _anchor(m, anchors)
+        a = anchors(m)
         info = infos.get(m, {})
         per: dict[str, int] = {}
         for rec in rows_by_cap.get(m, []):
@@ -398,10 +408,11 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     h.append("</section>")
 
     for m in detailed:
-        h.append(_cap_section(review, m, _anchor(m, anchors), worst.get(m, ""), rows_by_cap.get(m, []),
+        h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
                               infos.get(m, {}), by_key, carried_by_cap.get(m, [])))
 
-    gone = [c for c in comments if c.key and c.cap not in set(marks)]
+    mark_set = set(marks)
+    gone = [c for c in comments if c.key and c.cap not in mark_set]
     manual = [c for c in comments if not c.key]
     if gone or manual:
         h.append('<section class="carried-only"><h2>Comments not tied to a cap in this submission</h2>'

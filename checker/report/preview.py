@@ -39,14 +39,13 @@ def _cell(v, scale: float) -> str:
     return str(v)
 
 
-def print_preview(args, out: Console, err: Console) -> int:
-    from checker.cli import EXIT_OK, EXIT_UNREADABLE
+def print_preview(args, out: Console, err: Console, defaults=None) -> int:
+    """Print what was read; return the number of caps that can be checked (the command's exit
+    status is the CLI's to decide)."""
     from checker.ingest.schedule import read_schedule
 
-    from checker.cli import _project_defaults
-
     kwargs = {"mapping": args.mapping, "coords": args.coords, "max_rows": args.max_rows,
-              "sheet": getattr(args, "sheet", None), "defaults": _project_defaults(args)}
+              "sheet": getattr(args, "sheet", None), "defaults": defaults}
     if str(args.file).lower().endswith(".pdf"):
         kwargs.update(pdf_strategy=args.pdf_strategy, max_pages=args.max_pages)
     sched = read_schedule(args.file, **kwargs)
@@ -105,4 +104,4 @@ def print_preview(args, out: Console, err: Console) -> int:
             out.print(Text(f"note: {note}", style="dim"))
     out.print(Text(f"\n{sched.rows_read} rows read: {len(caps)} caps to check, {len(sched.rejected)} rejected, "
                    f"{len(sched.skipped)} skipped (each named in a note).", style="bold"))
-    return EXIT_OK if len(caps) else EXIT_UNREADABLE
+    return len(caps)

@@ -1,4 +1,5 @@
-"""The check-comment sheet (XLSX, openpyxl).
+"""The check-comment sheet (XLSX, written with xlsxwriter in its constant-memory mode; read back
+with openpyxl by :mod:`checker.revision`).
 
 Sheets, in order:
 
@@ -18,49 +19,36 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
-from copy import copy
+import re
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Iterable
 
-from openpyxl import Workbook
-from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
-from openpyxl.formatting.rule import FormulaRule
-from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
-from openpyxl.utils import get_column_letter
-from openpyxl.worksheet.datavalidation import DataValidation
-from openpyxl.worksheet.worksheet import Worksheet
+import xlsxwriter
 
 from checker.caution import CAUTION
-from checker.findings import (
-    SEVERITY_ORDER,
-    comment_key,
-    count_by_severity,
-    describe_source,
-    sort_findings,
-    source_of,
-)
+from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, sort_findings
 from checker.report.comments import (
     ALL_CHECKS_SHEET,
+    CAUTION_FILL,
     COMMENT_HEADINGS,
     COMMENTS_SHEET,
     COVER_SHEET,
     DATA_COLUMNS,
     DATA_MARKER,
     DATA_SHEET,
+    HEADER_FILL,
+    HEADER_TEXT,
     NOT_A_SAFETY_CLAIM,
     REJECTED_SHEET,
+    SEVERITY_FILL,
     SEVERITY_MEANING,
+    SEVERITY_TEXT,
+    SHORT_CAUTION,
+    STATUS_MUTED,
     STATUSES,
     Comment,
     check_text,
     count_by_status,
-    CAUTION_FILL,
-    HEADER_FILL,
-    HEADER_TEXT,
-    SEVERITY_FILL,
-    SEVERITY_TEXT,
-    SHORT_CAUTION,
-    STATUS_MUTED,
 )
 from checker.report.writefile import write_atomic
 
@@ -96,139 +84,166 @@ ALL_CHECKS_MAX_ROWS = 100_000   # beyond this the sheet keeps the worst results 
                                 # holds 1,048,576 rows; a sheet this long is a record, not a read)
 EXCEL_MAX_ROWS = 1_048_576
 SPARE_ROWS = 200          # drop-down and greying also cover rows a person adds below the comments
-HEADER_ROW = 2            # row 1 carries the caution on every table sheet
+HEADER_ROW = 2            # row 1 carries the caution on every table sheet (1-based, as Excel shows)
 FIRST_DATA_ROW = HEADER_ROW + 1
 
-_THIN = Side(style="thin", color="BFBFBF")
-_BORDER = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
-_WRAP_TOP = Alignment(wrap_text=True, vertical="top")
-_BODY_FONT = Font(size=9)
-_HEAD_FONT = Font(bold=True, color=HEADER_TEXT)
-_HEAD_FILL = PatternFill("solid", fgColor=HEADER_FILL)
+# characters an XLSX cell cannot hold (the XML 1.0 control characters)
+ILLEGAL_CHARACTERS_RE = re.compile(r"[\000-\010]|[\013-\014]|[\016-\037]")
+
+_BORDER = {"border": 1, "border_color": "#BFBFBF"}
+_BODY = {"text_wrap": True, "valign": "top", "font_size": 9, **_BORDER}
+_HEAD = {"bold": True, "font_color": f"#{HEADER_TEXT}", "bg_color": f"#{HEADER_FILL}", **_BORDER}
 
 
-def severity_fill(severity: str) -> PatternFill | None:
-    colour = SEVERITY_FILL.get(str(severity))
-    return PatternFill("solid", fgColor=colour) if colour else None
+class _Formats:
+    """Cell formats by name, made once per workbook."""
 
-
-def severity_font(severity: str, **kw: Any) -> Font:
-    kw.setdefault("size", 9)
-    return Font(color=SEVERITY_TEXT.get(str(severity), "1F1F1F"), bold=severity == "unsafe", **kw)
-
-
-def _put(ws: Worksheet, row: int, column: int, value: Any):
-    """Write a cell; text is always stored as text (a response starting with '=' stays words,
-    never becomes a formula) and characters XLSX cannot hold are dropped."""
-    if isinstance(value, str):
-        value = ILLEGAL_CHARACTERS_RE.sub("", value)
-        if value == "":
-            value = None
-    c = ws.cell(row=row, column=column, value=value)
-    if isinstance(value, str) and value.startswith("="):
-        c.data_type = "s"
-    return c
-
-
-class _Styles:
-    """Cell styles by name, set the slow way once per workbook and then copied as a style array
-    (assigning Font/Fill objects to every cell costs a hash per cell and dominates large sheets)."""
-
-    def __init__(self) -> None:
+    def __init__(self, wb: xlsxwriter.Workbook) -> None:
+        self.wb = wb
         self._cache: dict[str, Any] = {}
 
-    def apply(self, cell, name: str) -> None:
-        arr = self._cache.get(name)
-        if arr is not None:
-            cell._style = copy(arr)
-            return
-        body = name.split(":")
-        cell.alignment = _WRAP_TOP
-        cell.border = _BORDER
-        cell.font = _BODY_FONT
-        for part in body[1:]:
+    def __call__(self, name: str):
+        fmt = self._cache.get(name)
+        if fmt is None:
+            fmt = self._cache[name] = self.wb.add_format(self._props(name))
+        return fmt
+
+    @staticmethod
+    def _props(name: str) -> dict[str, Any]:
+        parts = name.split(":")
+        base = parts[0]
+        if base == "body":
+            props = dict(_BODY)
+        elif base == "head":
+            props = {**_HEAD, "text_wrap": True, "valign": "vcenter"}
+        elif base == "plain":
+            props = {}
+        else:
+            raise KeyError(name)
+        for part in parts[1:]:
             if part.startswith("sev="):
                 sev = part[4:]
-                fill = severity_fill(sev)
-                if fill is not None:
-                    cell.fill = fill
-                    cell.font = severity_font(sev)
+                if sev in SEVERITY_FILL:
+                    props.update(bg_color=f"#{SEVERITY_FILL[sev]}", font_color=f"#{SEVERITY_TEXT[sev]}",
+                                 bold=sev == "unsafe", pattern=1)
             elif part == "key":
-                cell.font = Font(size=7, color="595959")
+                props.update(font_size=7, font_color="#595959")
             elif part.startswith("fmt="):
-                cell.number_format = part[4:]
-        self._cache[name] = copy(cell._style)
+                props["num_format"] = part[4:]
+            elif part.startswith("size="):
+                props["font_size"] = float(part[5:])
+            elif part == "bold":
+                props["bold"] = True
+            elif part == "italic":
+                props["italic"] = True
+            elif part == "wrap":
+                props.update(text_wrap=True)
+            elif part == "top":
+                props["valign"] = "top"
+            elif part == "vcenter":
+                props["valign"] = "vcenter"
+            elif part == "left":
+                props["align"] = "left"
+            elif part == "center":
+                props["align"] = "center"
+            elif part == "border":
+                props.update(_BORDER)
+            elif part.startswith("color="):
+                props["font_color"] = f"#{part[6:]}"
+            elif part.startswith("fill="):
+                props.update(bg_color=f"#{part[5:]}", pattern=1)
+            else:
+                raise KeyError(name)
+        return props
+
+
+def _put(ws, row: int, col: int, value: Any, fmt=None) -> None:
+    """Write one cell (1-based row and column, as Excel shows them). Text is always stored as
+    text (a response starting with '=' stays words, never becomes a formula); characters XLSX
+    cannot hold are dropped; an empty cell keeps its format."""
+    r, c = row - 1, col - 1
+    if value is None:
+        if fmt is not None:
+            ws.write_blank(r, c, None, fmt)
+        return
+    if isinstance(value, str):
+        if ILLEGAL_CHARACTERS_RE.search(value):
+            value = ILLEGAL_CHARACTERS_RE.sub("", value)
+        if value == "":
+            if fmt is not None:
+                ws.write_blank(r, c, None, fmt)
+            return
+        ws.write_string(r, c, value, fmt)
+    elif isinstance(value, bool):
+        ws.write_boolean(r, c, value, fmt)
+    elif isinstance(value, (int, float)):
+        ws.write_number(r, c, value, fmt)
+    elif isinstance(value, (_dt.date, _dt.datetime)):
+        ws.write_string(r, c, value.isoformat(), fmt)
+    else:
+        ws.write_string(r, c, str(value), fmt)
 
 
 def _hf_escape(text: str) -> str:
     return str(text).replace("&", "&&")
 
 
+def _hf_part(code: str, size: int, text: str) -> str:
+    """One section of a printed header or footer; a space keeps a leading digit out of the size code."""
+    text = _hf_escape(text)
+    return f"&{code}&{size}" + (" " if text[:1].isdigit() else "") + text if text else ""
+
+
 def _estimate_lines(text: Any, width: float, per_width: float = 1.2) -> int:
     """Lines a wrapped cell needs (about 1.2 characters of 9-point text per unit of width)."""
     if text is None or text == "":
         return 1
+    if not isinstance(text, str):
+        return 1
     chars = max(int(width * per_width), 4)
-    lines = 0
-    for part in str(text).split("\n"):
-        lines += max(1, math.ceil(len(part) / chars))
-    return lines
+    if "\n" not in text:
+        return max(1, -(-len(text) // chars))
+    return sum(max(1, -(-len(part) // chars)) for part in text.split("\n"))
 
 
-def _fit_row_height(ws: Worksheet, row: int, values: Iterable[Any], widths: Iterable[float],
+def _fit_row_height(ws, row: int, values: Iterable[Any], widths: Iterable[float],
                     line_height: float = 13.0, max_lines: int = 30) -> None:
     lines = max((_estimate_lines(v, w) for v, w in zip(values, widths)), default=1)
-    ws.row_dimensions[row].height = line_height * min(max(lines, 1), max_lines) + 3
+    ws.set_row(row - 1, line_height * min(max(lines, 1), max_lines) + 3)
 
 
-def _print_setup(ws: Worksheet, meta: dict[str, Any], title_rows: str | None) -> None:
-    ws.page_setup.orientation = "landscape"
-    ws.page_setup.paperSize = ws.PAPERSIZE_A4
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 0
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
-    ws.print_options.gridLines = False
-    ws.page_margins.left = ws.page_margins.right = 0.5
-    ws.page_margins.top = 0.7
-    ws.page_margins.bottom = 0.8
-    ws.page_margins.header = 0.3
-    ws.page_margins.footer = 0.3
+def _print_setup(ws, meta: dict[str, Any], title_rows: bool, *, landscape: bool = True) -> None:
+    if landscape:
+        ws.set_landscape()
+    else:
+        ws.set_portrait()
+    ws.set_paper(9)                 # A4
+    ws.fit_to_pages(1, 0)           # one page wide, as many tall as needed
+    ws.set_margins(left=0.5, right=0.5, top=0.7, bottom=0.8)
     if title_rows:
-        ws.print_title_rows = title_rows
-    head = f"{meta.get('project') or ''}".strip()
-    ws.oddHeader.left.text = _hf_escape(head)[:80]
-    ws.oddHeader.left.size = 8
-    ws.oddHeader.center.text = _hf_escape(f"Check comments: {meta.get('submission', '')}")[:90]
-    ws.oddHeader.center.size = 8
-    ws.oddHeader.right.text = _hf_escape(f"Revision {meta.get('revision', '')}, {meta.get('date', '')}")[:60]
-    ws.oddHeader.right.size = 8
-    ws.oddFooter.left.text = _hf_escape(SHORT_CAUTION)
-    ws.oddFooter.left.size = 7
-    ws.oddFooter.right.text = "&[Tab] &P / &N"
-    ws.oddFooter.right.size = 7
+        ws.repeat_rows(0, HEADER_ROW - 1)
+    head = "".join((
+        _hf_part("L", 8, f"{meta.get('project') or ''}".strip()[:80]),
+        _hf_part("C", 8, f"Check comments: {meta.get('submission', '')}"[:90]),
+        _hf_part("R", 8, f"Revision {meta.get('revision', '')}, {meta.get('date', '')}"[:60]),
+    ))
+    ws.set_header(head[:255], {"margin": 0.3})
+    ws.set_footer(_hf_part("L", 7, SHORT_CAUTION) + "&R&7&A &P / &N", {"margin": 0.3})
 
 
-def _caution_row(ws: Worksheet, ncols: int, widths: Iterable[float]) -> None:
-    ws.cell(row=1, column=1, value=f"Caution: {CAUTION}")
-    ws.merge_cells(start_row=1, start_column=1, end_row=1, end_column=ncols)
-    c = ws.cell(row=1, column=1)
-    c.alignment = Alignment(wrap_text=True, vertical="center")
-    c.font = Font(italic=True, size=9, color="5A3E00")
-    c.fill = PatternFill("solid", fgColor=CAUTION_FILL)
+def _caution_row(ws, fmts: _Formats, ncols: int, widths: Iterable[float], text: str | None = None) -> None:
+    text = text or f"Caution: {CAUTION}"
+    ws.merge_range(0, 0, 0, ncols - 1, text, fmts("plain:wrap:vcenter:italic:size=9:color=5A3E00:fill=" + CAUTION_FILL))
     total = sum(widths)
-    ws.row_dimensions[1].height = 12.0 * max(2, math.ceil(len(CAUTION) / (total * 1.15))) + 6
+    ws.set_row(0, 12.0 * max(2, math.ceil(len(CAUTION) / (total * 1.15))) + 6)
 
 
-def _table_header(ws: Worksheet, headings: Iterable[str], widths: Iterable[float]) -> None:
-    for col, (h, w) in enumerate(zip(headings, widths), start=1):
-        c = ws.cell(row=HEADER_ROW, column=col, value=h)
-        c.font = _HEAD_FONT
-        c.fill = _HEAD_FILL
-        c.alignment = Alignment(wrap_text=True, vertical="center")
-        c.border = _BORDER
-        ws.column_dimensions[get_column_letter(col)].width = w
-    ws.row_dimensions[HEADER_ROW].height = 30
-    ws.freeze_panes = ws.cell(row=FIRST_DATA_ROW, column=1)
+def _table_header(ws, fmts: _Formats, headings: Iterable[str], widths: Iterable[float]) -> None:
+    for col, (h, w) in enumerate(zip(headings, widths)):
+        ws.set_column(col, col, w)
+        ws.write_string(HEADER_ROW - 1, col, h, fmts("head"))
+    ws.set_row(HEADER_ROW - 1, 30)
+    ws.freeze_panes(FIRST_DATA_ROW - 1, 0)
 
 
 def _num(v: Any) -> Any:
@@ -248,21 +263,16 @@ def _num(v: Any) -> Any:
 # --------------------------------------------------------------------------------------------
 # sheets
 
-def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[str, Any],
+def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: dict[str, Any],
            revision: "RevisionResult | None") -> None:
-    ws.title = COVER_SHEET
-    ws.column_dimensions["A"].width = 24
-    ws.column_dimensions["B"].width = 16
-    ws.column_dimensions["C"].width = 70
-    ws["A1"] = "Pile cap check: comment sheet"
-    ws["A1"].font = Font(bold=True, size=16, color=HEADER_FILL)
-    ws.row_dimensions[1].height = 26
-    ws["A2"] = f"Caution: {CAUTION}"
-    ws.merge_cells("A2:C2")
-    ws["A2"].alignment = Alignment(wrap_text=True, vertical="center")
-    ws["A2"].font = Font(italic=True, size=10, color="5A3E00")
-    ws["A2"].fill = PatternFill("solid", fgColor=CAUTION_FILL)
-    ws.row_dimensions[2].height = 64
+    ws.set_column(0, 0, 24)
+    ws.set_column(1, 1, 16)
+    ws.set_column(2, 2, 70)
+    ws.write_string(0, 0, "Pile cap check: comment sheet", fmts("plain:bold:size=16:color=" + HEADER_FILL))
+    ws.set_row(0, 26)
+    ws.merge_range(1, 0, 1, 2, f"Caution: {CAUTION}",
+                   fmts("plain:wrap:vcenter:italic:size=10:color=5A3E00:fill=" + CAUTION_FILL))
+    ws.set_row(1, 64)
 
     row = 4
     n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
@@ -282,51 +292,43 @@ def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[
     if revision is not None:
         fields.append(("Previous sheet", Path(revision.previous.path).name))
         fields.append(("Revision summary", revision.summary()))
+    value_fmt = fmts("plain:left:top:wrap")
     for label, value in fields:
-        lab = ws.cell(row=row, column=1, value=label)
-        lab.font, lab.alignment = Font(bold=True), Alignment(vertical="top")
-        c = _put(ws, row, 2, value)
-        c.alignment = Alignment(horizontal="left", vertical="top", wrap_text=True)
+        _put(ws, row, 1, label, fmts("plain:bold:top"))
         if isinstance(value, str) and len(value) > 14:
-            ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
+            text = ILLEGAL_CHARACTERS_RE.sub("", value)
+            ws.merge_range(row - 1, 1, row - 1, 2, text, value_fmt)
             _fit_row_height(ws, row, [value], [86])
+        else:
+            _put(ws, row, 2, value, value_fmt)
         row += 1
 
     row += 1
-    ws.cell(row=row, column=1, value="Findings by severity").font = Font(bold=True, size=12)
+    _put(ws, row, 1, "Findings by severity", fmts("plain:bold:size=12"))
     row += 1
     for col, h in enumerate(("Severity", "Findings", "Meaning (legend of the colours)"), start=1):
-        c = ws.cell(row=row, column=col, value=h)
-        c.font, c.fill, c.border = _HEAD_FONT, _HEAD_FILL, _BORDER
+        _put(ws, row, col, h, fmts("plain:bold:border:color=" + HEADER_TEXT + ":fill=" + HEADER_FILL))
     row += 1
     counts = count_by_severity(review.findings) if len(review.findings) else {}
     n_ok = int((review.findings["severity"] == "ok").sum()) if len(review.findings) else 0
     for sev in SEVERITY_ORDER:
-        c = ws.cell(row=row, column=1, value=sev)
-        c.fill = severity_fill(sev)
-        c.font = severity_font(sev, size=10)
-        c.border = _BORDER
-        c.alignment = Alignment(vertical="top")
+        _put(ws, row, 1, sev, fmts(f"plain:border:top:size=10:sev={sev}"))
         n = counts.get(sev, 0) if sev != "ok" else n_ok
-        nc = ws.cell(row=row, column=2, value=n)
-        nc.border, nc.alignment = _BORDER, Alignment(horizontal="center", vertical="top")
-        m = ws.cell(row=row, column=3, value=SEVERITY_MEANING[sev])
-        m.border, m.alignment = _BORDER, _WRAP_TOP
+        _put(ws, row, 2, n, fmts("plain:border:center:top"))
+        _put(ws, row, 3, SEVERITY_MEANING[sev], fmts("plain:border:wrap:top"))
         _fit_row_height(ws, row, [SEVERITY_MEANING[sev]], [70])
         row += 1
 
     row += 1
-    ws.cell(row=row, column=1, value="Comments by status").font = Font(bold=True, size=12)
+    _put(ws, row, 1, "Comments by status", fmts("plain:bold:size=12"))
     row += 1
     for col, h in enumerate(("Status", "Comments"), start=1):
-        c = ws.cell(row=row, column=col, value=h)
-        c.font, c.fill, c.border = _HEAD_FONT, _HEAD_FILL, _BORDER
+        _put(ws, row, col, h, fmts("plain:bold:border:color=" + HEADER_TEXT + ":fill=" + HEADER_FILL))
     row += 1
     by_status = count_by_status(comments)
     for st in STATUSES:
-        ws.cell(row=row, column=1, value=st).border = _BORDER
-        nc = ws.cell(row=row, column=2, value=by_status.get(st, 0))
-        nc.border, nc.alignment = _BORDER, Alignment(horizontal="center")
+        _put(ws, row, 1, st, fmts("plain:border"))
+        _put(ws, row, 2, by_status.get(st, 0), fmts("plain:border:center"))
         row += 1
 
     row += 1
@@ -336,19 +338,14 @@ def _cover(ws: Worksheet, review: "Review", comments: list[Comment], meta: dict[
     texts = [("Statement", NOT_A_SAFETY_CLAIM), ("How to answer", how_to)]
     texts += [("Notes" if i == 0 else "", str(n)) for i, n in enumerate(review.notes or [])]
     for label, text in texts:
-        lab = ws.cell(row=row, column=1, value=label or None)
-        lab.font, lab.alignment = Font(bold=True), Alignment(vertical="top")
-        c = _put(ws, row, 2, text)
-        ws.merge_cells(start_row=row, start_column=2, end_row=row, end_column=3)
-        c.alignment = _WRAP_TOP
+        _put(ws, row, 1, label or None, fmts("plain:bold:top") if label else None)
+        ws.merge_range(row - 1, 1, row - 1, 2, ILLEGAL_CHARACTERS_RE.sub("", text), fmts("plain:wrap:top"))
         _fit_row_height(ws, row, [text], [80])
         row += 1
-    _print_setup(ws, meta, None)
-    ws.page_setup.orientation = "portrait"
+    _print_setup(ws, meta, False, landscape=False)
 
 
-def _comments_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) -> None:
-    ws.title = COMMENTS_SHEET
+def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str, Any]) -> None:
     if len(comments) + FIRST_DATA_ROW - 1 > EXCEL_MAX_ROWS:
         raise ValueError(
             f"{len(comments):,} comments do not fit on one XLSX sheet ({EXCEL_MAX_ROWS:,} rows); "
@@ -356,158 +353,183 @@ def _comments_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]
         )
     widths = [COMMENT_WIDTHS[h] for h in COMMENT_HEADINGS]
     ncols = len(COMMENT_HEADINGS)
-    _caution_row(ws, ncols, widths)
-    _table_header(ws, COMMENT_HEADINGS, widths)
-    sev_col = COMMENT_HEADINGS.index("Severity") + 1
-    key_col = COMMENT_HEADINGS.index("Key") + 1
+    _caution_row(ws, fmts, ncols, widths)
+    _table_header(ws, fmts, COMMENT_HEADINGS, widths)
+    sev_col = COMMENT_HEADINGS.index("Severity")
+    key_col = COMMENT_HEADINGS.index("Key")
     status_col = COMMENT_HEADINGS.index("Checker status") + 1
+    names = [fmts("body")] * ncols
+    names[key_col] = fmts("body:key")
     row = FIRST_DATA_ROW
-    styles = _Styles()
-    names = ["body"] * ncols
-    names[key_col - 1] = "body:key"
     for cm in comments:
         values = cm.cells()
-        names[sev_col - 1] = f"body:sev={cm.severity}"
-        for col, v in enumerate(values, start=1):
-            styles.apply(_put(ws, row, col, v), names[col - 1])
+        names[sev_col] = fmts(f"body:sev={cm.severity}")
+        for col, (v, fmt) in enumerate(zip(values, names), start=1):
+            _put(ws, row, col, v, fmt)
         _fit_row_height(ws, row, values, widths, line_height=12.0)
         row += 1
     last = row - 1
     end = max(last, HEADER_ROW) + SPARE_ROWS
-    letter = get_column_letter(status_col)
-    dv = DataValidation(
-        type="list",
-        formula1='"' + ",".join(STATUSES) + '"',
-        allow_blank=True,
-        showErrorMessage=True,
-        errorTitle="Checker status",
-        error="Choose open, closed or superseded.",
-        showInputMessage=True,
-        promptTitle="Checker status",
-        prompt="open / closed / superseded",
-    )
-    dv.add(f"{letter}{FIRST_DATA_ROW}:{letter}{end}")
-    ws.add_data_validation(dv)
-    last_letter = get_column_letter(ncols)
-    ws.auto_filter.ref = f"A{HEADER_ROW}:{last_letter}{max(last, HEADER_ROW)}"
+    ws.data_validation(FIRST_DATA_ROW - 1, status_col - 1, end - 1, status_col - 1, {
+        "validate": "list",
+        "source": list(STATUSES),
+        "ignore_blank": True,
+        "show_error": True,
+        "error_title": "Checker status",
+        "error_message": "Choose open, closed or superseded.",
+        "show_input": True,
+        "input_title": "Checker status",
+        "input_message": "open / closed / superseded",
+    })
+    ws.autofilter(HEADER_ROW - 1, 0, max(last, HEADER_ROW) - 1, ncols - 1)
     # Grey a comment once it is closed or superseded, also when a person changes the status later.
-    ws.conditional_formatting.add(
-        f"A{FIRST_DATA_ROW}:{last_letter}{end}",
-        FormulaRule(formula=[f'OR(${letter}{FIRST_DATA_ROW}="closed",${letter}{FIRST_DATA_ROW}="superseded")'],
-                    font=Font(color=STATUS_MUTED, italic=True)),
-    )
-    _print_setup(ws, meta, f"1:{HEADER_ROW}")
+    letter = xlsxwriter.utility.xl_col_to_name(status_col - 1)
+    ws.conditional_format(FIRST_DATA_ROW - 1, 0, end - 1, ncols - 1, {
+        "type": "formula",
+        "criteria": f'=OR(${letter}{FIRST_DATA_ROW}="closed",${letter}{FIRST_DATA_ROW}="superseded")',
+        "format": fmts.wb.add_format({"font_color": f"#{STATUS_MUTED}", "italic": True}),
+    })
+    _print_setup(ws, meta, True)
 
 
-def _all_checks_sheet(ws: Worksheet, review: "Review", meta: dict[str, Any]) -> None:
-    ws.title = ALL_CHECKS_SHEET
+def _all_checks_sheet(ws, fmts: _Formats, review: "Review", meta: dict[str, Any]) -> None:
     ncols = len(ALL_CHECKS_HEADINGS)
-    _caution_row(ws, ncols, ALL_CHECKS_WIDTHS)
-    _table_header(ws, ALL_CHECKS_HEADINGS, ALL_CHECKS_WIDTHS)
-    row = FIRST_DATA_ROW
     frame = sort_findings(review.findings) if len(review.findings) else review.findings
-    sev_col = ALL_CHECKS_HEADINGS.index("Severity") + 1
-    styles = _Styles()
-    names = ["body"] * ncols
-    names[5] = names[6] = "body:fmt=0.0"
-    names[8] = "body:fmt=0.00"
-    names[ncols - 1] = "body:key"
     total = len(frame)
+    caution = None
     if total > ALL_CHECKS_MAX_ROWS:
         frame = frame.iloc[:ALL_CHECKS_MAX_ROWS]
         note = (f"This sheet lists the first {ALL_CHECKS_MAX_ROWS:,} of {total:,} results, worst first "
                 f"(every comment is on the Comments sheet); the complete record of every result is in the "
                 f"JSON output (-o NAME.json).")
-        ws.cell(row=1, column=1).value = f"{note} Caution: {CAUTION}"
-    for r in frame.to_dict("records"):
-        cap, rule = str(r["cap"]), str(r["rule"])
-        values = [
-            cap, rule, check_text(rule, str(r.get("title") or "")), str(r["severity"]),
-            str(r.get("clause") or ""), _num(r.get("value")), _num(r.get("limit")),
-            str(r.get("unit") or ""), _num(r.get("utilisation")), str(r.get("message") or ""),
-            str(r.get("action") or "") if str(r.get("action") or "") != "nan" else "",
-            describe_source(source_of(r)), comment_key(cap, rule),
-        ]
-        names[sev_col - 1] = f"body:sev={r['severity']}"
-        for col, v in enumerate(values, start=1):
-            styles.apply(_put(ws, row, col, v), names[col - 1])
-        _fit_row_height(ws, row, values, ALL_CHECKS_WIDTHS)
-        row += 1
-    ws.auto_filter.ref = f"A{HEADER_ROW}:{get_column_letter(ncols)}{max(row - 1, HEADER_ROW)}"
-    _print_setup(ws, meta, f"1:{HEADER_ROW}")
-
-
-def _rejected_sheet(ws: Worksheet, rejected: list[dict[str, Any]], meta: dict[str, Any]) -> None:
-    ws.title = REJECTED_SHEET
-    _caution_row(ws, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
-    _table_header(ws, REJECTED_HEADINGS, REJECTED_WIDTHS)
+        caution = f"{note} Caution: {CAUTION}"
+    _caution_row(ws, fmts, ncols, ALL_CHECKS_WIDTHS, caution)
+    _table_header(ws, fmts, ALL_CHECKS_HEADINGS, ALL_CHECKS_WIDTHS)
     row = FIRST_DATA_ROW
-    styles = _Styles()
+    if len(frame):
+        _all_checks_rows(ws, fmts, frame, ncols)
+        row += len(frame)
+    ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, ncols - 1)
+    _print_setup(ws, meta, True)
+
+
+def _all_checks_rows(ws, fmts: _Formats, frame, ncols: int) -> None:
+    """The rows of the All checks sheet, made column by column (no pandas row per result)."""
+    n = len(frame)
+
+    def col(name):
+        return frame[name].tolist() if name in frame.columns else [None] * n
+
+    def text(values):
+        return ["" if v is None or (isinstance(v, float) and v != v) else str(v) for v in values]
+
+    caps = [str(c) for c in col("cap")]
+    rules = [str(r) for r in col("rule")]
+    titles = text(col("title"))
+    checks = {}
+    sevs = [str(s) for s in col("severity")]
+    clauses, units, messages = text(col("clause")), text(col("unit")), text(col("message"))
+    actions = [a if a != "nan" else "" for a in text(col("action"))]
+    values, limits, utils = ([_num(v) for v in col(c)] for c in ("value", "limit", "utilisation"))
+    pages, sheets, rows_ = col("src_page"), col("src_sheet"), col("src_row")
+    sources: dict[tuple, str] = {}
+    fmt = [fmts("body")] * ncols
+    fmt[5] = fmt[6] = fmts("body:fmt=0.0")
+    fmt[8] = fmts("body:fmt=0.00")
+    fmt[ncols - 1] = fmts("body:key")
+    sev_fmt = {s: fmts(f"body:sev={s}") for s in set(sevs)}
+    r = FIRST_DATA_ROW
+    for i in range(n):
+        rule = rules[i]
+        ck = checks.get((rule, titles[i]))
+        if ck is None:
+            ck = checks[(rule, titles[i])] = check_text(rule, titles[i])
+        key = (pages[i], sheets[i], rows_[i])
+        src = sources.get(key)
+        if src is None:
+            p, sh, rw = key
+            src = sources[key] = describe_source({
+                "page": None if p is None or p != p else int(p),
+                "sheet": None if sh is None or sh != sh else sh,
+                "row": None if rw is None or rw != rw else int(rw),
+            })
+        cap = caps[i]
+        row_values = [cap, rule, ck, sevs[i], clauses[i], values[i], limits[i], units[i], utils[i],
+                      messages[i], actions[i], src, f"{cap}/{rule}"]
+        fmt[3] = sev_fmt[sevs[i]]
+        for c, (v, f) in enumerate(zip(row_values, fmt), start=1):
+            _put(ws, r, c, v, f)
+        _fit_row_height(ws, r, row_values, ALL_CHECKS_WIDTHS)
+        r += 1
+
+
+def _rejected_sheet(ws, fmts: _Formats, rejected: list[dict[str, Any]], meta: dict[str, Any]) -> None:
+    _caution_row(ws, fmts, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
+    _table_header(ws, fmts, REJECTED_HEADINGS, REJECTED_WIDTHS)
+    row = FIRST_DATA_ROW
+    body = fmts("body")
     for rej in rejected:
         src = rej.get("source") or {}
         errors = rej.get("errors") or []
         values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), rej.get("mark") or "",
                   "\n".join(str(e) for e in errors)]
         for col, v in enumerate(values, start=1):
-            styles.apply(_put(ws, row, col, v), "body")
+            _put(ws, row, col, v, body)
         _fit_row_height(ws, row, values, REJECTED_WIDTHS)
         row += 1
-    ws.auto_filter.ref = f"A{HEADER_ROW}:{get_column_letter(len(REJECTED_HEADINGS))}{max(row - 1, HEADER_ROW)}"
-    _print_setup(ws, meta, f"1:{HEADER_ROW}")
+    ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, len(REJECTED_HEADINGS) - 1)
+    _print_setup(ws, meta, True)
 
 
-def _data_sheet(ws: Worksheet, comments: list[Comment], meta: dict[str, Any]) -> None:
-    ws.title = DATA_SHEET
-    ws.sheet_state = "hidden"
-    ws.append([DATA_MARKER, "revision", meta.get("revision", 1)])
-    ws.append(list(DATA_COLUMNS))
+def _data_sheet(ws, comments: list[Comment], meta: dict[str, Any]) -> None:
+    ws.hide()
+    for col, v in enumerate([DATA_MARKER, "revision", meta.get("revision", 1)], start=1):
+        _put(ws, 1, col, v)
+    for col, v in enumerate(DATA_COLUMNS, start=1):
+        _put(ws, 2, col, v)
     r = 3
     for cm in comments:
         if not cm.key:
             continue
-        rec = {
-            "key": cm.key,
-            "no": cm.no,
-            "cap": cm.cap,
-            "rule": cm.rule,
-            "severity": cm.severity,
-            "tool_severity": cm.tool_severity,
-            "tool_utilisation": _num(cm.tool_utilisation),
-            "value": _num(cm.value),
-            "limit": _num(cm.limit),
-            "unit": cm.unit,
-            "message": cm.message,
-            "state": cm.state,
-            "status_written": cm.status,
-            "basis_severity": cm.basis_severity if cm.status == "closed" else "",
-            "basis_utilisation": _num(cm.basis_utilisation) if cm.status == "closed" else None,
-        }
-        for col, name in enumerate(DATA_COLUMNS, start=1):
-            _put(ws, r, col, rec[name])
+        closed = cm.status == "closed"
+        rec = (
+            cm.key, cm.no, cm.cap, cm.rule, cm.severity, cm.tool_severity, _num(cm.tool_utilisation),
+            _num(cm.value), _num(cm.limit), cm.unit, cm.message, cm.state, cm.status,
+            cm.basis_severity if closed else "", _num(cm.basis_utilisation) if closed else None,
+        )
+        for col, v in enumerate(rec, start=1):
+            _put(ws, r, col, v)
         r += 1
 
 
-def build_workbook(review: "Review", comments: list[Comment], meta: dict[str, Any],
-                   revision: "RevisionResult | None" = None) -> Workbook:
-    wb = Workbook()
-    _cover(wb.active, review, comments, meta, revision)
-    _comments_sheet(wb.create_sheet(), comments, meta)
-    _all_checks_sheet(wb.create_sheet(), review, meta)
+def write_workbook(target, review: "Review", comments: list[Comment], meta: dict[str, Any],
+                   revision: "RevisionResult | None" = None) -> None:
+    """Write the comment workbook to ``target`` (a path or a binary file object)."""
+    wb = xlsxwriter.Workbook(target, {"constant_memory": True, "strings_to_numbers": False,
+                                      "strings_to_formulas": False, "strings_to_urls": False})
+    fmts = _Formats(wb)
+    _cover(wb.add_worksheet(COVER_SHEET), fmts, review, comments, meta, revision)
+    comments_ws = wb.add_worksheet(COMMENTS_SHEET)
+    _comments_sheet(comments_ws, fmts, comments, meta)
+    _all_checks_sheet(wb.add_worksheet(ALL_CHECKS_SHEET), fmts, review, meta)
     if review.rejected:
-        _rejected_sheet(wb.create_sheet(), list(review.rejected), meta)
-    _data_sheet(wb.create_sheet(), comments, meta)
-    wb.active = 1  # open on the comments
-    wb.properties.title = f"Check comments: {meta.get('submission', '')}"
-    wb.properties.subject = "capcheck comment sheet"
-    wb.properties.keywords = DATA_MARKER
-    wb.properties.creator = "capcheck"
+        _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta)
+    _data_sheet(wb.add_worksheet(DATA_SHEET), comments, meta)
+    comments_ws.activate()  # open on the comments
+    props = {"title": f"Check comments: {meta.get('submission', '')}", "subject": "capcheck comment sheet",
+             "keywords": DATA_MARKER, "author": "capcheck"}
     created = meta.get("date")
+    if isinstance(created, str):
+        try:
+            created = _dt.date.fromisoformat(created[:10])
+        except ValueError:
+            created = None
     if isinstance(created, _dt.date):
-        wb.properties.created = _dt.datetime.combine(created, _dt.time())
-    return wb
+        props["created"] = _dt.datetime.combine(created, _dt.time())
+    wb.set_properties(props)
+    wb.close()
 
 
 def write_sheet(review: "Review", path: str | Path, comments: list[Comment], meta: dict[str, Any],
                 *, revision: "RevisionResult | None" = None, force: bool = False) -> Path:
-    wb = build_workbook(review, comments, meta, revision)
-    return write_atomic(path, lambda fh: wb.save(fh), force=force)
+    return write_atomic(path, lambda fh: write_workbook(fh, review, comments, meta, revision), force=force)

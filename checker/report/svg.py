@@ -27,7 +27,8 @@ from typing import TYPE_CHECKING, Any, Iterable
 
 import numpy as np
 
-from checker.report.comments import SEVERITY_FILL, format_number, severity_rank
+from checker.findings import severity_rank
+from checker.report.comments import SEVERITY_FILL, format_number
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review

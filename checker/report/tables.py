@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 from pathlib import Path
 from typing import Any
 
@@ -49,8 +50,13 @@ def comments_csv(comments: list[Comment]) -> str:
     return buf.getvalue()
 
 
+_MD_SPECIAL = re.compile(r"[\\|&<>\r\n]")
+
+
 def _md_escape(v: Any) -> str:
     text = _cell_text(v)
+    if not _MD_SPECIAL.search(text):   # most cells: nothing to escape
+        return text
     text = text.replace("\\", "\\\\").replace("|", "\\|")
     text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     text = text.replace("\r\n", "\n").replace("\n", "<br>")

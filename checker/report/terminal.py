@@ -1,37 +1,32 @@
-"""The colour-coded findings list on the terminal (rich): grouped by cap, worst cap first."""
+"""The findings on the terminal: a colour-coded list grouped by cap, worst cap first, and for large
+schedules a summary (by severity, by rule, the worst caps) with the list of the worst caps only.
+
+Which view: the whole list for a schedule of up to :data:`LIST_ALL_UP_TO` caps, for ``--full``, and
+whenever the output is not a terminal (``capcheck check ... > findings.txt`` loses nothing); the
+summary view for a larger schedule on a terminal. Both start with the engineering caution.
+
+The list is written as lines made here (wrapped to the console's width, coloured with the escape
+codes of the console's own styles, worked out once per style), not as one rich renderable per
+finding: rich measures and wraps every segment, which took half a minute for 10,000 caps.
+"""
 
 from __future__ import annotations
 
 import math
 
-from rich.console import Console, Group
-from rich.padding import Padding
+import numpy as np
+import pandas as pd
+from rich import box
+from rich.console import Console
 from rich.panel import Panel
 from rich.table import Table
 from rich.text import Text
 
 from checker.caution import CAUTION
-from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, source_of
+from checker.findings import COMMENT_SEVERITIES, SEVERITY_ORDER, count_by_severity, describe_source
+from checker.report.palette import LABEL, LIST_ALL_UP_TO, STYLE, WORST_CAPS, severity_text  # noqa: F401
 
-# capcheck's own palette: one style per severity, used by every terminal view
-STYLE = {
-    "unsafe": "bold white on red3",
-    "non-compliant": "bold dark_orange",
-    "query": "bold magenta",
-    "advisory": "cyan",
-    "ok": "green",
-}
-LABEL = {
-    "unsafe": "UNSAFE",
-    "non-compliant": "NON-COMPLIANT",
-    "query": "QUERY",
-    "advisory": "ADVISORY",
-    "ok": "ok",
-}
-
-
-def severity_text(sev: str) -> Text:
-    return Text(f" {LABEL[sev]} ", style=STYLE[sev])
+REJECTED_SHOWN = 20      # rejected rows listed under the summary view
 
 
 def _fmt(v, unit: str) -> str:
@@ -59,37 +54,181 @@ def _util_text(u) -> str:
     return "util ∞" if math.isinf(u) else f"util {u:.2f}"
 
 
-def _finding_block(row: dict) -> Padding:
-    """One finding: badge, rule, figures on the first line; message, action and clause beneath."""
-    sev = row["severity"]
-    head = Text.assemble(severity_text(sev), " ", (row["rule"], "bold"))
-    v, lim = _fmt(row["value"], row["unit"]), _fmt(row["limit"], row["unit"])
-    if v or lim:
-        head.append(f"   {v} {_CMP_WORD[sev]} {lim}" if lim else f"   {v}")
-    ut = _util_text(row["utilisation"])
-    if ut:
-        head.append(f"   {ut}", style="bold" if sev != "ok" else "")
-    body = Text(row["message"])
-    if row.get("action") and sev != "ok":
-        body.append("\n→ " + row["action"], style="italic")
-    body.append("\n" + row["clause"], style="dim")
-    return Padding(Group(head, Padding(body, (0, 0, 0, 4))), (0, 0, 0, 2))
-
-
-def _remedy_line(review, cap: str, console: Console) -> None:
-    from checker.remedy import remedy_line
-
-    text = remedy_line(review, cap)
-    if text:
-        console.print(Padding(Text("⇒ " + text, style="italic green"), (0, 0, 0, 2)))
-
-
 def print_caution(console: Console) -> None:
     console.print(Panel(Text(CAUTION, style="italic"), title="Engineering caution", border_style="yellow"))
 
 
-def print_findings(review, console: Console, *, show_ok: bool = False) -> None:
-    f = review.findings
+# ---- the list, as lines ------------------------------------------------------------------------
+
+class _Painter:
+    """Escape codes of the console's own rendering of each style, worked out once per style
+    (nothing at all when the console has no colour)."""
+
+    def __init__(self, console: Console) -> None:
+        self.console = console
+        self.plain = console.color_system is None or console.no_color
+        self._codes: dict[str, tuple[str, str]] = {}
+
+    def __call__(self, style: str, text: str) -> str:
+        if self.plain or not style or not text:
+            return text
+        codes = self._codes.get(style)
+        if codes is None:
+            with self.console.capture() as cap:
+                self.console.print(Text("X", style=style), end="", soft_wrap=True)
+            before, _, after = cap.get().partition("X")
+            codes = self._codes[style] = (before, after)
+        return f"{codes[0]}{text}{codes[1]}"
+
+
+def _wrap(text: str, width: int) -> list[str]:
+    """Greedy word wrap (breaking a word only when it is longer than the line), keeping the
+    text's own line breaks, as rich wraps a message."""
+    width = max(width, 10)
+    out: list[str] = []
+    for para in text.split("\n"):
+        if len(para) <= width:
+            out.append(para)
+            continue
+        line = ""
+        for word in para.split(" "):
+            while len(word) > width:
+                if line:
+                    out.append(line)
+                    line = ""
+                out.append(word[:width])
+                word = word[width:]
+            if not line:
+                line = word
+            elif len(line) + 1 + len(word) <= width:
+                line += " " + word
+            else:
+                out.append(line)
+                line = word
+        out.append(line)
+    return out
+
+
+class _Lister:
+    """The findings of some caps as text lines, from the findings columns taken once."""
+
+    def __init__(self, review, console: Console, show_ok: bool) -> None:
+        f = review.findings
+        self.review = review
+        self.show_ok = show_ok
+        self.paint = _Painter(console)
+        self.width = console.width
+        self.cols = {c: (f[c].tolist() if c in f.columns else [None] * len(f))
+                     for c in ("rule", "severity", "value", "limit", "unit", "utilisation", "message",
+                               "action", "clause", "src_page", "src_sheet", "src_row")}
+        self.badges = {s: self.paint(STYLE[s], f" {LABEL[s]} ") for s in SEVERITY_ORDER}
+
+    def source(self, i: int) -> str:
+        c = self.cols
+        page, sheet, row = c["src_page"][i], c["src_sheet"][i], c["src_row"][i]
+        return describe_source({
+            "page": None if page is None or page != page else int(page),
+            "sheet": None if sheet is None or sheet != sheet else sheet,
+            "row": None if row is None or row != row else int(row),
+        })
+
+    def finding(self, i: int, out: list[str]) -> None:
+        c, paint = self.cols, self.paint
+        sev, unit = c["severity"][i], c["unit"][i]
+        unit = unit if isinstance(unit, str) else ""
+        figures = ""
+        v, lim = _fmt(c["value"][i], unit), _fmt(c["limit"][i], unit)
+        if v or lim:
+            figures = f"   {v} {_CMP_WORD[sev]} {lim}" if lim else f"   {v}"
+        ut = _util_text(c["utilisation"][i])
+        ut = f"   {ut}" if ut else ""
+        rule = str(c["rule"][i])
+        plain = f"   {LABEL[sev]}  {rule}{figures}{ut}"
+        if len(plain) <= self.width:
+            out.append("  " + self.badges[sev] + " " + paint("bold", rule) + figures
+                       + paint("bold" if sev != "ok" else "", ut))
+        else:   # a long heading wraps like any other line
+            out.extend("  " + ln for ln in _wrap(plain[2:], self.width - 2))
+        indent = "      "
+        w = self.width - len(indent)
+        msg = c["message"][i]
+        for ln in _wrap(msg if isinstance(msg, str) else "", w):
+            out.append(indent + ln)
+        act = c["action"][i]
+        if sev != "ok" and isinstance(act, str) and act:
+            out.extend(indent + paint("italic", ln) for ln in _wrap("→ " + act, w))
+        clause = c["clause"][i]
+        out.extend(indent + paint("dim", ln) for ln in _wrap(clause if isinstance(clause, str) else "", w))
+
+    def cap(self, mark: str, rows: list[int], worst: str, n_ok: int, out: list[str]) -> None:
+        paint = self.paint
+        src = self.source(rows[0]) if rows else ""
+        out.append("")
+        out.append(paint("bold", mark) + "  " + self.badges[worst]
+                   + paint("dim", (f"  {src}" if src else "") + f"  {n_ok} of {len(rows)} checks met"))
+        sev = self.cols["severity"]
+        for i in rows:
+            if self.show_ok or sev[i] != "ok":
+                self.finding(i, out)
+        if getattr(self.review, "remedy", None) is not None:
+            from checker.remedy import remedy_line
+
+            text = remedy_line(self.review, mark)
+            if text:
+                out.extend("  " + self.paint("italic green", ln) for ln in _wrap("⇒ " + text, self.width - 2))
+
+
+def _emit(console: Console, lines: list[str]) -> None:
+    """Write finished lines: straight to the console's file (what rich would write for them);
+    through the console when it records or captures, so that nothing is lost."""
+    if not lines:
+        return
+    if console.record or getattr(console, "_buffer_index", 0):
+        for ln in lines:
+            console.out(Text.from_ansi(ln), highlight=False)
+        return
+    console.file.write("\n".join(lines) + "\n")
+    console.file.flush()
+
+
+class _CapTable:
+    """Per cap, in the list's order (worst severity first, then as the findings are sorted): the
+    rows of its findings, its worst severity and its count of met checks, by array arithmetic."""
+
+    def __init__(self, f: pd.DataFrame) -> None:
+        rank = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+        self.sev_rank = f["severity"].map(rank).to_numpy(dtype=np.int64)
+        codes, marks = pd.factorize(f["cap"].astype(str))      # caps in the order first seen
+        n_caps = len(marks)
+        self.codes = np.asarray(codes, dtype=np.int64)
+        self.marks = [str(m) for m in marks]
+        self.worst = np.full(n_caps, len(SEVERITY_ORDER), dtype=np.int64)
+        np.minimum.at(self.worst, self.codes, self.sev_rank)
+        self.rows = np.argsort(self.codes, kind="stable")       # rows grouped by cap, order kept
+        self.starts = np.searchsorted(self.codes[self.rows], np.arange(n_caps + 1))
+        self.order = np.argsort(self.worst, kind="stable").tolist()
+        self.n_ok = np.bincount(self.codes[self.sev_rank == rank["ok"]], minlength=n_caps)
+        self.util = f["utilisation"].to_numpy(dtype=float, na_value=np.nan)
+
+    def cap_rows(self, k: int) -> list[int]:
+        return self.rows[self.starts[k]:self.starts[k + 1]].tolist()
+
+    def worst_caps(self, n: int) -> list[int]:
+        """The n worst caps: worst severity, then the highest utilisation at that severity."""
+        at_worst = self.sev_rank == self.worst[self.codes]
+        u = np.where(at_worst & np.isfinite(self.util), self.util, -np.inf)
+        top = np.full(len(self.marks), -np.inf)
+        np.maximum.at(top, self.codes, u)
+        return np.lexsort((-top, self.worst))[:n].tolist()
+
+    def worst_row(self, k: int) -> int:
+        """The cap's worst finding: at its worst severity, the highest utilisation (else the first)."""
+        rows = [i for i in self.cap_rows(k) if self.sev_rank[i] == self.worst[k]]
+        finite = [i for i in rows if math.isfinite(self.util[i])]
+        return max(finite, key=lambda i: self.util[i]) if finite else rows[0]
+
+
+def _header(review, console: Console) -> None:
     console.print(
         Text.assemble(
             ("capcheck ", "bold"),
@@ -101,54 +240,130 @@ def print_findings(review, console: Console, *, show_ok: bool = False) -> None:
         )
     )
     print_caution(console)
-    if len(f):
-        rank = {s: i for i, s in enumerate(SEVERITY_ORDER)}
-        worst = f.assign(_r=f["severity"].map(rank)).groupby("cap", sort=False)["_r"].min()
-        order = worst.sort_values(kind="stable").index.tolist()
-        by_cap = {cap: g for cap, g in f.groupby("cap", sort=False)}
-        for cap in order:
-            g = by_cap[cap]
-            wsev = SEVERITY_ORDER[int(worst[cap])]
-            src = describe_source(source_of(g.iloc[0]))
-            n_ok = int((g["severity"] == "ok").sum())
-            head = Text.assemble(("\n"), (f"{cap}", "bold"), "  ", severity_text(wsev),
-                                 (f"  {src}" if src else "", "dim"),
-                                 (f"  {n_ok} of {len(g)} checks met", "dim"))
-            console.print(head)
-            shown = g if show_ok else g[g["severity"] != "ok"]
-            for row in shown.to_dict("records"):
-                console.print(_finding_block(row))
-            _remedy_line(review, cap, console)
+
+
+def list_view(review, console: Console, listing: str = "auto") -> str:
+    """"list" or "summary": what :func:`print_findings` shows for ``listing`` auto / full / summary."""
+    if listing == "full":
+        return "list"
+    if listing == "summary":
+        return "summary"
+    n_caps = len(review.caps) if review.caps is not None else 0
+    return "summary" if n_caps > LIST_ALL_UP_TO and console.is_terminal else "list"
+
+
+def print_findings(review, console: Console, *, show_ok: bool = False, listing: str = "auto",
+                   worst: int = WORST_CAPS) -> None:
+    """The findings: every cap's (``listing="full"``, or ``auto`` for a small schedule or when the
+    output is not a terminal), or the summary view with the ``worst`` worst caps in full."""
+    f = review.findings
+    view = list_view(review, console, listing)
+    _header(review, console)
+    table = _CapTable(f) if len(f) else None
+    if table is not None:
+        lister = _Lister(review, console, show_ok)
+        caps = table.order if view == "list" else table.worst_caps(max(0, worst))
+        if view == "summary":
+            _print_overview(review, console, table, lister, caps)
+        lines: list[str] = []
+        for k in caps:
+            lister.cap(table.marks[k], table.cap_rows(k), SEVERITY_ORDER[int(table.worst[k])],
+                       int(table.n_ok[k]), lines)
+            if len(lines) > 20_000:
+                _emit(console, lines)
+                lines = []
+        _emit(console, lines)
+        if view == "summary" and len(table.marks) > len(caps):
+            console.print(Text(f"\n{len(table.marks) - len(caps):,} more caps not listed here: "
+                               "--full lists every cap, and so does writing to a file "
+                               "(capcheck check ... > findings.txt); -o FILE.xlsx / .html / .csv "
+                               "write the comments.", style="bold"))
     for p in getattr(review, "table_problems", None) or []:
         where = describe_source(p["source"]) or "?"
         console.print(Text(f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): ", style="bold red")
                       + Text("; ".join(p["errors"])))
     if review.rejected:
         console.print(Text("\nRows not checked", style="bold red"))
-        for r in review.rejected:
+        shown = review.rejected if view == "list" else review.rejected[:REJECTED_SHOWN]
+        for r in shown:
             where = describe_source(r["source"]) or "?"
             mark = f" {r['mark']}" if r.get("mark") else ""
             console.print(Text(f"  {r['source'].get('file') or ''} {where}{mark}: ", style="bold") +
                           Text("; ".join(r["errors"])))
+        if len(shown) < len(review.rejected):
+            console.print(Text(f"  ... and {len(review.rejected) - len(shown):,} more rows not checked "
+                               "(--full lists them all)", style="bold red"))
     unused = getattr(review, "unused_headings", None) or []
     if unused:
         console.print(Text("Headings not used: ", style="yellow") + Text(", ".join(repr(u) for u in unused)))
     for note in review.notes:
         console.print(Text(f"note: {note}", style="dim"))
     print_summary(review, console)
+    if view == "summary":
+        print_caution(console)
+
+
+def _print_overview(review, console: Console, table: _CapTable, lister: _Lister, caps: list[int]) -> None:
+    """The summary view's tables: findings by severity, by rule, and the worst caps."""
+    f = review.findings
+    n_caps = len(table.marks)
+    t = Table(title=f"Findings by severity ({n_caps:,} caps)", title_justify="left", header_style="bold",
+              box=box.SIMPLE_HEAD)
+    t.add_column("severity", no_wrap=True)
+    t.add_column("findings", justify="right")
+    t.add_column("caps at worst", justify="right")
+    counts = f["severity"].value_counts()
+    caps_at = np.bincount(table.worst, minlength=len(SEVERITY_ORDER))
+    for i, s in enumerate(SEVERITY_ORDER):
+        t.add_row(severity_text(s), f"{int(counts.get(s, 0)):,}", f"{int(caps_at[i]):,}")
+    console.print(t)
+
+    bad = f[f["severity"] != "ok"]
+    if len(bad):
+        per = bad.groupby([bad["rule"].astype(str), bad["severity"].astype(str)], observed=True).size()
+        per = per.unstack(fill_value=0).reindex(columns=list(COMMENT_SEVERITIES), fill_value=0)
+        per = per.sort_values(list(COMMENT_SEVERITIES), ascending=False)
+        r = Table(title="Findings by rule (checks not met or not verified)", title_justify="left",
+                  header_style="bold", box=box.SIMPLE_HEAD)
+        r.add_column("rule", no_wrap=True)
+        for s in COMMENT_SEVERITIES:
+            r.add_column(s, justify="right", no_wrap=True)
+        for rule, row in zip(per.index.tolist(), per.to_numpy().tolist()):
+            r.add_row(rule, *[Text(f"{n:,}", style=STYLE[s]) if n else Text("0", style="dim")
+                              for n, s in zip(row, COMMENT_SEVERITIES)])
+        console.print(r)
+
+    w = Table(title=f"The {len(caps)} worst caps (worst severity, then highest utilisation), listed in full below",
+              title_justify="left", header_style="bold", box=box.SIMPLE_HEAD)
+    w.add_column("cap", no_wrap=True)
+    w.add_column("worst", no_wrap=True)
+    w.add_column("not met", justify="right")
+    w.add_column("worst finding", overflow="fold")
+    c = lister.cols
+    for k in caps:
+        i = table.worst_row(k)
+        n_rows = table.starts[k + 1] - table.starts[k]
+        sev = SEVERITY_ORDER[int(table.worst[k])]
+        unit = c["unit"][i] if isinstance(c["unit"][i], str) else ""
+        figs = ", ".join(x for x in (_fmt(c["value"][i], unit) and f"{_fmt(c['value'][i], unit)} against "
+                                     f"{_fmt(c['limit'][i], unit)}", _util_text(c["utilisation"][i])) if x)
+        w.add_row(table.marks[k], severity_text(sev), f"{int(n_rows - table.n_ok[k])}",
+                  Text.assemble((str(c["rule"][i]), "bold"), f"  {figs}" if figs else ""))
+    console.print(w)
 
 
 def print_summary(review, console: Console) -> None:
-    counts = count_by_severity(review.findings) if len(review.findings) else dict.fromkeys(
+    f = review.findings
+    counts = count_by_severity(f) if len(f) else dict.fromkeys(
         ("unsafe", "non-compliant", "query", "advisory"), 0)
     parts = [Text("\nSummary: ", style="bold")]
     for s in ("unsafe", "non-compliant", "query", "advisory"):
         parts.append(Text(f"{counts[s]} {s}", style=STYLE[s] if counts[s] else "dim"))
         parts.append(Text("  "))
     n_ok_caps = 0
-    if len(review.findings):
-        worst = review.findings.groupby("cap")["severity"].agg(lambda s: all(v == "ok" for v in s))
-        n_ok_caps = int(worst.sum())
+    if len(f):
+        caps = f["cap"].astype(str)
+        n_ok_caps = int(caps.nunique() - caps[f["severity"] != "ok"].nunique())
     parts.append(Text(f"| {n_ok_caps} of {len(review.caps)} caps met every listed check "
                       f"(this is not a statement that a design is safe)", style="dim"))
     console.print(Text.assemble(*parts))
@@ -190,7 +405,7 @@ def print_working(review, mark: str, console: Console) -> None:
                           Text(line.text))
             continue
         console.print(Text(line.text))
-    from checker.report.variants_table import variants_table  # here: variants_table imports this module
+    from checker.report.variants_table import variants_table  # deferred: it loads the rule engine
 
     table = variants_table(review, mark)
     if table is not None:

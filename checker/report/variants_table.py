@@ -19,6 +19,7 @@ from rich import box
 from rich.table import Table
 from rich.text import Text
 
+from checker.report.palette import severity_text
 from checker.ruleset.catalogue import OUTPUT_SCALE
 from checker.ruleset.evaluate import _combo_name, _governing, _Overlay, variant_combos
 
@@ -120,8 +121,6 @@ def variants_table(review, mark: str) -> Table | None:
     rows = variant_rows(review, mark)
     if not rows:
         return None
-    from checker.report.terminal import severity_text  # the one palette (terminal does not import us)
-
     f = review.findings
     sev: dict[str, str] = {}
     if len(f):

@@ -317,7 +317,7 @@ def _set(res: RuleResult, c: int, msg: str, act: str, render) -> None:
 def case_working(ruleset, env: dict, ex: Expanded, ci: int, findings_for_cap: pd.DataFrame, params: dict):
     """The working of one cap (row ``ci`` of caps): each load-independent rule once, each
     load-dependent rule for every load case with its figures and verdict, then the governing verdict."""
-    from checker.api import WorkingLine
+    from checker.findings import WorkingLine
 
     start, count = int(ex.starts[ci]), int(ex.counts[ci])
     rows = np.arange(start, start + count)

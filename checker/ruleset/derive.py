@@ -472,7 +472,7 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"zone_burst_{k}"] = np.where(single, zone, np.nan)
         q[f"link_sets_{k}"] = np.where(single & links_stated, sets, np.nan)
         q[f"as_links_{k}"] = np.where(single, as_links, np.nan)
-    h_above = h - np.nan_to_num(f["embedment"], nan=0.0)
+    h_above = h - f["embedment"]          # no embedment given: a query, never an ok on h alone
     pla_pile = st.partially_loaded_area_ratio(dp, dp, h_above, L, W)
     q["h_above_pile"] = np.where(single, h_above, np.nan)
     q["pla_ratio_pile"] = np.where(single, pla_pile, np.nan)

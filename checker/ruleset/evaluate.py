@@ -9,14 +9,16 @@ utilisation, else the highest utilisation of those that could be evaluated.
 
 from __future__ import annotations
 
+import functools
 import operator
 import re
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER
+from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER, WorkingLine
 from checker.ruleset.catalogue import OUTPUT_SCALE, plain_words
 from checker.ruleset.loader import Rule, RuleSet
 
@@ -185,6 +187,11 @@ def stated_methods(text_values, rule: Rule) -> dict[str, np.ndarray]:
         out[fam] = np.array([lookup.get(t, "") if isinstance(t, str) else "" for t in texts.tolist()],
                             dtype=object)
     return out
+
+
+def numeric_params(params: dict[str, Any]) -> dict[str, float]:
+    """The profile's numeric parameters as expression names (the text ones are options, not numbers)."""
+    return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
 
 
 def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods=None) -> RuleResult:
@@ -401,15 +408,24 @@ def variants_record(row: dict) -> dict | None:
     acc = row.get("variants_accepted")
     if not isinstance(acc, str):
         return None
-    accepted = [a for a in acc.split("; ") if a]
-    failing = [a for a in (row.get("variants_failing") or "").split("; ") if a]
+    failing = row.get("variants_failing") or ""
+    accepted, failed, passing = _variant_lists(acc, failing if isinstance(failing, str) else "")
     return {
-        "accepted": accepted,
-        "failing": failing,
-        "passing": [a for a in accepted if a not in failing],
+        "accepted": list(accepted),
+        "failing": list(failed),
+        "passing": list(passing),
         "lowest": {"variant": row.get("variant_lo"), "utilisation": _r(row.get("util_lo"))},
         "highest": {"variant": row.get("variant_hi"), "utilisation": _r(row.get("util_hi"))},
     }
+
+
+@functools.lru_cache(maxsize=4096)
+def _variant_lists(accepted_text: str, failing_text: str) -> tuple[tuple[str, ...], ...]:
+    """(accepted, failing, passing) from the ``; ``-joined texts of a findings row (few distinct
+    pairs over a whole schedule, hence the cache)."""
+    accepted = tuple(a for a in accepted_text.split("; ") if a)
+    failing = tuple(a for a in failing_text.split("; ") if a)
+    return accepted, failing, tuple(a for a in accepted if a not in failing)
 
 
 def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
@@ -552,8 +568,6 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
 def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.DataFrame | None = None):
     """The calculation trace of cap row ``i``: per rule its clause, the formula lines with the
     values substituted, and the verdict."""
-    from checker.api import WorkingLine
-
     scalar_env = {}
     for k, v in env.items():
         if isinstance(v, np.ndarray) and v.ndim == 1:
@@ -561,9 +575,10 @@ def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.Data
         else:
             scalar_env[k] = v
     verdicts = {}
-    if findings_for_cap is not None:
-        for row in findings_for_cap.to_dict("records"):
-            verdicts[row["rule"]] = row
+    if findings_for_cap is not None and len(findings_for_cap):
+        f = findings_for_cap
+        for rid, sev, msg in zip(f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
+            verdicts[rid] = {"severity": sev, "message": msg}
     lines = []
     for rule in ruleset.rules:
         lines.append(WorkingLine(rule.id, f"{rule.title} [{rule.clause}]"))
@@ -573,3 +588,19 @@ def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.Data
         if row is not None:
             lines.append(WorkingLine(rule.id, f"  -> {row['severity']}: {row['message']}"))
     return lines
+
+
+def working_many(ruleset: RuleSet, env: dict, index: np.ndarray) -> dict[str, list[list[str]]]:
+    """The formula lines of :func:`working_lines` for the cap rows ``index`` at once, per rule:
+    ``{rule id: [the heading, then each working template's line, for every row of index]}``
+    (without the verdict line, which the caller takes from its findings row). Each template is
+    rendered over the whole column (``render_many``), as the messages are, so writing the working
+    of 10,000 caps costs one pass per template, not one per cap and template."""
+    index = np.asarray(index, dtype=np.int64)
+    out: dict[str, list[list[str]]] = {}
+    for rule in ruleset.rules:
+        head = f"{rule.title} [{rule.clause}]"
+        cols = [t.render_many(env, index) for t in rule.working]
+        out[rule.id] = [[head, *lines] for lines in zip(*cols)] if cols else [[head] for _ in range(len(index))]
+    return out
+

@@ -41,6 +41,7 @@ def synthetic_schedule(n: int, seed: int = 7) -> pd.DataFrame:
     s = np.round(dia * rng.uniform(2.6, 3.4, n), -1)
     s = np.maximum(s, dia + 50)
     ext = dia / 2 + rng.choice([100, 150, 200], n)
+    ext = np.where(piles == 1, np.maximum(ext, 450.0), ext)   # the largest column (700) fits the cap
     half_x = np.select([piles == 1, piles == 2, piles == 3, piles == 4, piles == 5, piles == 6],
                        [0 * s, s / 2, s / 2, s / 2, s / np.sqrt(2), s], 0)
     half_y = np.select([piles == 1, piles == 2, piles == 3, piles == 4, piles == 5, piles == 6],
@@ -54,6 +55,12 @@ def synthetic_schedule(n: int, seed: int = 7) -> pd.DataFrame:
     bars = rng.choice(["10H25", "12H25", "8H20", "14H25", "16H32", "H20@200", "H25@150", "H16@200"], n)
     bars_y = rng.choice(["10H25", "12H20", "H16@200", "H20@150"], n)
     conc = rng.choice(["C30/37", "C32/40", "C35/45", "C40/50"], n)
+    # a counted layer that does not fit the cap at 20 mm clear (ingest refuses it as implausible)
+    # is drawn as bars at centres instead
+    for arr, width in ((bars, W), (bars_y, L)):
+        parts = pd.Series(arr).str.extract(r"^(\d+)H(\d+)$").astype(float)
+        need = parts[0] * parts[1] + (parts[0] - 1) * 20.0
+        arr[(need > width - 2 * 75).to_numpy()] = "H20@200"
     return pd.DataFrame({
         "mark": [f"PC{i}" for i in range(n)],
         "piles": piles, "pile_dia": dia, "pile_spacing": np.where(piles == 1, np.nan, s),

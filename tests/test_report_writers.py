@@ -1,0 +1,100 @@
+"""The fast writers carry what the row-by-row writers carried (issue 14, item 4): the JSON results,
+the working of every cap in one pass, and the comment model, checked against plain row-by-row
+reconstructions on the sample submission and on generated caps."""
+
+from __future__ import annotations
+
+import json
+import math
+import sys
+from pathlib import Path
+
+import pytest
+
+sys.path.insert(0, str(Path(__file__).parent / "benchmarks"))
+
+from bench_engine import synthetic_schedule  # noqa: E402  (invented caps)
+
+import checker  # noqa: E402
+from checker.findings import comment_records, records, source_of, sort_findings  # noqa: E402
+from checker.report.json_out import dumps, to_document  # noqa: E402
+from checker.ruleset.evaluate import variants_record  # noqa: E402
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_submissions" / "harbourside-rev-A.csv"
+
+
+@pytest.fixture(scope="module", params=["sample", "generated"])
+def review(request):
+    if request.param == "sample":
+        return checker.review(SAMPLE)
+    return checker.review(synthetic_schedule(120, seed=11))
+
+
+def _num(v):
+    if v is None:
+        return None
+    f = float(v)
+    return None if math.isnan(f) or math.isinf(f) else round(f, 6)
+
+
+def _expected_results(rv, working: bool):
+    """The results as the row-by-row writer made them (pandas rows, one cap's trace at a time)."""
+    out = []
+    work = {}
+    for row in rv.findings.to_dict("records"):
+        item = {"cap": str(row["cap"]), "rule": row["rule"], "severity": row["severity"],
+                "clause": row["clause"], "value": _num(row["value"]), "limit": _num(row["limit"]),
+                "unit": row["unit"], "utilisation": _num(row["utilisation"]), "message": row["message"],
+                "source": source_of(row),
+                "case": row.get("case") if isinstance(row.get("case"), str) else None}
+        if row.get("action"):
+            item["action"] = row["action"]
+        var = variants_record(row)
+        if var is not None:
+            item["variants"] = var
+        if working:
+            cap = item["cap"]
+            if cap not in work:
+                per_rule = {}
+                for line in rv.working(cap):
+                    per_rule.setdefault(line.rule, []).append(line.text.strip())
+                work[cap] = per_rule
+            item["working"] = work[cap].get(item["rule"], [])
+        out.append(item)
+    return json.loads(json.dumps(out))
+
+
+@pytest.mark.parametrize("working", [False, True])
+def test_json_results_are_the_row_by_row_results(review, working):
+    doc = json.loads(dumps(review, working=working))
+    assert doc["results"] == _expected_results(review, working)
+    assert doc == to_document(review, working=working)
+    assert doc["summary"]["caps_checked"] == len(review.caps)
+
+
+def test_json_text_is_one_result_a_line(review):
+    text = dumps(review)
+    lines = text.splitlines()
+    start = lines.index('  "results": [')
+    items = lines[start + 1:start + 1 + len(review.findings)]
+    assert all(ln.startswith("    {") for ln in items)
+    assert [json.loads(ln.rstrip(",")) for ln in items[:3]] == json.loads(text)["results"][:3]
+    assert text.endswith("}\n")
+
+
+def test_working_of_every_cap_in_one_pass_equals_cap_by_cap(review):
+    marks = review.caps["mark"].astype(str).tolist()
+    many = review.working_by_rule(marks)
+    assert set(many) == set(marks)
+    for mark in marks:
+        one: dict[str, list[str]] = {}
+        for line in review.working(mark):
+            one.setdefault(line.rule, []).append(line.text.strip())
+        assert many[mark] == one, mark
+
+
+def test_records_and_comment_records_match_pandas(review):
+    f = review.findings
+    assert json.dumps(records(f), default=str) == json.dumps(f.to_dict("records"), default=str)
+    expected = [r for r in sort_findings(f).to_dict("records") if r["severity"] != "ok"]
+    assert json.dumps(comment_records(f), default=str) == json.dumps(expected, default=str)
