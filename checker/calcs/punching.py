@@ -804,29 +804,47 @@ def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y,
     per = pile_edge_perimeter(Xs, Ys, 2 * r, dd, cap_length, cap_width)
     rho = per["rho"]
     under = pile_under_column(Xs, Ys, 2 * r, cx, cy, rnd)
-    cand = mask & (per["near"] > 0) & ~under
-    # the column's share inside the circle about each pile
-    hx, hy = (0.5 * cx)[:, None], (0.5 * cy)[:, None]
-    a_rect = disc_rectangle_area(-hx - Xs, hx - Xs, -hy - Ys, hy - Ys, rho)
-    a_circ = disc_overlap_area(np.hypot(Xs, Ys), rho, hx)
-    area_col = np.where(rnd, np.pi * 0.25 * cx * cx, cx * cy)[:, None]
-    f_col = np.where(rnd[:, None], a_circ, a_rect) / area_col
-    dv_col = np.nan_to_num(N)[:, None] * np.minimum(f_col, 1.0)
-    hl = 0.5 * b(cap_length)[:, None]
-    hw = 0.5 * b(cap_width)[:, None]
-    a_cap = disc_rectangle_area(-hl - Xs, hl - Xs, -hw - Ys, hw - Ys, rho)
-    dv_sw = np.nan_to_num(b(self_weight))[:, None] * np.minimum(a_cap / (4.0 * hl * hw), 1.0)
-    # neighbours' reactions by the share of their heads inside, in chunks of bounded size
+    cand = mask & (per["near"] > 0) & ~under & (per["u"] > 0)
+    # the shares inside the circle, worked on the candidate piles only (flat arrays)
+    ri, ci = np.nonzero(cand)
+    px, py, rh = Xs[ri, ci], Ys[ri, ci], rho[ri, ci]
+    # the column's share: whole or nothing where the circle clears it, the closed form elsewhere
+    hx, hy = 0.5 * cx[ri], 0.5 * cy[ri]
+    rc = rnd[ri]
+    near_c = np.where(rc, np.maximum(np.hypot(px, py) - hx, 0.0),
+                      np.hypot(np.maximum(np.abs(px) - hx, 0.0), np.maximum(np.abs(py) - hy, 0.0)))
+    far_c = np.where(rc, np.hypot(px, py) + hx, np.hypot(np.abs(px) + hx, np.abs(py) + hy))
+    f_col = np.where(far_c <= rh, 1.0, 0.0)
+    part = (near_c < rh) & (far_c > rh)
+    if part.any():
+        k = np.flatnonzero(part)
+        a_rect = disc_rectangle_area(-hx[k] - px[k], hx[k] - px[k], -hy[k] - py[k], hy[k] - py[k], rh[k])
+        a_circ = disc_overlap_area(np.hypot(px[k], py[k]), rh[k], hx[k])
+        area = np.where(rc[k], np.pi * hx[k] * hx[k], 4.0 * hx[k] * hy[k])
+        f_col[k] = np.minimum(np.where(rc[k], a_circ, a_rect) / area, 1.0)
+    dv_col = np.zeros((n, m))
+    dv_col[ri, ci] = np.nan_to_num(N[ri]) * f_col
+    # the cap's self-weight by the share of its plan inside
+    hl = 0.5 * b(cap_length)[ri]
+    hw = 0.5 * b(cap_width)[ri]
+    a_cap = disc_rectangle_area(-hl - px, hl - px, -hw - py, hw - py, rh)
+    dv_sw = np.zeros((n, m))
+    dv_sw[ri, ci] = np.nan_to_num(b(self_weight)[ri]) * np.minimum(a_cap / (4.0 * hl * hw), 1.0)
+    # the neighbours' reactions by the share of their heads inside (lens where they straddle)
     Rn = np.where(mask, np.nan_to_num(np.asarray(reactions, dtype=float)), 0.0)
     dv_p = np.zeros((n, m))
-    per_chunk = max(1, 2 ** 21 // max(1, m * m))
-    head = np.pi * r * r
-    for c0 in range(0, n, per_chunk):
-        sl = slice(c0, min(n, c0 + per_chunk))
-        dist = np.hypot(Xs[sl][:, :, None] - Xs[sl][:, None, :], Ys[sl][:, :, None] - Ys[sl][:, None, :])
-        share = disc_overlap_area(dist, rho[sl][:, :, None], r[sl][:, None, None]) / head[sl][:, None, None]
-        share = np.where(mask[sl][:, None, :] & ~np.eye(m, dtype=bool)[None], np.minimum(share, 1.0), 0.0)
-        dv_p[sl] = np.einsum("cij,cj->ci", share, Rn[sl])
+    if ri.size and m > 1:
+        rr = r[ri][:, None]
+        dist = np.hypot(Xs[ri] - px[:, None], Ys[ri] - py[:, None])       # (k, m)
+        share = np.where(dist + rr <= rh[:, None], 1.0, 0.0)
+        cut = (dist + rr > rh[:, None]) & (dist < rh[:, None] + rr)
+        if cut.any():
+            kk, jj = np.nonzero(cut)
+            share[kk, jj] = np.minimum(disc_overlap_area(dist[kk, jj], rh[kk], r[ri][kk])
+                                       / (np.pi * r[ri][kk] ** 2), 1.0)
+        share = np.where(mask[ri], share, 0.0)
+        share[np.arange(ri.size), ci] = 0.0
+        dv_p[ri, ci] = np.sum(share * Rn[ri], axis=1)
     R_own = np.nan_to_num(np.asarray(reaction, dtype=float))
     force = R_own + dv_p - dv_col - dv_sw
     u = per["u"]
