@@ -269,8 +269,8 @@ def area_fraction_inside(sd, width, a0, step, n_steps):
 
 
 def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y, column_round,
-                        cap_length, cap_width, d, vrdc, n_coarse=64, n_fine=16, n_points=192,
-                        chunk_points=2 ** 21):
+                        cap_length, cap_width, d, vrdc, mx_ed=None, my_ed=None, n_coarse=64, n_fine=16,
+                        n_points=192, chunk_points=2 ** 21):
     """EN 1992-1-1:2004 6.4.4(2)
 
     Every control perimeter within 2d of the column face, the lowest resistance governing:
@@ -278,6 +278,14 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
     area inside the perimeter, common practice for pile caps), vEd = VEd,red/(u(a) d) (Eq.
     (6.49), β = 1.0) against vRd = vRd,c·2d/a (Eq. (6.50), vRd,c ≥ vmin), u(a) truncated by the
     cap edges (:func:`control_perimeter_length`). The governing a has the highest vEd/vRd.
+
+    With moments (column bases with eccentric loading, Eq. (6.51) [M]):
+    vEd = VEd,red/(u d) [1 + k MEd u/(VEd,red W)] = VEd,red/(u d) + k MEd/(W d), with u and W
+    of the perimeter considered (:func:`perimeter_w`, truncated by the cap) and k of Table 6.1
+    (:func:`k_moment`). For a pile cap the moment is reduced, like the force, by the pile
+    reactions inside the perimeter: MEd,red = MEd − Σ R_i f_i c_i (c_i the pile centre's lever
+    about the axis) [D], so a perimeter enclosing every pile carries neither force nor moment.
+    Both moments: the two terms combined as √(t_x² + t_y²), the combination of Eq. (6.43) [D].
 
     Trial perimeters: a = k·2d/64 (k = 1..64, steps of d/32), then 16 steps of d/256 over the
     two coarse steps either side of the worst. Why this is fine enough: on a step a_k < a <
@@ -303,6 +311,7 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
         cap_length, cap_width: cap plan L and W (n,) [mm]
         d: mean effective depth (n,) [mm]
         vrdc: vRd,c with the two-way ρ, at least vmin (n,) [MPa]
+        mx_ed, my_ed: moments about x and about y (n,), None for none [N·mm]
         n_coarse: coarse steps over (0, 2d] [count]
         n_fine: fine steps over the two coarse steps round the worst [count]
         n_points: quadrature points per pile head [count]
@@ -311,8 +320,9 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
     Returns:
         dict of (n,) arrays: ``a`` governing distance from the column face [mm], ``u`` its
         perimeter [mm], ``ved_red`` VEd,red [N], ``ved`` vEd [MPa], ``vrd`` vRd [MPa],
-        ``util`` vEd/vRd [-], ``dv0`` the reactions deducted inside the column perimeter
-        (a = 0, for 6.4.5(3)) [N]; NaN where the inputs are missing
+        ``util`` vEd/vRd [-], ``beta`` vEd u d/VEd,red (1.0 without moments) [-], ``dv0`` the
+        reactions deducted inside the column perimeter (a = 0, for 6.4.5(3)) [N]; NaN where the
+        inputs are missing
     """
     X = np.asarray(X, dtype=float)
     Y = np.asarray(Y, dtype=float)
@@ -330,6 +340,12 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
     vrdc = np.broadcast_to(np.asarray(vrdc, dtype=float), (n,))
     K, F = int(n_coarse), int(n_fine)
     P = int(n_points)
+    moments = mx_ed is not None or my_ed is not None
+    if moments:
+        mx = np.broadcast_to(np.nan_to_num(np.asarray(0.0 if mx_ed is None else mx_ed, dtype=float)), (n,))
+        my = np.broadcast_to(np.nan_to_num(np.asarray(0.0 if my_ed is None else my_ed, dtype=float)), (n,))
+        kx = np.where(rnd, 0.6, k_moment(cx, cy))   # eccentricity along x (My): c1 = cx
+        ky = np.where(rnd, 0.6, k_moment(cy, cx))   # eccentricity along y (Mx): c1 = cy
     ux, uy = (u.astype(np.float32) for u in unit_disc_points(P))
 
     valid = (np.isfinite(v) & np.isfinite(r) & (r > 0) & np.isfinite(cx) & np.isfinite(cy)
@@ -343,7 +359,7 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
     sample = mask & valid[:, None] & ~under & (sd_c - r[:, None] - cell[:, None] <= 2.0 * d[:, None])
     hc = 2.0 * d / K
 
-    out = {k: np.full(n, np.nan) for k in ("a", "u", "ved_red", "ved", "vrd", "util", "dv0")}
+    out = {k: np.full(n, np.nan) for k in ("a", "u", "ved_red", "ved", "vrd", "util", "beta", "dv0")}
     per_chunk = max(1, int(chunk_points) // (m * P))
     for c0 in range(0, n, per_chunk):
         sl = slice(c0, min(n, c0 + per_chunk))
@@ -382,6 +398,15 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
             red = reduced_punching_force(v[sl], Rc, f)
             with np.errstate(divide="ignore", invalid="ignore"):
                 ved = red / (u * dd)
+                if moments:
+                    # MEd,red: the moment less that of the reactions inside the perimeter [D]
+                    m_ex = my[sl][:, None] - np.einsum("cm,cmk->ck", Rc * Xs[sl], f)
+                    m_ey = mx[sl][:, None] - np.einsum("cm,cmk->ck", Rc * Ys[sl], f)
+                    wx, wy = perimeter_w(a, cx[sl][:, None], cy[sl][:, None], rnd[sl][:, None],
+                                         L[sl][:, None], W[sl][:, None])
+                    tx = np.where(wx > 0, kx[sl][:, None] * np.abs(m_ex) / np.where(wx > 0, wx, 1.0), 0.0)
+                    ty = np.where(wy > 0, ky[sl][:, None] * np.abs(m_ey) / np.where(wy > 0, wy, 1.0), 0.0)
+                    ved = ved + np.hypot(tx, ty) / dd
                 vrd = vrdc[sl][:, None] * 2.0 * dd / a
                 util = np.where((a > 0) & (u > 0), ved / vrd, -np.inf)
             return u, red, ved, vrd, util
@@ -401,8 +426,10 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
         j = np.argmax(util, axis=1)
         pick = np.arange(nc), j
         ok = valid[sl] & np.isfinite(util[pick])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            beta = np.where(red > 0, ved * u * d[sl][:, None] / red, np.nan)
         for key, arr in (("a", a_f), ("u", u), ("ved_red", red), ("ved", ved), ("vrd", vrd),
-                         ("util", util)):
+                         ("util", util), ("beta", beta)):
             out[key][sl] = np.where(ok, arr[pick], np.nan)
         out["dv0"][sl] = np.where(valid[sl], v[sl] - red_c[:, 0], np.nan)
     return out
@@ -477,3 +504,360 @@ def rho_two_way(rho_x, rho_y):
         ρl [-]
     """
     return np.minimum(np.sqrt(np.asarray(rho_x, dtype=float) * rho_y), 0.02)
+
+
+# ---- punching with moment transfer (issue 15, item 2) ---------------------------------------
+
+def k_moment(c1, c2):
+    """EN 1992-1-1:2004 6.4.3(3), Table 6.1
+
+    Share k of the unbalanced moment transferred by shear, for a rectangular column: c1/c2 ≤ 0.5:
+    0.45; 1.0: 0.60; 2.0: 0.70; ≥ 3.0: 0.80, linearly interpolated between (values from memory
+    [M]). c1 is the column side parallel to the eccentricity (along the moment's lever), c2 the
+    side across it. A circular column takes c1/c2 = 1 (k = 0.60, as in Eq. (6.42)).
+
+    Args:
+        c1: column side parallel to the eccentricity [mm]
+        c2: column side perpendicular to it [mm]
+
+    Returns:
+        k [-]
+    """
+    ratio = np.asarray(c1, dtype=float) / np.asarray(c2, dtype=float)
+    return np.interp(ratio, [0.5, 1.0, 2.0, 3.0], [0.45, 0.60, 0.70, 0.80])
+
+
+def perimeter_w(a, column_x, column_y, column_round, cap_length, cap_width):
+    """EN 1992-1-1:2004 6.4.3(3), Eq. (6.41)
+
+    W = ∫|e| dl over the control perimeter at a from the column face (the definition of W1 in
+    6.4.3(3), e the distance of dl from the axis about which the moment acts), in closed form for
+    the rounded rectangle at any a [D]: for the eccentricity along x (c1 = cx, c2 = cy)
+    W_x(a) = c1²/2 + c1 c2 + 2 a c2 + π a c1 + 4a², which is Eq. (6.41) at a = 2d
+    (c1²/2 + c1c2 + 4c2d + 16d² + 2πdc1); a circle of radius ρ = D/2 + a gives 4ρ², so that
+    u/W = π/(2ρ) and 1 + 0.6 e u/W is Eq. (6.42) at a = 2d. Parts of the perimeter outside the
+    cap plan do not count (as in :func:`control_perimeter_length`): a quarter arc of radius ρ
+    about (hx, hy) kept over θ1 ≤ θ ≤ θ2 adds ρ hx (θ2 − θ1) + ρ² (sin θ2 − sin θ1) to W_x and
+    ρ hy (θ2 − θ1) + ρ² (cos θ1 − cos θ2) to W_y; a straight side counts while it is inside.
+
+    Args:
+        a: distance of the perimeter from the column face [mm]
+        column_x, column_y: column size (circle: both D) [mm]
+        column_round: True for a circular column [-]
+        cap_length, cap_width: cap plan L (along x) and W (along y) [mm]
+
+    Returns:
+        (W_x, W_y): W for an eccentricity along x (moment My) and along y (moment Mx) [mm²]
+    """
+    a = np.asarray(a, dtype=float)
+    cx = np.asarray(column_x, dtype=float)
+    cy = np.asarray(column_y, dtype=float)
+    rnd = np.asarray(column_round, dtype=bool)
+    hl = 0.5 * np.asarray(cap_length, dtype=float)
+    hw = 0.5 * np.asarray(cap_width, dtype=float)
+    hx = np.where(rnd, 0.0, 0.5 * cx)
+    hy = np.where(rnd, 0.0, 0.5 * cy)
+    ex, ey = hl - hx, hw - hy
+    rho = np.where(rnd, 0.5 * cx + a, a)
+    safe = np.where(rho > 0, rho, 1.0)
+    with np.errstate(invalid="ignore"):
+        t1 = np.arccos(np.clip(ex / safe, -1.0, 1.0))
+        t2 = np.arcsin(np.clip(ey / safe, -1.0, 1.0))
+    t2 = np.maximum(t2, t1)
+    span = t2 - t1
+    arc_x = 4.0 * (rho * hx * span + rho * rho * (np.sin(t2) - np.sin(t1)))
+    arc_y = 4.0 * (rho * hy * span + rho * rho * (np.cos(t1) - np.cos(t2)))
+    side_x_on = (a <= ex) & ~rnd      # the two sides across x, at x = ±(cx/2 + a), length cy
+    side_y_on = (a <= ey) & ~rnd      # the two sides across y, at y = ±(cy/2 + a), length cx
+    wx = arc_x + side_x_on * 2.0 * cy * (hx + a) + side_y_on * 2.0 * (hx * hx)
+    wy = arc_y + side_y_on * 2.0 * cx * (hy + a) + side_x_on * 2.0 * (hy * hy)
+    return wx, wy
+
+
+def beta_column(n_ed, mx_ed, my_ed, column_x, column_y, column_round, d):
+    """EN 1992-1-1:2004 6.4.3(3), Eq. (6.39)
+
+    β for an internal column transferring a moment, on the basic control perimeter (used for the
+    column face too, 6.4.5(3)): one moment on a rectangular column, β = 1 + k (MEd/VEd) u1/W1
+    (Eq. (6.39), k from Table 6.1, W1 from Eq. (6.41)); a circular column, β = 1 + 0.6π e/(D + 4d)
+    (Eq. (6.42)) with e = √(ex² + ey²) (the circle is the same in every direction); both moments
+    on a rectangular column, β = 1 + 1.8 √((ex/bx)² + (ey/by)²) (Eq. (6.43), bx = cx + 4d and
+    by = cy + 4d the sides of the basic control perimeter, each eccentricity over the perimeter's
+    side along it), not less than Eq. (6.39) gives for either moment alone (a second moment cannot
+    lower β; for an elongated column Eq. (6.43) can fall below Eq. (6.39)) [M; combination D].
+    ex = |My|/VEd, ey = |Mx|/VEd. β = 1 without moments.
+
+    Args:
+        n_ed: column load VEd [N]
+        mx_ed, my_ed: moments about x and about y [N·mm]
+        column_x, column_y: column size (circle: both D) [mm]
+        column_round: True for a circular column [-]
+        d: mean effective depth [mm]
+
+    Returns:
+        (β [-], source: 0 none, 1 Eq. (6.39), 2 Eq. (6.42), 3 Eq. (6.43) [-])
+    """
+    v = np.asarray(n_ed, dtype=float)
+    mx = np.abs(np.nan_to_num(np.asarray(mx_ed, dtype=float)))
+    my = np.abs(np.nan_to_num(np.asarray(my_ed, dtype=float)))
+    cx = np.asarray(column_x, dtype=float)
+    cy = np.asarray(column_y, dtype=float)
+    rnd = np.asarray(column_round, dtype=bool)
+    d = np.asarray(d, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ex = my / v
+        ey = mx / v
+        u1 = 2.0 * (cx + cy) + 4.0 * np.pi * d
+        w1x = 0.5 * cx * cx + cx * cy + 4.0 * cy * d + 16.0 * d * d + 2.0 * np.pi * d * cx
+        w1y = 0.5 * cy * cy + cy * cx + 4.0 * cx * d + 16.0 * d * d + 2.0 * np.pi * d * cy
+        b_x = 1.0 + k_moment(cx, cy) * ex * u1 / w1x
+        b_y = 1.0 + k_moment(cy, cx) * ey * u1 / w1y
+        b_43 = 1.0 + 1.8 * np.sqrt((ex / (cx + 4.0 * d)) ** 2 + (ey / (cy + 4.0 * d)) ** 2)
+        b_42 = 1.0 + 0.6 * np.pi * np.hypot(ex, ey) / (cx + 4.0 * d)
+    both = (mx > 0) & (my > 0)
+    rect = np.where(both, np.maximum(b_43, np.maximum(b_x, b_y)), np.maximum(b_x, b_y))
+    beta = np.where(rnd, b_42, rect)
+    none = (mx == 0) & (my == 0)
+    beta = np.where(none, 1.0, beta)
+    src = np.where(none, 0.0, np.where(rnd, 2.0, np.where(both & (b_43 >= np.maximum(b_x, b_y)), 3.0, 1.0)))
+    return np.where(np.isnan(v), np.nan, beta), src
+
+
+# ---- piles near the cap edge punching upward (issue 15, item 4) -----------------------------
+
+def disc_overlap_area(dist, radius_a, radius_b):
+    """Derived: area common to two discs of radii ρa and ρb whose centres are dist apart
+
+    Plane geometry (the lens): ρa² acos((D² + ρa² − ρb²)/(2Dρa)) + ρb² acos((D² + ρb² − ρa²)/(2Dρb))
+    − ½√((−D + ρa + ρb)(D + ρa − ρb)(D − ρa + ρb)(D + ρa + ρb)); π min(ρa, ρb)² where one disc
+    lies inside the other; 0 where they are apart.
+
+    Args:
+        dist: distance D between the centres [mm]
+        radius_a, radius_b: radii ρa, ρb [mm]
+
+    Returns:
+        common area [mm²]
+    """
+    D = np.asarray(dist, dtype=float)
+    ra = np.asarray(radius_a, dtype=float)
+    rb = np.asarray(radius_b, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ca = np.clip((D * D + ra * ra - rb * rb) / (2.0 * D * ra), -1.0, 1.0)
+        cb = np.clip((D * D + rb * rb - ra * ra) / (2.0 * D * rb), -1.0, 1.0)
+        k = (-D + ra + rb) * (D + ra - rb) * (D - ra + rb) * (D + ra + rb)
+        lens = ra * ra * np.arccos(ca) + rb * rb * np.arccos(cb) - 0.5 * np.sqrt(np.maximum(k, 0.0))
+    small = np.pi * np.minimum(ra, rb) ** 2
+    out = np.where(D >= ra + rb, 0.0, np.where(D <= np.abs(ra - rb), small, lens))
+    return np.where(np.isnan(D) | np.isnan(ra) | np.isnan(rb), np.nan, out)
+
+
+def _disc_quadrant(a, b, rho):
+    """Area of the disc of radius ρ about the origin where u ≥ a and v ≥ b (closed form) [mm²]."""
+    def prim(u):  # ∫ √(ρ² − u²) du
+        s = np.sqrt(np.maximum(rho * rho - u * u, 0.0))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ang = np.arcsin(np.clip(np.where(rho > 0, u / np.where(rho > 0, rho, 1.0), 0.0), -1.0, 1.0))
+        return 0.5 * (u * s + rho * rho * ang)
+
+    ub = np.sqrt(np.maximum(rho * rho - b * b, 0.0))
+    lo = np.minimum(np.maximum(np.clip(a, -rho, rho), -ub), ub)
+    span = ub - lo
+    chord = prim(ub) - prim(lo)
+    a2 = np.clip(a, -rho, rho)
+    upper = chord - b * span                                    # b ≥ 0: the cap above v = b
+    lower = 2.0 * (prim(rho) - prim(a2)) - (chord + b * span)   # b < 0: all but the cap below
+    return np.maximum(np.where(b >= 0, upper, lower), 0.0)
+
+
+def disc_rectangle_area(x0, x1, y0, y1, rho):
+    """Derived: area of the disc of radius ρ about the origin inside the rectangle [x0, x1] × [y0, y1]
+
+    Inclusion-exclusion over four quadrant areas Q(a, b) = area of the disc where u ≥ a and v ≥ b,
+    each in closed form from ∫√(ρ² − u²) du = ½(u√(ρ² − u²) + ρ² asin(u/ρ)) (plane geometry):
+    A = Q(x0, y0) − Q(x1, y0) − Q(x0, y1) + Q(x1, y1).
+
+    Args:
+        x0, x1: rectangle limits along x, x0 ≤ x1 [mm]
+        y0, y1: rectangle limits along y, y0 ≤ y1 [mm]
+        rho: disc radius [mm]
+
+    Returns:
+        common area [mm²]
+    """
+    x0, x1, y0, y1, rho = (np.asarray(t, dtype=float) for t in (x0, x1, y0, y1, rho))
+    q = (_disc_quadrant(x0, y0, rho) - _disc_quadrant(x1, y0, rho)
+         - _disc_quadrant(x0, y1, rho) + _disc_quadrant(x1, y1, rho))
+    return np.maximum(q, 0.0)
+
+
+def pile_edge_perimeter(X, Y, pile_dia, d, cap_length, cap_width):
+    """EN 1992-1-1:2004 6.4.2(4), Figure 6.15
+
+    Control perimeter at 2d round a pile head near the cap edges (the loaded area pushing up into
+    the cap), radius ρ = φ/2 + 2d about the pile centre. An edge on the pile's side of the column
+    (the +x edge for a pile at x ≥ 0, both x edges for a pile on x = 0) is near where the pile face
+    is within 2d of it (centre-to-edge distance e < ρ). Figure 6.15 [M]: the perimeter runs round
+    the inner side of the pile at 2d and then straight, perpendicular to each near free edge, out
+    to it; read as the boundary of the 2d-offset of the pile head extended to every near edge [D]:
+    each near edge takes away the half of the circle facing it, every quarter of the circle whose
+    two neighbouring edges are not near remains (cut, like the circle, where an edge beyond the
+    column comes within ρ), and each near edge adds its two legs of length e at ±ρ beside the pile
+    where they lie inside the cap. So an edge pile has u = πρ + 2e, a corner pile πρ/2 + ex + ey,
+    and the end pile of a narrow two-pile cap the cap width. 6.4.2(4) takes this where it is shorter
+    than the circle truncated by the cap edges (the perimeter of 6.4.2(1), parts outside the cap
+    left out); the shorter of the two is returned.
+
+    Args:
+        X, Y: pile centres relative to the column centre (n, m) [mm]
+        pile_dia: pile diameter (n,) [mm]
+        d: mean effective depth (n,) [mm]
+        cap_length, cap_width: cap plan L (along x) and W (along y) (n,) [mm]
+
+    Returns:
+        dict of (n, m) arrays: ``u`` the perimeter [mm], ``u_fig`` the Figure 6.15 form [mm],
+        ``u_circle`` the truncated circle [mm], ``near`` number of near edges [count], ``legs``
+        straight legs counted (mm of perimeter gained per mm of added overhang) [count], ``rho``
+        [mm]
+    """
+    X = np.asarray(X, dtype=float)
+    Y = np.asarray(Y, dtype=float)
+    col = lambda v: np.asarray(v, dtype=float)[:, None]  # noqa: E731
+    rho = 0.5 * col(pile_dia) + 2.0 * col(d)
+    hl, hw = 0.5 * col(cap_length), 0.5 * col(cap_width)
+    e = {"+x": hl - X, "-x": hl + X, "+y": hw - Y, "-y": hw + Y}
+    own = {"+x": X > -1e-6, "-x": X < 1e-6, "+y": Y > -1e-6, "-y": Y < 1e-6}
+    near = {k: (v < rho) & own[k] for k, v in e.items()}
+    safe = np.where(rho > 0, rho, 1.0)
+    # quarters of the circle, each between an x edge and a y edge
+    quarters = (("+x", "+y"), ("-x", "+y"), ("-x", "-y"), ("+x", "-y"))
+    shape = np.broadcast_shapes(X.shape, rho.shape)
+    u_circ = np.zeros(shape)
+    arcs = np.zeros(shape)
+    for p, q in quarters:  # the arc kept while inside both edges
+        with np.errstate(invalid="ignore"):
+            ang = (np.arcsin(np.clip(e[q] / safe, -1.0, 1.0)) - np.arccos(np.clip(e[p] / safe, -1.0, 1.0)))
+        arc = rho * np.maximum(ang, 0.0)
+        u_circ = u_circ + arc
+        arcs = arcs + np.where(~near[p] & ~near[q], arc, 0.0)
+    perp = {"+x": ("+y", "-y"), "-x": ("+y", "-y"), "+y": ("+x", "-x"), "-y": ("+x", "-x")}
+    legs = np.zeros(shape)
+    leg_len = np.zeros(shape)
+    for k, sides in perp.items():
+        for side in sides:  # the leg at ±ρ beside the pile lies inside the cap where that edge is beyond ρ
+            on = near[k] & (e[side] >= rho)
+            legs = legs + on
+            leg_len = leg_len + np.where(on, e[k], 0.0)
+    u_fig = arcs + leg_len
+    n_near = sum(near[k].astype(float) for k in e)
+    return {"u": np.minimum(u_fig, u_circ), "u_fig": u_fig, "u_circle": u_circ, "near": n_near,
+            "legs": legs, "rho": np.broadcast_to(rho, shape)}
+
+
+def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y, column_round,
+                  n_ed, self_weight, d, cap_length, cap_width, vrdc):
+    """EN 1992-1-1:2004 6.4.4(1), Eq. (6.47)
+
+    Piles near the cap edge punching upward: on the perimeter at 2d round each pile whose face is
+    within 2d of a cap edge (:func:`pile_edge_perimeter`, 6.4.2(4), Figure 6.15),
+    vEd = VEd/(u d) ≤ vRd,c (two-way ρ; at a = 2d the factor 2d/a of Eq. (6.50) is 1). VEd is the
+    net upward force inside the perimeter, taken over the circle of radius φ/2 + 2d [D]: the pile's
+    own reaction (``reaction``, the worst with the positional tolerance), plus the reactions of
+    neighbouring piles by the share of their heads inside (:func:`disc_overlap_area`), less the
+    column load by the share of the column's area inside (:func:`disc_rectangle_area`, or the
+    lens for a round column) and the cap's self-weight by the share of the cap's plan inside; where
+    the column lies within 2d of the pile face its load inside the perimeter does not cross it (a
+    two-pile cap's end pile has the column inside and little to punch). The governing pile has the highest vEd/vRd,c. Piles under the column and perimeters
+    wholly outside the cap are left out.
+
+    Args:
+        reaction: each pile's own worst reaction (n, m) [N]
+        reactions: nominal pile reactions (n, m), for the neighbours [N]
+        X, Y: pile centres relative to the column centre (n, m) [mm]
+        mask: real piles (n, m) [-]
+        pile_dia: pile diameter (n,) [mm]
+        column_x, column_y: column size (circle: both D) (n,) [mm]
+        column_round: True for a circular column (n,) [-]
+        n_ed: column load (n,) [N]
+        self_weight: cap self-weight included in the reactions (n,) [N]
+        d: mean effective depth (n,) [mm]
+        cap_length, cap_width: cap plan (n,) [mm]
+        vrdc: vRd,c with the two-way ρ (n,) [MPa]
+
+    Returns:
+        dict of (n,) arrays for the governing pile: ``applies`` 1 where some pile is near an edge
+        [-], ``ved`` vEd [MPa], ``ved_force`` VEd [N], ``reaction`` its reaction [N], ``dv_col``
+        column load inside [N], ``dv_sw`` self-weight inside [N], ``dv_piles`` neighbours'
+        reactions inside [N], ``u`` [mm],
+        ``u_circle`` [mm], ``rho`` [mm], ``near`` near edges [count], ``legs`` [count], ``util``
+        vEd/vRd,c [-], ``x``, ``y`` its centre [mm]
+    """
+    X = np.asarray(X, dtype=float)
+    Y = np.asarray(Y, dtype=float)
+    mask = np.asarray(mask, dtype=bool)
+    n, m = X.shape
+    b = lambda v, dt=float: np.broadcast_to(np.asarray(v, dtype=dt), (n,))  # noqa: E731
+    r = 0.5 * b(pile_dia)
+    cx, cy, rnd = b(column_x), b(column_y), b(column_round, bool)
+    N, dd, vr = b(n_ed), b(d), b(vrdc)
+    Xs, Ys = np.where(mask, X, 0.0), np.where(mask, Y, 0.0)
+    per = pile_edge_perimeter(Xs, Ys, 2 * r, dd, cap_length, cap_width)
+    rho = per["rho"]
+    under = pile_under_column(Xs, Ys, 2 * r, cx, cy, rnd)
+    cand = mask & (per["near"] > 0) & ~under & (per["u"] > 0)
+    # the shares inside the circle, worked on the candidate piles only (flat arrays)
+    ri, ci = np.nonzero(cand)
+    px, py, rh = Xs[ri, ci], Ys[ri, ci], rho[ri, ci]
+    # the column's share: whole or nothing where the circle clears it, the closed form elsewhere
+    hx, hy = 0.5 * cx[ri], 0.5 * cy[ri]
+    rc = rnd[ri]
+    near_c = np.where(rc, np.maximum(np.hypot(px, py) - hx, 0.0),
+                      np.hypot(np.maximum(np.abs(px) - hx, 0.0), np.maximum(np.abs(py) - hy, 0.0)))
+    far_c = np.where(rc, np.hypot(px, py) + hx, np.hypot(np.abs(px) + hx, np.abs(py) + hy))
+    f_col = np.where(far_c <= rh, 1.0, 0.0)
+    part = (near_c < rh) & (far_c > rh)
+    if part.any():
+        k = np.flatnonzero(part)
+        a_rect = disc_rectangle_area(-hx[k] - px[k], hx[k] - px[k], -hy[k] - py[k], hy[k] - py[k], rh[k])
+        a_circ = disc_overlap_area(np.hypot(px[k], py[k]), rh[k], hx[k])
+        area = np.where(rc[k], np.pi * hx[k] * hx[k], 4.0 * hx[k] * hy[k])
+        f_col[k] = np.minimum(np.where(rc[k], a_circ, a_rect) / area, 1.0)
+    dv_col = np.zeros((n, m))
+    dv_col[ri, ci] = np.nan_to_num(N[ri]) * f_col
+    # the cap's self-weight by the share of its plan inside
+    hl = 0.5 * b(cap_length)[ri]
+    hw = 0.5 * b(cap_width)[ri]
+    a_cap = disc_rectangle_area(-hl - px, hl - px, -hw - py, hw - py, rh)
+    dv_sw = np.zeros((n, m))
+    dv_sw[ri, ci] = np.nan_to_num(b(self_weight)[ri]) * np.minimum(a_cap / (4.0 * hl * hw), 1.0)
+    # the neighbours' reactions by the share of their heads inside (lens where they straddle)
+    Rn = np.where(mask, np.nan_to_num(np.asarray(reactions, dtype=float)), 0.0)
+    dv_p = np.zeros((n, m))
+    if ri.size and m > 1:
+        rr = r[ri][:, None]
+        dist = np.hypot(Xs[ri] - px[:, None], Ys[ri] - py[:, None])       # (k, m)
+        share = np.where(dist + rr <= rh[:, None], 1.0, 0.0)
+        cut = (dist + rr > rh[:, None]) & (dist < rh[:, None] + rr)
+        if cut.any():
+            kk, jj = np.nonzero(cut)
+            share[kk, jj] = np.minimum(disc_overlap_area(dist[kk, jj], rh[kk], r[ri][kk])
+                                       / (np.pi * r[ri][kk] ** 2), 1.0)
+        share = np.where(mask[ri], share, 0.0)
+        share[np.arange(ri.size), ci] = 0.0
+        dv_p[ri, ci] = np.sum(share * Rn[ri], axis=1)
+    R_own = np.nan_to_num(np.asarray(reaction, dtype=float))
+    force = R_own + dv_p - dv_col - dv_sw
+    u = per["u"]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ved = np.where(force > 0, force / (u * dd[:, None]), 0.0)
+        util = ved / vr[:, None]
+    ok = cand & (u > 0)
+    key = np.where(ok, np.nan_to_num(util, nan=-np.inf, posinf=1e300), -np.inf)
+    g = np.argmax(key, axis=1) if m else np.zeros(n, dtype=int)
+    rows = np.arange(n)
+    has = ok.any(axis=1) & np.isfinite(dd) & np.isfinite(N) & np.isfinite(vr)
+    pick = lambda arr: np.where(has, np.asarray(arr)[rows, g], np.nan)  # noqa: E731
+    return {"applies": ok.any(axis=1).astype(float), "ved": pick(ved), "ved_force": pick(force),
+            "reaction": pick(R_own), "dv_col": pick(dv_col), "dv_sw": pick(dv_sw), "dv_piles": pick(dv_p), "u": pick(u),
+            "u_circle": pick(per["u_circle"]), "rho": pick(rho), "near": pick(per["near"]),
+            "legs": pick(per["legs"]), "util": pick(util), "x": pick(X), "y": pick(Y)}

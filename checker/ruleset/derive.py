@@ -61,7 +61,7 @@ DEFAULTS: dict[str, float | str] = {
     "concrete_density": 25.0, "pile_tolerance": 75.0, "dg": 20.0, "delta_c_dev": 10.0,
     "cover_k1": 40.0, "eta1": 1.0, "fck_shear_max": 50.0, "stated_tolerance": 0.05,
     "material_values": "table", "tie_node": "centre", "shear_av": "inside-pile",
-    "bending_section_inset": 0.0,
+    "bending_section_inset": 0.0, "beta_simplified": 1.15,
     "qp_ratio": float("nan"), "wmax_x0": 0.3, "wmax_other": 0.3, "es": 200000.0, "crack_kt": 0.4,
     "crack_k1": 0.8, "crack_k2": 0.5, "crack_k3": 3.4, "crack_k4": 0.425,
 }
@@ -369,25 +369,73 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     # ---- punching -----------------------------------------------------------------------
     # every perimeter within 2d (6.4.4(2), reference decision 13): the pile reactions deducted in
     # proportion to the pile head area inside each perimeter (common practice), the same share at
-    # the column perimeter (a = 0) for the column-face check (6.4.5(3))
+    # the column perimeter (a = 0) for the column-face check (6.4.5(3)). Moment transfer (issue 15,
+    # item 2): beta of 6.4.3(3) at the column face, Eq. (6.51) with u and W of each perimeter (the
+    # moments of the load case; MEd reduced by the reactions inside), the simplified beta of
+    # 6.4.3(6) as the method `simplified-6.4.3-6` (accepted where punching_beta_simplified = 1)
     u0 = pun.column_perimeter(cx, cy, rnd)
     applies = pun.perimeter_applies(X, Y, mask, phi_p, cx, cy, rnd)
     applies = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, applies)
     rho2 = pun.rho_two_way(q["rho_x"], q["rho_y"])
     vrdc2 = shr.v_rdc(fck_v, d_mean, rho2, gamma_c=gamma_c, crd_c_factor=crd)
     scan = pun.governing_perimeter(N, R_col, X, Y, mask, phi_p, cx, cy, rnd, L, W, d_mean, vrdc2)
+    moment = (mx != 0) | (my != 0)
+    scan_c = scan  # concentric (beta = 1): the simplified method scales it by beta = 1.15
+    if moment.any():
+        mi = np.flatnonzero(moment)
+        sm = pun.governing_perimeter(N[mi], R_col[mi], X[mi], Y[mi], mask[mi], phi_p[mi], cx[mi],
+                                     cy[mi], rnd[mi], L[mi], W[mi], d_mean[mi], vrdc2[mi],
+                                     mx_ed=mx[mi], my_ed=my[mi])
+        scan = {k: v.copy() for k, v in scan_c.items()}
+        for k in scan:
+            scan[k][mi] = sm[k]
     dved0 = np.nan_to_num(scan["dv0"], nan=0.0)  # piles unknown: nothing deducted (conservative)
     on = applies == 1.0
+    beta0, beta0_src = pun.beta_column(N, mx, my, cx, cy, rnd, d_mean)
+    beta_s = float(_pget(p, "beta_simplified"))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ecc_x, ecc_y = np.abs(my) / N, np.abs(mx) / N
     q.update(
         u0=u0, dved0=dved0, ved_red0=N - dved0,
-        ved0=pun.shear_stress_column_face(N - dved0, u0, d_mean),
+        beta0=beta0, beta0_src=beta0_src, punch_ex=ecc_x, punch_ey=ecc_y,
+        k_punch_x=np.where(rnd, 0.6, pun.k_moment(cx, cy)), k_punch_y=np.where(rnd, 0.6, pun.k_moment(cy, cx)),
+        ved0=pun.shear_stress_column_face(N - dved0, u0, d_mean, beta=beta0),
+        ved0_simpl=pun.shear_stress_column_face(N - dved0, u0, d_mean, beta=beta_s),
         vrd_max_punch=pun.v_rd_max(nu, fcd_shear, coeff=float(_pget(p, "vrdmax_coeff"))),
         punch_applies=applies,
         u1=np.where(on, scan["u"], np.nan), a_punch=np.where(on, scan["a"], np.nan),
         a_punch_d=np.where(on, scan["a"] / d_mean, np.nan),
         ved_red=np.where(on, scan["ved_red"], np.nan),
         ved1=np.where(on, scan["ved"], np.nan), vrd1=np.where(on, scan["vrd"], np.nan),
+        beta1=np.where(on, scan["beta"], np.nan),
+        u1_simpl=np.where(on, scan_c["u"], np.nan), a_punch_simpl=np.where(on, scan_c["a"], np.nan),
+        a_punch_d_simpl=np.where(on, scan_c["a"] / d_mean, np.nan),
+        ved_red_simpl=np.where(on, scan_c["ved_red"], np.nan),
+        ved1_simpl=np.where(on, beta_s * scan_c["ved"], np.nan), vrd1_simpl=np.where(on, scan_c["vrd"], np.nan),
         rho_punch=rho2, vrdc_punch=vrdc2,
+    )
+
+    # ---- piles near the cap edge punching upward (issue 15, item 4) -----------------------
+    # the perimeter at 2d round each pile whose face is within 2d of a cap edge, Figure 6.15 form
+    # (6.4.2(4)); VEd = the pile's worst reaction with the positional tolerance (as pile-reaction,
+    # self-weight share included) plus the neighbours' reactions inside, less the column load
+    # inside; against vRd,c (two-way rho, a = 2d)
+    r0_tol, swing_tol, _, _ = rea._tolerance_swing(X, Y, mask, n_tot, mx, my, e_tol, False)
+    pp = pun.pile_punching(np.where(mask, r0_tol + swing_tol, np.nan), R, X, Y, mask, phi_p, cx, cy,
+                           rnd, N, sw, d_mean, L, W, vrdc2)
+    pp_on = (pp["applies"] == 1.0) & (npile >= 2)
+    pp_app = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, pp_on.astype(float))
+    q.update(
+        pile_punch_applies=pp_app,
+        ved_pile=np.where(pp_on, pp["ved"], np.nan), vrd_pile=np.where(pp_on, vrdc2, np.nan),
+        ved_pile_force=np.where(pp_on, pp["ved_force"], np.nan),
+        r_pile_punch=np.where(pp_on, pp["reaction"], np.nan),
+        dv_pile_col=np.where(pp_on, pp["dv_col"], np.nan), dv_pile_sw=np.where(pp_on, pp["dv_sw"], np.nan),
+        dv_pile_piles=np.where(pp_on, pp["dv_piles"], np.nan),
+        u_pile=np.where(pp_on, pp["u"], np.nan), u_pile_circle=np.where(pp_on, pp["u_circle"], np.nan),
+        rho_pile=np.where(pp_on, pp["rho"], np.nan), pile_punch_edges=np.where(pp_on, pp["near"], np.nan),
+        pile_punch_legs=np.where(pp_on, pp["legs"], np.nan),
+        x_pile_punch=np.where(pp_on, pp["x"], np.nan), y_pile_punch=np.where(pp_on, pp["y"], np.nan),
     )
 
     # ---- anchorage ----------------------------------------------------------------------

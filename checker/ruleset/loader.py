@@ -66,6 +66,7 @@ class CompiledVariant:
     name: str
     source: str
     use: tuple[tuple[str, str], ...]
+    requires: str | None = None
 
 
 @dataclass(frozen=True)
@@ -248,7 +249,9 @@ def _compile_rule(spec: RuleSpec, known: set[str], file: str) -> Rule:
             for nm in (a, b):
                 if nm not in known:
                     raise RuleFileError(f"{where}: variant '{v.name}': unknown quantity '{nm}'")
-        variants.append(CompiledVariant(v.family, v.name, v.source, tuple(v.use.items())))
+        if v.requires is not None and v.requires not in known:
+            raise RuleFileError(f"{where}: variant '{v.name}': unknown profile parameter '{v.requires}'")
+        variants.append(CompiledVariant(v.family, v.name, v.source, tuple(v.use.items()), v.requires))
     return Rule(
         id=spec.id,
         title=spec.title,
@@ -405,8 +408,12 @@ def load_ruleset(profile: str = "uk-na", rules_dir: str | Path | None = None,
             continue
         if r.id in prof.severity:
             r = Rule(**{**r.__dict__, "severity": prof.severity[r.id]})
-        if drops and r.variants:
-            kept = tuple(v for v in r.variants if v.name not in drops)
+        # a method that needs a profile parameter (e.g. a National Annex choice) is accepted only
+        # where the profile sets it non-zero
+        gated = {v.name for v in r.variants
+                 if v.requires is not None and not float(prof.params.get(v.requires, 0.0) or 0.0)}
+        if (drops or gated) and r.variants:
+            kept = tuple(v for v in r.variants if v.name not in drops and v.name not in gated)
             for fam in r.families:
                 if not any(v.family == fam for v in kept):
                     raise RuleFileError(f"rule '{r.id}': every variant of '{fam}' was dropped; keep at least one")

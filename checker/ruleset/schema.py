@@ -81,6 +81,9 @@ class VariantSpec(_Strict):
     name: str = Field(min_length=1, max_length=40)
     source: str = Field(min_length=1, max_length=300)
     use: dict[str, str] = Field(default_factory=dict, max_length=12)
+    #: a profile parameter that must be non-zero for this method to be accepted (a National Annex or
+    #: project choice, e.g. ``punching_beta_simplified``); the method is left out where it is zero
+    requires: str | None = Field(default=None, max_length=60)
 
     @field_validator("family", "name")
     @classmethod
