@@ -203,6 +203,21 @@ def _project_defaults(args):
     return read_defaults(data["defaults"], f"--project {args.project}")
 
 
+def _close_policy(args, review=None) -> str:
+    """The closing policy: the project file's ``close`` ("auto", the default, or "checker")."""
+    data = _project(args)
+    value = data.get("close", (data.get("revision") if isinstance(data.get("revision"), dict) else {}).get("close"))
+    if value is None:
+        return "auto"
+    from checker.revision import CLOSE_POLICIES
+
+    v = str(value).strip().lower()
+    if v not in CLOSE_POLICIES:
+        raise _UsageError(f"--project {args.project}: close = {value!r}; use one of "
+                          f"{', '.join(repr(p) for p in CLOSE_POLICIES)}")
+    return v
+
+
 def _meta(args) -> dict:
     meta: dict = {}
     if getattr(args, "project", None):
@@ -218,39 +233,97 @@ class _UsageError(Exception):
     pass
 
 
+def preflight(args, outputs: list[str]):
+    """Check the options that name files before any work starts (exit 2 on a refusal, nothing
+    written): each ``-o`` extension is a known format; no output resolves to an input (the
+    schedule, --previous, --mapping, --coords, --loads, --project), whatever ``--force`` says;
+    ``--previous`` is a comment sheet capcheck wrote. Returns the previous sheet read (or None)."""
+    from checker.report import FORMATS
+
+    for o in outputs:
+        if Path(o).suffix.lower() not in FORMATS:
+            raise _UsageError(f"-o {o}: cannot tell the output format from the extension "
+                              f"'{Path(o).suffix or '(none)'}'; use one of {', '.join(sorted(FORMATS))}")
+    inputs = {"the schedule": getattr(args, "file", None), "--previous": getattr(args, "previous", None),
+              "--mapping": getattr(args, "mapping", None), "--coords": getattr(args, "coords", None),
+              "--loads": getattr(args, "loads", None), "--project": getattr(args, "project", None)}
+    resolved = {name: Path(v).resolve() for name, v in inputs.items() if v}
+    for o in outputs:
+        target = Path(o).resolve()
+        for name, path in resolved.items():
+            if target == path:
+                raise _UsageError(f"-o {o}: that is {name} ({inputs[name]}); an output never replaces an "
+                                  f"input, with or without --force; choose another name")
+    seen: dict[Path, str] = {}
+    for o in outputs:
+        t = Path(o).resolve()
+        if t in seen:
+            raise _UsageError(f"-o {o}: named twice (also as -o {seen[t]})")
+        seen[t] = o
+    if getattr(args, "project", None):
+        _close_policy(args)   # a bad value is refused before the work starts
+    prev_path = getattr(args, "previous", None)
+    if not prev_path:
+        return None
+    from checker.revision import read_previous_sheet
+
+    return read_previous_sheet(prev_path)   # PreviousSheetError (exit 2) when it is not one
+
+
 def write_files(review, paths: list[str], *, force: bool, meta: dict, previous_path: str | None,
-                console_err: Console) -> list[Path]:
+                console_err: Console, revision=None) -> list[Path]:
+    """Write the outputs; ``revision`` is the carried-over RevisionResult when the caller already
+    made it (its summary is then printed by the caller)."""
     if not paths:
         return []
     from checker.report import write_outputs
 
-    previous = None
-    if previous_path:
+    previous = revision
+    if previous is None and previous_path:
         from checker.revision import carry_over, read_previous_sheet
 
         previous = carry_over(review, read_previous_sheet(previous_path))
-    if previous is not None:
-        console_err.print(Text.assemble(("Revision: ", "bold"), previous.summary()))
-        for w in previous.warnings:
-            console_err.print(Text(f"note: {w}", style="dim"))
-    return write_outputs(review, paths, force=force, meta=meta, previous=previous)
+        _print_revision(previous, console_err)
+    written = write_outputs(review, paths, force=force, meta=meta, previous=previous)
+    for asked, got in zip(paths, written):
+        if Path(asked) != Path(got):
+            console_err.print(Text(f"note: {asked} exists; written as {got} instead (use --force to replace it)",
+                                   style="yellow"))
+    return written
+
+
+def _print_revision(previous, console_err: Console) -> None:
+    console_err.print(Text.assemble(("Revision: ", "bold"), previous.summary()))
+    for w in previous.warnings:
+        console_err.print(Text(f"note: {w}", style="dim"))
 
 
 def cmd_check(args, out: Console, err: Console) -> int:
-    brief = args.format == "text" and not args.all and not args.output
+    prev_sheet = preflight(args, args.output)
+    brief = args.format == "text" and not args.all and not args.output and prev_sheet is None
     rv = _review(args, err, messages="issues" if brief else "all")
     meta = _meta(args)
+    revision = None
+    if prev_sheet is not None:
+        from checker.report import resolve_meta
+        from checker.revision import carry_over
+
+        revision = carry_over(rv, prev_sheet, policy=_close_policy(args, rv))
+        label = resolve_meta(rv, meta, revision)["revision"]
+        if str(label) != str(revision.revision):
+            revision = revision.relabel(label)
+        _print_revision(revision, err)
     if args.format == "json":
         from checker.report.json_out import write_document
 
-        write_document(rv, sys.stdout.write, working=args.working)
+        write_document(rv, sys.stdout.write, working=args.working, revision=revision)
     else:
         from checker.report.terminal import print_findings
 
         print_findings(rv, out, show_ok=args.all, listing="full" if args.full else "auto",
                        worst=args.worst)
-    written = write_files(rv, args.output, force=args.force, meta=meta, previous_path=args.previous,
-                          console_err=err)
+    written = write_files(rv, args.output, force=args.force, meta=meta, previous_path=None,
+                          console_err=err, revision=revision)
     for p in written:
         err.print(f"wrote {p}")
     return _exit_for(rv, args.fail_on)

@@ -37,13 +37,32 @@ if TYPE_CHECKING:  # pragma: no cover
 
 # The comment workbook's layout, owned here because this module reads back what the sheet writer
 # (checker.report.sheet) writes: the writers import these names, never the other way round.
-STATUSES: tuple[str, ...] = ("open", "closed", "superseded")
+MET = "met, for checker to close"   # closing policy "checker": the check is met, a person closes it
+STATUSES: tuple[str, ...] = ("open", MET, "closed", "superseded")
+CLOSE_POLICIES: tuple[str, ...] = ("auto", "checker")
 COVER_SHEET = "Cover"
 COMMENTS_SHEET = "Comments"
 ALL_CHECKS_SHEET = "All checks"
 REJECTED_SHEET = "Rejected rows"
 DATA_SHEET = "capcheck-data"          # hidden: the tool's own figures per key, for the next revision
 DATA_MARKER = "capcheck.sheet/1"
+COLUMNS_SHEET = "capcheck-columns"   # hidden: the Comments sheet's columns as written (heading, field)
+COLUMNS_MARKER = "capcheck.columns/1"
+INPUTS_SHEET = "capcheck-inputs"     # hidden: the schedule inputs of every cap, for the next revision
+INPUTS_MARKER = "capcheck.inputs/1"
+LISTS_SHEET = "capcheck-lists"       # hidden: the statuses of the drop-down (one contains a comma)
+CHANGES_SHEET = "Changes"
+# The schedule inputs compared between revisions: field, unit shown, divisor from the internal unit.
+INPUT_FIELDS: tuple[tuple[str, str, float], ...] = (
+    ("piles", "", 1.0), ("pile_dia", "mm", 1.0), ("pile_spacing", "mm", 1.0),
+    ("cap_length", "mm", 1.0), ("cap_width", "mm", 1.0), ("cap_depth", "mm", 1.0),
+    ("column", "mm", 1.0), ("n_ed", "kN", 1e3), ("mx_ed", "kNm", 1e6), ("my_ed", "kNm", 1e6),
+    ("concrete", "", 1.0), ("fyk", "MPa", 1.0), ("cover", "mm", 1.0), ("exposure", "", 1.0),
+    ("bars_x", "", 1.0), ("bars_y", "", 1.0), ("links", "", 1.0), ("embedment", "mm", 1.0),
+    ("pile_capacity", "kN", 1e3), ("stated_pile_load", "kN", 1e3), ("stated_tie_x", "kN", 1e3),
+    ("stated_tie_y", "kN", 1e3), ("stated_as_x", "mm²", 1.0), ("stated_as_y", "mm²", 1.0),
+    ("pile_type", "", 1.0), ("bar_ends", "", 1.0), ("method", "", 1.0),
+)
 DATA_COLUMNS: tuple[str, ...] = (
     "key",
     "no",
@@ -120,6 +139,13 @@ class PreviousComment:
     basis_severity: str = ""         # figures a closed comment was closed on
     basis_utilisation: float | None = None
     row: int = 0                     # row on the previous Comments sheet
+    reply: str = ""                  # the checker's reply to the designer's response
+    extras: dict[str, Any] = field(default_factory=dict)   # columns a person added: heading -> cell
+
+    @property
+    def pair(self) -> tuple[str, str]:
+        """The comment key as a pair (cap mark, rule id): a mark may itself contain '/'."""
+        return (self.cap, self.rule)
 
 
 @dataclass
@@ -131,6 +157,10 @@ class PreviousSheet:
     warnings: list[str] = field(default_factory=list)
     project: str = ""
     submission: str = ""
+    # the Comments sheet's columns in order, as (heading, field); field "extra" for a person's own
+    columns: list[tuple[str, str]] = field(default_factory=list)
+    # the schedule inputs per cap as recorded when the sheet was written (None: not recorded)
+    inputs: dict[str, dict[str, tuple[Any, str]]] | None = None
 
 
 @dataclass
@@ -147,6 +177,9 @@ class CarriedComment:
     basis_severity: str = ""
     basis_utilisation: float | None = None
     note_fmt: str = ""    # the note with {rev} / {prev} placeholders (see RevisionResult.relabel)
+    reply: str = ""
+    extras: dict[str, Any] = field(default_factory=dict)
+    second_look: bool = False   # closed, but the cap's inputs changed since: worth a second look
 
 
 COUNT_NAMES: tuple[str, ...] = (
@@ -158,6 +191,9 @@ COUNT_NAMES: tuple[str, ...] = (
     "stays_closed",
     "stays_superseded",
     "not_rechecked",
+    "met",              # policy "checker": check now met, waiting for a person to close it
+    "stays_met",
+    "second_look",      # closed comments on caps whose inputs changed (counted besides the outcome)
 )
 
 
@@ -169,6 +205,16 @@ class RevisionResult:
     extra: list[PreviousComment]           # typed rows without a key, carried as they were
     counts: dict[str, int]
     warnings: list[str] = field(default_factory=list)
+    policy: str = "auto"
+    changes: list[dict[str, Any]] = field(default_factory=list)   # schedule inputs changed, per cap
+    inputs_recorded: bool = True
+
+    @property
+    def columns(self) -> list[tuple[str, str]]:
+        return self.previous.columns
+
+    def changed_caps(self) -> list[str]:
+        return list(dict.fromkeys(c["cap"] for c in self.changes))
 
     def relabel(self, revision: Label) -> "RevisionResult":
         """A copy for a new sheet labelled ``revision`` (when the user names the revision)."""
@@ -195,6 +241,16 @@ class RevisionResult:
             parts.append(f"{c['stays_superseded']} stay superseded")
         if c["not_rechecked"]:
             parts.append(f"{c['not_rechecked']} not re-checked (status left as it was)")
+        if c["met"] or c["stays_met"]:
+            parts.append(f"{c['met'] + c['stays_met']} met, for the checker to close")
+        if c["second_look"]:
+            parts.append(f"{c['second_look']} closed on caps whose inputs changed (second look)")
+        if self.inputs_recorded:
+            n = len(self.changed_caps())
+            parts.append(f"inputs changed on {n} cap{'s' if n != 1 else ''} ({len(self.changes)} "
+                         f"change{'s' if len(self.changes) != 1 else ''})")
+        else:
+            parts.append("inputs of the previous revision not recorded")
         return (f"revision {self.revision} against revision {self.previous.revision}: "
                 + ", ".join(parts))
 
@@ -214,6 +270,8 @@ _HEADING_ALIASES: dict[str, tuple[str, ...]] = {
     "response": ("designer response", "designer's response", "response"),
     "status": ("checker status", "checker's status", "status"),
     "key": ("key", "comment key"),
+    "reply": ("checker reply", "checker's reply", "reply"),
+    "remedy": ("would pass with",),
 }
 
 
@@ -347,12 +405,56 @@ def _read_data_sheet(wb) -> dict[str, dict[str, Any]]:
     return out
 
 
+def _marked_rows(wb, sheet: str, marker: str) -> list[tuple] | None:
+    """Rows 3.. of a hidden sheet whose A1 is ``marker`` (None when the sheet is absent)."""
+    if sheet not in wb.sheetnames:
+        return None
+    rows = list(wb[sheet].iter_rows(values_only=True))
+    if not rows or not rows[0] or rows[0][0] != marker:
+        return None
+    return [r for r in rows[2:] if r and any(v not in (None, "") for v in r)]
+
+
+def _read_columns(wb) -> list[tuple[str, str]]:
+    rows = _marked_rows(wb, COLUMNS_SHEET, COLUMNS_MARKER) or []
+    return [(_text(r[1]), _text(r[2]) or "extra") for r in rows if len(r) >= 3]
+
+
+def _read_inputs(wb) -> dict[str, dict[str, tuple[Any, str]]] | None:
+    rows = _marked_rows(wb, INPUTS_SHEET, INPUTS_MARKER)
+    if rows is None:
+        return None
+    out: dict[str, dict[str, tuple[Any, str]]] = {}
+    for r in rows:
+        r = tuple(r) + (None,) * 4
+        cap, fld, value, unit = _text(r[0]), _text(r[1]), r[2], _text(r[3])
+        if cap:
+            fields = out.setdefault(cap, {})
+            if fld:
+                fields[fld] = (value, unit)
+    return out
+
+
+def split_key(key: str, data: dict[str, dict[str, Any]] | None = None) -> tuple[str, str]:
+    """The (cap, rule) pair of a key text: from the hidden data sheet's two cells when recorded,
+    else split at the last '/' (rule ids never contain one; a cap mark may)."""
+    rec = (data or {}).get(key)
+    if rec and _text(rec.get("cap")) and _text(rec.get("rule")):
+        return _text(rec.get("cap")), _text(rec.get("rule"))
+    if "/" in key:
+        cap, rule = key.rsplit("/", 1)
+        return cap, rule
+    return "", key
+
+
 def _normalise_status(raw: Any, where: str, warnings: list[str]) -> str:
     t = _norm(raw)
     if t == "":
         return "open"
     if t in STATUSES:
         return t
+    if t in ("met", "met for checker to close", "met - for checker to close"):
+        return MET
     warnings.append(
         f"{where}: checker status {raw!r} is not one of {'/'.join(STATUSES)}; read as 'open'"
     )
@@ -387,6 +489,22 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
                 f"{path}: hidden sheet '{DATA_SHEET}' missing or empty; figures taken from the "
                 f"visible '{ws.title}' sheet"
             )
+        recorded = _read_columns(wb)
+        headings = [_text(v).strip() for v in next(
+            ws.iter_rows(min_row=header_row, max_row=header_row, values_only=True), ())]
+        cols = dict(cols)
+        known_idx = set(cols.values())
+        # a heading of ours that a person renamed: matched by the column it was written in
+        for i, h in enumerate(headings):
+            if i in known_idx or i >= len(recorded):
+                continue
+            rec_field = recorded[i][1]
+            if rec_field != "extra" and rec_field not in cols and h and _norm(h) != _norm(recorded[i][0]):
+                cols[rec_field] = i
+                known_idx.add(i)
+                warnings.append(f"{path}, sheet '{ws.title}': column '{h}' read as '{recorded[i][0]}' "
+                                f"(the heading it was written with)")
+        field_at = {i: name for name, i in cols.items()}
 
         def cell(row: tuple, name: str) -> Any:
             i = cols.get(name)
@@ -395,6 +513,25 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
         comments: dict[str, PreviousComment] = {}
         extra: list[PreviousComment] = []
         rows = list(ws.iter_rows(min_row=header_row + 1, values_only=True))
+        width = max([len(headings)] + [len(r) for r in rows])
+        extra_idx: dict[int, str] = {}
+        layout: list[tuple[str, str]] = []
+        for i in range(width):
+            h = headings[i] if i < len(headings) else ""
+            if i in field_at:
+                layout.append((h, field_at[i]))
+                continue
+            if not h and not any(i < len(r) and r[i] not in (None, "") for r in rows):
+                continue
+            if not h:
+                from openpyxl.utils import get_column_letter
+
+                h = (recorded[i][0] if i < len(recorded) and recorded[i][1] == "extra" and recorded[i][0]
+                     else f"(column {get_column_letter(i + 1)})")
+            while h in extra_idx.values() or any(h == lh for lh, _ in layout):
+                h += " (2)"
+            extra_idx[i] = h
+            layout.append((h, "extra"))
         if any(isinstance(v, str) and v.startswith("=") for row in rows for v in row):
             # Something a person typed may be a formula: take the value a spreadsheet program
             # saved with it, and where none was saved (openpyxl, some tools) keep the formula text
@@ -429,32 +566,18 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
                 response=_text(cell(row, "response")),
                 status=status,
                 row=r_idx,
+                reply=_text(cell(row, "reply")),
+                extras={h: row[i] for i, h in extra_idx.items() if i < len(row) and row[i] not in (None, "")},
             )
             if not key:
                 # A row a person added by hand (or whose key was cleared): keep it whole.
                 if any(_text(v).strip() for v in row):
                     extra.append(p)
                 continue
-            if "/" in key:
-                cap_k, rule_k = key.split("/", 1)
-            else:
-                cap_k, rule_k = p.cap, key
+            cap_k, rule_k = split_key(key, data)
             p.cap = p.cap or cap_k
             p.rule = rule_k
-            d = data.get(key, {})
-            p.message = _text(d.get("message")) if d.get("message") is not None else found
-            p.utilisation = (_float_or_none(d.get("tool_utilisation")) if d
-                             else _parse_utilisation(found))
-            p.tool_severity = _norm(d.get("tool_severity")) if d else p.severity
-            p.tool_utilisation = p.utilisation
-            p.state = _norm(d.get("state")) or "present"
-            status_written = _norm(d.get("status_written"))
-            if p.status == "closed" and status_written == "closed" and _norm(d.get("basis_severity")):
-                p.basis_severity = _norm(d.get("basis_severity"))
-                p.basis_utilisation = _float_or_none(d.get("basis_utilisation"))
-            else:
-                p.basis_severity = p.tool_severity
-                p.basis_utilisation = p.tool_utilisation
+            _fill_from_data(p, data.get(key, {}), found)
             if key in comments:
                 first = comments[key]
                 warnings.append(
@@ -462,8 +585,32 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
                 )
                 if p.response.strip() and p.response not in first.response:
                     first.response = (first.response + "\n" + p.response).strip("\n")
+                if p.reply.strip() and p.reply not in first.reply:
+                    first.reply = (first.reply + "\n" + p.reply).strip("\n")
+                for h, v in p.extras.items():
+                    if h not in first.extras:
+                        first.extras[h] = v
+                    elif _text(v) not in _text(first.extras[h]):
+                        first.extras[h] = f"{_text(first.extras[h])}\n{_text(v)}"
                 continue
             comments[key] = p
+        # a comment row a person deleted: carried from the hidden record, with a note
+        for key, d in data.items():
+            if key in comments:
+                continue
+            cap_k, rule_k = split_key(key, data)
+            p = PreviousComment(key=key, no=_int_or_none(d.get("no")), cap=cap_k, rule=rule_k,
+                                check=rule_k, severity=_norm(d.get("severity")),
+                                status=_norm(d.get("status_written")) or "open", row=10**9)
+            if p.status not in STATUSES:
+                p.status = "open"
+            _fill_from_data(p, d, "")
+            p.found = p.message
+            warnings.append(f"{path}: the row of comment {p.no or ''} ({key}) was deleted from the sheet; "
+                            f"carried from the hidden record with status '{p.status}'")
+            comments[key] = p
+        columns = layout
+        inputs = _read_inputs(wb)
         return PreviousSheet(
             path=str(path),
             revision=revision,
@@ -472,9 +619,28 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
             warnings=warnings,
             project=_read_cover_value(wb, "project"),
             submission=_read_cover_value(wb, "submission"),
+            columns=columns,
+            inputs=inputs,
         )
     finally:
         wb.close()
+
+
+def _fill_from_data(p: PreviousComment, d: dict[str, Any], found: str) -> None:
+    """The tool's own figures for a comment, from its hidden record (or the visible text)."""
+    p.message = _text(d.get("message")) if d.get("message") is not None else found
+    p.utilisation = (_float_or_none(d.get("tool_utilisation")) if d
+                     else _parse_utilisation(found))
+    p.tool_severity = _norm(d.get("tool_severity")) if d else p.severity
+    p.tool_utilisation = p.utilisation
+    p.state = _norm(d.get("state")) or "present"
+    status_written = _norm(d.get("status_written"))
+    if p.status == "closed" and status_written == "closed" and _norm(d.get("basis_severity")):
+        p.basis_severity = _norm(d.get("basis_severity"))
+        p.basis_utilisation = _float_or_none(d.get("basis_utilisation"))
+    else:
+        p.basis_severity = p.tool_severity
+        p.basis_utilisation = p.tool_utilisation
 
 
 # --------------------------------------------------------------------------------------------
@@ -504,8 +670,154 @@ def _fmt_u(u: float | None) -> str:
     return "" if u is None else (f" at utilisation {u:.2f}" if math.isfinite(u) else "")
 
 
-def carry_over(review: "Review", previous: PreviousSheet) -> RevisionResult:
-    """Match the previous sheet's comments to ``review`` by key and decide each new status."""
+# The declared transitions: (status on the previous sheet, what the new review shows) -> (new
+# status, outcome, note). What the review shows for the comment's key ("evidence"):
+#   reported   - the finding is still reported, not worse than the figures it is judged on
+#   worse      - still reported and worse (than the previous figures if open; than the figures it was
+#                closed on if closed)
+#   met        - the cap is checked and the rule now passes
+#   no-result  - the cap is checked but the rule gave no result ("not re-checked")
+#   cap-removed - the cap is no longer in the schedule
+# ``None`` in the policy slot: the same for both closing policies. Notes are formats: {n} the new
+# revision, {p} the previous one, {cap}, {rule}, {was}, {now}.
+EVIDENCE: tuple[str, ...] = ("reported", "worse", "met", "no-result", "cap-removed")
+Transition = tuple[str, str, str]   # (new status, outcome, note format)
+TRANSITIONS: dict[tuple[str, str, str | None], Transition] = {
+    ("open", "reported", None): ("open", "still-open", ""),
+    ("open", "worse", None): ("open", "still-open", "still open in revision {n}; worse than revision {p}"),
+    ("open", "met", "auto"): ("closed", "closed", "closed in revision {n}: check now met"),
+    ("open", "met", "checker"): (MET, "met", "met in revision {n}: for the checker to close"),
+    ("open", "no-result", None): (
+        "open", "not-rechecked",
+        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
+    ("open", "cap-removed", None): (
+        "superseded", "superseded", "superseded in revision {n}: cap {cap} no longer in the schedule"),
+    (MET, "reported", None): ("open", "reopened", "reopened in revision {n}: the check fails again"),
+    (MET, "worse", None): ("open", "reopened", "reopened in revision {n}: the check fails again"),
+    (MET, "met", "auto"): ("closed", "closed", "closed in revision {n}: check met"),
+    (MET, "met", "checker"): (MET, "stays-met", "met; for the checker to close (still met in revision {n})"),
+    (MET, "no-result", None): (
+        MET, "not-rechecked",
+        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
+    (MET, "cap-removed", None): (
+        "superseded", "superseded", "superseded in revision {n}: cap {cap} no longer in the schedule"),
+    ("closed", "reported", None): (
+        "closed", "stays-closed", "closed by the checker; still reported in revision {n}, not worse"),
+    ("closed", "worse", None): (
+        "open", "reopened", "reopened in revision {n}: finding worse than when closed (was {was}, now {now})"),
+    ("closed", "met", None): ("closed", "stays-closed", "closed; check met in revision {n}"),
+    ("closed", "no-result", None): (
+        "closed", "not-rechecked",
+        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
+    ("closed", "cap-removed", None): (
+        "closed", "stays-closed", "closed; cap {cap} no longer in the schedule in revision {n}"),
+    ("superseded", "reported", None): (
+        "open", "reopened", "reopened in revision {n}: cap {cap} is back in the schedule and the check fails"),
+    ("superseded", "worse", None): (
+        "open", "reopened", "reopened in revision {n}: cap {cap} is back in the schedule and the check fails"),
+    ("superseded", "met", "auto"): ("closed", "closed", "closed in revision {n}: check now met"),
+    ("superseded", "met", "checker"): (MET, "met", "met in revision {n}: for the checker to close"),
+    ("superseded", "no-result", None): (
+        "superseded", "not-rechecked",
+        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
+    ("superseded", "cap-removed", None): (
+        "superseded", "stays-superseded", "superseded; cap {cap} not in the schedule in revision {n}"),
+}
+
+
+def transition(status: str, evidence: str, policy: str = "auto") -> Transition:
+    """The row of :data:`TRANSITIONS` for a previous status, the new evidence and the policy."""
+    if policy not in CLOSE_POLICIES:
+        raise ValueError(f"closing policy {policy!r}: use one of {', '.join(CLOSE_POLICIES)}")
+    return TRANSITIONS.get((status, evidence, policy)) or TRANSITIONS[(status, evidence, None)]
+
+
+def _display(v: Any) -> Any:
+    if v is None:
+        return None
+    if isinstance(v, float):
+        if v != v:
+            return None
+        return int(v) if v.is_integer() else round(v, 3)
+    t = str(v).strip()
+    return t or None
+
+
+def cap_inputs(caps) -> dict[str, dict[str, tuple[Any, str]]]:
+    """The compared schedule inputs of every cap, in the units shown (kN, kNm, mm, MPa)."""
+    out: dict[str, dict[str, tuple[Any, str]]] = {}
+    if caps is None or "mark" not in getattr(caps, "columns", ()) or len(caps) == 0:
+        return out
+    for rec in records(caps):
+        mark = str(rec["mark"])
+        if mark in out:
+            continue
+        fields: dict[str, tuple[Any, str]] = {}
+        for name, unit, div in INPUT_FIELDS:
+            if name == "column":
+                cx, cy = _float_or_none(rec.get("column_x")), _float_or_none(rec.get("column_y"))
+                if cx is None:
+                    continue
+                v = (f"D{_display(cx)}" if rec.get("column_round") is True
+                     else f"{_display(cx)}x{_display(cy if cy is not None else cx)}")
+            else:
+                raw = rec.get(name)
+                if isinstance(raw, (int, float)) and not isinstance(raw, bool):
+                    v = _display(float(raw) / div)
+                else:
+                    v = _display(raw)
+            if v is not None:
+                fields[name] = (v, unit)
+        out[mark] = fields
+    return out
+
+
+def _same(a: Any, b: Any) -> bool:
+    if isinstance(a, (int, float)) and isinstance(b, (int, float)):
+        return abs(float(a) - float(b)) <= 1e-6 * max(1.0, abs(float(a)), abs(float(b)))
+    return _norm(a) == _norm(b)
+
+
+def input_changes(before: dict[str, dict[str, tuple[Any, str]]],
+                  after: dict[str, dict[str, tuple[Any, str]]]) -> list[dict[str, Any]]:
+    """Every changed input, cap by cap (schedule order of ``after``, removed caps last):
+    {cap, field, unit, old, new}; a cap added or removed is one row with field "cap"."""
+    out: list[dict[str, Any]] = []
+    for cap, now in after.items():
+        was = before.get(cap)
+        if was is None:
+            out.append({"cap": cap, "field": "cap", "unit": "", "old": None, "new": "added"})
+            continue
+        for name, _unit, _div in INPUT_FIELDS:
+            a, b = was.get(name), now.get(name)
+            av, bv = (a[0] if a else None), (b[0] if b else None)
+            if av is None and bv is None:
+                continue
+            if av is not None and bv is not None and _same(av, bv):
+                continue
+            out.append({"cap": cap, "field": name, "unit": (b or a)[1], "old": av, "new": bv})
+    for cap in before:
+        if cap not in after:
+            out.append({"cap": cap, "field": "cap", "unit": "", "old": "present", "new": "removed"})
+    return out
+
+
+def change_text(c: dict[str, Any]) -> str:
+    """'cap_depth 900 → 1000 mm' (one change as a person reads it)."""
+    if c["field"] == "cap":
+        return f"cap {c['new']}"
+    unit = f" {c['unit']}" if c.get("unit") else ""
+    old = "–" if c["old"] is None else c["old"]
+    new = "–" if c["new"] is None else c["new"]
+    return f"{c['field']} {old} → {new}{unit}"
+
+
+def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto") -> RevisionResult:
+    """Match the previous sheet's comments to ``review`` by key and decide each new status from
+    :data:`TRANSITIONS` under the closing ``policy`` ("auto": a met check closes the comment;
+    "checker": it becomes "met, for checker to close" and only a person closes it)."""
+    if policy not in CLOSE_POLICIES:
+        raise ValueError(f"closing policy {policy!r}: use one of {', '.join(CLOSE_POLICIES)}")
     label = next_revision(previous.revision)
     n = _REV_TOKEN          # notes are written with placeholders, then rendered (see relabel)
     frame = review.findings
@@ -530,63 +842,60 @@ def carry_over(review: "Review", previous: PreviousSheet) -> RevisionResult:
             used.add(p.no)
     pending_numbers: list[CarriedComment] = []
 
+    changes: list[dict[str, Any]] = []
+    inputs_recorded = previous.inputs is not None
+    if inputs_recorded:
+        changes = input_changes(previous.inputs or {}, cap_inputs(review.caps))
+    else:
+        warnings.append(f"{previous.path}: inputs of the previous revision not recorded (a sheet written "
+                        f"before capcheck recorded them); changes between revisions not listed")
+    changed_caps = {c["cap"] for c in changes if c["field"] != "cap"}
+
     def util_of(r: dict[str, Any] | None) -> float | None:
         return _float_or_none(r.get("utilisation")) if r else None
 
     ordered_prev = sorted(previous.comments.values(), key=lambda p: (p.no or 10**9, p.row))
     for p in ordered_prev:
         key = p.key
-        cap = p.cap or key.split("/", 1)[0]
+        cap = p.cap or split_key(key)[0]
+        rule = p.rule or split_key(key)[1]
         e = CarriedComment(key=key, no=0, status=p.status, response=p.response, outcome="",
-                           note="", state="present", previous=p)
+                           note="", state="present", previous=p, reply=p.reply, extras=dict(p.extras))
+        was = now = ""
         if key in current:
             f = current[key]
             sev, util = str(f["severity"]), util_of(f)
-            if p.status == "open":
-                e.status, e.outcome = "open", "still-open"
-                if _is_worse(sev, util, p.tool_severity, p.tool_utilisation):
-                    e.note = f"still open in revision {n}; worse than revision {_PREV_TOKEN}"
-                # plainly still open: no note, the status says it
-            elif p.status == "superseded":
-                e.status, e.outcome = "open", "reopened"
-                e.note = f"reopened in revision {n}: cap {cap} is back in the schedule and the check fails"
-            elif _is_worse(sev, util, p.basis_severity, p.basis_utilisation):
-                e.status, e.outcome = "open", "reopened"
-                e.note = (f"reopened in revision {n}: finding worse than when closed "
-                          f"(was {p.basis_severity or 'not reported'}{_fmt_u(p.basis_utilisation)}, "
-                          f"now {sev}{_fmt_u(util)})")
+            if p.status == "closed":
+                worse = _is_worse(sev, util, p.basis_severity, p.basis_utilisation)
+                was = f"{p.basis_severity or 'not reported'}{_fmt_u(p.basis_utilisation)}"
+                now = f"{sev}{_fmt_u(util)}"
             else:
-                e.status, e.outcome = "closed", "stays-closed"
-                e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-                e.note = f"closed by the checker; still reported in revision {n}, not worse"
+                worse = _is_worse(sev, util, p.tool_severity, p.tool_utilisation)
+            evidence = "worse" if worse else "reported"
         elif cap in caps_now and key in all_results:
-            met = all_results[key]
+            evidence = "met"
             e.state = "gone"
-            e.basis_severity, e.basis_utilisation = str(met["severity"]), util_of(met)
-            if p.status == "closed":
-                e.status, e.outcome = "closed", "stays-closed"
-                e.note = f"closed; check met in revision {n}"
-            else:
-                e.status, e.outcome = "closed", "closed"
-                e.note = f"closed in revision {n}: check now met"
         elif cap in caps_now:
+            evidence = "no-result"
             e.state = "not-rechecked"
-            e.status, e.outcome = p.status, "not-rechecked"
-            e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-            e.note = (f"not re-checked in revision {n} (no result for {p.rule or key} on cap {cap}); "
-                      f"status left as it was")
         else:
+            evidence = "cap-removed"
             e.state = "cap-removed"
-            if p.status == "closed":
-                e.status, e.outcome = "closed", "stays-closed"
-                e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-                e.note = f"closed; cap {cap} no longer in the schedule in revision {n}"
-            elif p.status == "superseded":
-                e.status, e.outcome = "superseded", "stays-superseded"
-                e.note = f"superseded; cap {cap} not in the schedule in revision {n}"
+        e.status, e.outcome, note = transition(p.status, evidence, policy)
+        e.note = note.format(n=n, p=_PREV_TOKEN, cap=cap, rule=rule, was=was, now=now)
+        if e.status in ("closed", MET):
+            if evidence == "met":
+                met = all_results[key]
+                e.basis_severity, e.basis_utilisation = str(met["severity"]), util_of(met)
             else:
-                e.status, e.outcome = "superseded", "superseded"
-                e.note = f"superseded in revision {n}: cap {cap} no longer in the schedule"
+                e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
+        elif e.outcome == "not-rechecked":
+            e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
+        if p.status == "closed" and e.status == "closed" and cap in changed_caps:
+            e.second_look = True
+            counts["second_look"] += 1
+            e.note = (f"{e.note}; " if e.note else "") + (
+                f"inputs of cap {cap} changed since revision {_PREV_TOKEN} while closed: take a second look")
         if p.no is not None and p.no not in used:
             e.no = p.no
             used.add(p.no)
@@ -621,4 +930,7 @@ def carry_over(review: "Review", previous: PreviousSheet) -> RevisionResult:
         extra=list(previous.extra),
         counts=counts,
         warnings=warnings,
+        policy=policy,
+        changes=changes,
+        inputs_recorded=inputs_recorded,
     )

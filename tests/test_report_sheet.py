@@ -45,8 +45,10 @@ def _headings(ws, row=2):
 
 def test_sheets_in_order(sheet):
     _, wb = sheet
-    assert wb.sheetnames == ["Cover", "Comments", "All checks", "Rejected rows", "capcheck-data"]
-    assert wb["capcheck-data"].sheet_state == "hidden"
+    assert wb.sheetnames == ["Cover", "Comments", "All checks", "Rejected rows", "capcheck-data",
+                             "capcheck-columns", "capcheck-inputs", "capcheck-lists"]
+    for hidden in ("capcheck-data", "capcheck-columns", "capcheck-inputs", "capcheck-lists"):
+        assert wb[hidden].sheet_state == "hidden"
     assert wb["capcheck-data"]["A1"].value == DATA_MARKER
     assert wb.active.title == "Comments"
 
@@ -106,7 +108,10 @@ def test_status_drop_down(sheet):
     assert len(dvs) == 1
     dv = dvs[0]
     assert dv.type == "list"
-    assert dv.formula1 == '"open,closed,superseded"'
+    # the list is on a hidden sheet: one status holds a comma, which a literal list would split
+    assert dv.formula1 == "'capcheck-lists'!$A$1:$A$4"
+    assert [wb["capcheck-lists"].cell(row=i, column=1).value for i in range(1, 5)] == [
+        "open", "met, for checker to close", "closed", "superseded"]
     ranges = str(dv.sqref)
     assert ranges.startswith("J3:J")
     assert int(ranges.split(":J")[1]) >= 3 + 9  # covers every comment and spare rows below
@@ -117,7 +122,7 @@ def test_freeze_filter_widths_wrap(sheet):
     _, wb = sheet
     ws = wb["Comments"]
     assert ws.freeze_panes == "A3"
-    assert ws.auto_filter.ref.startswith("A2:L")  # the last column: "Would pass with" (issue 16)
+    assert ws.auto_filter.ref.startswith("A2:M")  # the last column: "Checker reply" (issue 13)
     widths = {ws.cell(row=2, column=i).value: ws.column_dimensions[openpyxl.utils.get_column_letter(i)].width
               for i in range(1, 12)}
     assert widths["Key"] < widths["Found"] and widths["Key"] <= 12

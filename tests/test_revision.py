@@ -365,7 +365,8 @@ def test_counts_and_summary(tmp_path):
     set_result(new, "PC5", "bar-spacing", utilisation=1.3)
     res, s2 = next_round(tmp_path, s1, make_review(new, without_cap(CAPS, "PC3")))
     assert res.counts == {"closed": 1, "still_open": 5, "new": 1, "reopened": 1, "superseded": 2,
-                          "stays_closed": 0, "stays_superseded": 0, "not_rechecked": 0}
+                          "stays_closed": 0, "stays_superseded": 0, "not_rechecked": 0,
+                          "met": 0, "stays_met": 0, "second_look": 0}
     text = res.summary()
     assert text.startswith("revision 2 against revision 1: 1 closed, 5 still open, 1 new, 1 reopened")
     wb = openpyxl.load_workbook(s2)

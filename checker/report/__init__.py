@@ -147,7 +147,7 @@ def write_outputs(review: "Review", paths: list[str | Path], *, force: bool = Fa
     for p in requested:
         kind = FORMATS[p.suffix.lower()]
         if kind == "json":
-            written.append(_write_json(review, p, force=force, meta=meta_r))
+            written.append(_write_json(review, p, force=force, meta=meta_r, revision=previous))
             continue
         target = _target(p, force)
         if kind == "sheet":
@@ -169,13 +169,13 @@ def write_outputs(review: "Review", paths: list[str | Path], *, force: bool = Fa
     return written
 
 
-def _write_json(review: "Review", path: Path, *, force: bool, meta: dict[str, Any]) -> Path:
+def _write_json(review: "Review", path: Path, *, force: bool, meta: dict[str, Any], revision=None) -> Path:
     """The JSON contract (with the working), streamed into the atomic write as it is encoded."""
     from checker.report.json_out import write_document
 
     def fill(fh) -> None:
         text = io.TextIOWrapper(fh, encoding="utf-8", newline="")
-        write_document(review, text.write, working=True)
+        write_document(review, text.write, working=True, revision=revision)
         text.flush()
         text.detach()   # the binary file stays open for write_atomic to sync and close
 

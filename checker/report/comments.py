@@ -14,7 +14,7 @@ and ``utilisation``.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import pandas as pd
@@ -40,9 +40,11 @@ from checker.revision import (  # noqa: F401
     DATA_COLUMNS,
     DATA_MARKER,
     DATA_SHEET,
+    MET,
     REJECTED_SHEET,
     STATUSES,
     RevisionResult,
+    split_key,
 )
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -61,7 +63,38 @@ COMMENT_HEADINGS: tuple[str, ...] = (
     "Checker status",
     "Key",
     "Would pass with",   # issue 16: the least change that would meet the listed checks (checker.remedy)
+    "Checker reply",     # issue 13: the checker's answer to the designer's response, carried over
 )
+# the field each heading is read back as (checker.revision._HEADING_ALIASES)
+COMMENT_FIELDS: tuple[str, ...] = ("no", "cap", "check", "clause", "found", "severity", "action", "source",
+                                   "response", "status", "key", "remedy", "reply")
+
+
+def comment_layout(revision: "RevisionResult | None" = None) -> list[tuple[str, str]]:
+    """The Comments sheet's columns as (heading, field): ours in order, and every column a person
+    added to the previous sheet (field "extra"), kept after the column it followed there."""
+    base = list(zip(COMMENT_HEADINGS, COMMENT_FIELDS))
+    if revision is None or not revision.previous.columns:
+        return base
+    after: dict[str, list[str]] = {}
+    last = ""
+    for heading, fld in revision.previous.columns:
+        if fld == "extra":
+            after.setdefault(last, []).append(heading)
+        else:
+            last = fld
+    own = {f for _, f in base}
+    out = [(h, "extra") for h in after.get("", [])]
+    placed = set(after.get("", []))
+    for h, f in base:
+        out.append((h, f))
+        for x in after.get(f, []):
+            out.append((x, "extra"))
+            placed.add(x)
+    for anchor, xs in after.items():     # after a column of ours that no longer exists: at the end
+        if anchor and anchor not in own:
+            out += [(x, "extra") for x in xs if x not in placed]
+    return out
 
 # What each severity means, in the words of this project (cover sheet legend, report legend).
 SEVERITY_MEANING: dict[str, str] = {
@@ -214,6 +247,15 @@ class Comment:
     basis_severity: str = ""       # figures a hand-closed comment was closed on (to judge "worse")
     basis_utilisation: float | None = None
     remedy: str = ""               # what would meet the listed checks for the cap (checker.remedy), issue 16
+    reply: str = ""                # the checker's reply (typed on the sheet, carried over)
+    extras: dict[str, Any] = field(default_factory=dict)   # cells of columns a person added
+    second_look: bool = False      # closed, but the cap's inputs changed since
+
+    def value_of(self, fld: str, heading: str = "") -> Any:
+        """The cell for a column of :func:`comment_layout`."""
+        if fld == "extra":
+            return self.extras.get(heading)
+        return dict(zip(COMMENT_FIELDS, self.cells()))[fld]
 
     @property
     def found_cell(self) -> str:
@@ -237,6 +279,7 @@ class Comment:
             self.status,
             self.key,
             self.remedy,
+            self.reply,
         ]
 
 
@@ -305,8 +348,8 @@ def _build_comments(review: "Review", revision: "RevisionResult | None" = None) 
             c = Comment(
                 no=entry.no,
                 key=key,
-                cap=prev.cap if prev else key.split("/", 1)[0],
-                rule=prev.rule if prev else key.split("/", 1)[-1],
+                cap=prev.cap if prev else split_key(key)[0],
+                rule=prev.rule if prev else split_key(key)[1],
                 check=prev.check if prev else key,
                 clause=prev.clause if prev else "",
                 found=prev.found if prev else "",
@@ -335,6 +378,9 @@ def _build_comments(review: "Review", revision: "RevisionResult | None" = None) 
         c.outcome = entry.outcome
         c.basis_severity = entry.basis_severity
         c.basis_utilisation = entry.basis_utilisation
+        c.reply = entry.reply
+        c.extras = dict(entry.extras)
+        c.second_look = entry.second_look
         out.append(c)
     for prev in revision.extra:
         out.append(
@@ -356,6 +402,8 @@ def _build_comments(review: "Review", revision: "RevisionResult | None" = None) 
                 utilisation=prev.utilisation,
                 message=prev.message,
                 state="manual",
+                reply=prev.reply,
+                extras=dict(prev.extras),
             )
         )
     out.sort(key=lambda c: (c.no if c.no else 10**9))

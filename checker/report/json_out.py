@@ -88,7 +88,8 @@ def _number_texts(values) -> list[str]:
     return out
 
 
-def iter_result_texts(review, *, working: bool = False, chunk: int = CHUNK) -> Iterator[list[str]]:
+def iter_result_texts(review, *, working: bool = False, chunk: int = CHUNK,
+                      comments: dict[tuple[str, str], dict[str, Any]] | None = None) -> Iterator[list[str]]:
     """The ``results`` of the document as JSON texts, one per result, in the findings' order,
     ``chunk`` at a time. Text is made column by column: every distinct string is encoded once
     (rule ids, clauses, units and sources repeat over thousands of rows), numbers through
@@ -146,6 +147,10 @@ def iter_result_texts(review, *, working: bool = False, chunk: int = CHUNK) -> I
                 tail += ', "variants": ' + encode(variants_record(dict(zip(vnames, (c[k] for c in vcols)))))
             if work is not None:
                 tail += ', "working": ' + encode(work.get(caps[k], {}).get(rules[k], []))
+            if comments:
+                cm = comments.get((caps[k], str(rules[k])))
+                if cm is not None:
+                    tail += ', "comment": ' + encode(cm)
             out.append(
                 f'{{"cap": {cap_t[k]}, "rule": {rule_t[k]}, "severity": {sev_t[k]}, "clause": {clause_t[k]}, '
                 f'"value": {value_t[k]}, "limit": {limit_t[k]}, "unit": {unit_t[k]}, '
@@ -173,7 +178,38 @@ def _head(review) -> dict[str, Any]:
     }
 
 
-def _tail(review) -> dict[str, Any]:
+def comment_records_by_pair(review, revision) -> dict[tuple[str, str], dict[str, Any]]:
+    """The carried comment of every (cap, rule) as the JSON gives it (with --previous)."""
+    from checker.report.comments import build_comments
+
+    out: dict[tuple[str, str], dict[str, Any]] = {}
+    for c in build_comments(review, revision):
+        if not c.key:
+            continue
+        rec: dict[str, Any] = {"no": int(c.no), "status": c.status, "outcome": c.outcome, "note": c.note,
+                               "response": c.response, "reply": c.reply}
+        if c.second_look:
+            rec["second_look"] = True
+        out[(c.cap, c.rule)] = rec
+    return out
+
+
+def _revision_doc(revision) -> dict[str, Any]:
+    return {
+        "revision": {
+            "label": revision.revision,
+            "previous": revision.previous.revision,
+            "previous_sheet": Path(revision.previous.path).name,
+            "policy": revision.policy,
+            "summary": revision.summary(),
+            "counts": dict(revision.counts),
+            "inputs_recorded": revision.inputs_recorded,
+        },
+        "changes": [dict(c) for c in revision.changes],
+    }
+
+
+def _tail(review, revision=None) -> dict[str, Any]:
     """What follows the results: the rows not checked and why, the notes, and the remedies."""
     doc: dict[str, Any] = {
         "rejected": [
@@ -191,33 +227,37 @@ def _tail(review) -> dict[str, Any]:
     rem = remedies_json(review)
     if rem is not None:
         doc["remedies"] = rem
+    if revision is not None:
+        doc.update(_revision_doc(revision))
     return doc
 
 
-def to_document(review, *, working: bool = False) -> dict[str, Any]:
+def to_document(review, *, working: bool = False, revision=None) -> dict[str, Any]:
     """The whole document as one dict (for callers that want the objects, not the text): the
     text of :func:`write_document` read back, so there is one writer."""
-    return json.loads(dumps(review, working=working))
+    return json.loads(dumps(review, working=working, revision=revision))
 
 
-def write_document(review, write: Callable[[str], Any], *, working: bool = False) -> None:
+def write_document(review, write: Callable[[str], Any], *, working: bool = False, revision=None) -> None:
     """Write the document as text through ``write`` (e.g. ``sys.stdout.write``), piece by piece;
-    the text ends with a newline."""
+    the text ends with a newline. With ``revision`` (a :class:`checker.revision.RevisionResult`)
+    each result carries its ``comment`` and the tail the ``revision`` summary and the ``changes``."""
     head = json.dumps(_head(review), indent=2, ensure_ascii=False)
     write(head[: head.rindex("\n}")] + ',\n  "results": [')
     first = True
-    for part in iter_result_texts(review, working=working):
+    comments = comment_records_by_pair(review, revision) if revision is not None else None
+    for part in iter_result_texts(review, working=working, comments=comments):
         text = ",\n    ".join(part)
         write(("\n    " if first else ",\n    ") + text)
         first = False
     write("]," if first else "\n  ],")
-    tail = json.dumps(_tail(review), indent=2, ensure_ascii=False)
+    tail = json.dumps(_tail(review, revision), indent=2, ensure_ascii=False, default=str)
     write("\n" + tail[tail.index("\n") + 1:] + "\n")
 
 
-def dumps(review, *, working: bool = False) -> str:
+def dumps(review, *, working: bool = False, revision=None) -> str:
     buf = io.StringIO()
-    write_document(review, buf.write, working=working)
+    write_document(review, buf.write, working=working, revision=revision)
     return buf.getvalue()
 
 

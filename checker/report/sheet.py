@@ -30,6 +30,7 @@ from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source,
 from checker.report.comments import (
     ALL_CHECKS_SHEET,
     CAUTION_FILL,
+    COMMENT_FIELDS,
     COMMENT_HEADINGS,
     COMMENTS_SHEET,
     COVER_SHEET,
@@ -45,10 +46,21 @@ from checker.report.comments import (
     SEVERITY_TEXT,
     SHORT_CAUTION,
     STATUS_MUTED,
+    MET,
     STATUSES,
     Comment,
     check_text,
+    comment_layout,
     count_by_status,
+)
+from checker.revision import (
+    CHANGES_SHEET,
+    COLUMNS_MARKER,
+    COLUMNS_SHEET,
+    INPUTS_MARKER,
+    INPUTS_SHEET,
+    LISTS_SHEET,
+    cap_inputs,
 )
 from checker.report.writefile import write_atomic
 
@@ -69,7 +81,9 @@ COMMENT_WIDTHS: dict[str, float] = {
     "Designer response": 36,
     "Checker status": 11,
     "Key": 9,
+    "Checker reply": 36,
 }
+EXTRA_WIDTH = 20          # a column a person added (its width is not read back)
 
 ALL_CHECKS_HEADINGS: tuple[str, ...] = (
     "Cap", "Rule", "Check", "Severity", "Clause", "Value", "Limit", "Unit", "Utilisation",
@@ -333,8 +347,9 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
 
     row += 1
     how_to = ("Designer: write a response against each comment in 'Designer response'. Checker: set "
-              "'Checker status' from the drop-down (open / closed / superseded). Keep the 'Key' column "
-              "as it is: the next revision matches comments by it.")
+              "'Checker status' from the drop-down (" + " / ".join(STATUSES) + ") and answer in "
+              "'Checker reply'. Columns you add are carried to the next revision. Keep the 'Key' "
+              "column as it is: the next revision matches comments by it.")
     texts = [("Statement", NOT_A_SAFETY_CLAIM), ("How to answer", how_to)]
     texts += [("Notes" if i == 0 else "", str(n)) for i, n in enumerate(review.notes or [])]
     for label, text in texts:
@@ -345,24 +360,29 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
     _print_setup(ws, meta, False, landscape=False)
 
 
-def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str, Any]) -> None:
+def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str, Any],
+                    layout: list[tuple[str, str]] | None = None) -> None:
     if len(comments) + FIRST_DATA_ROW - 1 > EXCEL_MAX_ROWS:
         raise ValueError(
             f"{len(comments):,} comments do not fit on one XLSX sheet ({EXCEL_MAX_ROWS:,} rows); "
             f"write the comments as CSV (-o NAME.csv) or check the schedule in parts"
         )
-    widths = [COMMENT_WIDTHS[h] for h in COMMENT_HEADINGS]
-    ncols = len(COMMENT_HEADINGS)
+    layout = layout or comment_layout(None)
+    headings = [h for h, _ in layout]
+    fields = [f for _, f in layout]
+    widths = [COMMENT_WIDTHS.get(h, EXTRA_WIDTH) if f != "extra" else EXTRA_WIDTH for h, f in layout]
+    ncols = len(layout)
     _caution_row(ws, fmts, ncols, widths)
-    _table_header(ws, fmts, COMMENT_HEADINGS, widths)
-    sev_col = COMMENT_HEADINGS.index("Severity")
-    key_col = COMMENT_HEADINGS.index("Key")
-    status_col = COMMENT_HEADINGS.index("Checker status") + 1
+    _table_header(ws, fmts, headings, widths)
+    sev_col = fields.index("severity")
+    key_col = fields.index("key")
+    status_col = fields.index("status") + 1
     names = [fmts("body")] * ncols
     names[key_col] = fmts("body:key")
     row = FIRST_DATA_ROW
     for cm in comments:
-        values = cm.cells()
+        base = dict(zip(COMMENT_FIELDS, cm.cells()))
+        values = [cm.extras.get(h) if f == "extra" else base[f] for h, f in layout]
         names[sev_col] = fmts(f"body:sev={cm.severity}")
         for col, (v, fmt) in enumerate(zip(values, names), start=1):
             _put(ws, row, col, v, fmt)
@@ -370,16 +390,17 @@ def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str,
         row += 1
     last = row - 1
     end = max(last, HEADER_ROW) + SPARE_ROWS
+    # the list lives on a hidden sheet: one status ("met, for checker to close") holds a comma
     ws.data_validation(FIRST_DATA_ROW - 1, status_col - 1, end - 1, status_col - 1, {
         "validate": "list",
-        "source": list(STATUSES),
+        "source": f"='{LISTS_SHEET}'!$A$1:$A${len(STATUSES)}",
         "ignore_blank": True,
         "show_error": True,
         "error_title": "Checker status",
-        "error_message": "Choose open, closed or superseded.",
+        "error_message": "Choose one of: " + " / ".join(STATUSES),
         "show_input": True,
         "input_title": "Checker status",
-        "input_message": "open / closed / superseded",
+        "input_message": " / ".join(STATUSES)[:255],
     })
     ws.autofilter(HEADER_ROW - 1, 0, max(last, HEADER_ROW) - 1, ncols - 1)
     # Grey a comment once it is closed or superseded, also when a person changes the status later.
@@ -389,6 +410,34 @@ def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str,
         "criteria": f'=OR(${letter}{FIRST_DATA_ROW}="closed",${letter}{FIRST_DATA_ROW}="superseded")',
         "format": fmts.wb.add_format({"font_color": f"#{STATUS_MUTED}", "italic": True}),
     })
+    _print_setup(ws, meta, True)
+
+
+CHANGES_HEADINGS = ("Cap", "Input", "Previous", "Now", "Unit", "Comments on the cap")
+CHANGES_WIDTHS = (10, 18, 18, 18, 8, 60)
+
+
+def _changes_sheet(ws, fmts: _Formats, revision: "RevisionResult", comments: list[Comment],
+                   meta: dict[str, Any]) -> None:
+    _caution_row(ws, fmts, len(CHANGES_HEADINGS), CHANGES_WIDTHS)
+    _table_header(ws, fmts, CHANGES_HEADINGS, CHANGES_WIDTHS)
+    body = fmts("body")
+    row = FIRST_DATA_ROW
+    if not revision.inputs_recorded:
+        _put(ws, row, 1, "Inputs of the previous revision not recorded (its sheet was written before "
+                         "capcheck recorded them): the changes cannot be listed.", body)
+        row += 1
+    on_cap: dict[str, list[str]] = {}
+    for c in comments:
+        if c.key:
+            flag = " (closed: second look)" if c.second_look else ""
+            on_cap.setdefault(c.cap, []).append(f"{c.no} {c.status}{flag}")
+    for ch in revision.changes:
+        values = [ch["cap"], ch["field"], ch["old"], ch["new"], ch["unit"], ", ".join(on_cap.get(ch["cap"], []))]
+        for col, v in enumerate(values, start=1):
+            _put(ws, row, col, v, body)
+        row += 1
+    ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, len(CHANGES_HEADINGS) - 1)
     _print_setup(ws, meta, True)
 
 
@@ -491,7 +540,7 @@ def _data_sheet(ws, comments: list[Comment], meta: dict[str, Any]) -> None:
     for cm in comments:
         if not cm.key:
             continue
-        closed = cm.status == "closed"
+        closed = cm.status in ("closed", MET)
         rec = (
             cm.key, cm.no, cm.cap, cm.rule, cm.severity, cm.tool_severity, _num(cm.tool_utilisation),
             _num(cm.value), _num(cm.limit), cm.unit, cm.message, cm.state, cm.status,
@@ -502,19 +551,57 @@ def _data_sheet(ws, comments: list[Comment], meta: dict[str, Any]) -> None:
         r += 1
 
 
+def _columns_sheet(ws, layout: list[tuple[str, str]]) -> None:
+    ws.hide()
+    _put(ws, 1, 1, COLUMNS_MARKER)
+    for col, v in enumerate(("column", "heading", "field"), start=1):
+        _put(ws, 2, col, v)
+    for i, (h, f) in enumerate(layout, start=1):
+        for col, v in enumerate((i, h, f), start=1):
+            _put(ws, i + 2, col, v)
+
+
+def _inputs_sheet(ws, review: "Review") -> None:
+    ws.hide()
+    _put(ws, 1, 1, INPUTS_MARKER)
+    for col, v in enumerate(("cap", "field", "value", "unit"), start=1):
+        _put(ws, 2, col, v)
+    r = 3
+    for cap, fields in cap_inputs(review.caps).items():
+        if not fields:
+            _put(ws, r, 1, cap)
+            r += 1
+        for name, (value, unit) in fields.items():
+            for col, v in enumerate((cap, name, value, unit), start=1):
+                _put(ws, r, col, v)
+            r += 1
+
+
+def _lists_sheet(ws) -> None:
+    ws.hide()
+    for i, st in enumerate(STATUSES, start=1):
+        _put(ws, i, 1, st)
+
+
 def write_workbook(target, review: "Review", comments: list[Comment], meta: dict[str, Any],
                    revision: "RevisionResult | None" = None) -> None:
     """Write the comment workbook to ``target`` (a path or a binary file object)."""
     wb = xlsxwriter.Workbook(target, {"constant_memory": True, "strings_to_numbers": False,
                                       "strings_to_formulas": False, "strings_to_urls": False})
     fmts = _Formats(wb)
+    layout = comment_layout(revision)
     _cover(wb.add_worksheet(COVER_SHEET), fmts, review, comments, meta, revision)
     comments_ws = wb.add_worksheet(COMMENTS_SHEET)
-    _comments_sheet(comments_ws, fmts, comments, meta)
+    _comments_sheet(comments_ws, fmts, comments, meta, layout)
+    if revision is not None:
+        _changes_sheet(wb.add_worksheet(CHANGES_SHEET), fmts, revision, comments, meta)
     _all_checks_sheet(wb.add_worksheet(ALL_CHECKS_SHEET), fmts, review, meta)
     if review.rejected:
         _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta)
     _data_sheet(wb.add_worksheet(DATA_SHEET), comments, meta)
+    _columns_sheet(wb.add_worksheet(COLUMNS_SHEET), layout)
+    _inputs_sheet(wb.add_worksheet(INPUTS_SHEET), review)
+    _lists_sheet(wb.add_worksheet(LISTS_SHEET))
     comments_ws.activate()  # open on the comments
     props = {"title": f"Check comments: {meta.get('submission', '')}", "subject": "capcheck comment sheet",
              "keywords": DATA_MARKER, "author": "capcheck"}
