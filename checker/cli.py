@@ -405,8 +405,15 @@ def cmd_demo(args, out: Console, err: Console) -> int:
         stem_b = folder / "harbourside-rev-B"
         meta_b = dict(meta, revision="B", submission=sample_b.name)
         out.print("\n[bold]Revision B of the sample (partly fixed), against revision A's comment sheet:[/bold]")
+        from checker.revision import carry_over, change_text, read_previous_sheet
+
+        rev_b = carry_over(rv_b, read_previous_sheet(sheet_a)).relabel("B")
+        _print_revision(rev_b, out)
+        out.print(f"[bold]Inputs changed between revisions A and B ({len(rev_b.changes)}):[/bold]")
+        for ch in rev_b.changes:
+            out.print(Text(f"  {ch['cap']}: {change_text(ch)}"))
         written += write_files(rv_b, [str(stem_b) + e for e in exts], force=True, meta=meta_b,
-                               previous_path=str(sheet_a), console_err=out)
+                               previous_path=None, console_err=out, revision=rev_b)
         print_summary(rv_b, out)
     out.print(f"\n[bold]Demo outputs written to {folder}[/bold]")
     for p in written:

@@ -211,7 +211,8 @@ def _highlight_caption(rows: list[dict[str, Any]]) -> str:
 
 
 def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: list[dict[str, Any]],
-                 info: dict[str, Any], by_key: dict[str, Comment], carried: list[Comment]) -> str:
+                 info: dict[str, Any], by_key: dict[str, Comment], carried: list[Comment],
+                 changes: list[dict[str, Any]] | None = None) -> str:
     out = [f'<section class="cap" id="{anchor}" data-cap="{escape(mark, quote=True)}">']
     out.append(f"<h2>Cap {escape(mark)} {_sev(worst) if worst else ''}</h2>")
     out.append('<div class="cap-body">')
@@ -257,6 +258,10 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
             status = escape(cm.status) if cm else ""
             if cm and cm.note:
                 status += f'<br><small>{escape(cm.note)}</small>'
+            if cm and cm.response:
+                status += f'<br><small class="response"><b>Designer:</b> {escape(cm.response)}</small>'
+            if cm and cm.reply:
+                status += f'<br><small class="reply"><b>Checker:</b> {escape(cm.reply)}</small>'
             out.append(
                 f'<tr class="{cls}" data-rule="{escape(str(r["rule"]), quote=True)}">'
                 f'<td class="num">{cm.no if cm else ""}</td>'
@@ -272,15 +277,22 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
 
     if remedy_line(review, mark):
         out.append(f'<p class="remedy"><strong>Would pass with:</strong> {escape(remedy_line(review, mark))}</p>')
+    if changes:
+        from checker.revision import change_text
+
+        out.append("<h3>Inputs changed since the previous revision</h3><ul class=\"changes\">")
+        for ch in changes:
+            out.append(f"<li>{escape(change_text(ch))}</li>")
+        out.append("</ul>")
     # comments carried from a previous revision whose finding is no longer reported
     if carried:
         out.append("<h3>Comments carried from the previous revision</h3>")
         out.append('<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
-                   "<th>Note</th><th>Designer response</th></tr></thead><tbody>")
+                   "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>")
         for c in sorted(carried, key=lambda c: c.no):
             out.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.check)}</td>'
                        f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td>"
-                       f"<td>{escape(c.response)}</td></tr>")
+                       f"<td>{escape(c.response)}</td><td>{escape(c.reply)}</td></tr>")
         out.append("</tbody></table>")
 
     out.append("<h3>Working</h3>")
@@ -327,6 +339,9 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     if len(f):
         for rec in records(sort_findings(f)):
             rows_by_cap.setdefault(str(rec["cap"]), []).append(rec)
+    changes_by_cap: dict[str, list[dict[str, Any]]] = {}
+    for ch in (revision.changes if revision is not None else []):
+        changes_by_cap.setdefault(str(ch["cap"]), []).append(ch)
     carried_by_cap: dict[str, list[Comment]] = {}
     for c in comments:
         if c.key and c.state != "present":
@@ -371,6 +386,17 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     if revision is not None:
         h.append(f"<p><strong>Revision cycle:</strong> {escape(revision.summary())} "
                  f"(previous sheet {escape(Path(revision.previous.path).name)}).</p>")
+        from checker.revision import change_text
+
+        if not revision.inputs_recorded:
+            h.append('<p class="note">Inputs of the previous revision not recorded: the changes between '
+                     "revisions cannot be listed.</p>")
+        elif revision.changes:
+            h.append('<h3>Inputs changed since the previous revision</h3><table class="changes"><thead><tr>'
+                     "<th>Cap</th><th>Change</th></tr></thead><tbody>")
+            for ch in revision.changes:
+                h.append(f"<tr><td>{escape(str(ch['cap']))}</td><td>{escape(change_text(ch))}</td></tr>")
+            h.append("</tbody></table>")
     for note in review.notes or []:
         h.append(f"<p class=\"note\">{escape(str(note))}</p>")
     h.append("<h3>Legend</h3><table class=\"legend\"><tbody>")
@@ -409,7 +435,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
 
     for m in detailed:
         h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
-                              infos.get(m, {}), by_key, carried_by_cap.get(m, [])))
+                              infos.get(m, {}), by_key, carried_by_cap.get(m, []), changes_by_cap.get(m)))
 
     mark_set = set(marks)
     gone = [c for c in comments if c.key and c.cap not in mark_set]
@@ -419,12 +445,13 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                  "<p>Carried from the previous comment sheet: comments on caps no longer in the schedule, "
                  "and rows added to the sheet by hand.</p>"
                  '<table><thead><tr><th>No.</th><th>Cap</th><th>Check</th><th>Severity</th><th>Status</th>'
-                 "<th>Note</th><th>Designer response</th></tr></thead><tbody>")
+                 "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>")
         for c in sorted(gone + manual, key=lambda c: c.no):
             sev = escape(c.severity)
             h.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.cap)}</td>'
                      f"<td>{escape(c.check)}</td><td class=\"sev sev-{sev}\">{sev}</td>"
-                     f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td></tr>")
+                     f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td>"
+                     f"<td>{escape(c.reply)}</td></tr>")
         h.append("</tbody></table></section>")
 
     if review.rejected:
