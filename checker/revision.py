@@ -279,6 +279,10 @@ def _norm(text: Any) -> str:
     return re.sub(r"\s+", " ", str(text or "")).strip().lower()
 
 
+def _words(text: Any) -> set[str]:
+    return set(re.findall(r"[a-z]+", _norm(text))) - {"the", "of", "a", "from", "by", "to"}
+
+
 def _header_map(cells: list[Any]) -> dict[str, int]:
     found: dict[str, int] = {}
     for idx, cell in enumerate(cells):
@@ -350,7 +354,7 @@ def _find_comments_sheet(wb, path: Path):
 def _locate_header(ws) -> tuple[int, dict[str, int]] | None:
     for r_idx, row in enumerate(ws.iter_rows(min_row=1, max_row=15, values_only=True), start=1):
         m = _header_map(list(row))
-        if "key" in m and ("status" in m or "response" in m):
+        if "key" in m and ("status" in m or "response" in m or "reply" in m):
             return r_idx, m
     return None
 
@@ -494,16 +498,30 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
             ws.iter_rows(min_row=header_row, max_row=header_row, values_only=True), ())]
         cols = dict(cols)
         known_idx = set(cols.values())
-        # a heading of ours that a person renamed: matched by the column it was written in
-        for i, h in enumerate(headings):
-            if i in known_idx or i >= len(recorded):
+        # a heading of ours that a person renamed: found between the neighbours it was written
+        # between (the hidden record of the columns), by the words it shares with its old heading
+        extra_headings = {_norm(h) for h, f in recorded if f == "extra"}
+        free = [i for i, h in enumerate(headings)
+                if i not in known_idx and h and _norm(h) not in extra_headings]
+        rec_fields = [f for _, f in recorded if f != "extra"]
+        rec_heading = {f: h for h, f in recorded if f != "extra"}
+        for k, fld in enumerate(rec_fields):
+            if fld in cols or not free:
                 continue
-            rec_field = recorded[i][1]
-            if rec_field != "extra" and rec_field not in cols and h and _norm(h) != _norm(recorded[i][0]):
-                cols[rec_field] = i
-                known_idx.add(i)
-                warnings.append(f"{path}, sheet '{ws.title}': column '{h}' read as '{recorded[i][0]}' "
-                                f"(the heading it was written with)")
+            left = next((cols[g] for g in reversed(rec_fields[:k]) if g in cols), -1)
+            right = next((cols[g] for g in rec_fields[k + 1:] if g in cols), 10**6)
+            cands = [i for i in free if left < i < right]
+            scored = sorted(((len(_words(headings[i]) & _words(rec_heading[fld])), -i) for i in cands),
+                            reverse=True)
+            pick = (-scored[0][1] if scored and scored[0][0] > 0
+                    else (cands[0] if len(cands) == 1 else None))
+            if pick is None:
+                continue
+            cols[fld] = pick
+            known_idx.add(pick)
+            free.remove(pick)
+            warnings.append(f"{path}, sheet '{ws.title}': column '{headings[pick]}' read as "
+                            f"'{rec_heading[fld]}' (the heading it was written with)")
         field_at = {i: name for name, i in cols.items()}
 
         def cell(row: tuple, name: str) -> Any:
