@@ -334,18 +334,37 @@ def cmd_explain(args, out: Console, err: Console) -> int:
 
     rv = _review(args, err)
     marks = rv.caps["mark"].astype(str).tolist()
-    if args.cap not in marks:
-        rejected = [r for r in rv.rejected if args.cap in " ".join(r["errors"])]
-        hint = f" (it was rejected: {'; '.join(rejected[0]['errors'])})" if rejected else ""
-        err.print(Text(f"capcheck: cap '{args.cap}' is not in {rv.submission}{hint}. "
+    asked = args.cap
+
+    def same(m) -> bool:
+        return str(m or "").strip().casefold() == asked.strip().casefold()
+
+    cap = asked if asked in marks else next((m for m in marks if same(m)), None)
+    if cap is None:
+        rejected = [r for r in rv.rejected if same(r.get("mark"))] or [
+            r for r in rv.rejected if asked.strip() and asked.strip() in " ".join(map(str, r["errors"]))]
+        if rejected:
+            from checker.findings import describe_source
+
+            out.print(Text(f"Cap '{asked}' was rejected and not checked:", style="bold"))
+            for r in rejected:
+                where = describe_source(r.get("source") or {})
+                out.print(Text(f"  {where}: " if where else "  ", style="dim"))
+                for e in r["errors"]:
+                    out.print(Text(f"    - {e}"))
+            return EXIT_UNREADABLE
+        err.print(Text(f"capcheck: cap '{asked}' is not in {rv.submission}. "
                        f"Caps checked: {', '.join(marks[:30])}", style="red"))
         return EXIT_UNREADABLE
-    print_working(rv, args.cap, out)
+    if cap != asked:
+        err.print(Text(f"note: '{asked}' read as cap '{cap}' (marks are matched ignoring case and "
+                       f"surrounding spaces)", style="yellow"))
+    print_working(rv, cap, out)
     from checker.remedy import explain_lines, remedy_line
 
-    if remedy_line(rv, args.cap):   # only for a cap with an unsafe or non-compliant result
+    if remedy_line(rv, cap):   # only for a cap with an unsafe or non-compliant result
         out.print(Text("\nWhat would pass: the least change searched", style="bold"))
-        for line in explain_lines(rv, args.cap):
+        for line in explain_lines(rv, cap):
             out.print(Text(line))
     return EXIT_OK
 

@@ -163,7 +163,9 @@ def test_cover(sheet):
     assert labels["Date"] == "2026-12-02"
     assert labels["Checker"] == META["checker"]
     assert labels["Profile"] == "uk-na"
-    assert labels["Rule set"] == "rules/"
+    # the version and a digest of the rules and profile applied, never the install folder
+    assert labels["Rule set"].startswith("capcheck ") and "rules and profile " in labels["Rule set"]
+    assert "rules/" not in labels["Rule set"]
     assert labels["Caps checked"] == 5
     assert labels["Rows rejected"] == 1
     counts = count_by_severity(rv.findings)

@@ -431,3 +431,39 @@ def test_html_shows_responses_replies_and_changes(tmp_path, sheet_a):
     html = out.read_text(encoding="utf-8")
     assert "see revised calc 7" in html and "calc 7 agreed" in html
     assert "Inputs changed since the previous revision" in html and "cap_depth 650 → 1300 mm" in html
+
+
+# --------------------------------------------------------------------------------------------
+# explain, the rule digest, the working of a check that does not apply
+
+def test_explain_a_rejected_cap_says_why(capsys):
+    assert main(["explain", str(REV_A), "--cap", " pc15 "]) == EXIT_UNREADABLE
+    out = capsys.readouterr().out
+    assert "Cap ' pc15 ' was rejected and not checked" in out and "2 layers 8H20" in out and "row 17" in out
+
+
+def test_explain_matches_marks_ignoring_case_and_spaces(capsys):
+    assert main(["explain", str(REV_A), "--cap", " pc14 "]) == 0
+    captured = capsys.readouterr()
+    assert "read as cap 'PC14'" in captured.err
+    assert "Working for cap PC14" in captured.out
+    # a check that does not apply: its heading and one line giving the reason
+    block = captured.out.split(" bursting: ")[1].split("\n\n")[0]
+    assert "Not applicable" in block and "n/a" not in block
+
+
+def test_cover_names_version_and_digest_not_the_install_folder(tmp_path):
+    from checker.report import applied_digest
+    from checker.resources import version
+
+    out = tmp_path / "a.xlsx"
+    main(["check", str(REV_A), "-o", str(out), "-q"])
+    wb = openpyxl.load_workbook(out)
+    labels = {r[0]: r[1] for r in wb["Cover"].iter_rows(min_col=1, max_col=2, values_only=True) if r[0]}
+    from checker.api import review
+
+    rv = review(REV_A)
+    assert labels["Rule set"] == f"capcheck {version()}, rules and profile {applied_digest(rv)}"
+    assert str(ROOT) not in labels["Rule set"]
+    # a changed limit changes the digest
+    assert applied_digest(review(REV_A, overrides={"pile_tolerance": "100"})) != applied_digest(rv)

@@ -99,7 +99,7 @@ def resolve_meta(review: "Review", meta: dict | None = None,
         "date": _dt.date.today().isoformat(),
         "checker": "",
         "profile": getattr(review, "profile_name", "") or "",
-        "rule_set": getattr(review, "rules_dir", "") or "capcheck built-in rules",
+        "rule_set": applied_rules_text(review),
     }
     if previous is not None and not given.get("project") and previous.previous.project:
         out["project"] = previous.previous.project
@@ -114,6 +114,34 @@ def resolve_meta(review: "Review", meta: dict | None = None,
     elif isinstance(rev, str) and rev.strip().isdigit() and not rev.strip().startswith("0"):
         out["revision"] = int(rev.strip())
     return {k: out[k] for k in META_KEYS}
+
+
+def applied_digest(review: "Review") -> str:
+    """A short digest (12 hex digits of SHA-256) of the rule files and the profile actually applied:
+    the bytes of every rule file loaded, the profile's name and its parameter values after any
+    --set. Two reports with the same digest were checked against the same rules and limits."""
+    import hashlib
+    import json
+
+    h = hashlib.sha256()
+    files = sorted({str(getattr(r, "file", "") or "") for r in (getattr(review, "rules", None) or [])})
+    for f in files:
+        try:
+            data = Path(f).read_bytes() if f else b""
+        except OSError:
+            data = f.encode()
+        h.update(hashlib.sha256(data).digest())
+    h.update(str(getattr(review, "profile_name", "") or "").encode())
+    params = getattr(review, "profile_params", None) or {}
+    h.update(json.dumps({str(k): str(v) for k, v in params.items()}, sort_keys=True).encode())
+    return h.hexdigest()[:12]
+
+
+def applied_rules_text(review: "Review") -> str:
+    """'capcheck 0.9.0, rules and profile a1b2c3d4e5f6' (names no folder of the local install)."""
+    from checker.resources import version
+
+    return f"capcheck {version()}, rules and profile {applied_digest(review)}"
 
 
 def _target(path: Path, force: bool) -> Path:

@@ -304,10 +304,15 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     if lines is not None:
         if not lines:
             out.append("<p>No working lines recorded for this cap.</p>")
+        from checker.report.terminal import not_applicable
+
+        na = {str(r["rule"]) for r in rows if not_applicable(r.get("message"))}
         groups: dict[str, list[str]] = {}
         for ln in lines:
             rule = str(getattr(ln, "rule", "") or "")
             text = str(getattr(ln, "text", ln))
+            if rule in na and rule in groups and not text.lstrip().startswith("->"):
+                continue   # a check that does not apply: one line giving the reason
             groups.setdefault(rule, []).append(text)
         for rule, texts in groups.items():
             if rule:

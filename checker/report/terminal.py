@@ -390,14 +390,23 @@ def print_rules(ruleset, console: Console) -> None:
     print_caution(console)
 
 
+def not_applicable(message) -> bool:
+    """A result whose check does not apply to the cap (its message gives the reason)."""
+    return str(message or "").lstrip().lower().startswith("not applicable")
+
+
 def print_working(review, mark: str, console: Console) -> None:
     lines = review.working(mark)
     console.print(Text(f"Working for cap {mark}  ({review.submission}, profile {review.profile_name})", style="bold"))
     print_caution(console)
     rows = review.findings[review.findings["cap"] == mark]
     sev = dict(zip(rows["rule"], rows["severity"]))
+    msgs = dict(zip(rows["rule"], rows["message"].astype(str))) if "message" in rows.columns else {}
     current = None
     for line in lines:
+        if line.rule == current and not_applicable(msgs.get(line.rule)) and \
+                not line.text.lstrip().startswith("->"):
+            continue   # a check that does not apply: its heading and the one line giving the reason
         if line.rule != current:
             current = line.rule
             s = sev.get(line.rule, "ok")
