@@ -754,7 +754,7 @@ def _display(v: Any) -> Any:
     if v is None:
         return None
     if isinstance(v, float):
-        if v != v:
+        if math.isnan(v):
             return None
         return int(v) if v.is_integer() else round(v, 3)
     t = str(v).strip()

@@ -15,11 +15,18 @@ import pytest
 
 sys.path.insert(0, str(Path(__file__).parent))
 
-from conftest_report import CAPS, META, base_findings, make_review, set_result, without_cap  # noqa: E402
+from conftest_report import (
+    CAPS,
+    META,
+    base_findings,
+    make_review,
+    set_result,
+    without_cap,
+)
 
-from checker.cli import EXIT_UNREADABLE, main  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.revision import (  # noqa: E402
+from checker.cli import EXIT_UNREADABLE, main
+from checker.report import write_outputs
+from checker.revision import (
     EVIDENCE,
     MET,
     STATUSES,
@@ -166,7 +173,7 @@ def test_every_typed_cell_survives_a_person_s_edits(tmp_path):
     typed.append("reply over two rows")
     # a deleted comment row (the last one): its typed cells are gone with it, the comment is not
     deleted = ws.cell(row=11, column=h["Key"]).value
-    for text in (f"DWG-11", "response 11", "2027-01-11"):
+    for text in ("DWG-11", "response 11", "2027-01-11"):
         typed.remove(text)
     ws.delete_rows(11)
     # a heading of ours renamed
@@ -178,7 +185,7 @@ def test_every_typed_cell_survives_a_person_s_edits(tmp_path):
     assert prev.comments[keys[0]].response == "response 3"
     assert any("deleted" in w and deleted in w for w in prev.warnings)
     assert [h for h, f in prev.columns if f == "extra"] == ["Drawing ref", "Due date"]
-    res, s2 = next_round(tmp_path, s1, make_review())
+    _res, s2 = next_round(tmp_path, s1, make_review())
     cells = all_cells(s2)
     for text in typed:
         assert text in cells, text
@@ -191,7 +198,7 @@ def test_every_typed_cell_survives_a_person_s_edits(tmp_path):
     assert order.index("Drawing ref") == order.index("Designer response") - 1
     assert order[-1] == "Due date"
     # and the hidden record names them, so the next round still reads them
-    res3, s3 = next_round(tmp_path, s2, make_review())
+    _res3, s3 = next_round(tmp_path, s2, make_review())
     for text in typed:
         assert text in all_cells(s3), text
 
@@ -208,7 +215,7 @@ def test_a_cap_mark_with_a_slash(tmp_path):
     c = prev.comments["B/2/edge-distance"]
     assert c.pair == ("B/2", "edge-distance")
     set_result(f, "B/2", "edge-distance", severity="ok", value=150.0, utilisation=1.0)
-    res, s2 = next_round(tmp_path, s1, make_review(f, caps))
+    res, _s2 = next_round(tmp_path, s1, make_review(f, caps))
     e = res.entries["B/2/edge-distance"]
     assert (e.status, e.response) == ("closed", "cap enlarged")
     # with the Cap column cleared and no hidden record, the key still splits at the last '/'

@@ -31,7 +31,6 @@ from checker.report.comments import (
     ALL_CHECKS_SHEET,
     CAUTION_FILL,
     COMMENT_FIELDS,
-    COMMENT_HEADINGS,
     COMMENTS_SHEET,
     COVER_SHEET,
     DATA_COLUMNS,
