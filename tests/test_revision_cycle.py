@@ -474,3 +474,12 @@ def test_cover_names_version_and_digest_not_the_install_folder(tmp_path):
     assert str(ROOT) not in labels["Rule set"]
     # a changed limit changes the digest
     assert applied_digest(review(REV_A, overrides={"pile_tolerance": "100"})) != applied_digest(rv)
+
+
+def test_demo_prints_the_changes_between_a_and_b(tmp_path, capsys):
+    assert main(["demo", "--out", str(tmp_path / "demo")]) == 0
+    out = capsys.readouterr().out
+    assert "Inputs changed between revisions A and B" in out
+    assert "PC10: cap_depth 650 → 1300 mm" in out and "PC4A: cap removed" in out
+    wb = openpyxl.load_workbook(tmp_path / "demo" / "harbourside-rev-B.xlsx")
+    assert "Changes" in wb.sheetnames
