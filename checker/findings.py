@@ -1,13 +1,12 @@
 """Findings: the one result model every writer reads.
 
 A finding is one rule evaluated for one cap. The engine produces them as a columnar pandas frame
-(fast over 100,000 caps); :class:`Finding` is the frozen record view of one row for writers that
-iterate.
+(fast over 100,000 caps); writers read its columns (:func:`records`).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from enum import Enum
 from typing import Any
 
@@ -70,29 +69,6 @@ FINDING_COLUMNS: tuple[str, ...] = (
 
 
 @dataclass(frozen=True)
-class Finding:
-    """One rule for one cap. Units are the output units of the brief (mm, mm², kN, MPa, degrees)."""
-
-    cap: str
-    rule: str
-    severity: Severity
-    clause: str
-    value: float | None
-    limit: float | None
-    unit: str
-    utilisation: float | None
-    message: str
-    title: str = ""
-    action: str = ""
-    source: dict[str, Any] = field(default_factory=dict)
-
-    @property
-    def key(self) -> str:
-        """Stable comment key used across revisions: cap mark + rule id."""
-        return comment_key(self.cap, self.rule)
-
-
-@dataclass(frozen=True)
 class WorkingLine:
     """One line of the calculation trace of one cap: the rule it belongs to and its text."""
 
@@ -146,25 +122,6 @@ def describe_source(src: dict[str, Any]) -> str:
     if src.get("row") is not None:
         parts.append(f"row {src['row']}")
     return ", ".join(parts)
-
-
-def iter_findings(frame: pd.DataFrame):
-    """Yield :class:`Finding` records from a findings frame (in its order)."""
-    for row in frame.to_dict("records"):
-        yield Finding(
-            cap=str(row["cap"]),
-            rule=str(row["rule"]),
-            severity=Severity(row["severity"]),
-            clause=str(row["clause"]),
-            value=_none_if_nan(row["value"]),
-            limit=_none_if_nan(row["limit"]),
-            unit=str(row["unit"]),
-            utilisation=_none_if_nan(row["utilisation"]),
-            message=str(row["message"]),
-            title=str(row.get("title", "")),
-            action=str(row.get("action", "") or ""),
-            source=source_of(row),
-        )
 
 
 def sort_findings(frame: pd.DataFrame) -> pd.DataFrame:

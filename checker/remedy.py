@@ -168,9 +168,8 @@ class _Engine:
         return code, util
 
     def _run(self, frame: pd.DataFrame, parent: np.ndarray):
-        from checker.ruleset.evaluate import numeric_params
         from checker.ruleset.derive import _derive_arrays
-        from checker.ruleset.evaluate import evaluate_rule
+        from checker.ruleset.evaluate import evaluate_rule, numeric_params
 
         self.calls += 1
         self.rows += len(frame)
@@ -193,9 +192,9 @@ class _Engine:
             return self._run_cases(frame, parent, code, util)
 
     def _run_cases(self, frame, parent, code, util):
-        from checker.ruleset.evaluate import numeric_params
         from checker.ruleset.cases import evaluate_cases, expand
         from checker.ruleset.derive import _derive_arrays
+        from checker.ruleset.evaluate import numeric_params
 
         cnt = self._case_counts[parent]
         idx = np.repeat(self._case_starts[parent], cnt) + (np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt))
@@ -718,7 +717,8 @@ def explain_lines(review, mark: str) -> list[str]:
             while j + 1 < len(labels) and keys[j + 1] == keys[i]:
                 j += 1
             span = labels[i] if i == j else f"{labels[i]} ... {labels[j]} ({j - i + 1})"
-            lines.append(f"  {span}: {verdicts[i] if i == j else ('pass' if keys[i][1] == 'passes' else 'stopped by ' + keys[i][1])}")
+            said = verdicts[i] if i == j else ('pass' if keys[i][1] == 'passes' else 'stopped by ' + keys[i][1])
+            lines.append(f"  {span}: {said}")
             i = j + 1
     lines.append(cr.text())
     return lines

@@ -8,7 +8,6 @@ the DEVELOPERS.md canonical columns (tests/conftest.py), not through the ingest 
 
 from __future__ import annotations
 
-
 import numpy as np
 import pandas as pd
 import pytest

@@ -24,7 +24,6 @@ from checker.calcs import reactions as rea
 from checker.ruleset.derive import derive
 from checker.ruleset.loader import RuleFileError, load_ruleset
 
-
 # ---- Table 6.1, W, β ------------------------------------------------------------------------
 
 def test_table_6_1_k_interpolated(tol):

@@ -224,8 +224,10 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     )
     out.append("</figure>")
     facts = [
-        ("Piles", _fmt(info.get("piles")) + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
-        ("Spacing s", _fmt(info.get("pile_spacing"), "mm") if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
+        ("Piles", _fmt(info.get("piles"))
+         + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
+        ("Spacing s", _fmt(info.get("pile_spacing"), "mm")
+         if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
         ("Cap L × W × h", " × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth")) + " mm"),
         ("Column", escape(_column_text(info))),
         ("N_Ed", _fmt(float(info["n_ed"]) / 1000.0, "kN") if _is_num(info.get("n_ed")) else "–"),
@@ -301,7 +303,8 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
             if rule:
                 out.append(f'<div class="work-rule">{escape(rule)}</div>')
             out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
-    out.append(f'<p class="caution small">{escape(SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report."))}</p>')
+    caution = SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report.")
+    out.append(f'<p class="caution small">{escape(caution)}</p>')
     out.append("</section>")
     return "\n".join(out)
 

@@ -12,7 +12,6 @@ from __future__ import annotations
 import io
 import itertools
 import json
-from pathlib import Path
 from typing import Any, Callable, Iterator
 
 import numpy as np
@@ -118,7 +117,8 @@ def iter_result_texts(review, *, working: bool = False, chunk: int = CHUNK) -> I
         caps = [str(c) for c in part["cap"].tolist()]
         cap_t = list(map(enc, caps))
         rules = part["rule"].tolist()
-        rule_t, sev_t, clause_t, unit_t = (_texts(part[c].tolist(), enc) for c in ("rule", "severity", "clause", "unit"))
+        rule_t, sev_t, clause_t, unit_t = (_texts(part[c].tolist(), enc)
+                                           for c in ("rule", "severity", "clause", "unit"))
         msg_t = _texts(part["message"].tolist(), enc) if m else []
         action = _col(part, "action", m)
         case_t = [enc(c) if isinstance(c, str) else "null" for c in _col(part, "case", m)]
@@ -221,7 +221,3 @@ def dumps(review, *, working: bool = False) -> str:
     return buf.getvalue()
 
 
-def write_json(review, path: Path, *, working: bool = True) -> None:
-    """Write the JSON document to ``path`` (the caller handles atomic replacement)."""
-    with open(path, "w", encoding="utf-8") as fh:
-        write_document(review, fh.write, working=working)

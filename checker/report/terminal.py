@@ -280,7 +280,8 @@ def print_findings(review, console: Console, *, show_ok: bool = False, listing: 
                                "write the comments.", style="bold"))
     for p in getattr(review, "table_problems", None) or []:
         where = describe_source(p["source"]) or "?"
-        console.print(Text(f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): ", style="bold red")
+        head = f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): "
+        console.print(Text(head, style="bold red")
                       + Text("; ".join(p["errors"])))
     if review.rejected:
         console.print(Text("\nRows not checked", style="bold red"))

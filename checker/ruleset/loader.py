@@ -18,7 +18,7 @@ from pydantic import ValidationError
 
 from checker.findings import SEVERITY_ORDER
 from checker.ruleset.catalogue import QUANTITIES
-from checker.ruleset.expr import Expression, ExprError, compile_expression
+from checker.ruleset.expr import ExprError, Expression, compile_expression
 from checker.ruleset.schema import ProfileFile, RuleFile, RuleSpec
 from checker.ruleset.templates import Template, TemplateError, parse_template
 
@@ -125,11 +125,6 @@ class Profile:
     disable: tuple[str, ...] = ()
     files: tuple[str, ...] = ()
     drop_variants: tuple[str, ...] = ()
-
-    def describe(self, name: str) -> str:
-        v = self.params[name]
-        src = self.sources.get(name, "")
-        return f"{name} = {v}" + (f" ({src})" if src else "")
 
 
 _QUOTED = re.compile(r'"(?:[^"\\\n]|\\.)*"' + r"|'[^'\n]*'")
