@@ -246,7 +246,7 @@ def _sls_quantities(ruleset, q: dict, gov: dict, n_rows: int) -> dict:
 
 def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
-           coords: str | Path | None = None, pdf_strategy: str = "auto",
+           coords: str | Path | pd.DataFrame | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
            messages: str = "all", max_rows: int | None = None, loads=None, sheet: str | None = None,
            defaults: Any = None, remedy: bool = True) -> Review:
@@ -270,7 +270,7 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
     if defaults is not None and not isinstance(defaults, Defaults):
         defaults = read_defaults(defaults)
     if isinstance(source, pd.DataFrame):
-        sched = schedule_from_frame(source, mapping=mapping, loads=loads, defaults=defaults,
+        sched = schedule_from_frame(source, mapping=mapping, coords=coords, loads=loads, defaults=defaults,
                                     **({"max_rows": max_rows} if max_rows else {}))
         name = "<dataframe>"
     else:

@@ -154,7 +154,11 @@ class RuleFile(_Strict):
 
 
 class ParamSpec(_Strict):
+    """One profile parameter: a number, or one of a closed set of words (``choices``, declared where
+    the parameter is introduced and inherited by the profiles that extend it)."""
+
     value: float | str
+    choices: list[str] | None = Field(default=None, min_length=1, max_length=20)
     clause: str = ""
     note: str = ""
 
