@@ -42,7 +42,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK
 
 STANDARD_BARS: tuple[int, ...] = (8, 10, 12, 16, 20, 25, 32, 40)
 #: strength classes of EN 1992-1-1:2004 Table 3.1 (fck, name)
@@ -60,7 +60,7 @@ SETTINGS: dict[str, float] = {
 AXES: tuple[str, ...] = ("depth", "bars", "plan", "concrete", "depth+bars")
 EXEMPT_RULES = frozenset({"stated-vs-checked"})
 CHUNK = 40_000
-_RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+_RANK = SEVERITY_RANK
 _Q = _RANK["query"]
 _NC = _RANK["non-compliant"]
 ADVICE = ("would meet the listed checks (advice for the designer to confirm, not a design)")

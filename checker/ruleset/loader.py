@@ -16,7 +16,7 @@ from pathlib import Path
 
 from pydantic import ValidationError
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import COMMENT_SEVERITIES
 from checker.ruleset.catalogue import QUANTITIES
 from checker.ruleset.expr import ExprError, Expression, compile_expression
 from checker.ruleset.schema import ProfileFile, RuleFile, RuleSpec
@@ -335,8 +335,8 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
         params[k] = p.value
         sources[k] = "; ".join(x for x in (p.clause, p.note) if x)
     for rid, sev in spec.severity.items():
-        if sev not in SEVERITY_ORDER or sev == "ok":
-            raise RuleFileError(f"{path}: severity for '{rid}' must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        if sev not in COMMENT_SEVERITIES:
+            raise RuleFileError(f"{path}: severity for '{rid}' must be one of {', '.join(COMMENT_SEVERITIES)}")
         severity[rid] = sev
     disable.extend(spec.disable)
     drops.extend(spec.drop_variants)

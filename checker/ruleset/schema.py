@@ -37,7 +37,7 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import COMMENT_SEVERITIES
 
 RULE_ID = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 Compare = Literal[">=", ">", "<=", "<"]
@@ -67,8 +67,8 @@ class OverrideSpec(_Strict):
     @field_validator("severity")
     @classmethod
     def _sev(cls, v: str) -> str:
-        if v not in SEVERITY_ORDER or v == "ok":
-            raise ValueError(f"severity must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        if v not in COMMENT_SEVERITIES:
+            raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
         return v
 
 
@@ -130,8 +130,8 @@ class RuleSpec(_Strict):
     @field_validator("severity")
     @classmethod
     def _severity(cls, v: str) -> str:
-        if v not in SEVERITY_ORDER or v == "ok":
-            raise ValueError(f"severity must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        if v not in COMMENT_SEVERITIES:
+            raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
         return v
 
     @field_validator("unit")
