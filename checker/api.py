@@ -185,8 +185,8 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
 def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params: dict, messages: str) -> Review:
     """check_schedule over the load cases (checker/ruleset/cases.py)."""
     from checker.ruleset.cases import case_working, evaluate_cases, expand
-    from checker.ruleset.evaluate import numeric_params
     from checker.ruleset.derive import derive
+    from checker.ruleset.evaluate import numeric_params
 
     ex = expand(caps, schedule.cases)
     with np.errstate(all="ignore"):
@@ -246,7 +246,7 @@ def _sls_quantities(ruleset, q: dict, gov: dict, n_rows: int) -> dict:
 
 def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = None,
            overrides: dict[str, str] | None = None, mapping: str | Path | None = None,
-           coords: str | Path | None = None, pdf_strategy: str = "auto",
+           coords: str | Path | pd.DataFrame | None = None, pdf_strategy: str = "auto",
            max_pages: int | None = None, progress=None, drop_variants=(),
            messages: str = "all", max_rows: int | None = None, loads=None, sheet: str | None = None,
            defaults: Any = None, remedy: bool = True) -> Review:
@@ -262,16 +262,15 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
     Raises ``checker.ingest.errors.IngestError`` when nothing can be read, and
     ``checker.ruleset.loader.RuleFileError`` when a rule or profile file is refused.
     """
+    from checker.ingest.frame import Defaults, read_defaults
     from checker.ingest.schedule import read_schedule, schedule_from_frame
     from checker.ruleset.loader import load_ruleset
-
-    from checker.ingest.frame import Defaults, read_defaults
 
     ruleset = load_ruleset(profile, rules_dir, overrides, drop_variants)
     if defaults is not None and not isinstance(defaults, Defaults):
         defaults = read_defaults(defaults)
     if isinstance(source, pd.DataFrame):
-        sched = schedule_from_frame(source, mapping=mapping, loads=loads, defaults=defaults,
+        sched = schedule_from_frame(source, mapping=mapping, coords=coords, loads=loads, defaults=defaults,
                                     **({"max_rows": max_rows} if max_rows else {}))
         name = "<dataframe>"
     else:

@@ -47,7 +47,8 @@ def _kv(text: str) -> tuple[str, str]:
 
 def _common(p: argparse.ArgumentParser) -> None:
     p.add_argument("--profile", default="uk-na", help="parameter profile: uk-na (default), ec2, or a .toml file")
-    p.add_argument("--rules", dest="rules_dir", metavar="DIR", help="folder of extra or replacement rule files and profiles")
+    p.add_argument("--rules", dest="rules_dir", metavar="DIR",
+                   help="folder of extra or replacement rule files and profiles")
     p.add_argument("--set", dest="overrides", action="append", type=_kv, default=[], metavar="NAME=VALUE",
                    help="override a profile parameter, e.g. --set pile_tolerance=100 (repeatable)")
     p.add_argument("--drop-variant", dest="drop_variants", action="append", default=[], metavar="NAME",
@@ -107,7 +108,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help=f"caps listed in full under the summary view (default {WORST_CAPS})")
     c.add_argument("--working", action="store_true", help="include the working in the JSON")
     c.add_argument("--force", action="store_true", help="overwrite existing output files")
-    c.add_argument("--previous", metavar="SHEET", help="the previous revision's comment sheet (.xlsx) to carry responses from")
+    c.add_argument("--previous", metavar="SHEET",
+                   help="the previous revision's comment sheet (.xlsx) to carry responses from")
     c.add_argument("--revision", help="revision label for the comment sheet")
     c.add_argument("--checker", dest="checker_name", help="checker's name for the comment sheet")
 

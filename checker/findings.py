@@ -1,13 +1,12 @@
 """Findings: the one result model every writer reads.
 
 A finding is one rule evaluated for one cap. The engine produces them as a columnar pandas frame
-(fast over 100,000 caps); :class:`Finding` is the frozen record view of one row for writers that
-iterate.
+(fast over 100,000 caps); writers read its columns (:func:`records`).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from enum import Enum
 from typing import Any
 
@@ -15,7 +14,9 @@ import pandas as pd
 
 
 class Severity(str, Enum):
-    """Ordered severities of the brief; ``rank`` 0 is the worst."""
+    """The ordered severities of the brief, worst first: the one definition of their order, rank,
+    label, colours and meaning. The findings frame keeps the plain strings (``Severity.X.value``) for
+    the JSON and the sheet; every rank map is :data:`SEVERITY_RANK`, built from this enum."""
 
     UNSAFE = "unsafe"
     NON_COMPLIANT = "non-compliant"
@@ -25,7 +26,33 @@ class Severity(str, Enum):
 
     @property
     def rank(self) -> int:
-        return SEVERITY_ORDER.index(self.value)
+        """0 for the worst."""
+        return SEVERITY_RANK[self.value]
+
+    @property
+    def label(self) -> str:
+        """The terminal badge text."""
+        return _LOOK[self.value][0]
+
+    @property
+    def style(self) -> str:
+        """The terminal (rich) style."""
+        return _LOOK[self.value][1]
+
+    @property
+    def fill(self) -> str:
+        """Fill colour (hex RGB) in the sheet, the HTML report and the sketches."""
+        return _LOOK[self.value][2]
+
+    @property
+    def text_colour(self) -> str:
+        """Text colour (hex RGB) on :attr:`fill`."""
+        return _LOOK[self.value][3]
+
+    @property
+    def meaning(self) -> str:
+        """What the severity means, in the words of this project (legends)."""
+        return _LOOK[self.value][4]
 
     @classmethod
     def parse(cls, text: str) -> "Severity":
@@ -37,8 +64,21 @@ class Severity(str, Enum):
             ) from None
 
 
-SEVERITY_ORDER: tuple[str, ...] = ("unsafe", "non-compliant", "query", "advisory", "ok")
-COMMENT_SEVERITIES: tuple[str, ...] = ("unsafe", "non-compliant", "query", "advisory")
+# label, terminal style, fill, text colour, meaning. The colours are this project's own: a warm
+# scale from brick red (strength check not met) to pale green (met), readable printed in greyscale.
+_LOOK: dict[str, tuple[str, str, str, str, str]] = {
+    "unsafe": ("UNSAFE", "bold white on red3", "B3261E", "FFFFFF", "a strength check is not met"),
+    "non-compliant": ("NON-COMPLIANT", "bold dark_orange", "F4A259", "1F1F1F", "a detailing rule is breached"),
+    "query": ("QUERY", "bold magenta", "F6D55C", "1F1F1F",
+              "cannot be verified from the submission, or the designer's figure disagrees with the re-check"),
+    "advisory": ("ADVISORY", "cyan", "A8D5E2", "1F1F1F", "good practice, for the designer's consideration"),
+    "ok": ("ok", "green", "C5E1A5", "1F1F1F", "the listed check was met on the figures submitted"),
+}
+
+SEVERITY_ORDER: tuple[str, ...] = tuple(s.value for s in Severity)
+#: severity text -> rank (0 = worst); the one rank map
+SEVERITY_RANK: dict[str, int] = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+COMMENT_SEVERITIES: tuple[str, ...] = tuple(s.value for s in Severity if s is not Severity.OK)
 
 FINDING_COLUMNS: tuple[str, ...] = (
     "cap",
@@ -67,29 +107,6 @@ FINDING_COLUMNS: tuple[str, ...] = (
     # does not depend on the loads
     "case",
 )
-
-
-@dataclass(frozen=True)
-class Finding:
-    """One rule for one cap. Units are the output units of the brief (mm, mm², kN, MPa, degrees)."""
-
-    cap: str
-    rule: str
-    severity: Severity
-    clause: str
-    value: float | None
-    limit: float | None
-    unit: str
-    utilisation: float | None
-    message: str
-    title: str = ""
-    action: str = ""
-    source: dict[str, Any] = field(default_factory=dict)
-
-    @property
-    def key(self) -> str:
-        """Stable comment key used across revisions: cap mark + rule id."""
-        return comment_key(self.cap, self.rule)
 
 
 @dataclass(frozen=True)
@@ -148,38 +165,16 @@ def describe_source(src: dict[str, Any]) -> str:
     return ", ".join(parts)
 
 
-def iter_findings(frame: pd.DataFrame):
-    """Yield :class:`Finding` records from a findings frame (in its order)."""
-    for row in frame.to_dict("records"):
-        yield Finding(
-            cap=str(row["cap"]),
-            rule=str(row["rule"]),
-            severity=Severity(row["severity"]),
-            clause=str(row["clause"]),
-            value=_none_if_nan(row["value"]),
-            limit=_none_if_nan(row["limit"]),
-            unit=str(row["unit"]),
-            utilisation=_none_if_nan(row["utilisation"]),
-            message=str(row["message"]),
-            title=str(row.get("title", "")),
-            action=str(row.get("action", "") or ""),
-            source=source_of(row),
-        )
-
-
 def sort_findings(frame: pd.DataFrame) -> pd.DataFrame:
     """The one sort order used everywhere: severity (worst first), cap, rule."""
-    rank = frame["severity"].map({s: i for i, s in enumerate(SEVERITY_ORDER)})
+    rank = frame["severity"].map(SEVERITY_RANK)
     out = frame.assign(_rank=rank).sort_values(["_rank", "cap", "rule"], kind="stable")
     return out.drop(columns="_rank").reset_index(drop=True)
 
 
 def severity_rank(severity: str) -> int:
     """0 = worst; unknown or empty severities rank after ``ok``."""
-    try:
-        return SEVERITY_ORDER.index(str(severity).strip().lower())
-    except ValueError:
-        return len(SEVERITY_ORDER)
+    return SEVERITY_RANK.get(str(severity).strip().lower(), len(SEVERITY_ORDER))
 
 
 def records(frame: pd.DataFrame, columns: tuple[str, ...] | list[str] | None = None) -> list[dict[str, Any]]:
@@ -207,6 +202,6 @@ def count_by_severity(frame: pd.DataFrame) -> dict[str, int]:
 
 def worst_by_cap(frame: pd.DataFrame) -> pd.Series:
     """Worst severity per cap (index: cap mark)."""
-    rank = frame["severity"].map({s: i for i, s in enumerate(SEVERITY_ORDER)})
+    rank = frame["severity"].map(SEVERITY_RANK)
     worst = rank.groupby(frame["cap"], sort=False).min()
     return worst.map(lambda i: SEVERITY_ORDER[int(i)])

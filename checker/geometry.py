@@ -99,13 +99,6 @@ def pile_arrays(caps: pd.DataFrame, coords: pd.DataFrame | None = None):
     return X, Y, mask
 
 
-def explicit_rows(caps: pd.DataFrame, coords: pd.DataFrame | None):
-    """Boolean per cap: True where the cap's piles come from explicit coordinates."""
-    if coords is None or len(coords) == 0:
-        return np.zeros(len(caps), dtype=bool)
-    return caps["mark"].isin(set(coords["mark"])).to_numpy()
-
-
 def _col(df: pd.DataFrame, name: str, n: int) -> np.ndarray:
     if name not in df.columns:
         return np.full(n, np.nan)
@@ -145,10 +138,6 @@ def effective_depth_y(h, cover, phi_x, phi_y):
         d_y [mm]
     """
     return np.asarray(h, dtype=float) - cover - phi_x - 0.5 * np.asarray(phi_y, dtype=float)
-
-
-def _masked(a, mask, fill):
-    return np.where(mask, a, fill)
 
 
 def _nan_if_inf(a):

@@ -42,7 +42,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK
 
 STANDARD_BARS: tuple[int, ...] = (8, 10, 12, 16, 20, 25, 32, 40)
 #: strength classes of EN 1992-1-1:2004 Table 3.1 (fck, name)
@@ -60,7 +60,7 @@ SETTINGS: dict[str, float] = {
 AXES: tuple[str, ...] = ("depth", "bars", "plan", "concrete", "depth+bars")
 EXEMPT_RULES = frozenset({"stated-vs-checked"})
 CHUNK = 40_000
-_RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+_RANK = SEVERITY_RANK
 _Q = _RANK["query"]
 _NC = _RANK["non-compliant"]
 ADVICE = ("would meet the listed checks (advice for the designer to confirm, not a design)")
@@ -168,9 +168,8 @@ class _Engine:
         return code, util
 
     def _run(self, frame: pd.DataFrame, parent: np.ndarray):
-        from checker.ruleset.evaluate import numeric_params
         from checker.ruleset.derive import _derive_arrays
-        from checker.ruleset.evaluate import evaluate_rule
+        from checker.ruleset.evaluate import evaluate_rule, numeric_params
 
         self.calls += 1
         self.rows += len(frame)
@@ -193,9 +192,9 @@ class _Engine:
             return self._run_cases(frame, parent, code, util)
 
     def _run_cases(self, frame, parent, code, util):
-        from checker.ruleset.evaluate import numeric_params
         from checker.ruleset.cases import evaluate_cases, expand
         from checker.ruleset.derive import _derive_arrays
+        from checker.ruleset.evaluate import numeric_params
 
         cnt = self._case_counts[parent]
         idx = np.repeat(self._case_starts[parent], cnt) + (np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt))
@@ -718,7 +717,8 @@ def explain_lines(review, mark: str) -> list[str]:
             while j + 1 < len(labels) and keys[j + 1] == keys[i]:
                 j += 1
             span = labels[i] if i == j else f"{labels[i]} ... {labels[j]} ({j - i + 1})"
-            lines.append(f"  {span}: {verdicts[i] if i == j else ('pass' if keys[i][1] == 'passes' else 'stopped by ' + keys[i][1])}")
+            said = verdicts[i] if i == j else ('pass' if keys[i][1] == 'passes' else 'stopped by ' + keys[i][1])
+            lines.append(f"  {span}: {said}")
             i = j + 1
     lines.append(cr.text())
     return lines

@@ -16,13 +16,13 @@ import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from profile_params import derive
 
 from checker import geometry as geo
 from checker.calcs import materials as mat
 from checker.calcs import punching as pun
 from checker.calcs import reactions as rea
 from checker.calcs import shear as shr
-from checker.ruleset.derive import derive
 
 #: accuracy of the pile-head area share from the 192-point smoothed quadrature, as a share of
 #: the head's area (measured against a 250,000-point count in test_area_share_quadrature_accuracy)

@@ -209,6 +209,8 @@ def test_explain_golden(capsys):
     print_working(rv, "PC4", con)
     text = con.export_text()
     golden = GOLDEN / "explain-PC4.txt"
-    if os.environ.get("CAPCHECK_REGEN_GOLDEN") or not golden.exists():
+    if os.environ.get("CAPCHECK_REGEN_GOLDEN") == "1":
         golden.write_text(text, encoding="utf-8")
+    assert golden.exists(), (f"{golden} is missing; it is regenerated only on purpose: "
+                             "CAPCHECK_REGEN_GOLDEN=1 pytest tests/test_cli.py -k golden")
     assert text == golden.read_text(encoding="utf-8")

@@ -8,12 +8,12 @@ the DEVELOPERS.md canonical columns (tests/conftest.py), not through the ingest 
 
 from __future__ import annotations
 
-
 import numpy as np
 import pandas as pd
 import pytest
+from profile_params import derive
 
-from checker.ruleset.derive import INPUT_QUANTITIES, derive
+from checker.ruleset.derive import INPUT_QUANTITIES
 
 REQUIRED = """n_piles d_x d_y d_mean spacing_min edge_min plan_overhang r_max strut_angle_min
 cot_theta_max phi_bar_min as_x as_y centres_x centres_y clear_x clear_y clear_min_req as_min_x

@@ -19,6 +19,17 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from fuzz.schedules import (
+    HEADINGS,
+    HOSTILE_CELLS,
+    OPTIONAL_NO_DEFAULT,
+    REQUIRED,
+    any_cell,
+    frame_of,
+    mutate_text,
+    valid_row,
+    valid_rows,
+)
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -50,17 +61,6 @@ from checker.ingest.schedule import read_schedule, schedule_from_frame
 from checker.model import CONCRETE_CLASSES, FIELDS, STANDARD_BAR_SIZES
 from checker.ruleset.expr import FUNCTIONS, ExprError, compile_expression
 from checker.ruleset.loader import load_ruleset
-from fuzz.schedules import (
-    HEADINGS,
-    HOSTILE_CELLS,
-    OPTIONAL_NO_DEFAULT,
-    REQUIRED,
-    any_cell,
-    frame_of,
-    mutate_text,
-    valid_row,
-    valid_rows,
-)
 
 SCALE = float(os.environ.get("CAPCHECK_FUZZ_EXAMPLES", "1"))
 

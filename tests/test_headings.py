@@ -12,9 +12,9 @@ from checker.ingest.headings import (
     SCHEDULE_FIELDS,
     heading_key,
     load_mapping,
+    mapping_from_dict,
     match_heading,
     match_headings,
-    mapping_from_dict,
 )
 
 # heading as a consultant writes it -> (field, factor to internal units)

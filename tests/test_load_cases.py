@@ -302,7 +302,7 @@ def test_loads_sheet_of_a_workbook(tmp_path, findings_json):
 
 
 def test_load_independent_quantities_do_not_change_with_the_loads():
-    from checker.ruleset.derive import derive
+    from profile_params import derive
 
     rows = []
     for p, s, L, W in [(1, None, 1350, 1350), (2, 1800, 2700, 900), (3, 1800, 2700, 3000), (4, 1800, 2700, 2700),

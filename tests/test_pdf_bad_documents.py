@@ -8,9 +8,9 @@ from __future__ import annotations
 
 import random
 
+import pdfgen
 import pytest
 
-import pdfgen
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf import read_pdf_tables
 

@@ -12,11 +12,11 @@ import csv
 import os
 from pathlib import Path
 
+import pdfgen
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import pdfgen
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf import read_pdf_tables
 

@@ -17,13 +17,12 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
+from profile_params import derive
 
 from checker import geometry as geo
 from checker.calcs import punching as pun
 from checker.calcs import reactions as rea
-from checker.ruleset.derive import derive
 from checker.ruleset.loader import RuleFileError, load_ruleset
-
 
 # ---- Table 6.1, W, β ------------------------------------------------------------------------
 

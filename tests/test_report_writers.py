@@ -16,7 +16,7 @@ sys.path.insert(0, str(Path(__file__).parent / "benchmarks"))
 from bench_engine import synthetic_schedule  # noqa: E402  (invented caps)
 
 import checker  # noqa: E402
-from checker.findings import comment_records, records, source_of, sort_findings  # noqa: E402
+from checker.findings import comment_records, records, sort_findings, source_of  # noqa: E402
 from checker.report.json_out import dumps, to_document  # noqa: E402
 from checker.ruleset.evaluate import variants_record  # noqa: E402
 

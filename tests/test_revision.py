@@ -27,7 +27,6 @@ from checker.revision import (  # noqa: E402
     read_previous_sheet,
 )
 
-
 # --------------------------------------------------------------------------------------------
 # helpers: write a sheet, edit it as a person would, run the next revision
 

@@ -632,13 +632,13 @@ def test_message_quantities_follow_the_graded_variant():
     h = tie_x_hand(8)
     rv = check(cap(TWO, "MSG", cap_depth=935, bars_x="8H20", method="truss column-width"))
     msg = result(rv, "MSG", "tie-steel-x")["message"]
-    assert f"T = {h['t_cw']:.0f} kN" in msg                
+    assert f"T = {h['t_cw']:.0f} kN" in msg
 
 
 def test_method_text_naming_a_pile_type_does_not_state_a_node_method():
     rv = check(cap(FOUR, "EB", n_ed=5000, method="truss centre-node, end-bearing piles"))
     r = result(rv, "EB", "node-pile")                      # NP-SIMPLE above: simple fails, tie zone passes
-    assert r["severity"] == "query"                        
+    assert r["severity"] == "query"
 
 
 def test_drop_variant_removes_it():

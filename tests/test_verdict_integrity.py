@@ -20,6 +20,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from fuzz.schedules import any_cell, frame_of, valid_rows
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -28,7 +29,6 @@ from checker.findings import COMMENT_SEVERITIES, SEVERITY_ORDER
 from checker.ingest.schedule import read_schedule, schedule_from_frame
 from checker.report.json_out import SCHEMA, to_document
 from checker.ruleset.loader import load_ruleset
-from fuzz.schedules import any_cell, frame_of, valid_rows
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = ROOT / "sample_submissions"

@@ -196,6 +196,7 @@ def available_length(half_cap, cover, outer_coord, pile_dia, h=0.0, phi=0.0, ben
     Returns:
         length available [mm]
     """
-    straight = (np.asarray(half_cap, dtype=float) - cover) - (np.asarray(outer_coord, dtype=float) - 0.5 * np.asarray(pile_dia, dtype=float))
+    straight = (np.asarray(half_cap, dtype=float) - cover) - (
+        np.asarray(outer_coord, dtype=float) - 0.5 * np.asarray(pile_dia, dtype=float))
     leg = np.asarray(h, dtype=float) - 2.0 * np.asarray(cover, dtype=float) - phi
     return straight + np.where(np.asarray(bent, dtype=bool), leg, 0.0)

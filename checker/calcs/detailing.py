@@ -188,7 +188,8 @@ def cmin_bond(phi_lowest, phi_second=0.0):
 def nominal_cover_required(cmin_dur, cmin_b, delta_c_dev=10.0, k1=40.0):
     """EN 1992-1-1:2004 4.4.1.1(2), Eq. (4.1)
 
-    Cover required (with 4.4.1.2(2), Eq. (4.2), and 4.4.1.3(4)): cnom = cmin + Δcdev, cmin = max(cmin,b, cmin,dur, 10 mm) (Eq. 4.2), and
+    Cover required (with 4.4.1.2(2), Eq. (4.2), and 4.4.1.3(4)): cnom = cmin + Δcdev, cmin = max(cmin,b, cmin,dur, 10
+    mm) (Eq. 4.2), and
     for concrete cast on prepared ground including blinding the minimum k1 (40 mm, UK NA and
     recommended, from memory), to which Δcdev is added as to every minimum (4.4.1.3(4);
     reference O9: 40 + 10 = 50 mm) [M]. A missing cmin,dur (no exposure class) drops that term.

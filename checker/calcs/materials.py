@@ -225,7 +225,8 @@ def nu(fck):
 def fck_for_shear(fck, fck_max=np.inf):
     """EN 1992-1-1:2004 3.1.2(2)P
 
-    With the UK NA to BS EN 1992-1-1 (3.1.2(2)P): cylinder strength used in the shear resistance (vRd,c and vmin of 6.2.2(1), and the
+    With the UK NA to BS EN 1992-1-1 (3.1.2(2)P): cylinder strength used in the shear resistance (vRd,c and vmin of
+    6.2.2(1), and the
     punching resistance that uses them): the UK NA takes the shear strength of classes above
     C50/60 as that of C50/60 unless verified by tests (from memory; S12 of the engineering
     reference states the same), i.e. min(fck, 50). The recommended values set no such limit

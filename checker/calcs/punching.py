@@ -767,7 +767,8 @@ def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y,
     column load by the share of the column's area inside (:func:`disc_rectangle_area`, or the
     lens for a round column) and the cap's self-weight by the share of the cap's plan inside; where
     the column lies within 2d of the pile face its load inside the perimeter does not cross it (a
-    two-pile cap's end pile has the column inside and little to punch). The governing pile has the highest vEd/vRd,c. Piles under the column and perimeters
+    two-pile cap's end pile has the column inside and little to punch). The governing pile has the highest vEd/vRd,c.
+    Piles under the column and perimeters
     wholly outside the cap are left out.
 
     Args:

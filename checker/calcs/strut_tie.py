@@ -213,7 +213,8 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, to
 def tie_layer_check(H, coord, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol=1.0):
     """EN 1992-1-1:2004 6.5.3
 
-    The tie steel of one direction (with 9.8.1(3)), rows and the whole layer. Two conditions, both to be met, the larger utilisation governing:
+    The tie steel of one direction (with 9.8.1(3)), rows and the whole layer. Two conditions, both to be met, the
+    larger utilisation governing:
     * each tie row against the steel counted for it (:func:`tie_rows_check`);
     * the tension across the column centreline (:func:`tension_across_centreline`, statics
       about the top node: Σ c_i R_i / z over one side) against the whole layer, the only
@@ -481,7 +482,8 @@ def strut_face_width(a1, u, theta_deg):
 def strut_stress_node_geometry(force, a1, b, u, theta_deg):
     """EN 1992-1-1:2004 6.5.4(4), Figure 6.27
 
-    Strut stress at a pile node sized with the tie zone: σ = C/(a2 b) with the strut force C = F/sin θ, a2 = a1 sin θ + u cos θ (Fig. 6.27) and b the
+    Strut stress at a pile node sized with the tie zone: σ = C/(a2 b) with the strut force C = F/sin θ, a2 = a1 sin θ
+    + u cos θ (Fig. 6.27) and b the
     node dimension normal to the plane of the strut [M]. For a pile head of area A capcheck uses
     a1 = b = √A (an equivalent square, :func:`equivalent_square_side`). With u = 0 this is the
     simple sizing F/(A sin² θ) of :func:`strut_face_stress`; the tie zone widens the face.
@@ -504,7 +506,8 @@ def strut_stress_node_geometry(force, a1, b, u, theta_deg):
 def partially_loaded_area_ratio(b1, d1, h, length, width):
     """EN 1992-1-1:2004 6.7(3), Figure 6.29
 
-    Partially loaded area (6.7(2), Eq. (6.63)): √(Ac1/Ac0) for a concentric load on Ac0 = b1 × d1 spread to the design distribution area
+    Partially loaded area (6.7(2), Eq. (6.63)): √(Ac1/Ac0) for a concentric load on Ac0 = b1 × d1 spread to the
+    design distribution area
     Ac1 = b2 × d2, geometrically similar to Ac0 with the same centre (6.7(3)) [M]. Ac1 is
     limited by the distribution depth, h ≥ b2 − b1 and h ≥ d2 − d1 (Fig. 6.29), and by the
     member outline, b2 ≤ L and d2 ≤ W: with b2 = λ b1, d2 = λ d1,

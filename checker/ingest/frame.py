@@ -30,22 +30,22 @@ from checker.ingest.headings import (
     match_headings,
     resolve_mapping,
 )
+from checker.ingest.limits import MAX_CELL_CHARS, cell_text_problem
 from checker.ingest.notation import (
-    BLANK_TEXT,
     NotationError,
     bars_from_spacing,
     clean_text,
     concrete_from_fck,
+    is_blank,
     is_real_number,
     parse_bars,
     parse_column,
-    parse_links,
     parse_concrete,
+    parse_links,
     parse_number,
     parse_size,
     parse_steel_grade,
 )
-from checker.ingest.limits import MAX_CELL_CHARS, cell_text_problem
 from checker.ingest.plausible import MIN_CLEAR_BARS, PLAUSIBLE
 from checker.ingest.plausible import inside as plausible_inside
 from checker.ingest.plausible import problem as plausible_problem
@@ -240,24 +240,6 @@ def _factorize(col: pd.Series) -> tuple[np.ndarray, np.ndarray]:
         return pd.factorize(obj.map(lambda v: v if v is None else str(v)), use_na_sentinel=True)
 
 
-def _is_blank(v: Any) -> bool:
-    if v is None:
-        return True
-    if isinstance(v, float):
-        return v != v
-    if isinstance(v, str):
-        t = v.strip()
-        if len(t) > 6:                      # the placeholders are short
-            return False
-        if t.isascii():
-            return t.lower() in BLANK_TEXT
-        return clean_text(t).lower() in BLANK_TEXT
-    try:
-        return bool(pd.isna(v))
-    except (TypeError, ValueError):
-        return False
-
-
 @dataclass
 class _Unique:
     """A column's distinct values mapped through a parser: per distinct value (plus one slot at the
@@ -295,7 +277,7 @@ def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique
     blank_u = np.zeros(m + 1, dtype=bool)
     blank_u[m] = True
     for k, u in enumerate(uniq):
-        if _is_blank(u):
+        if is_blank(u):
             blank_u[k] = True
             continue
         too_long = cell_text_problem(u)
@@ -378,7 +360,7 @@ def _numeric(col: pd.Series, kind: str, scale: float) -> tuple[np.ndarray, np.nd
         num = num * scale
     left = np.isnan(num) & obj.notna().to_numpy()
     if inferred not in ("string",):                      # bools, dates, complex ... are not figures
-        odd = obj.map(lambda v: v is not None and not _figure_type(v) and not _is_blank(v)).to_numpy(dtype=bool)
+        odd = obj.map(lambda v: v is not None and not _figure_type(v) and not is_blank(v)).to_numpy(dtype=bool)
         left |= odd
         num[odd] = np.nan
     if not left.any():
@@ -420,7 +402,7 @@ def _text_column(col: pd.Series, transform: Callable[[str], str] | None = None
     if transform is None and pd.api.types.infer_dtype(uniq, skipna=False) in ("string", "empty"):
         # many distinct texts (marks): tight loops over the distinct values, no parser calls
         texts = [_text(v) for v in uniq] + [""]
-        shown = np.array([("" if len(t) <= 6 and _is_blank(t) else t) for t in texts], dtype=object)
+        shown = np.array([("" if len(t) <= 6 and is_blank(t) else t) for t in texts], dtype=object)
         codes = np.where(codes < 0, len(uniq), codes)
         long_u = [k for k, t in enumerate(texts) if len(t) > MAX_CELL_CHARS]
         if not long_u:
@@ -906,7 +888,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
                 notes.append(note)
         for i, h in enumerate(table.headings):
             if not str(h or "").strip() and i < grid.shape[1] and \
-                    not grid.iloc[:, i].map(_is_blank, na_action="ignore").fillna(True).all():
+                    not grid.iloc[:, i].map(is_blank, na_action="ignore").fillna(True).all():
                 notes.append(f"{table.file}: column {i + 1} has no heading; not read")
         parts.append(_parse_cells(grid, report, formulas=table.sheet is not None, defaults=defaults))
         for note in parts[-1].notes:
@@ -1036,9 +1018,9 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         dup = (marks.duplicated(keep="first") & (marks != "")).to_numpy()
         if dup.any():
             rows = np.flatnonzero(dup)
-            errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of {_where(provenance, first_pos[r])}; "
-                                      "each cap needs its own mark (or give a load case column for the rows "
-                                      "of further load cases)" for r in rows])
+            errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of "
+                                      f"{_where(provenance, first_pos[r])}; each cap needs its own mark (or give a "
+                                      "load case column for the rows of further load cases)" for r in rows])
 
     # ---- the model's constraints ---------------------------------------------------------------
     frame = pd.DataFrame({f: out[f] for f in FIELDS})
@@ -1129,7 +1111,8 @@ def read_loads(tables: Sequence[RawTable], *, mapping: Any = None) -> LoadsTable
         if missing or not ({"n_ed", "n_sls"} & set(by)):
             from checker.ingest.errors import IngestError
             raise IngestError(f"{t.file}: a loads table needs the columns mark, case, n_ed (mx_ed, my_ed and "
-                              f"kind optional; or SLS loads); found {', '.join(m.field for m in report.matches) or 'none'}")
+                              f"kind optional; or SLS loads); found "
+                              f"{', '.join(m.field for m in report.matches) or 'none'}")
         reports.append(report)
         parts.append(_parse_cells(cells_of(t), report))
         n = len(t.row_numbers)
@@ -1310,8 +1293,8 @@ def _table_problems(tables: Sequence[RawTable], parts: Sequence[_Parsed], given:
         lacking = [f for f in REQUIRED_SOURCES if f not in part.given and not given[f][offset:offset + part.n].all()]
         if lacking and part.n:
             unused = [u for u in report.unmapped]
-            hint = (f"headings not used: {', '.join(repr(u) for u in unused[:12])}; map the right one in a mapping file "
-                    f"(--mapping FILE, [headings] \"{unused[0]}\" = \"{lacking[0]}\")" if unused else
+            hint = (f"headings not used: {', '.join(repr(u) for u in unused[:12])}; map the right one in a "
+                    f"mapping file (--mapping FILE, [headings] \"{unused[0]}\" = \"{lacking[0]}\")" if unused else
                     "no heading of the table is left unused; add the column, or map its heading in a mapping file "
                     "(--mapping FILE)")
             page = table.pages[0] if table.pages else None
@@ -1348,7 +1331,8 @@ def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[st
         rows = [r for r in np.flatnonzero(bad).tolist() if r not in have.get(f, ()) and f in units_at(r)]
         if not rows:
             continue
-        errors.add(f, rows, [f"{labels_at(r).get(f, f)}: {plausible_problem(f, *units_at(r)[f][:1], float(v[r]), *units_at(r)[f][1:])}"
+        errors.add(f, rows, [f"{labels_at(r).get(f, f)}: "
+                             f"{plausible_problem(f, *units_at(r)[f][:1], float(v[r]), *units_at(r)[f][1:])}"
                              for r in rows])
         have.setdefault(f, set()).update(rows)
         out[f][rows] = np.nan            # not judged again by the model's cross-field checks
@@ -1360,7 +1344,8 @@ def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[st
             if not (bad_col("column_x") | bad_col("column_y") | bad_col("cap_length") | bad_col("cap_width")
                     | bad_col("column") | bad_col("size") | bad_col("plan")) & {r}]
     if rows:
-        errors.add("column", rows, [f"{labels_at(r).get('column', 'column')}: {_fmtn(cx[r])} x {_fmtn(cy[r])} mm does not fit within the cap plan "
+        errors.add("column", rows, [f"{labels_at(r).get('column', 'column')}: {_fmtn(cx[r])} x {_fmtn(cy[r])} mm "
+                                    "does not fit within the cap plan "
                                     f"{_fmtn(L[r])} x {_fmtn(W[r])} mm (L x W)" for r in rows])
     cover = np.asarray(out["cover"], dtype=float)
     for s_, width_name, width in (("x", "width", W), ("y", "length", L)):
@@ -1374,7 +1359,8 @@ def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[st
         rows = [r for r in np.flatnonzero(bad).tolist() if r not in bad_col(f"bars_{s_}") and r not in bad_col("cover")]
         if rows:
             errors.add(f"bars_{s_}", rows, [
-                f"{labels_at(r).get(f'bars_{s_}', f'bars_{s_}')}: {_fmtn(n_[r])} bars of {_fmtn(phi[r])} mm do not fit across the cap {width_name} of "
+                f"{labels_at(r).get(f'bars_{s_}', f'bars_{s_}')}: {_fmtn(n_[r])} bars of {_fmtn(phi[r])} mm do not "
+                f"fit across the cap {width_name} of "
                 f"{_fmtn(width[r])} mm inside {_fmtn(cover[r])} mm covers at the least clear spacing of "
                 f"{_fmtn(MIN_CLEAR_BARS)} mm ({_fmtn(need[r])} mm needed, {_fmtn(room[r])} mm available)"
                 for r in rows])
@@ -1430,7 +1416,3 @@ def _where(prov: pd.DataFrame, r: int) -> str:
     return ", ".join(parts)
 
 
-def frame_from_table(table: RawTable, *, mapping: Any = None) -> tuple[pd.DataFrame, list[dict]]:
-    """One RawTable -> (canonical frame, rejected rows)."""
-    res = build_frame(table, mapping=mapping)
-    return res.caps, res.rejected

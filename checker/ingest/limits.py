@@ -166,16 +166,8 @@ def check_columns(count: int, name: str, row: int | None = None, limit: int | No
                           f"{_n(limit)} columns; remove the cells far to the right of the schedule")
 
 
-def check_cell_text(text: str, where: str, limit: int | None = None) -> None:
-    """IngestError when a cell's text is longer than ``limit`` (default :data:`MAX_CELL_CHARS`)."""
-    limit = MAX_CELL_CHARS if limit is None else limit
-    if len(text) > limit:
-        raise IngestError(f"{where}: the cell holds {_n(len(text))} characters, more than the limit of "
-                          f"{_n(limit)} for one cell")
-
-
 def cell_text_problem(value: object, limit: int | None = None) -> str | None:
-    """The message of :func:`check_cell_text` for a cell (without a place), or None when it fits."""
+    """The message for a cell too long (without a place), or None when it fits."""
     limit = MAX_CELL_CHARS if limit is None else limit
     if isinstance(value, str) and len(value) > limit:
         return f"the cell holds {_n(len(value))} characters, more than the limit of {_n(limit)} for one cell"
@@ -195,7 +187,8 @@ def check_archive(members: Iterable[zipfile.ZipInfo], name: str, max_total: int 
     """Check the sizes a ZIP archive declares, before anything is decompressed.
 
     IngestError when the declared uncompressed total exceeds ``max_total`` or a member larger than
-    ``floor`` is compressed more than ``max_ratio`` : 1 (the mark of a ZIP bomb). Returns the total. Defaults: :data:`MAX_XLSX_UNCOMPRESSED_BYTES`,
+    ``floor`` is compressed more than ``max_ratio`` : 1 (the mark of a ZIP bomb). Returns the total. Defaults:
+    :data:`MAX_XLSX_UNCOMPRESSED_BYTES`,
     :data:`MAX_COMPRESSION_RATIO`, :data:`RATIO_FLOOR_BYTES`.
     """
     max_total = MAX_XLSX_UNCOMPRESSED_BYTES if max_total is None else max_total

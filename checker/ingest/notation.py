@@ -18,6 +18,7 @@ from dataclasses import dataclass
 from typing import Any, Callable, NamedTuple, TypeVar
 
 import numpy as np
+import pandas as pd
 
 from checker.model import CONCRETE_CLASSES, STANDARD_BAR_SIZES
 
@@ -485,7 +486,8 @@ class ConcreteClass(NamedTuple):
 
 
 _BY_FCK = {v[0]: k for k, v in CONCRETE_CLASSES.items()}
-_CLASS_RE = re.compile(r"^(?:(?:RC|C)(?P<cyl>[0-9]{1,3})(?:/(?P<cube>[0-9]{1,3}))?|(?P<cyl2>[0-9]{1,3})/(?P<cube2>[0-9]{1,3}))$",
+_CLASS_RE = re.compile(r"^(?:(?:RC|C)(?P<cyl>[0-9]{1,3})(?:/(?P<cube>[0-9]{1,3}))?"
+                       r"|(?P<cyl2>[0-9]{1,3})/(?P<cube2>[0-9]{1,3}))$",
                        re.ASCII)
 _CLASSES_TEXT = "C12/15 to C90/105 (EN 1992-1-1 Table 3.1), C28/35, C32/40"
 
@@ -592,11 +594,19 @@ def is_blank(value: Any) -> bool:
     """An empty cell or one of the usual placeholders ('-', '—', 'n/a', 'none', 'nil')."""
     if value is None:
         return True
-    if isinstance(value, float) and math.isnan(value):
-        return True
+    if isinstance(value, float):
+        return value != value
     if isinstance(value, str):
-        return _is_blank_text(value)
-    return False
+        t = value.strip()
+        if len(t) > 6:                      # the placeholders are short
+            return False
+        if t.isascii():
+            return t.lower() in BLANK_TEXT
+        return _is_blank_text(t)
+    try:
+        return bool(pd.isna(value))
+    except (TypeError, ValueError):
+        return False
 
 
 @functools.lru_cache(maxsize=4096)

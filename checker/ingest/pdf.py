@@ -37,8 +37,7 @@ from typing import Callable
 
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf_model import Layout, PageTable
-from checker.ingest.pdf_text import (build_lines, glyphs_from_chars, heading_matcher,
-                                     page_content, text_direction)
+from checker.ingest.pdf_text import build_lines, glyphs_from_chars, heading_matcher, page_content, text_direction
 from checker.ingest.raw import RawTable
 
 STRATEGIES = ("auto", "lines", "text")

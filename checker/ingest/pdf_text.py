@@ -29,11 +29,6 @@ class Glyph:
     def mid_y(self) -> float:
         return (self.top + self.bottom) / 2.0
 
-    @property
-    def mid_x(self) -> float:
-        return (self.x0 + self.x1) / 2.0
-
-
 @dataclass(slots=True)
 class Word:
     """A run of glyphs on one line with no gap wider than the word tolerance.

@@ -18,8 +18,14 @@ import pandas as pd
 from checker.ingest import limits
 from checker.ingest.errors import IngestError
 from checker.ingest.frame import Defaults, attach_loads, build_frame, cells_of, coords_frame, read_loads
-from checker.ingest.headings import (LOAD_FIELDS, HeadingMatch, HeadingReport, count_known, match_headings,
-                                     resolve_mapping)
+from checker.ingest.headings import (
+    LOAD_FIELDS,
+    HeadingMatch,
+    HeadingReport,
+    count_known,
+    match_headings,
+    resolve_mapping,
+)
 from checker.ingest.raw import RawTable
 from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, read_csv, read_tabular
 

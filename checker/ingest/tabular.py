@@ -330,16 +330,6 @@ def _hide_duplicate_columns(headings: list[str], hidden: set[int], vocabulary: s
     return out
 
 
-def locate_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, file: str,
-                 sheet: str | None = None, vocabulary: str = "schedule",
-                 mapping: HeadingMap | None = None, head_index: int | None = None
-                 ) -> tuple[RawTable | None, list[str]]:
-    """The first table of :func:`locate_tables` (None without a heading row), and the notes."""
-    tables, notes = locate_tables(rows, row_numbers, file=file, sheet=sheet, vocabulary=vocabulary,
-                                  mapping=mapping, head_index=head_index)
-    return (tables[0] if tables else None), notes
-
-
 def _note_rows_after(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], stop: int, mapped_cols: set[int],
                      notes: list[str], file: str, sheet: str | None) -> None:
     """The table ended at ``stop``; say so if rows further down look like schedule rows."""

@@ -18,6 +18,8 @@ from typing import TYPE_CHECKING, Any
 from checker.caution import CAUTION
 from checker.findings import (
     SEVERITY_ORDER,
+    SEVERITY_RANK,
+    Severity,
     comment_key,
     count_by_severity,
     describe_source,
@@ -29,9 +31,6 @@ from checker.findings import (
 from checker.report.comments import (
     HEADER_FILL,
     NOT_A_SAFETY_CLAIM,
-    SEVERITY_FILL,
-    SEVERITY_MEANING,
-    SEVERITY_TEXT,
     SHORT_CAUTION,
     STATUSES,
     Comment,
@@ -54,7 +53,7 @@ HTML_MAX_CAP_SECTIONS = 1000
 
 def _css() -> str:
     sev_rules = "\n".join(
-        f".sev-{s} {{ background: #{SEVERITY_FILL[s]}; color: #{SEVERITY_TEXT[s]}; }}"
+        f".sev-{s} {{ background: #{Severity(s).fill}; color: #{Severity(s).text_colour}; }}"
         for s in SEVERITY_ORDER
     )
     return f"""
@@ -225,8 +224,10 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     )
     out.append("</figure>")
     facts = [
-        ("Piles", _fmt(info.get("piles")) + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
-        ("Spacing s", _fmt(info.get("pile_spacing"), "mm") if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
+        ("Piles", _fmt(info.get("piles"))
+         + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
+        ("Spacing s", _fmt(info.get("pile_spacing"), "mm")
+         if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
         ("Cap L × W × h", " × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth")) + " mm"),
         ("Column", escape(_column_text(info))),
         ("N_Ed", _fmt(float(info["n_ed"]) / 1000.0, "kN") if _is_num(info.get("n_ed")) else "–"),
@@ -318,7 +319,8 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
             if rule:
                 out.append(f'<div class="work-rule">{escape(rule)}</div>')
             out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
-    out.append(f'<p class="caution small">{escape(SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report."))}</p>')
+    caution = SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report.")
+    out.append(f'<p class="caution small">{escape(caution)}</p>')
     out.append("</section>")
     return "\n".join(out)
 
@@ -351,7 +353,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     for c in comments:
         if c.key and c.state != "present":
             carried_by_cap.setdefault(c.cap, []).append(c)
-    rank = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+    rank = SEVERITY_RANK
     if len(marks) > HTML_MAX_CAP_SECTIONS:
         order = sorted(range(len(marks)), key=lambda i: (rank.get(worst.get(marks[i], "ok"), 9), i))
         keep = set(sorted(order[:HTML_MAX_CAP_SECTIONS]))
@@ -406,7 +408,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
         h.append(f"<p class=\"note\">{escape(str(note))}</p>")
     h.append("<h3>Legend</h3><table class=\"legend\"><tbody>")
     for s in SEVERITY_ORDER:
-        h.append(f"<tr><td class=\"sev sev-{s}\">{s}</td><td>{escape(SEVERITY_MEANING[s])}</td></tr>")
+        h.append(f"<tr><td class=\"sev sev-{s}\">{s}</td><td>{escape(Severity(s).meaning)}</td></tr>")
     h.append("</tbody></table></section>")
 
     h.append('<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'

@@ -119,7 +119,8 @@ def iter_result_texts(review, *, working: bool = False, chunk: int = CHUNK,
         caps = [str(c) for c in part["cap"].tolist()]
         cap_t = list(map(enc, caps))
         rules = part["rule"].tolist()
-        rule_t, sev_t, clause_t, unit_t = (_texts(part[c].tolist(), enc) for c in ("rule", "severity", "clause", "unit"))
+        rule_t, sev_t, clause_t, unit_t = (_texts(part[c].tolist(), enc)
+                                           for c in ("rule", "severity", "clause", "unit"))
         msg_t = _texts(part["message"].tolist(), enc) if m else []
         action = _col(part, "action", m)
         case_t = [enc(c) if isinstance(c, str) else "null" for c in _col(part, "case", m)]
@@ -261,7 +262,3 @@ def dumps(review, *, working: bool = False, revision=None) -> str:
     return buf.getvalue()
 
 
-def write_json(review, path: Path, *, working: bool = True) -> None:
-    """Write the JSON document to ``path`` (the caller handles atomic replacement)."""
-    with open(path, "w", encoding="utf-8") as fh:
-        write_document(review, fh.write, working=working)

@@ -6,23 +6,13 @@ from __future__ import annotations
 
 from rich.text import Text
 
+from checker.findings import Severity
+
 LIST_ALL_UP_TO = 40      # caps: up to this many the terminal lists every cap's findings
 WORST_CAPS = 20          # caps listed in full under the summary view (--worst N)
 
-STYLE = {
-    "unsafe": "bold white on red3",
-    "non-compliant": "bold dark_orange",
-    "query": "bold magenta",
-    "advisory": "cyan",
-    "ok": "green",
-}
-LABEL = {
-    "unsafe": "UNSAFE",
-    "non-compliant": "NON-COMPLIANT",
-    "query": "QUERY",
-    "advisory": "ADVISORY",
-    "ok": "ok",
-}
+STYLE = {s.value: s.style for s in Severity}
+LABEL = {s.value: s.label for s in Severity}
 
 
 def severity_text(sev: str) -> Text:

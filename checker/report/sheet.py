@@ -38,6 +38,7 @@ from checker.report.comments import (
     DATA_SHEET,
     HEADER_FILL,
     HEADER_TEXT,
+    MET,
     NOT_A_SAFETY_CLAIM,
     REJECTED_SHEET,
     SEVERITY_FILL,
@@ -45,13 +46,13 @@ from checker.report.comments import (
     SEVERITY_TEXT,
     SHORT_CAUTION,
     STATUS_MUTED,
-    MET,
     STATUSES,
     Comment,
     check_text,
     comment_layout,
     count_by_status,
 )
+from checker.report.writefile import write_atomic
 from checker.revision import (
     CHANGES_SHEET,
     COLUMNS_MARKER,
@@ -61,7 +62,6 @@ from checker.revision import (
     LISTS_SHEET,
     cap_inputs,
 )
-from checker.report.writefile import write_atomic
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review

@@ -27,8 +27,8 @@ from typing import TYPE_CHECKING, Any, Iterable
 
 import numpy as np
 
-from checker.findings import severity_rank
-from checker.report.comments import SEVERITY_FILL, format_number
+from checker.findings import SEVERITY_RANK, Severity, severity_rank
+from checker.report.comments import format_number
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
@@ -323,7 +323,7 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
 
     def colour_of(target: str) -> str | None:
         w = _worst(by_target.get(target, []))
-        return "#" + SEVERITY_FILL[str(w["severity"])] if w and str(w["severity"]) in SEVERITY_FILL else None
+        return "#" + Severity(str(w["severity"])).fill if w and str(w["severity"]) in SEVERITY_RANK else None
 
     def rules_of(target: str) -> str:
         return " ".join(sorted({str(r["rule"]) for r in by_target.get(target, [])}))
@@ -381,7 +381,7 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
     spacing_hl: set[int] = set(pair[:2]) if (pair and spacing_c) else set()
 
     pile_c = colour_of("piles")
-    outside_c = colour_of("outside") or ("#" + SEVERITY_FILL["unsafe"] if outside else None)
+    outside_c = colour_of("outside") or ("#" + Severity.UNSAFE.fill if outside else None)
 
     # --- piles
     for i, (x, y) in enumerate(P):
@@ -466,7 +466,7 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
     if len(piles) == 0 and _ok(g.n_piles):
         cv.text(0.0, -half_w * 0.55 if have_outline else 0.0,
                 f"{format_number(g.n_piles)} pile(s): positions not available", cls="note",
-                colour="#" + SEVERITY_FILL["unsafe"], size=fs * 0.9)
+                colour="#" + Severity.UNSAFE.fill, size=fs * 0.9)
 
     # --- scale bar and axes
     bar = _nice_length(extent / 4)

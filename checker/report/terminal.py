@@ -23,7 +23,7 @@ from rich.table import Table
 from rich.text import Text
 
 from checker.caution import CAUTION
-from checker.findings import COMMENT_SEVERITIES, SEVERITY_ORDER, count_by_severity, describe_source
+from checker.findings import COMMENT_SEVERITIES, SEVERITY_ORDER, SEVERITY_RANK, count_by_severity, describe_source
 from checker.report.palette import LABEL, LIST_ALL_UP_TO, STYLE, WORST_CAPS, severity_text  # noqa: F401
 
 REJECTED_SHOWN = 20      # rejected rows listed under the summary view
@@ -196,7 +196,7 @@ class _CapTable:
     rows of its findings, its worst severity and its count of met checks, by array arithmetic."""
 
     def __init__(self, f: pd.DataFrame) -> None:
-        rank = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+        rank = SEVERITY_RANK
         self.sev_rank = f["severity"].map(rank).to_numpy(dtype=np.int64)
         codes, marks = pd.factorize(f["cap"].astype(str))      # caps in the order first seen
         n_caps = len(marks)
@@ -280,7 +280,8 @@ def print_findings(review, console: Console, *, show_ok: bool = False, listing: 
                                "write the comments.", style="bold"))
     for p in getattr(review, "table_problems", None) or []:
         where = describe_source(p["source"]) or "?"
-        console.print(Text(f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): ", style="bold red")
+        head = f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): "
+        console.print(Text(head, style="bold red")
                       + Text("; ".join(p["errors"])))
     if review.rejected:
         console.print(Text("\nRows not checked", style="bold red"))

@@ -28,7 +28,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK
 from checker.ruleset.catalogue import LOAD_INDEPENDENT, QUANTITIES
 from checker.ruleset.evaluate import (
     SLS_MISSING_ACTION,
@@ -40,7 +40,7 @@ from checker.ruleset.evaluate import (
     sls_on_uls,
 )
 
-_RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+_RANK = SEVERITY_RANK
 _SEV = np.array(SEVERITY_ORDER, dtype=object)
 LOAD_COLUMNS = ("n_ed", "mx_ed", "my_ed")
 

@@ -42,7 +42,6 @@ DERIVED: dict[str, tuple[str, str]] = {
     "n_piles": ("count", "number of piles in the group (layout or explicit coordinates)"),
     "d_x": ("mm", "effective depth of the x layer, h - c - phi_x/2"),
     "d_y": ("mm", "effective depth of the y layer, h - c - phi_x - phi_y/2"),
-    "d_mean": ("mm", "mean effective depth of the two layers, (d_x + d_y)/2"),
     "d_mean": ("mm", "mean effective depth"),
     "spacing_min": ("mm", "closest pile centres"),
     "edge_min": ("mm", "least distance from a pile face to the cap edge"),
@@ -235,36 +234,48 @@ DERIVED: dict[str, tuple[str, str]] = {
     "wmax": ("mm", "limiting crack width of the exposure class, Table 7.1N (UK NA Table NA.4)"),
     "alpha_e": ("", "modular ratio Es/Ecm, 7.3.4(2)"),
     "fct_eff": ("MPa", "tensile strength when cracking is expected, fctm, 7.3.2(2)"),
-    "sigma_sls_x": ("MPa", "stress in the x bars (the lowest layer) under the case's loads, T/As counted (tie check's truss)"),
-    "sigma_qp_x": ("MPa", "stress in the x bars (the lowest layer) under the quasi-permanent load (SLS case, or qp_ratio x ULS)"),
-    "crack_phi_factor_x": ("", "phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), x bars (the lowest layer)"),
+    "sigma_sls_x": ("MPa", "stress in the x bars (the lowest layer) under the case's loads, T/As counted (tie "
+                           "check's truss)"),
+    "sigma_qp_x": ("MPa", "stress in the x bars (the lowest layer) under the quasi-permanent load (SLS case, "
+                          "or qp_ratio x ULS)"),
+    "crack_phi_factor_x": ("", "phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), x bars (the "
+                               "lowest layer)"),
     "crack_phi_star_x": ("mm", "bar diameter read against Table 7.2N, phi/(phi_s/phi*_s), x bars (the lowest layer)"),
     "crack_sigma_phi_x": ("MPa", "largest steel stress at which the x bars (the lowest layer) meet Table 7.2N"),
-    "crack_sigma_s_x": ("MPa", "largest steel stress at which the centres of the x bars (the lowest layer) meet Table 7.3N"),
-    "crack_limit_x": ("MPa", "largest steel stress at which Table 7.2N or Table 7.3N is met, x bars (the lowest layer)"),
+    "crack_sigma_s_x": ("MPa", "largest steel stress at which the centres of the x bars (the lowest layer) "
+                               "meet Table 7.3N"),
+    "crack_limit_x": ("MPa", "largest steel stress at which Table 7.2N or Table 7.3N is met, x bars (the "
+                             "lowest layer)"),
     "x_cr_x": ("mm", "neutral axis depth of the cracked section, x bars (the lowest layer)"),
     "hc_ef_x": ("mm", "hc,ef = min(2.5(h - d), (h - x)/3, h/2), 7.3.2(3), x bars (the lowest layer)"),
     "rho_p_eff_x": ("", "rho_p,eff = As/(b hc,ef), Eq. (7.10), x bars (the lowest layer)"),
     "crack_c_x": ("mm", "cover to the x bars (the lowest layer)"),
     "crack_close_x": ("mm", "5(c + phi/2): the largest centres for Eq. (7.11), x bars (the lowest layer)"),
     "sr_max_x": ("mm", "maximum crack spacing, Eq. (7.11) or (7.14), x bars (the lowest layer)"),
-    "crack_limit_calc_x": ("MPa", "largest steel stress at which the calculated wk meets wmax, x bars (the lowest layer)"),
+    "crack_limit_calc_x": ("MPa", "largest steel stress at which the calculated wk meets wmax, x bars (the "
+                                  "lowest layer)"),
     "eps_crack_x": ("", "eps_sm - eps_cm at the quasi-permanent stress, Eq. (7.9), x bars (the lowest layer)"),
     "wk_x": ("mm", "calculated crack width at the quasi-permanent stress, Eq. (7.8), x bars (the lowest layer)"),
-    "sigma_sls_y": ("MPa", "stress in the y bars (the second layer) under the case's loads, T/As counted (tie check's truss)"),
-    "sigma_qp_y": ("MPa", "stress in the y bars (the second layer) under the quasi-permanent load (SLS case, or qp_ratio x ULS)"),
-    "crack_phi_factor_y": ("", "phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), y bars (the second layer)"),
+    "sigma_sls_y": ("MPa", "stress in the y bars (the second layer) under the case's loads, T/As counted (tie "
+                           "check's truss)"),
+    "sigma_qp_y": ("MPa", "stress in the y bars (the second layer) under the quasi-permanent load (SLS case, "
+                          "or qp_ratio x ULS)"),
+    "crack_phi_factor_y": ("", "phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), y bars (the "
+                               "second layer)"),
     "crack_phi_star_y": ("mm", "bar diameter read against Table 7.2N, phi/(phi_s/phi*_s), y bars (the second layer)"),
     "crack_sigma_phi_y": ("MPa", "largest steel stress at which the y bars (the second layer) meet Table 7.2N"),
-    "crack_sigma_s_y": ("MPa", "largest steel stress at which the centres of the y bars (the second layer) meet Table 7.3N"),
-    "crack_limit_y": ("MPa", "largest steel stress at which Table 7.2N or Table 7.3N is met, y bars (the second layer)"),
+    "crack_sigma_s_y": ("MPa", "largest steel stress at which the centres of the y bars (the second layer) "
+                               "meet Table 7.3N"),
+    "crack_limit_y": ("MPa", "largest steel stress at which Table 7.2N or Table 7.3N is met, y bars (the "
+                             "second layer)"),
     "x_cr_y": ("mm", "neutral axis depth of the cracked section, y bars (the second layer)"),
     "hc_ef_y": ("mm", "hc,ef = min(2.5(h - d), (h - x)/3, h/2), 7.3.2(3), y bars (the second layer)"),
     "rho_p_eff_y": ("", "rho_p,eff = As/(b hc,ef), Eq. (7.10), y bars (the second layer)"),
     "crack_c_y": ("mm", "cover to the y bars (the second layer)"),
     "crack_close_y": ("mm", "5(c + phi/2): the largest centres for Eq. (7.11), y bars (the second layer)"),
     "sr_max_y": ("mm", "maximum crack spacing, Eq. (7.11) or (7.14), y bars (the second layer)"),
-    "crack_limit_calc_y": ("MPa", "largest steel stress at which the calculated wk meets wmax, y bars (the second layer)"),
+    "crack_limit_calc_y": ("MPa", "largest steel stress at which the calculated wk meets wmax, y bars (the "
+                                  "second layer)"),
     "eps_crack_y": ("", "eps_sm - eps_cm at the quasi-permanent stress, Eq. (7.9), y bars (the second layer)"),
     "wk_y": ("mm", "calculated crack width at the quasi-permanent stress, Eq. (7.8), y bars (the second layer)"),
 }
@@ -343,7 +354,8 @@ OUTPUT_SCALE: dict[str, float] = {"kN": 1e-3, "kNm": 1e-6, "%": 100.0}
 #: What a user must give when a quantity is missing, in plain words (never the quantity's name):
 #: the schedule input behind it. Quantities not listed here are named by their meaning.
 MISSING_AS: dict[str, str] = {
-    "piles": "the number of piles", "n_piles": "the number of piles", "pile_dia": "the pile diameter", "pile_spacing": "the pile spacing",
+    "piles": "the number of piles", "n_piles": "the number of piles", "pile_dia": "the pile diameter",
+    "pile_spacing": "the pile spacing",
     "cap_length": "the cap length", "cap_width": "the cap width", "cap_depth": "the cap depth",
     "column_x": "the column size", "column_y": "the column size", "n_ed": "the ULS axial load",
     "fyk": "the steel grade", "cover": "the nominal cover", "embedment": "the pile embedment",

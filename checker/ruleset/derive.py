@@ -52,20 +52,6 @@ INPUT_QUANTITIES: tuple[str, ...] = (
     "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "stated_d",
 )
 
-#: Parameter defaults (the uk-na profile values of the brief).
-DEFAULTS: dict[str, float | str] = {
-    "gamma_c": 1.5, "gamma_s": 1.15, "gamma_g": 1.35,
-    "alpha_cc_flex": 0.85, "alpha_cc_shear": 1.0, "alpha_ct": 1.0,
-    "crd_c_factor": 0.18, "vrdmax_coeff": 0.5,
-    "k1_node": 1.0, "k2_node": 0.85, "k3_node": 0.75, "node_factor": 1.0,
-    "concrete_density": 25.0, "pile_tolerance": 75.0, "dg": 20.0, "delta_c_dev": 10.0,
-    "cover_k1": 40.0, "eta1": 1.0, "fck_shear_max": 50.0, "stated_tolerance": 0.05,
-    "material_values": "table", "tie_node": "centre", "shear_av": "inside-pile",
-    "bending_section_inset": 0.0, "beta_simplified": 1.15,
-    "qp_ratio": float("nan"), "wmax_x0": 0.3, "wmax_other": 0.3, "es": 200000.0, "crack_kt": 0.4,
-    "crack_k1": 0.8, "crack_k2": 0.5, "crack_k3": 3.4, "crack_k4": 0.425,
-}
-
 #: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
 STATED_ITEMS: tuple[str, ...] = (
     "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "stated_d",
@@ -119,8 +105,17 @@ def _flag(b) -> np.ndarray:
     return np.asarray(b, dtype=bool).astype(float)
 
 
+class MissingParameter(KeyError):
+    """A profile parameter derive needs is not in ``params`` (the profile files are the only source
+    of parameter values; there are no defaults here)."""
+
+
 def _pget(params: dict, name: str):
-    return params.get(name, DEFAULTS[name])
+    try:
+        return params[name]
+    except KeyError:
+        raise MissingParameter(f"derive: the profile parameter '{name}' is missing; pass the resolved profile's "
+                               "params (checker.ruleset.loader.load_ruleset(...).profile.params)") from None
 
 
 def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
@@ -130,7 +125,8 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
     Args:
         caps: canonical schedule frame (DEVELOPERS.md), one row per cap, internal units
         coords: explicit pile coordinates ``mark, x, y`` [mm], or None
-        params: resolved profile parameters (see ``DEFAULTS`` for names and defaults)
+        params: resolved profile parameters (every one derive reads must be there: a missing one
+            raises :class:`MissingParameter`; the values live in the profile files only)
 
     Returns:
         :class:`Derived`

@@ -18,11 +18,11 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER, WorkingLine
+from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER, SEVERITY_RANK, WorkingLine
 from checker.ruleset.catalogue import OUTPUT_SCALE, plain_words
 from checker.ruleset.loader import Rule, RuleSet
 
-_RANK = {s: i for i, s in enumerate(SEVERITY_ORDER)}
+_RANK = SEVERITY_RANK
 _SEV_OBJ = np.array(SEVERITY_ORDER, dtype=object)
 _CMP = {">=": operator.ge, ">": operator.gt, "<=": operator.le, "<": operator.lt}
 REL_TOL = 1e-9  # a value equal to its limit to this relative tolerance meets a >= or <= rule

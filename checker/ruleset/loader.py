@@ -16,9 +16,9 @@ from pathlib import Path
 
 from pydantic import ValidationError
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import COMMENT_SEVERITIES
 from checker.ruleset.catalogue import QUANTITIES
-from checker.ruleset.expr import Expression, ExprError, compile_expression
+from checker.ruleset.expr import ExprError, Expression, compile_expression
 from checker.ruleset.schema import ProfileFile, RuleFile, RuleSpec
 from checker.ruleset.templates import Template, TemplateError, parse_template
 
@@ -125,12 +125,8 @@ class Profile:
     disable: tuple[str, ...] = ()
     files: tuple[str, ...] = ()
     drop_variants: tuple[str, ...] = ()
-
-    def describe(self, name: str) -> str:
-        v = self.params[name]
-        src = self.sources.get(name, "")
-        return f"{name} = {v}" + (f" ({src})" if src else "")
-
+    #: the allowed words of each text-valued parameter (a parameter not named here is a number)
+    choices: dict[str, tuple[str, ...]] = field(default_factory=dict)
 
 _QUOTED = re.compile(r'"(?:[^"\\\n]|\\.)*"' + r"|'[^'\n]*'")
 MAX_KEY = 1_000  # characters of a key or table header; tomllib's time grows with the square of a dotted key's depth
@@ -320,6 +316,7 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
     disable: list[str] = []
     files: list[str] = []
     drops: list[str] = []
+    choices: dict[str, tuple[str, ...]] = {}
     if spec.extends:
         base = load_profile(spec.extends, search, None, _depth + 1)
         params.update(base.params)
@@ -328,16 +325,18 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
         disable.extend(base.disable)
         files.extend(base.files)
         drops.extend(base.drop_variants)
+        choices.update(base.choices)
     for k, p in spec.params.items():
         if not k.isidentifier() or k.startswith("_"):
             raise RuleFileError(f"{path}: parameter '{k}' is not a plain name")
         if k in QUANTITIES:
             raise RuleFileError(f"{path}: parameter '{k}' has the name of a schedule quantity")
+        _check_param(path, k, p.value, p.choices, params.get(k), choices)
         params[k] = p.value
         sources[k] = "; ".join(x for x in (p.clause, p.note) if x)
     for rid, sev in spec.severity.items():
-        if sev not in SEVERITY_ORDER or sev == "ok":
-            raise RuleFileError(f"{path}: severity for '{rid}' must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        if sev not in COMMENT_SEVERITIES:
+            raise RuleFileError(f"{path}: severity for '{rid}' must be one of {', '.join(COMMENT_SEVERITIES)}")
         severity[rid] = sev
     disable.extend(spec.disable)
     drops.extend(spec.drop_variants)
@@ -347,6 +346,9 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
             raise RuleFileError(f"--set {k}: no such parameter in profile '{spec.name}'")
         old = params[k]
         if isinstance(old, str):
+            if text not in choices[k]:
+                raise RuleFileError(f"--set {k}={text}: '{text}' is not an allowed value of {k}; "
+                                    f"one of: {', '.join(choices[k])}")
             params[k] = text
         else:
             try:
@@ -355,7 +357,30 @@ def load_profile(name_or_path: str, search: list[Path], overrides: dict[str, str
                 raise RuleFileError(f"--set {k}={text}: a number is needed") from None
         sources[k] = "set on the command line"
     return Profile(spec.name, spec.title, params, sources, severity, tuple(disable), tuple(files),
-                   tuple(dict.fromkeys(drops)))
+                   tuple(dict.fromkeys(drops)), choices)
+
+
+def _check_param(path: Path, name: str, value: float | str, declared: list[str] | None,
+                 inherited: float | str | None, choices: dict[str, tuple[str, ...]]) -> None:
+    """Refuse a parameter whose value does not fit its declared type: a number where the parameter
+    (or the profile it extends) is a number; one of its declared words where it is text. Records the
+    words of a text parameter in ``choices``."""
+    if declared is not None:
+        if name in choices and tuple(declared) != choices[name]:
+            raise RuleFileError(f"{path}: parameter '{name}': its words are declared as "
+                                f"{', '.join(choices[name])} already; they cannot change in a profile that extends it")
+        choices[name] = tuple(declared)
+    words = choices.get(name)
+    if isinstance(value, str):
+        if words is None:
+            kind = "a number" if inherited is not None else "a number, or text with its allowed words (choices = [...])"
+            raise RuleFileError(f"{path}: parameter '{name}' = {value!r}: {kind} is needed")
+        if value not in words:
+            raise RuleFileError(f"{path}: parameter '{name}' = {value!r} is not an allowed value; "
+                                f"one of: {', '.join(words)}")
+    elif words is not None:
+        raise RuleFileError(f"{path}: parameter '{name}' = {value!r}: one of {', '.join(words)} is needed, "
+                            "not a number")
 
 
 @dataclass(frozen=True)

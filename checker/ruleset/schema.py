@@ -37,7 +37,7 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import COMMENT_SEVERITIES
 
 RULE_ID = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 Compare = Literal[">=", ">", "<=", "<"]
@@ -67,8 +67,8 @@ class OverrideSpec(_Strict):
     @field_validator("severity")
     @classmethod
     def _sev(cls, v: str) -> str:
-        if v not in SEVERITY_ORDER or v == "ok":
-            raise ValueError(f"severity must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        if v not in COMMENT_SEVERITIES:
+            raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
         return v
 
 
@@ -130,8 +130,8 @@ class RuleSpec(_Strict):
     @field_validator("severity")
     @classmethod
     def _severity(cls, v: str) -> str:
-        if v not in SEVERITY_ORDER or v == "ok":
-            raise ValueError(f"severity must be one of {', '.join(SEVERITY_ORDER[:-1])}")
+        if v not in COMMENT_SEVERITIES:
+            raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
         return v
 
     @field_validator("unit")
@@ -154,7 +154,11 @@ class RuleFile(_Strict):
 
 
 class ParamSpec(_Strict):
+    """One profile parameter: a number, or one of a closed set of words (``choices``, declared where
+    the parameter is introduced and inherited by the profiles that extend it)."""
+
     value: float | str
+    choices: list[str] | None = Field(default=None, min_length=1, max_length=20)
     clause: str = ""
     note: str = ""
 

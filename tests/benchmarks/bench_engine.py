@@ -243,7 +243,8 @@ def main(argv=None) -> int:
         "peak_rss_mb": round(peak_mb, 1),
         "peak_rss_every_message_mb": round(peak_all_mb, 1),
         "load_cases": bench_cases(args.caps),
-        "targets": {"ratio_three_cases_to_one": 3.0, "ratio_core_to_numpy": 3.0, "ratio_grading_to_default_only": 2.0, "total_s": 10.0,
+        "targets": {"ratio_three_cases_to_one": 3.0, "ratio_core_to_numpy": 3.0, "ratio_grading_to_default_only": 2.0,
+                    "total_s": 10.0,
                     "peak_rss_mb": 2048},
     }
     json.dump(result, sys.stdout, indent=2)

@@ -38,6 +38,7 @@ def _best(fn, repeat):
 
 def generated(n: int, failing: float, rs) -> tuple[pd.DataFrame, pd.DataFrame]:
     from bench_engine import synthetic_schedule
+
     from checker.api import check_schedule
     from checker.ingest.schedule import schedule_from_frame
 

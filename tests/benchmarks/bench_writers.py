@@ -195,9 +195,9 @@ def main(argv=None) -> int:
     ap.add_argument("--skip-openpyxl", action="store_true", help="do not time openpyxl's write-only mode")
     args = ap.parse_args(argv)
 
-    import checker
     from rich.console import Console
 
+    import checker
     from checker.report import _write_json, resolve_meta
     from checker.report.comments import build_comments
     from checker.report.html import write_html

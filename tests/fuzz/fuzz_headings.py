@@ -8,8 +8,14 @@ from _harness import atheris, cell, finite, require_atheris, run
 if __name__ == "__main__":
     require_atheris()
     with atheris.instrument_imports(include=["checker"]):
-        from checker.ingest.headings import (COORD_FIELDS, SCHEDULE_FIELDS, count_known, heading_key,
-                                             match_heading, match_headings)
+        from checker.ingest.headings import (
+            COORD_FIELDS,
+            SCHEDULE_FIELDS,
+            count_known,
+            heading_key,
+            match_heading,
+            match_headings,
+        )
 
 
 def TestOneInput(data: bytes) -> None:

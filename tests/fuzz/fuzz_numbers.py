@@ -8,8 +8,14 @@ from _harness import atheris, cell, finite, require_atheris, run
 if __name__ == "__main__":
     require_atheris()
     with atheris.instrument_imports(include=["checker"]):
-        from checker.ingest.notation import (UNITS, NotationError, normalise_unit, parse_number, parse_quantity,
-                                             parse_steel_grade)
+        from checker.ingest.notation import (
+            UNITS,
+            NotationError,
+            normalise_unit,
+            parse_number,
+            parse_quantity,
+            parse_steel_grade,
+        )
 
 
 def TestOneInput(data: bytes) -> None:
