@@ -230,9 +230,11 @@ def _sort_rows(table: RawTable, notes: list[str]) -> None:
     """Section labels, repeated headings, totals and notes rows sorted out of the caps as the
     spreadsheet reader does it (``tabular.sort_rows``): skipped with a named reason, or ending the
     table."""
-    from checker.ingest.headings import match_headings
-    from checker.ingest.tabular import sort_rows
-
+    try:
+        from checker.ingest.headings import match_headings
+        from checker.ingest.tabular import sort_rows
+    except ImportError:         # without the heading mapper the rows are left to the frame builder
+        return
     if not table.rows:
         return
     mapped = {m.column for m in match_headings(table.headings).matches}
@@ -305,8 +307,10 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
 
 
 def _is_mark(text: str) -> bool:
-    from checker.ingest.headings import match_heading
-
+    try:
+        from checker.ingest.headings import match_heading
+    except ImportError:         # without the heading mapper: by its usual words
+        return text.strip().lower() in ("mark", "cap mark", "cap ref", "ref", "cap", "pile cap")
     return match_heading(text)[0] == "mark"
 
 
