@@ -340,3 +340,76 @@ def test_reads_without_the_heading_mapper(rl_case, monkeypatch):
         exp = rl_case(case)
         tables, _ = read_pdf_tables(exp.path)
         assert_reads_as(tables, exp)
+
+
+# --------------------------------------------------------------------------------------------
+# A consultant's workbook as LibreOffice prints it
+# --------------------------------------------------------------------------------------------
+
+
+def test_regression_workbook_as_pdf(tmp_path):
+    """The workbook of tests/test_schedules_as_they_arrive.py (title block, merged group headings
+    over sub-headings, a units row, section labels, a hidden row and column, a struck-through row, a
+    totals row, notes, a revision box, two schedule sheets and a notes sheet) exported to PDF by
+    LibreOffice and read like the workbook itself.
+
+    What the PDF holds differs from the workbook: hidden rows and columns are not printed (PC4 and
+    the superseded loads are absent), the formula of PC6's d is printed calculated (1100), each
+    sheet is wider than the paper and printed in strips (columns A-H on one page, the next columns
+    on the next, at the same heights), and the text of a cell is clipped at the next filled cell
+    (on the second sheet 'Pile cap L x W x D' prints as 'Pile cap L' and '2700 x 2700 x 1200' as
+    '2700 x 270', so the caps of that sheet cannot be checked from the PDF: they are rejected with
+    their marks)."""
+    if pdfgen.soffice() is None:
+        pytest.skip("LibreOffice (soffice/libreoffice) is not on PATH: the PDF cannot be made; "
+                    "install libreoffice-calc-nogui (.ci/system-packages.sh does it in CI)")
+    import math
+
+    from test_schedules_as_they_arrive import consultant_workbook
+
+    from checker.ingest.schedule import read_schedule
+
+    book = consultant_workbook(tmp_path / "consultant.xlsx")
+    pdfgen.convert_with_soffice([book], tmp_path)
+    pdf = tmp_path / "consultant.pdf"
+    assert pdf.exists(), "LibreOffice did not write consultant.pdf"
+    s = read_schedule(pdf)
+    x = read_schedule(book)
+
+    # every printed row accounted for: checked, rejected with its mark, or skipped with its reason
+    assert s.rows_read == len(s.caps) + len(s.rejected) + len(s.skipped)
+    caps = set(s.caps["mark"])
+    rejected = {r["mark"] for r in s.rejected}
+    skipped = {k["text"]: k["reason"] for k in s.skipped}
+    assert not (caps & rejected)
+    printed = {"PC1", "PC2", "PC3", "PC5", "PC6", "PC7", "PC10", "PC11", "PC12"}   # PC4 is hidden
+    assert caps | rejected | {t for t in skipped if t.startswith("PC")} == printed
+    assert {"PC1", "PC2", "PC3", "PC6"} <= caps
+    # the multi-row headings joined as in the workbook, the strips joined: the same figures
+    px, pp = x.caps.set_index("mark"), s.caps.set_index("mark")
+    fields = [c for c in x.caps.columns if not c.startswith("src_") and c != "mark"]
+    for mark in ("PC1", "PC2", "PC3"):
+        for f in fields:
+            a, b = px.loc[mark, f], pp.loc[mark, f]
+            same = (a == b) or (isinstance(a, float) and isinstance(b, float)
+                                and math.isnan(a) and math.isnan(b)) or (a is None and b is None)
+            assert same, f"{mark}.{f}: workbook {a!r}, PDF {b!r}"
+    assert pp.loc["PC6", "stated_d"] == 1100          # LibreOffice printed the formula calculated
+    assert pp.loc["PC1", "src_page"] == 1 and pp.loc["PC1", "src_row"] == 2
+    # section labels skipped with a named reason; the table ends at the totals row
+    for label in ("GRID A", "GRID B", "GRID D-F"):
+        assert skipped[label].startswith("a section label"), label
+    assert not any("TOTAL" in t for t in skipped) and "TOTAL PILE" not in rejected
+    assert any("the table ends at 'TOTAL PILE'" in n for n in s.notes)
+    assert any("printed to the right of page 1" in n for n in s.notes)
+    # rejected rows carry their marks and reasons
+    by = {r["mark"]: r for r in s.rejected}
+    assert by["PC7"]["errors"] == ["cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
+                                   "200 to 5,000 mm; did you mean m?"]
+    assert by["PC7"]["source"] == {"file": str(pdf), "sheet": None, "page": 1, "row": 8}
+    for mark in ("PC10", "PC11", "PC12"):
+        assert by[mark]["source"]["page"] == 4
+        assert any(e.startswith("cap_length (column 'Pile cap L mm')") for e in by[mark]["errors"]), mark
+    # the second sheet's strip read with it; the notes sheet is no table
+    assert "Remarks" in s.unmapped
+    assert "page 6: no schedule table, skipped" in s.notes

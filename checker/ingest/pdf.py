@@ -105,12 +105,14 @@ def _read(name: str, strategy: str, max_pages: int | None,
         kinds: dict[str, int] = {}      # what the pages without text hold: image / drawing / blank
         failed: list[int] = []
         prev: Layout | None = None      # layout of the table read last, for a continuation
+        left: PageTable | None = None   # the table that started on the page before (its strips)
+        left_at = 0                     # index of its first row in ``current.rows``
         current: RawTable | None = None
         started: dict[int, int] = {}    # id(RawTable) -> page of its heading row
         for page_no, page in enumerate(pages, start=1):
             try:
                 page_tables, has_text, page_note = _read_page(page, page_no, strategy,
-                                                              is_heading, prev)
+                                                              is_heading, prev, left)
             except IngestError:
                 raise
             except Exception as exc:   # a damaged page: say so and read the others
@@ -133,6 +135,10 @@ def _read(name: str, strategy: str, max_pages: int | None,
                 kinds[has_text] = kinds.get(has_text, 0) + 1
             if page_note:
                 notes.append(page_note)
+            if page_tables and page_tables[0].side and current is not None and left is not None:
+                _add_strip(current, page_tables[0], left_at, page_no, notes)
+                continue
+            left = None
             if not page_tables:
                 prev = None             # a continuation must follow its table directly
                 if has_text is True and not page_note:
@@ -156,7 +162,12 @@ def _read(name: str, strategy: str, max_pages: int | None,
                                        rows=[], pages=[], row_numbers=[])
                     tables.append(current)
                     started[id(current)] = page_no
-                current.rows.extend(pt.rows)
+                width = len(current.headings)
+                if pt.headings is not None and pt.head_tops and pt.rows:
+                    left, left_at = pt, len(current.rows)
+                else:
+                    left = None
+                current.rows.extend(r + [""] * (width - len(r)) for r in pt.rows)
                 current.pages.extend([page_no] * len(pt.rows))
                 current.row_numbers.extend(pt.row_numbers)
                 prev = pt.layout
@@ -189,18 +200,69 @@ def _read(name: str, strategy: str, max_pages: int | None,
             f"method (--pdf-strategy lines or text), or give the schedule as CSV/XLSX."
             + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
     for t in tables:
-        if not t.rows:
+        _sort_rows(t, notes)
+        if not t.rows and not t.skipped:
             notes.append(f"page {started[id(t)]}: the table headed "
                          f"{', '.join(repr(h) for h in t.headings[:3])} ... has no rows")
     return tables, notes
+
+
+def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: list[str]) -> None:
+    """The columns of ``strip`` (a page printed to the right of the table's first page) joined onto
+    the rows they share heights with."""
+    first_page = table.pages[at] if at < len(table.pages) else page_no
+    table.headings.extend(strip.headings)
+    width = len(table.headings)
+    for k, row in enumerate(table.rows):
+        if len(row) < width:
+            row.extend([""] * (width - len(row)))
+    for k, cells in enumerate(strip.rows):
+        if at + k < len(table.rows):
+            table.rows[at + k][width - len(cells):] = cells
+    notes.extend(strip.notes)
+    notes.append(f"page {page_no}: the columns {', '.join(repr(h) for h in strip.headings[:4])}"
+                 f"{' ...' if len(strip.headings) > 4 else ''} printed to the right of page "
+                 f"{first_page}; read with its rows (same heights)")
+
+
+def _sort_rows(table: RawTable, notes: list[str]) -> None:
+    """Section labels, repeated headings, totals and notes rows sorted out of the caps as the
+    spreadsheet reader does it (``tabular.sort_rows``): skipped with a named reason, or ending the
+    table."""
+    try:
+        from checker.ingest.headings import match_headings
+        from checker.ingest.tabular import sort_rows
+    except ImportError:         # without the heading mapper the rows are left to the frame builder
+        return
+    if not table.rows:
+        return
+    mapped = {m.column for m in match_headings(table.headings).matches}
+    data, numbers, skipped, _, end, kept = sort_rows(
+        table.rows, table.row_numbers, mapped_cols=mapped, pages=table.pages,
+        head_rows=[list(table.headings)])
+    pages = [table.pages[k] for k in kept]
+    for page, number, reason, first in skipped:
+        notes.append(f"page {page}, row {number} skipped: {reason}" + (f" ({first!r})" if first else ""))
+    if end is not None:
+        rest = len(table.rows) - end - 1
+        first = next((str(c) for c in table.rows[end] if str(c).strip()), "")
+        notes.append(f"page {table.pages[end]}, row {table.row_numbers[end]}: the table ends at "
+                     f"{first!r} (notes, totals or a revision box)"
+                     + (f"; {rest} row(s) below it not read" if rest > 0 else ""))
+    table.rows, table.row_numbers, table.pages = data, numbers, pages
+    table.skipped = list(table.skipped) + skipped
 
 
 # --------------------------------------------------------------------------------------------
 
 
 def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bool],
-               prev: Layout | None) -> tuple[list[PageTable], bool | str, str | None]:
-    """(tables, True when the page has text else what it holds instead, note)."""
+               prev: Layout | None, left: PageTable | None = None
+               ) -> tuple[list[PageTable], bool | str, str | None]:
+    """(tables, True when the page has text else what it holds instead, note).
+
+    ``left``: the table that starts on the page before (unruled), whose further columns this page
+    may hold (a sheet printed in strips across pages)."""
     content = page_content(page)
     if not content.ltchars:
         if content.images:
@@ -224,14 +286,31 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
     from checker.ingest.pdf_unruled import find_text_tables
 
     w, h = content.width, content.height
-    glyphs = glyphs_from_chars(content.chars, rotation, w, h)
+    # text placed off the page is not printed (a spreadsheet program puts the text of a cell merged
+    # across a page break there); it is not read
+    chars = [c for c in content.chars if c[2] > 0.0 and c[1] < w and c[4] > 0.0 and c[3] < h]
+    glyphs = glyphs_from_chars(chars, rotation, w, h)
     lines, _ = build_lines(glyphs)
+    if left is not None and rotation == 0 and strategy != "lines":
+        from checker.ingest.pdf_unruled import side_table
+
+        side = side_table(lines, page_no, left, is_mark=_is_mark)
+        if side is not None:
+            return [side], True, None
     hrules, vrules = _rules(content, rotation) if strategy == "auto" else ([], [])
     if prev is not None and prev.rotation != rotation:
         prev = None
     found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules, prev=prev,
                              rotation=rotation)
     return found, True, None
+
+
+def _is_mark(text: str) -> bool:
+    try:
+        from checker.ingest.headings import match_heading
+    except ImportError:         # without the heading mapper: by its usual words
+        return text.strip().lower() in ("mark", "cap mark", "cap ref", "ref", "cap", "pile cap")
+    return match_heading(text)[0] == "mark"
 
 
 def _rules(content, rotation: int):

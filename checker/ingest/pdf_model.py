@@ -52,3 +52,8 @@ class PageTable:
     row_numbers: list[int] = field(default_factory=list)
     method: str = "text"             # "lines" (ruled grid), "text" (whitespace), "rules" (mixed)
     notes: list[str] = field(default_factory=list)
+    #: per row, the tops of its text lines; the tops of the heading lines (unruled tables): a page
+    #: printed to the right of this one (a sheet wider than the paper) has its lines at these heights
+    row_tops: list[list[float]] = field(default_factory=list)
+    head_tops: list[float] = field(default_factory=list)
+    side: bool = False               # the columns to the right of the table on the page before

@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import bisect
 import math
+import re
 from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
@@ -124,6 +125,53 @@ def heading_cells(block: Sequence[Line]) -> list[HCell] | None:
     return merged
 
 
+def _units_line(ln: Line) -> bool:
+    from checker.ingest.notation import normalise_unit
+
+    return all(normalise_unit(w.text.strip("()[] ")) is not None for w in ln.words)
+
+
+_TOUCH = re.compile(r"[a-z][A-Z]")
+
+
+def split_touching(lines: Sequence[Line], tol: float = 1.0) -> None:
+    """Split words where the text of two cells touches: a spreadsheet program clips a cell's text
+    at the next filled cell, so ``No. of piles`` and ``Pile dia`` print as ``No. of pilesPile dia``.
+    A word is split where a small letter meets a capital with no blank, at the place where a word of
+    another line starts (the next column's left edge)."""
+    cands = [(li, wi) for li, ln in enumerate(lines) for wi, w in enumerate(ln.words)
+             if _TOUCH.search(w.text)]
+    if not cands:
+        return
+    starts = sorted((w.x0, li) for li, ln in enumerate(lines) for w in ln.words)
+    xs = [x for x, _ in starts]
+    for li, wi in reversed(cands):
+        w = lines[li].words[wi]
+        cut = []
+        for pos, gi in w.boundaries():
+            g = w.glyphs
+            run = 0                     # letters of the clipped word before the cut
+            while run < gi and not w.spaces_after[gi - run - 1] and g[gi - run - 1].text.isalpha():
+                run += 1
+            after = g[gi + 1].text if gi + 1 < len(g) else ""
+            if not (g[gi - 1].text.islower() and g[gi].text.isupper() and after.islower() and run >= 3):
+                continue                # 'kN', 'NEd', 'mPa' are not two cells
+            x = w.glyphs[gi].x0
+            k = bisect.bisect_left(xs, x - tol)
+            if any(starts[m][1] != li for m in range(k, bisect.bisect_right(xs, x + tol))):
+                cut.append(gi)
+        if not cut:
+            continue
+        pieces, rest, offset = [], w, 0
+        for gi in cut:
+            part, rest = rest.split_at(gi - offset)
+            offset = gi
+            part.x1 = min(part.x1, rest.x0)     # the clipped text ends where the next cell starts
+            pieces.append(part)
+        pieces.append(rest)
+        lines[li].words[wi:wi + 1] = pieces
+
+
 def heading_block(lines: Sequence[Line], i: int,
                   is_heading: Callable[[str], bool]) -> tuple[int, list[HCell]] | None:
     """If a heading row starts at line ``i``: (number of heading lines, heading cells)."""
@@ -143,6 +191,8 @@ def heading_block(lines: Sequence[Line], i: int,
             break
         if any(looks_like_value(w.text) for w in ln.words) or is_stop_text(ln.words[0].text):
             break
+        if len(block) > 1 and _units_line(prev):
+            break                   # a units row ends the heading (a section label may follow)
         block.append(ln)
         j += 1
     for k in range(len(block), 0, -1):
@@ -486,11 +536,51 @@ def _span_headings(geo: _Geometry, edges: list[float]) -> None:
                 k += step
 
 
+def _joined_headings(geo: _Geometry, edges: list[float]) -> list[str] | None:
+    """The heading lines as rows of cells, joined the way a spreadsheet's heading block is
+    (``tabular.join_heading_rows``: a group heading spreads right over the labels under it, a units
+    row is appended); None for a one-line heading or when that maps no more headings than the
+    heading cells read here."""
+    cells = geo.cells
+    lines = sorted({li for c in cells for li, _ in c.members + c.spans})
+    if len(lines) < 2:
+        return None
+    try:
+        from checker.ingest.headings import match_headings
+        from checker.ingest.tabular import join_heading_rows
+    except ImportError:         # read without the heading mapper: the heading cells as they are
+        return None
+
+    at = {li: k for k, li in enumerate(lines)}
+    grid = [[""] * len(cells) for _ in lines]
+
+    def put(li: int, j: int, text: str) -> None:
+        row = grid[at[li]]
+        row[j] = f"{row[j]} {text}".strip()
+
+    for j, c in enumerate(cells):
+        for li, w in sorted(c.members, key=lambda t: (t[0], t[1].x0)):
+            put(li, j, w.text)
+    for li, w in cells[0].spans:       # a spanning heading starts in its (merged) cell's first column
+        put(li, bisect.bisect_left(edges, w.x0 + 0.5), w.text)
+    joined = join_heading_rows(grid)
+    if joined is None or len(joined) != len(cells):
+        return None
+    current = [c.full_text for c in cells]
+    if len(match_headings(joined).matches) > len(match_headings(current).matches):
+        return joined
+    return None
+
+
 def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs: list[float],
               page_no: int, first_row_number: int = 1) -> tuple[list[list[str]], list[str]]:
     ncols = len(geo.cells)
     edges, line_edges, splits = _edges(body, geo, vrule_xs)
+    joined = _joined_headings(geo, edges)
     _span_headings(geo, edges)
+    if joined is not None:
+        for c, h in zip(geo.cells, joined):
+            c.prefix, c.text = [], h
     index = {id(ln): k for k, ln in enumerate(body)}
     headings = [c.full_text for c in geo.cells]
     out_rows: list[list[str]] = []
@@ -557,15 +647,16 @@ def _build(body: list[Line], geo: _Geometry, headings: list[str] | None, layout:
     if headings is not None:
         headings = [c.full_text for c in geo.cells]
         layout.headings = headings
-    keep, numbers = [], []
-    for r in cells:
+    keep, numbers, tops = [], [], []
+    for r, row_lines in zip(cells, rows):
         if any(c for c in r):
             keep.append(r)
             numbers.append(len(keep))
+            tops.append([ln.top for ln in row_lines])
     if vx or table_rules:
         method = "rules"
     return PageTable(page=page_no, headings=headings, layout=layout, rows=keep,
-                     row_numbers=numbers, method=method, notes=notes)
+                     row_numbers=numbers, method=method, notes=notes, row_tops=tops)
 
 
 def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[str], bool], *,
@@ -577,6 +668,7 @@ def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[
     heading row on this page that fit its columns continue that table.
     """
     tables: list[PageTable] = []
+    split_touching(lines)
     n = len(lines)
     i = 0
     first_heading = None
@@ -599,6 +691,7 @@ def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[
         band = (head[0].top, head[-1].bottom)
         tables.append(_build(body, geo, headings, layout, page_no, hrules, vrules, trules,
                              band, "text"))
+        tables[-1].head_tops = [ln.top for ln in head]
         i = max(end, i + k)
     if prev is not None and prev.ncols >= 3:
         limit = first_heading if first_heading is not None else n
@@ -623,3 +716,57 @@ def continue_table(lines: Sequence[Line], page_no: int, prev: Layout, *,
     band = (body[0].top, body[0].bottom)
     t = _build(body, geo, None, prev, page_no, hrules, vrules, trules, band, "text")
     return t if t.rows else None
+
+
+def _near(y: float, tops: Sequence[float], tol: float = 1.0) -> bool:
+    k = bisect.bisect_left(tops, y - tol)
+    return k < len(tops) and tops[k] <= y + tol
+
+
+def side_table(lines: Sequence[Line], page_no: int, left: PageTable, *,
+               is_mark: Callable[[str], bool], tol: float = 1.0) -> PageTable | None:
+    """The columns of a table printed on the page to the right of ``left`` (a sheet wider than the
+    paper is printed in strips: the same rows at the same heights, the next columns, no mark column).
+
+    Every line of the page must sit at the height of a heading line or of a row line of ``left``, at
+    least one on the heading's lines and one on the rows'; the lines on the heading's are this strip's
+    headings (as few as one: ``Remarks``); none of them may be a mark column (that is a new table).
+    Returns a PageTable whose rows correspond one to one with ``left.rows`` (blank where the strip has
+    nothing on that row)."""
+    if not lines or not left.head_tops or not left.row_tops:
+        return None
+    split_touching(lines)
+    head_tops = sorted(left.head_tops)
+    body_tops = sorted(t for ts in left.row_tops for t in ts)
+    head = [ln for ln in lines if _near(ln.top, head_tops, tol)]
+    body = [ln for ln in lines if not _near(ln.top, head_tops, tol)]
+    if not head or not body or not all(_near(ln.top, body_tops, tol) for ln in body):
+        return None
+    if max(ln.top for ln in head) > min(ln.top for ln in body):
+        return None
+    cells = heading_cells(head)
+    if not cells or any(is_mark(c.full_text) for c in cells):
+        return None
+    geo = _Geometry.of(cells)
+    if not all(geo.inside(w) for ln in body for w in ln.words):
+        return None
+    # one group of lines per row of the left strip
+    owner: list[int] = []
+    for ln in body:
+        k = next((r for r, ts in enumerate(left.row_tops) if any(abs(ln.top - t) <= tol for t in ts)), -1)
+        owner.append(k)
+    if any(k < 0 for k in owner):
+        return None
+    groups: list[list[Line]] = [[] for _ in left.row_tops]
+    for ln, k in zip(body, owner):
+        groups[k].append(ln)
+    present = [g for g in groups if g]
+    cells_text, notes = _cells_of(body, present, geo, [], page_no)
+    it = iter(cells_text)
+    rows = [next(it) if g else [""] * len(cells) for g in groups]
+    headings = [c.full_text for c in geo.cells]
+    layout = Layout(cells=[(c.x0, c.x1) for c in cells], headings=headings, ruled=False)
+    return PageTable(page=page_no, headings=headings, layout=layout, rows=rows,
+                     row_numbers=list(left.row_numbers), method="text", notes=notes,
+                     row_tops=[list(ts) for ts in left.row_tops], head_tops=list(left.head_tops),
+                     side=True)

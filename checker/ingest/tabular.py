@@ -244,49 +244,9 @@ def _one_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, fil
     start = used[-1] + 1
     report = match_headings(headings, mapping, vocabulary)
     mapped_cols = {m.column for m in report.matches}
-    data: list[list[Any]] = []
-    numbers: list[int] = []
-    skipped: list[tuple[int | None, int, str, str]] = []
-    blanks: list[int] = []
-    end: int | None = None
-    i = start
-    n_rows = len(rows)
-    after_blank = False
-    while i < n_rows:
-        row = rows[i]
-        number = int(row_numbers[i])
-        if _blank_row(row):
-            after_blank = True
-            if data:
-                blanks.append(number)
-            i += 1
-            continue
-        if not isinstance(row, list):
-            row = list(row)
-        first = _first_text(row)
-        if _notes_row(row) or _END_RE.match(first):
-            end = i
-            break
-        reason = skip_rows.get(number)
-        if reason is not None:
-            skipped.append((None, number, reason, first))
-        elif row in head_rows:
-            skipped.append((None, number, "the heading row repeated", first))
-        elif len(row) - _n_empty(row) <= 2 and not any(_is_figure(row[c]) for c in _filled(row)) and \
-                sum(1 for c in _filled(row) if c in mapped_cols) < 2:   # mark + case: a load-case row
-            skipped.append((None, number, "a section label or note (one or two text cells, no figures)", first))
-        elif after_blank and sum(1 for c in _filled(row) if c in mapped_cols) < MIN_KNOWN:
-            end = i                                   # after a blank row, something that is not a cap
-            break
-        else:
-            data.append(row)
-            numbers.append(number)
-        after_blank = False
-        i += 1
-    # blank rows between caps (not those after the last one) are spacers; text rows after the last
-    # cap are the notes under the table, not section labels
+    data, numbers, skipped, blanks, end, _ = sort_rows(rows, row_numbers, start=start, mapped_cols=mapped_cols,
+                                                       head_rows=head_rows, skip_rows=skip_rows)
     last = numbers[-1] if numbers else -1
-    skipped = [t for t in skipped if t[1] < last or not t[2].startswith("a section label")]
     inside = [b for b in blanks if b < last]
     if inside:
         shown = ", ".join(map(str, inside[:8])) + (" ..." if len(inside) > 8 else "")
@@ -303,6 +263,85 @@ def _one_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, fil
     table = RawTable(file=file, sheet=sheet, headings=headings, rows=data, pages=[None] * len(data),
                      row_numbers=numbers, skipped=skipped, heading_row=int(row_numbers[used[-1]]))
     return table, end
+
+
+def sort_rows(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, start: int = 0,
+              mapped_cols: set[int], head_rows: Sequence[list[Any]] = (), skip_rows: dict[int, str] | None = None,
+              pages: Sequence[int | None] | None = None
+              ) -> tuple[list[list[Any]], list[int], list[tuple[int | None, int, str, str]], list[int], int | None,
+                         list[int]]:
+    """The rows under a heading, from ``rows[start]``, sorted into caps and rows that are not caps (the
+    CSV/XLSX reader and the PDF reader share it): (data rows, their numbers, skipped rows as (page, number,
+    reason, first text), blank row numbers, index of the row that ended the table or None, indices of the
+    data rows).
+
+    Blank rows are spacers; a section label (one or two text cells, no figures), a repeated heading row
+    or a row in ``skip_rows`` (row number -> reason: hidden, struck through) is skipped with its reason;
+    a notes row, a totals row or a revision box ends the table, and so does, after a blank row, a row
+    that fills fewer than :data:`MIN_KNOWN` mapped columns. Section labels after the last cap are the
+    notes under the table and are not listed. ``pages``: the page of each row (PDF), else None."""
+    skip_rows = skip_rows or {}
+    data: list[list[Any]] = []
+    numbers: list[int] = []
+    skipped: list[tuple[int | None, int, str, str]] = []
+    skipped_at: list[int] = []
+    kept: list[int] = []
+    blanks: list[int] = []
+    end: int | None = None
+    i = start
+    n_rows = len(rows)
+    after_blank = False
+    while i < n_rows:
+        row = rows[i]
+        number = int(row_numbers[i])
+        page = pages[i] if pages is not None else None
+        n_skipped = len(skipped)
+        if _blank_row(row):
+            after_blank = True
+            if data:
+                blanks.append(number)
+            i += 1
+            continue
+        if not isinstance(row, list):
+            row = list(row)
+        first = _first_text(row)
+        if _notes_row(row) or _END_RE.match(first):
+            end = i
+            break
+        reason = skip_rows.get(number)
+        if reason is not None:
+            skipped.append((page, number, reason, first))
+        elif row in head_rows:
+            skipped.append((page, number, "the heading row repeated", first))
+        elif len(row) - _n_empty(row) <= 2 and not any(_is_figure(row[c]) for c in _filled(row)) and \
+                sum(1 for c in _filled(row) if c in mapped_cols) < 2:   # mark + case: a load-case row
+            skipped.append((page, number, "a section label or note (one or two text cells, no figures)", first))
+        elif after_blank and sum(1 for c in _filled(row) if c in mapped_cols) < MIN_KNOWN:
+            end = i                                   # after a blank row, something that is not a cap
+            break
+        else:
+            data.append(row)
+            numbers.append(number)
+            kept.append(i)
+        if len(skipped) > n_skipped:
+            skipped_at.append(i)
+        after_blank = False
+        i += 1
+    # text rows after the last cap are the notes under the table, not section labels
+    last = kept[-1] if kept else -1
+    skipped = [t for t, at in zip(skipped, skipped_at) if at < last or not t[2].startswith("a section label")]
+    return data, numbers, skipped, blanks, end, kept
+
+
+def join_heading_rows(rows: Sequence[Sequence[Any]], vocabulary: str = "schedule",
+                      mapping: HeadingMap | None = None) -> list[str] | None:
+    """Headings written over several rows (a group heading over labels, a units row) joined into one
+    heading row the way a sheet's heading block is (:func:`_heading_block`); None when no row of them
+    is a heading row. The PDF reader gives the lines of a heading block as rows of cells."""
+    head = find_heading_row(rows, vocabulary, mapping, limit=len(rows))
+    if head is None:
+        return None
+    return _heading_block(rows, head, vocabulary, mapping)[0]
 
 
 def _hide_duplicate_columns(headings: list[str], hidden: set[int], vocabulary: str, mapping: HeadingMap | None,
