@@ -820,14 +820,27 @@ def input_changes(before: dict[str, dict[str, tuple[Any, str]]],
     return out
 
 
+#: the schedule's fields as a person names them in a list of changes (the JSON keeps the field name)
+FIELD_WORDS: dict[str, str] = {
+    "piles": "piles", "pile_dia": "pile diameter", "pile_spacing": "pile spacing",
+    "cap_length": "cap length", "cap_width": "cap width", "cap_depth": "cap depth", "column": "column",
+    "n_ed": "NEd", "mx_ed": "MEd about x", "my_ed": "MEd about y", "concrete": "concrete", "fyk": "fyk",
+    "cover": "cover", "exposure": "exposure", "bars_x": "bars x", "bars_y": "bars y", "links": "links",
+    "embedment": "pile embedment", "pile_capacity": "pile capacity",
+    "stated_pile_load": "designer's pile load", "stated_tie_x": "designer's tie x",
+    "stated_tie_y": "designer's tie y", "stated_as_x": "designer's As x", "stated_as_y": "designer's As y",
+    "pile_type": "pile type", "bar_ends": "bar ends", "method": "method",
+}
+
+
 def change_text(c: dict[str, Any]) -> str:
-    """'cap_depth 900 → 1000 mm' (one change as a person reads it)."""
+    """'cap depth 900 → 1000 mm' (one change as a person reads it)."""
     if c["field"] == "cap":
         return f"cap {c['new']}"
     unit = f" {c['unit']}" if c.get("unit") else ""
     old = "–" if c["old"] is None else c["old"]
     new = "–" if c["new"] is None else c["new"]
-    return f"{c['field']} {old} → {new}{unit}"
+    return f"{FIELD_WORDS.get(c['field'], c['field'])} {old} → {new}{unit}"
 
 
 def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto") -> RevisionResult:

@@ -437,7 +437,7 @@ def test_html_shows_responses_replies_and_changes(tmp_path, sheet_a):
     main(["check", str(REV_B), "--previous", str(s), "-o", str(out), "-q"])
     html = out.read_text(encoding="utf-8")
     assert "see revised calc 7" in html and "calc 7 agreed" in html
-    assert "Inputs changed since the previous revision" in html and "cap_depth 650 → 1300 mm" in html
+    assert "Inputs changed since the previous revision" in html and "cap depth 650 → 1300 mm" in html
 
 
 # --------------------------------------------------------------------------------------------
@@ -480,6 +480,6 @@ def test_demo_prints_the_changes_between_a_and_b(tmp_path, capsys):
     assert main(["demo", "--out", str(tmp_path / "demo")]) == 0
     out = capsys.readouterr().out
     assert "Inputs changed between revisions A and B" in out
-    assert "PC10: cap_depth 650 → 1300 mm" in out and "PC4A: cap removed" in out
+    assert "PC10: cap depth 650 → 1300 mm" in out and "PC4A: cap removed" in out
     wb = openpyxl.load_workbook(tmp_path / "demo" / "harbourside-rev-B.xlsx")
     assert "Changes" in wb.sheetnames
