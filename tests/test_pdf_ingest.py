@@ -439,3 +439,72 @@ def test_regression_workbook_as_pdf(tmp_path):
     # the second sheet's strip read with it; the notes sheet is no table
     assert "Remarks" in s.unmapped
     assert "page 6: no schedule table, skipped" in s.notes
+
+
+# --------------------------------------------------------------------------------------------
+# Struck-through rows and cells, drawn by our own code
+# --------------------------------------------------------------------------------------------
+
+
+def _struck_pdf(path: Path, *, rules: bool) -> Path:
+    """An unruled schedule (or one with full-width rules between the rows, ``rules``) where PC2 is
+    struck through in every cell, PC3 in its remark only, and PC4's remark is underlined: a strike
+    is a short line through the middle of each word's figures, as a spreadsheet program prints it."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+    from reportlab.pdfgen import canvas
+
+    size, font = 10.0, "Helvetica"
+    xs = [50, 110, 170, 240, 310, 380]
+    head = ["Mark", "Piles", "Pile dia (mm)", "Cap L (mm)", "Cap D (mm)", "Remarks"]
+    rows = [["PC1", "4", "600", "2700", "1200", ""],
+            ["PC2", "4", "600", "2700", "1200", "deleted"],
+            ["PC3", "2", "600", "2700", "1000", "was PC3A"],
+            ["PC4", "1", "900", "1500", "1200", "check"]]
+    c = canvas.Canvas(str(path), pagesize=(595, 842))
+    c.setFont(font, size)
+    y = 780.0
+    for x, h in zip(xs, head):
+        c.drawString(x, y, h)
+    for k, row in enumerate(rows):
+        y -= 18.0
+        if rules:
+            c.setLineWidth(0.5)
+            c.line(45, y + 13.0, 450, y + 13.0)          # between the rows, above the text
+        for col, (x, v) in enumerate(zip(xs, row)):
+            if not v:
+                continue
+            c.drawString(x, y, v)
+            w = stringWidth(v, font, size)
+            mark = row[0]
+            if mark == "PC2" or (mark == "PC3" and col == 5):
+                c.setLineWidth(0.7)
+                c.line(x, y + 0.28 * size, x + w, y + 0.28 * size)     # through the figures
+            if mark == "PC4" and col == 5:
+                c.setLineWidth(0.7)
+                c.line(x, y - 0.12 * size, x + w, y - 0.12 * size)     # under the baseline
+    if rules:
+        c.setLineWidth(0.5)
+        c.line(45, y - 5.0, 450, y - 5.0)                # the table's bottom rule
+    c.showPage()
+    c.save()
+    return path
+
+
+@pytest.mark.parametrize("rules", [False, True], ids=["unruled", "rules_between_rows"])
+def test_struck_rows_are_skipped_and_struck_cells_noted(tmp_path, rules):
+    from checker.ingest.schedule import read_schedule
+
+    pdf = _struck_pdf(tmp_path / "struck.pdf", rules=rules)
+    tables, notes = read_pdf_tables(pdf)
+    assert len(tables) == 1
+    t = tables[0]
+    assert [r[0] for r in t.rows] == ["PC1", "PC3", "PC4"]
+    assert t.skipped == [(1, 2, "struck through (read as deleted)", "PC2")]
+    assert "page 1, row 2 skipped: struck through (read as deleted) ('PC2')" in notes
+    # a struck remark: the row is read as written, with a note; an underline is no strike
+    assert "page 1, row 3: 1 cell(s) struck through; read as written" in notes
+    assert not any("row 4" in n and "struck" in n for n in notes)
+    assert [r[5] for r in t.rows] == ["", "was PC3A", "check"]
+    s = read_schedule(pdf)
+    assert {k["text"]: k["reason"] for k in s.skipped} == {"PC2": "struck through (read as deleted)"}
+    assert [k["source"]["row"] for k in s.skipped] == [2]
