@@ -356,10 +356,12 @@ def test_regression_workbook_as_pdf(tmp_path):
     What the PDF holds differs from the workbook: hidden rows and columns are not printed (PC4 and
     the superseded loads are absent), the formula of PC6's d is printed calculated (1100), each
     sheet is wider than the paper and printed in strips (columns A-H on one page, the next columns
-    on the next, at the same heights), and the text of a cell is clipped at the next filled cell
-    (on the second sheet 'Pile cap L x W x D' prints as 'Pile cap L' and '2700 x 2700 x 1200' as
-    '2700 x 270', so the caps of that sheet cannot be checked from the PDF: they are rejected with
-    their marks)."""
+    on the next, at the same heights), the struck-through row PC5 is printed with strike lines
+    through its words (skipped as deleted, as the workbook reader does), and the text of a cell is
+    clipped at the next filled cell (on the second sheet 'Pile cap L x W x D' prints as 'Pile cap L'
+    and '2700 x 2700 x 1200' as '2700 x 270' touching the next column's '600': the word is cut at
+    the column's edge so the other columns are read, but the caps of that sheet cannot be checked
+    from the PDF: they are rejected with their marks and the cap-size error)."""
     if pdfgen.soffice() is None:
         pytest.skip("LibreOffice (soffice/libreoffice) is not on PATH: the PDF cannot be made; "
                     "install libreoffice-calc-nogui (.ci/system-packages.sh does it in CI)")
@@ -384,7 +386,13 @@ def test_regression_workbook_as_pdf(tmp_path):
     assert not (caps & rejected)
     printed = {"PC1", "PC2", "PC3", "PC5", "PC6", "PC7", "PC10", "PC11", "PC12"}   # PC4 is hidden
     assert caps | rejected | {t for t in skipped if t.startswith("PC")} == printed
-    assert {"PC1", "PC2", "PC3", "PC6"} <= caps
+    assert caps == {"PC1", "PC2", "PC3", "PC6"}
+    # the struck-through row: skipped as deleted with its page and row, as the workbook reader does
+    assert skipped["PC5"] == "struck through (read as deleted)"
+    pc5 = next(k for k in s.skipped if k["text"] == "PC5")
+    assert (pc5["source"]["page"], pc5["source"]["row"]) == (1, 6)
+    assert {k["reason"] for k in x.skipped if k["text"] == "PC5"} == {skipped["PC5"]}
+    assert not any("struck" in n and "read as written" in n for n in s.notes)
     # the multi-row headings joined as in the workbook, the strips joined: the same figures
     px, pp = x.caps.set_index("mark"), s.caps.set_index("mark")
     fields = [c for c in x.caps.columns if not c.startswith("src_") and c != "mark"]
@@ -407,9 +415,96 @@ def test_regression_workbook_as_pdf(tmp_path):
     assert by["PC7"]["errors"] == ["cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
                                    "200 to 5,000 mm; did you mean m?"]
     assert by["PC7"]["source"] == {"file": str(pdf), "sheet": None, "page": 1, "row": 8}
+    cut = {"PC10": "2700 x 270", "PC11": "2700 x 900", "PC12": "1500 x 150"}
     for mark in ("PC10", "PC11", "PC12"):
         assert by[mark]["source"]["page"] == 4
-        assert any(e.startswith("cap_length (column 'Pile cap L mm')") for e in by[mark]["errors"]), mark
+        assert by[mark]["errors"][0].startswith(f"cap_length (column 'Pile cap L mm'): '{cut[mark]}':"), mark
+        row = by[mark]["source"]["row"]
+        assert any(n.startswith(f"page 4, row {row}: '{cut[mark]}' was cut where it meets the 'Cap colum mm' "
+                                f"column") for n in s.notes), mark
+    assert not any("runs across" in n and "page 4" in n for n in s.notes)
+    # the cells touching the cut cap size are read in their own columns (the clipped headings of that
+    # sheet, 'Cap colum', 'ULS axial l', 'Cap concre', are not mapped: they are reported unused)
+    from checker.ingest.pdf import read_pdf_tables
+
+    tables, _ = read_pdf_tables(pdf)
+    second = next(t for t in tables if t.headings[0] == "Cap ref")
+    cells = {r[0]: dict(zip(second.headings, r)) for r in second.rows}
+    assert {m: (c["Pile cap L mm"], c["Cap colum mm"], c["ULS axial l kN"], c["Cap concre"], c["Cap cover mm"],
+                c["Bottom bars Y"]) for m, c in cells.items()} == {
+        "PC10": ("2700 x 270", "600", "4,500", "C32/40", "75", "14Y12"),
+        "PC11": ("2700 x 900", "600", "1,850", "C32/40", "75", "H16@200"),
+        "PC12": ("1500 x 150", "600", "1,200", "C32/40", "75", "8H20")}
+    assert {"Cap colum mm", "ULS axial l kN", "Cap concre"} <= set(s.unmapped)
     # the second sheet's strip read with it; the notes sheet is no table
     assert "Remarks" in s.unmapped
     assert "page 6: no schedule table, skipped" in s.notes
+
+
+# --------------------------------------------------------------------------------------------
+# Struck-through rows and cells, drawn by our own code
+# --------------------------------------------------------------------------------------------
+
+
+def _struck_pdf(path: Path, *, rules: bool) -> Path:
+    """An unruled schedule (or one with full-width rules between the rows, ``rules``) where PC2 is
+    struck through in every cell, PC3 in its remark only, and PC4's remark is underlined: a strike
+    is a short line through the middle of each word's figures, as a spreadsheet program prints it."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+    from reportlab.pdfgen import canvas
+
+    size, font = 10.0, "Helvetica"
+    xs = [50, 110, 170, 240, 310, 380]
+    head = ["Mark", "Piles", "Pile dia (mm)", "Cap L (mm)", "Cap D (mm)", "Remarks"]
+    rows = [["PC1", "4", "600", "2700", "1200", ""],
+            ["PC2", "4", "600", "2700", "1200", "deleted"],
+            ["PC3", "2", "600", "2700", "1000", "was PC3A"],
+            ["PC4", "1", "900", "1500", "1200", "check"]]
+    c = canvas.Canvas(str(path), pagesize=(595, 842))
+    c.setFont(font, size)
+    y = 780.0
+    for x, h in zip(xs, head):
+        c.drawString(x, y, h)
+    for k, row in enumerate(rows):
+        y -= 18.0
+        if rules:
+            c.setLineWidth(0.5)
+            c.line(45, y + 13.0, 450, y + 13.0)          # between the rows, above the text
+        for col, (x, v) in enumerate(zip(xs, row)):
+            if not v:
+                continue
+            c.drawString(x, y, v)
+            w = stringWidth(v, font, size)
+            mark = row[0]
+            if mark == "PC2" or (mark == "PC3" and col == 5):
+                c.setLineWidth(0.7)
+                c.line(x, y + 0.28 * size, x + w, y + 0.28 * size)     # through the figures
+            if mark == "PC4" and col == 5:
+                c.setLineWidth(0.7)
+                c.line(x, y - 0.12 * size, x + w, y - 0.12 * size)     # under the baseline
+    if rules:
+        c.setLineWidth(0.5)
+        c.line(45, y - 5.0, 450, y - 5.0)                # the table's bottom rule
+    c.showPage()
+    c.save()
+    return path
+
+
+@pytest.mark.parametrize("rules", [False, True], ids=["unruled", "rules_between_rows"])
+def test_struck_rows_are_skipped_and_struck_cells_noted(tmp_path, rules):
+    from checker.ingest.schedule import read_schedule
+
+    pdf = _struck_pdf(tmp_path / "struck.pdf", rules=rules)
+    tables, notes = read_pdf_tables(pdf)
+    assert len(tables) == 1
+    t = tables[0]
+    assert [r[0] for r in t.rows] == ["PC1", "PC3", "PC4"]
+    assert t.skipped == [(1, 2, "struck through (read as deleted)", "PC2")]
+    assert "page 1, row 2 skipped: struck through (read as deleted) ('PC2')" in notes
+    # a struck remark: the row is read as written, with a note; an underline is no strike
+    assert "page 1, row 3: 1 cell(s) struck through; read as written" in notes
+    assert not any("row 4" in n and "struck" in n for n in notes)
+    assert [r[5] for r in t.rows] == ["", "was PC3A", "check"]
+    s = read_schedule(pdf)
+    assert {k["text"]: k["reason"] for k in s.skipped} == {"PC2": "struck through (read as deleted)"}
+    assert [k["source"]["row"] for k in s.skipped] == [2]

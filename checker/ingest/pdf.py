@@ -37,7 +37,14 @@ from typing import Callable
 
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf_model import Layout, PageTable
-from checker.ingest.pdf_text import build_lines, glyphs_from_chars, heading_matcher, page_content, text_direction
+from checker.ingest.pdf_text import (
+    build_lines,
+    glyphs_from_chars,
+    heading_matcher,
+    mark_struck,
+    page_content,
+    text_direction,
+)
 from checker.ingest.raw import RawTable
 
 STRATEGIES = ("auto", "lines", "text")
@@ -109,6 +116,7 @@ def _read(name: str, strategy: str, max_pages: int | None,
         left_at = 0                     # index of its first row in ``current.rows``
         current: RawTable | None = None
         started: dict[int, int] = {}    # id(RawTable) -> page of its heading row
+        struck: dict[int, list[tuple[int, int]]] = {}   # id(RawTable) -> per row (cells struck, filled)
         for page_no, page in enumerate(pages, start=1):
             try:
                 page_tables, has_text, page_note = _read_page(page, page_no, strategy,
@@ -136,7 +144,7 @@ def _read(name: str, strategy: str, max_pages: int | None,
             if page_note:
                 notes.append(page_note)
             if page_tables and page_tables[0].side and current is not None and left is not None:
-                _add_strip(current, page_tables[0], left_at, page_no, notes)
+                _add_strip(current, page_tables[0], left_at, page_no, notes, struck[id(current)])
                 continue
             left = None
             if not page_tables:
@@ -162,6 +170,7 @@ def _read(name: str, strategy: str, max_pages: int | None,
                                        rows=[], pages=[], row_numbers=[])
                     tables.append(current)
                     started[id(current)] = page_no
+                    struck[id(current)] = []
                 width = len(current.headings)
                 if pt.headings is not None and pt.head_tops and pt.rows:
                     left, left_at = pt, len(current.rows)
@@ -170,6 +179,8 @@ def _read(name: str, strategy: str, max_pages: int | None,
                 current.rows.extend(r + [""] * (width - len(r)) for r in pt.rows)
                 current.pages.extend([page_no] * len(pt.rows))
                 current.row_numbers.extend(pt.row_numbers)
+                struck[id(current)].extend(pt.struck if len(pt.struck) == len(pt.rows)
+                                           else [(0, 0)] * len(pt.rows))
                 prev = pt.layout
     finally:
         try:
@@ -200,16 +211,17 @@ def _read(name: str, strategy: str, max_pages: int | None,
             f"method (--pdf-strategy lines or text), or give the schedule as CSV/XLSX."
             + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
     for t in tables:
-        _sort_rows(t, notes)
+        _sort_rows(t, notes, struck[id(t)])
         if not t.rows and not t.skipped:
             notes.append(f"page {started[id(t)]}: the table headed "
                          f"{', '.join(repr(h) for h in t.headings[:3])} ... has no rows")
     return tables, notes
 
 
-def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: list[str]) -> None:
+def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: list[str],
+               struck: list[tuple[int, int]]) -> None:
     """The columns of ``strip`` (a page printed to the right of the table's first page) joined onto
-    the rows they share heights with."""
+    the rows they share heights with (and their struck-through cells counted with the row's)."""
     first_page = table.pages[at] if at < len(table.pages) else page_no
     table.headings.extend(strip.headings)
     width = len(table.headings)
@@ -219,16 +231,25 @@ def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: 
     for k, cells in enumerate(strip.rows):
         if at + k < len(table.rows):
             table.rows[at + k][width - len(cells):] = cells
+            if k < len(strip.struck) and at + k < len(struck):
+                a, b = struck[at + k]
+                c, d = strip.struck[k]
+                struck[at + k] = (a + c, b + d)
     notes.extend(strip.notes)
     notes.append(f"page {page_no}: the columns {', '.join(repr(h) for h in strip.headings[:4])}"
                  f"{' ...' if len(strip.headings) > 4 else ''} printed to the right of page "
                  f"{first_page}; read with its rows (same heights)")
 
 
-def _sort_rows(table: RawTable, notes: list[str]) -> None:
+STRUCK = "struck through (read as deleted)"     # the spreadsheet reader's reason (tabular.py)
+
+
+def _sort_rows(table: RawTable, notes: list[str], struck: list[tuple[int, int]] | None = None) -> None:
     """Section labels, repeated headings, totals and notes rows sorted out of the caps as the
     spreadsheet reader does it (``tabular.sort_rows``): skipped with a named reason, or ending the
-    table."""
+    table. ``struck``: per row (cells struck through, cells filled); a row whose filled cells are all
+    struck through is skipped as deleted, one with some struck cells is read as written, with a note
+    (as the spreadsheet reader does with a struck-through font)."""
     try:
         from checker.ingest.headings import match_headings
         from checker.ingest.tabular import sort_rows
@@ -237,10 +258,24 @@ def _sort_rows(table: RawTable, notes: list[str]) -> None:
     if not table.rows:
         return
     mapped = {m.column for m in match_headings(table.headings).matches}
-    data, numbers, skipped, _, end, kept = sort_rows(
-        table.rows, table.row_numbers, mapped_cols=mapped, pages=table.pages,
-        head_rows=[list(table.headings)])
+    # sort_rows knows a row by its number; a PDF's rows are numbered per page, so they are given
+    # their index in the table here and their numbers back afterwards
+    index = list(range(len(table.rows)))
+    skip: dict[int, str] = {}
+    if struck is not None and len(struck) == len(table.rows):
+        skip = {k: STRUCK for k, (n, filled) in enumerate(struck) if n and n == filled}
+    data, at, skipped, _, end, kept = sort_rows(
+        table.rows, index, mapped_cols=mapped, pages=table.pages,
+        head_rows=[list(table.headings)], skip_rows=skip)
+    numbers = [table.row_numbers[k] for k in at]
+    skipped = [(page, table.row_numbers[k], reason, first) for page, k, reason, first in skipped]
     pages = [table.pages[k] for k in kept]
+    if struck is not None and len(struck) == len(table.rows):
+        for k in kept:
+            n = struck[k][0]
+            if n:
+                notes.append(f"page {table.pages[k]}, row {table.row_numbers[k]}: {n} cell(s) struck "
+                             f"through; read as written")
     for page, number, reason, first in skipped:
         notes.append(f"page {page}, row {number} skipped: {reason}" + (f" ({first!r})" if first else ""))
     if end is not None:
@@ -291,13 +326,17 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
     chars = [c for c in content.chars if c[2] > 0.0 and c[1] < w and c[4] > 0.0 and c[3] < h]
     glyphs = glyphs_from_chars(chars, rotation, w, h)
     lines, _ = build_lines(glyphs)
+    # strike-through lines (a row or cell struck through: read as deleted) are no table rules
+    hrules, vrules = _rules(content, rotation)
+    hrules = mark_struck(lines, hrules)
+    if strategy != "auto":
+        hrules, vrules = [], []
     if left is not None and rotation == 0 and strategy != "lines":
         from checker.ingest.pdf_unruled import side_table
 
         side = side_table(lines, page_no, left, is_mark=_is_mark)
         if side is not None:
             return [side], True, None
-    hrules, vrules = _rules(content, rotation) if strategy == "auto" else ([], [])
     if prev is not None and prev.rotation != rotation:
         prev = None
     found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules, prev=prev,

@@ -57,3 +57,5 @@ class PageTable:
     row_tops: list[list[float]] = field(default_factory=list)
     head_tops: list[float] = field(default_factory=list)
     side: bool = False               # the columns to the right of the table on the page before
+    #: per row, (cells struck through, cells filled); empty when the reader does not look for strikes
+    struck: list[tuple[int, int]] = field(default_factory=list)

@@ -7,6 +7,7 @@ pdfplumber is only used by the callers (``pdf.py``, ``pdf_ruled.py``, ``pdf_unru
 
 from __future__ import annotations
 
+import bisect
 import re
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Sequence
@@ -24,10 +25,12 @@ class Glyph:
     top: float
     bottom: float
     size: float
+    struck: bool = False         # a strike-through line crosses it (see ``mark_struck``)
 
     @property
     def mid_y(self) -> float:
         return (self.top + self.bottom) / 2.0
+
 
 @dataclass(slots=True)
 class Word:
@@ -285,6 +288,60 @@ def _words_of(grp: list[Glyph], explicit_blanks: bool) -> list[Word]:
     if glyphs:
         words.append(_word_from(glyphs, spaces[:-1] + [False]))
     return words
+
+
+#: where a strike-through line crosses a glyph's box, as fractions of the box height from its top.
+#: A program draws the line through the middle of the small letters and figures, about a quarter of
+#: an em above the baseline; the box pdfminer gives a glyph runs from the font's ascent to its descent
+#: (or to the baseline when the font declares no descent), so the line falls between about 45 % and
+#: 75 % of the box. An underline lies at or below the baseline (beyond 85 %); a table rule lies between
+#: the rows, outside the boxes.
+STRIKE_BAND = (0.30, 0.85)
+
+
+def mark_struck(lines: Sequence[Line], hrules: Sequence[tuple[float, float, float]]
+                ) -> list[tuple[float, float, float]]:
+    """Mark the glyphs that a strike-through line crosses (``Glyph.struck``) and return the
+    horizontal rules that are not strike lines (the table's rules).
+
+    A horizontal segment (x0, x1, y) is a strike line when it crosses the glyphs of one text line
+    inside :data:`STRIKE_BAND` of their height and runs mostly through text: the glyphs it crosses
+    cover at least half its length (a spreadsheet program draws one short segment per word or cell
+    text; a rule runs the width of the table, between the rows). ``lines`` sorted by top, as
+    ``build_lines`` returns them."""
+    if not hrules or not lines:
+        return list(hrules)
+    tops = [ln.top for ln in lines]
+    tallest = max(ln.bottom - ln.top for ln in lines)
+    lo_f, hi_f = STRIKE_BAND
+    kept: list[tuple[float, float, float]] = []
+    for seg in hrules:
+        x0, x1, y = seg
+        length = x1 - x0
+        hit: list[Glyph] = []
+        if length > 0.5:
+            k = bisect.bisect_left(tops, y - tallest)
+            while k < len(lines) and lines[k].top <= y:
+                ln = lines[k]
+                k += 1
+                if not (ln.top < y < ln.bottom) or ln.x1 < x0 or ln.x0 > x1:
+                    continue
+                for w in ln.words:
+                    if w.x1 < x0 or w.x0 > x1:
+                        continue
+                    for g in w.glyphs:
+                        h = g.bottom - g.top
+                        mid = (g.x0 + g.x1) / 2.0
+                        if (x0 - 0.5 <= mid <= x1 + 0.5 and h > 0
+                                and g.top + lo_f * h <= y <= g.top + hi_f * h):
+                            hit.append(g)
+        covered = sum(min(g.x1, x1) - max(g.x0, x0) for g in hit)
+        if hit and covered >= 0.5 * length:
+            for g in hit:
+                g.struck = True
+        else:
+            kept.append(seg)
+    return kept
 
 
 def _median(values: list[float]) -> float:

@@ -394,17 +394,50 @@ def _nearest_boundary(w: Word, e: float, tol: float = 0.75) -> int | None:
     return best
 
 
+def _clipped(w: Word, gi: int) -> bool:
+    """The glyph before ``gi`` runs under glyph ``gi``: the text on the left was clipped there (a
+    spreadsheet program prints a cell's text only up to the next filled cell, and the glyph it cut
+    keeps its full width in the text layer)."""
+    g = w.glyphs
+    return g[gi - 1].x1 > g[gi].x0 + 0.5
+
+
+def _cut_at(w: Word, gi: int) -> float:
+    """Where the word is cut before glyph ``gi``: between the glyphs, or where glyph ``gi`` starts
+    when the glyph before runs under it."""
+    g = w.glyphs
+    return g[gi].x0 if _clipped(w, gi) else (g[gi - 1].x1 + g[gi].x0) / 2.0
+
+
+def _clip_boundary(w: Word, e: float, tol: float = 0.75) -> int | None:
+    """The glyph of ``w`` that starts the next column's text at the column's left edge ``e`` when the
+    text on the left was clipped there (its last glyph runs under the first glyph of the next cell):
+    the glyphs before it start left of the edge, those from it on start at or right of it, and no
+    blank separates them (a blank would be a space inside one cell's text)."""
+    g = w.glyphs
+    for i in range(1, len(g)):
+        if abs(g[i].x0 - e) > tol:
+            continue
+        if w.spaces_after[i - 1] or not _clipped(w, i):
+            return None
+        if (g[i - 1].x0 + g[i - 1].x1) / 2.0 >= e or any(h.x0 < e - tol for h in g[i:]):
+            return None
+        return i
+    return None
+
+
 def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
     """Column edges: the default per boundary, and per line the words split where cells touch.
 
     Returns (edges, splits) where ``edges[j]`` is the default edge between column j and j+1 and
-    ``splits[(line index, word index)]`` lists (boundary j, glyph index) to split that word at.
+    ``splits[(line index, word index)]`` lists (boundary j, glyph index, clipped) to split that word
+    at, ``clipped`` when the text on the left was cut there (see ``_clipped``).
     """
     cells, regs = geo.cells, geo.regs
     nb = len(regs)
     edges: list[float] = [0.0] * nb
     line_edges: list[list[float | None]] = [[None] * nb for _ in body]
-    splits: dict[tuple[int, int], list[tuple[int, int]]] = {}
+    splits: dict[tuple[int, int], list[tuple[int, int, bool]]] = {}
     for j, (lo, hi) in enumerate(regs):
         mid = (lo + hi) / 2.0
         vr = [x for x in vrule_xs if lo - 2.0 <= x <= hi + 2.0]
@@ -420,6 +453,8 @@ def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
                     if not (w.x0 < e - 0.5 and w.x1 > e + 0.5):
                         continue
                     gi = _nearest_boundary(w, e)
+                    if gi is None and side == "left":
+                        gi = _clip_boundary(w, e)
                     if gi is None:
                         continue
                     if side == "left":
@@ -451,8 +486,7 @@ def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
                 ok = sum(others) >= 0.5 * len(others)
             else:       # no other row to learn from: two rows agreeing, or one split exactly there
                 ok = len(cand) >= 2 or all(
-                    abs((body[li].words[wi].glyphs[gi - 1].x1 + body[li].words[wi].glyphs[gi].x0)
-                        / 2.0 - e) <= 0.35 for li, (wi, gi) in cand.items())
+                    abs(_cut_at(body[li].words[wi], gi) - e) <= 0.35 for li, (wi, gi) in cand.items())
             if ok:
                 merged, merge_e = cand, e
                 break
@@ -478,8 +512,8 @@ def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
             edges[j] = mid
         for li, (wi, gi) in merged.items():
             w = body[li].words[wi]
-            line_edges[li][j] = (w.glyphs[gi - 1].x1 + w.glyphs[gi].x0) / 2.0
-            splits.setdefault((li, wi), []).append((j, gi))
+            line_edges[li][j] = _cut_at(w, gi)
+            splits.setdefault((li, wi), []).append((j, gi, _clipped(w, gi)))
     return edges, line_edges, splits
 
 
@@ -573,7 +607,10 @@ def _joined_headings(geo: _Geometry, edges: list[float]) -> list[str] | None:
 
 
 def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs: list[float],
-              page_no: int, first_row_number: int = 1) -> tuple[list[list[str]], list[str]]:
+              page_no: int, first_row_number: int = 1
+              ) -> tuple[list[list[str]], list[str], list[tuple[int, int]]]:
+    """(rows of cell texts, notes, per row (cells struck through, cells filled)). A cell is struck
+    through when a strike line crosses most of its glyphs (``Glyph.struck``)."""
     ncols = len(geo.cells)
     edges, line_edges, splits = _edges(body, geo, vrule_xs)
     joined = _joined_headings(geo, edges)
@@ -585,8 +622,11 @@ def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs
     headings = [c.full_text for c in geo.cells]
     out_rows: list[list[str]] = []
     notes: list[str] = []
+    struck: list[tuple[int, int]] = []
     for r, row_lines in enumerate(rows, start=first_row_number):
         parts: list[list[str]] = [[] for _ in range(ncols)]
+        n_glyphs = [0] * ncols
+        n_struck = [0] * ncols
         for ln in row_lines:
             li = index[id(ln)]
             le = [edges[j] if line_edges[li][j] is None else line_edges[li][j]
@@ -597,9 +637,16 @@ def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs
                 if sp:
                     pieces = []
                     rest, offset = w, 0
-                    for _, gi in sorted(sp, key=lambda t: t[1]):
+                    for j, gi, clipped in sorted(sp, key=lambda t: t[1]):
                         left, rest = rest.split_at(gi - offset)
                         offset = gi
+                        if clipped:     # the last glyph drawn under the next cell's text
+                            left.x1 = min(left.x1, rest.x0)
+                            notes.append(
+                                f"page {page_no}, row {r}: '{left.text}' was cut where it meets the "
+                                f"'{headings[j + 1]}' column (the program that made the PDF printed "
+                                f"the cell's text only up to the next filled cell); the rest of it is "
+                                f"not in the PDF")
                         pieces.append(left)
                     pieces.append(rest)
                 for p in pieces:
@@ -617,8 +664,12 @@ def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs
                             f"'{headings[min(col, other)]}' and '{headings[max(col, other)]}' "
                             f"columns; read as '{headings[col]}'")
                     parts[col].append(p.text)
+                    n_glyphs[col] += len(p.glyphs)
+                    n_struck[col] += sum(1 for g in p.glyphs if g.struck)
         out_rows.append([" ".join(x) for x in parts])
-    return out_rows, notes
+        filled = [c for c in range(ncols) if n_glyphs[c]]
+        struck.append((sum(1 for c in filled if n_struck[c] >= 0.6 * n_glyphs[c]), len(filled)))
+    return out_rows, notes, struck
 
 
 def _table_rules(hrules: Sequence[HRule], geo: _Geometry, below: float) -> list[float]:
@@ -643,20 +694,21 @@ def _build(body: list[Line], geo: _Geometry, headings: list[str] | None, layout:
         layout = Layout(cells=layout.cells, headings=list(layout.headings), ruled=layout.ruled,
                         rotation=layout.rotation, pitch=_median(steps))
     vx = _vrule_xs(vrules, *band)
-    cells, notes = _cells_of(body, rows, geo, vx, page_no)
+    cells, notes, struck = _cells_of(body, rows, geo, vx, page_no)
     if headings is not None:
         headings = [c.full_text for c in geo.cells]
         layout.headings = headings
-    keep, numbers, tops = [], [], []
-    for r, row_lines in zip(cells, rows):
+    keep, numbers, tops, strikes = [], [], [], []
+    for r, row_lines, st in zip(cells, rows, struck):
         if any(c for c in r):
             keep.append(r)
             numbers.append(len(keep))
             tops.append([ln.top for ln in row_lines])
+            strikes.append(st)
     if vx or table_rules:
         method = "rules"
     return PageTable(page=page_no, headings=headings, layout=layout, rows=keep,
-                     row_numbers=numbers, method=method, notes=notes, row_tops=tops)
+                     row_numbers=numbers, method=method, notes=notes, row_tops=tops, struck=strikes)
 
 
 def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[str], bool], *,
@@ -761,12 +813,13 @@ def side_table(lines: Sequence[Line], page_no: int, left: PageTable, *,
     for ln, k in zip(body, owner):
         groups[k].append(ln)
     present = [g for g in groups if g]
-    cells_text, notes = _cells_of(body, present, geo, [], page_no)
-    it = iter(cells_text)
-    rows = [next(it) if g else [""] * len(cells) for g in groups]
+    cells_text, notes, struck = _cells_of(body, present, geo, [], page_no)
+    it = iter(zip(cells_text, struck))
+    got = [next(it) if g else ([""] * len(cells), (0, 0)) for g in groups]
+    rows = [r for r, _ in got]
     headings = [c.full_text for c in geo.cells]
     layout = Layout(cells=[(c.x0, c.x1) for c in cells], headings=headings, ruled=False)
     return PageTable(page=page_no, headings=headings, layout=layout, rows=rows,
                      row_numbers=list(left.row_numbers), method="text", notes=notes,
                      row_tops=[list(ts) for ts in left.row_tops], head_tops=list(left.head_tops),
-                     side=True)
+                     side=True, struck=[st for _, st in got])
