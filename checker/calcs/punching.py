@@ -862,3 +862,35 @@ def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y,
             "reaction": pick(R_own), "dv_col": pick(dv_col), "dv_sw": pick(dv_sw), "dv_piles": pick(dv_p), "u": pick(u),
             "u_circle": pick(per["u_circle"]), "rho": pick(rho), "near": pick(per["near"]),
             "legs": pick(per["legs"]), "util": pick(util), "x": pick(X), "y": pick(Y)}
+
+
+def k_moment_column(c1, c2, column_round):
+    """EN 1992-1-1:2004 6.4.3(3), Table 6.1
+
+    k of :func:`k_moment` for a rectangular column, 0.6 for a circular one (Eq. (6.42)) [M].
+
+    Args:
+        c1: column side parallel to the eccentricity [mm]
+        c2: column side perpendicular to it [mm]
+        column_round: circular column [-]
+
+    Returns:
+        k [-]
+    """
+    return np.where(column_round, 0.6, k_moment(c1, c2))
+
+
+def load_eccentricity(m_ed, v_ed):
+    """EN 1992-1-1:2004 6.4.3(3)
+
+    Eccentricity of the column load, e = |MEd|/VEd (inf or NaN where VEd = 0).
+
+    Args:
+        m_ed: moment [N·mm]
+        v_ed: column load [N]
+
+    Returns:
+        e [mm]
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.abs(m_ed) / v_ed
