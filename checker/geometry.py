@@ -11,8 +11,12 @@ Standard layouts (product brief), spacing s:
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 import pandas as pd
+
+from checker.calcs import reactions as rea
 
 MIN_WIDTH = 6
 
@@ -30,6 +34,26 @@ _UNIT_X[4, :4], _UNIT_Y[4, :4] = [-0.5, 0.5, -0.5, 0.5], [-0.5, -0.5, 0.5, 0.5]
 _UNIT_X[5, :5] = [-1 / _R2, 1 / _R2, -1 / _R2, 1 / _R2, 0.0]
 _UNIT_Y[5, :5] = [-1 / _R2, -1 / _R2, 1 / _R2, 1 / _R2, 0.0]
 _UNIT_X[6, :6], _UNIT_Y[6, :6] = [-1.0, 0.0, 1.0, -1.0, 0.0, 1.0], [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5]
+
+
+@dataclass(frozen=True)
+class PileGroup:
+    """The pile arrays of a schedule, travelling together.
+
+    ``X, Y``: pile centres relative to the column centre, (n, m) NaN-padded [mm]; ``mask``: real
+    piles (n, m); ``terms``: the group's centroid and second moments
+    (:func:`checker.calcs.reactions.group_terms`), computed once.
+    """
+
+    X: np.ndarray
+    Y: np.ndarray
+    mask: np.ndarray
+    terms: tuple
+
+    @classmethod
+    def of(cls, X: np.ndarray, Y: np.ndarray, mask: np.ndarray) -> PileGroup:
+        """The group of pile arrays ``X, Y, mask`` with its terms."""
+        return cls(X, Y, mask, rea.group_terms(X, Y, mask))
 
 
 def standard_layout(piles, spacing):

@@ -168,7 +168,7 @@ class _Engine:
         return code, util
 
     def _run(self, frame: pd.DataFrame, parent: np.ndarray):
-        from checker.ruleset.derive import _derive_arrays
+        from checker.ruleset.derive import derive_arrays
         from checker.ruleset.evaluate import evaluate_rule, numeric_params
 
         self.calls += 1
@@ -180,7 +180,7 @@ class _Engine:
         with np.errstate(all="ignore"):
             if self.cases is None or not len(self.cases):
                 X, Y, M = (np.asfortranarray(a[parent]) for a in (self.X, self.Y, self.mask))
-                d = _derive_arrays(frame, X, Y, M, dict(self.params))
+                d = derive_arrays(frame, X, Y, M, dict(self.params))
                 env = dict(d.q)
                 env.update(numeric_params(self.params))
                 methods = frame["method"].to_numpy(dtype=object) if "method" in frame else None
@@ -193,7 +193,7 @@ class _Engine:
 
     def _run_cases(self, frame, parent, code, util):
         from checker.ruleset.cases import evaluate_cases, expand
-        from checker.ruleset.derive import _derive_arrays
+        from checker.ruleset.derive import derive_arrays
         from checker.ruleset.evaluate import numeric_params
 
         cnt = self._case_counts[parent]
@@ -203,7 +203,7 @@ class _Engine:
         ex = expand(frame, cases)
         rows = parent[ex.cap]
         X, Y, M = (np.asfortranarray(a[rows]) for a in (self.X, self.Y, self.mask))
-        d = _derive_arrays(ex.frame, X, Y, M, dict(self.params))
+        d = derive_arrays(ex.frame, X, Y, M, dict(self.params))
         env = dict(d.q)
         env.update(numeric_params(self.params))
         f, _gov = evaluate_cases(self.ruleset, env, ex, frame, self.params, render=False)

@@ -396,3 +396,37 @@ def stress_limit_crack_width(wmax, sr_max, alpha_e, rho, fct_eff, kt=0.4, es=200
         e = np.asarray(wmax, dtype=float) * es / sr_max
         b = kt * np.asarray(fct_eff, dtype=float) / rho * (1.0 + alpha_e * rho)
     return np.minimum(e + b, e / 0.6)
+
+
+def centres_are_close(centres, c, phi):
+    """EN 1992-1-1:2004 7.3.4(3)
+
+    True where the bar centres are within :func:`close_centres_limit` (Eq. (7.11) applies), with a
+    relative allowance of 1e-9 so that centres of exactly 5(c + phi/2) count as close.
+
+    Args:
+        centres: bar centres [mm]
+        c: cover to the bars [mm]
+        phi: bar diameter [mm]
+
+    Returns:
+        close [-]
+    """
+    return centres <= close_centres_limit(c, phi) * (1 + 1e-9)
+
+
+def quasi_permanent_stress(sigma, is_sls, qp_ratio):
+    """Common practice: steel stress under the quasi-permanent load for the crack checks
+
+    An SLS load case's own stress; on an ULS row the ratio of quasi-permanent to ULS load times
+    the ULS stress (NaN unless the profile sets the ratio) [CP].
+
+    Args:
+        sigma: steel stress of the row's load case [MPa]
+        is_sls: the row is an SLS case [-]
+        qp_ratio: quasi-permanent / ULS load ratio [-]
+
+    Returns:
+        stress [MPa]
+    """
+    return np.where(is_sls, sigma, qp_ratio * sigma)

@@ -30,8 +30,36 @@ def self_weight(cap_length, cap_width, cap_depth, gamma_g=1.35, density=25.0):
     return gamma_g * density * 1e-6 * vol  # kN/m³ = 1e-6 N/mm³
 
 
-def _group_terms(X, Y, mask):
-    """Centroid offsets and second moments of the pile group (per cap)."""
+def self_weight_factor(is_sls, gamma_g=1.35):
+    """Derived: partial factor on the cap self-weight, γG for a ULS case and 1.0 for an SLS case
+
+    The self-weight of a serviceability combination is unfactored (EN 1990:2002 6.5.3, the
+    characteristic and quasi-permanent combinations with γG = 1.0) [M]; an ultimate case takes γG
+    of EN 1990 Table A1.2(B) [M].
+
+    Args:
+        is_sls: the load case is a serviceability case (n,) [-]
+        gamma_g: partial factor on the permanent action at ULS [-]
+
+    Returns:
+        the factor applied to the self-weight (n,) [-]
+    """
+    return np.where(np.asarray(is_sls, dtype=bool), 1.0, np.asarray(gamma_g, dtype=float))
+
+
+def group_terms(X, Y, mask):
+    """Derived: centroid and second moments of a pile group about its centroid
+
+    Per cap: ns the number of piles, (xc, yc) the centroid, (u, v) the pile centres relative to
+    it (zero for missing piles), Σu², Σv², Σuv [D].
+
+    Args:
+        X, Y: pile centres relative to the column centre, (n, m) NaN-padded [mm]
+        mask: real piles (n, m) [-]
+
+    Returns:
+        (ns [-], xc [mm], yc [mm], u [mm], v [mm], suu [mm²], svv [mm²], suv [mm²])
+    """
     m = mask.astype(float)
     n = m.sum(axis=1)
     ns = np.where(n > 0, n, np.nan)
@@ -69,7 +97,7 @@ def pile_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, _terms=None):
     Returns:
         reactions R_i, (n, m), NaN for missing piles [N]
     """
-    ns, xc, yc, u, v, suu, svv, suv = _terms if _terms is not None else _group_terms(X, Y, mask)
+    ns, xc, yc, u, v, suu, svv, suv = _terms if _terms is not None else group_terms(X, Y, mask)
     N = np.asarray(n_ed, dtype=float)
     mx = np.asarray(mx_ed, dtype=float) - N * yc
     my = np.asarray(my_ed, dtype=float) - N * xc
@@ -90,10 +118,27 @@ def pile_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, _terms=None):
     return np.where(mask, R, np.nan)
 
 
-def _tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis):
-    """R0 and the largest change of each pile's reaction under a group shift of size e [N]."""
+def tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis, terms=None):
+    """Common practice: pile reactions and their largest change under a group shift of e
+
+    R0 the nominal reactions and the largest change of each pile's reaction when the group is
+    displaced by e (any direction, or (±e, ±e) where ``per_axis``); r_x, r_y the unit-moment
+    responses (see :func:`tolerance_reactions`) [CP].
+
+    Args:
+        X, Y: pile centres (n, m) [mm]
+        mask: real piles (n, m) [-]
+        n_ed: vertical load at the column centre (n,) [N]
+        mx_ed, my_ed: applied moments (n,) [N·mm]
+        tolerance: positional tolerance e [mm]
+        per_axis: True for the (±e, ±e) shift [-]
+        terms: :func:`group_terms` of the group when already computed [mm²]
+
+    Returns:
+        (R0 [N], swing [N], r_x [1/mm], r_y [1/mm]), each (n, m)
+    """
     N = np.asarray(n_ed, dtype=float)
-    terms = _group_terms(X, Y, mask)
+    terms = terms if terms is not None else group_terms(X, Y, mask)
     zero = np.zeros_like(N)
     R0 = pile_reactions(X, Y, mask, N, mx_ed, my_ed, _terms=terms)
     # R is linear in the moments: a shift (ex, ey) of the group adds the moments −N·ey about x
@@ -131,7 +176,7 @@ def tolerance_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0, 
     Returns:
         (R_max, R_min): extreme reactions over the piles and the shifts, (n,) each [N]
     """
-    R0, swing, _, _ = _tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis)
+    R0, swing, _, _ = tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis)
     hi = np.max(np.where(mask, R0 + swing, -np.inf), axis=1)
     lo = np.min(np.where(mask, R0 - swing, np.inf), axis=1)
     return np.where(np.isfinite(hi), hi, np.nan), np.where(np.isfinite(lo), lo, np.nan)
@@ -153,7 +198,7 @@ def tolerance_direction(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0):
     Returns:
         angle of the shift from the x axis, anticlockwise (n,) [degrees]
     """
-    R0, swing, rx, ry = _tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, False)
+    R0, swing, rx, ry = tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, False)
     key = np.where(mask, R0 + swing, -np.inf)
     n = key.shape[0]
     if key.shape[1] == 0:

@@ -221,6 +221,27 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
     av = np.where(av_mode == "clear", a - 0.5 * phi - face, sec - face)
     beta = beta_av(av, dd)
 
+    ved = _ved_beyond(coord, reaction, mask, a, tol)
+    b_enh = enhanced_width(coord, across, mask, phi, W, tol)
+    vrd = enhanced_resistance(col(vrdc), beta, b_enh, W, dd)
+    util = ved / vrd
+
+    key = np.where(valid, np.where(np.isnan(util), np.inf, util), -np.inf)
+    g = np.argmax(key, axis=1)[:, None]
+    has = valid.any(axis=1)
+
+    def pick(arr):
+        return np.where(has, np.take_along_axis(arr, g, axis=1)[:, 0], np.nan)
+
+    ved_max = np.max(np.where(valid, ved, -np.inf), axis=1)
+    return {"ved": pick(ved), "vrd": pick(vrd), "util": pick(util),
+            "av": pick(np.maximum(av, 0.5 * dd)), "av_geom": pick(av),
+            "beta": pick(beta), "b_enh": pick(b_enh),
+            "ved_max": np.where(has, ved_max, np.nan)}
+
+
+def _ved_beyond(coord, reaction, mask, a, tol):
+    """VEd at each pile's section: the reactions of the piles on its side at or beyond it [N]."""
     side = np.sign(np.where(mask, coord, 0.0))
     c0 = np.where(mask, coord, 0.0)
     R = np.where(mask, reaction, 0.0)
@@ -234,9 +255,29 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
         np.greater_equal(buf, a_lo, out=near)
         np.multiply(near, R[:, j:j + 1], out=buf)
         ved += buf
+    return ved
 
-    # enhanced width: the whole width where the piles on the section's line are at most 3φ
-    # apart, else the 3φ strips of the piles on that line
+
+def enhanced_width(coord, across, mask, pile_dia, width, tol=1.0):
+    """Common practice: width of a beam-shear section with enhancement near the piles (reference §9)
+
+    The whole width where the piles on the section's line are at most 3φ apart (each has a
+    neighbour on the line within 3φ), else the 3φ strips (clipped to W) of the piles on that line;
+    a line holding a single pile has its strip (reference decision 12) [CP].
+
+    Args:
+        coord: pile coordinates along the span (n, m) [mm]
+        across: pile coordinates across the section (n, m) [mm]
+        mask: real piles (n, m) [-]
+        pile_dia: pile diameter, (n, 1) or broadcastable [mm]
+        width: section width, (n, 1) or broadcastable [mm]
+        tol: tolerance for "same line" comparisons [mm]
+
+    Returns:
+        enhanced width at each pile's section (n, m) [mm]
+    """
+    phi, W = pile_dia, width
+    a = np.abs(coord)
     hW = 0.5 * W
     strip = np.where(mask, np.clip(across + 1.5 * phi, -hW, hW) - np.clip(across - 1.5 * phi, -hW, hW),
                      0.0)
@@ -254,19 +295,4 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
     for j in range(coord.shape[1]):  # every pile of the line has a neighbour within 3φ
         on_line = np.abs(cm[:, j:j + 1] - cm) <= tol
         line_close &= ~on_line | close[:, j:j + 1]
-    b_enh = np.where(line_close, np.broadcast_to(W, a.shape), np.minimum(strips, W))
-    vrd = enhanced_resistance(col(vrdc), beta, b_enh, W, dd)
-    util = ved / vrd
-
-    key = np.where(valid, np.where(np.isnan(util), np.inf, util), -np.inf)
-    g = np.argmax(key, axis=1)[:, None]
-    has = valid.any(axis=1)
-
-    def pick(arr):
-        return np.where(has, np.take_along_axis(arr, g, axis=1)[:, 0], np.nan)
-
-    ved_max = np.max(np.where(valid, ved, -np.inf), axis=1)
-    return {"ved": pick(ved), "vrd": pick(vrd), "util": pick(util),
-            "av": pick(np.maximum(av, 0.5 * dd)), "av_geom": pick(av),
-            "beta": pick(beta), "b_enh": pick(b_enh),
-            "ved_max": np.where(has, ved_max, np.nan)}
+    return np.where(line_close, np.broadcast_to(W, a.shape), np.minimum(strips, W))

@@ -165,3 +165,20 @@ def link_area_across_plane(sets, phi, legs=2.0):
     """
     phi = np.asarray(phi, dtype=float)
     return legs * np.asarray(sets, dtype=float) * np.pi * phi * phi / 4.0
+
+
+def governing_splitting_tie(t_column, t_pile):
+    """EN 1992-1-1:2004 6.5.3(3), Figure 6.25
+
+    The larger of the splitting ties at the column end and at the pile end; NaN where either is
+    unknown.
+
+    Args:
+        t_column: tie under the column load [N]
+        t_pile: tie over the pile head [N]
+
+    Returns:
+        governing tie [N]
+    """
+    t = np.fmax(t_column, t_pile)
+    return np.where(np.isnan(t_column) | np.isnan(t_pile), np.nan, t)

@@ -581,3 +581,134 @@ def pile_node_factor(n_piles, k1=1.0, k2=0.85, k3=0.75):
     n = np.asarray(n_piles, dtype=float)
     k = np.where(n <= 1.0, k1, np.where(n <= 2.0, k2, k3))
     return np.where(np.isnan(n), np.nan, k)
+
+
+def piles_within_three_diameters(spacing_min, pile_dia):
+    """Common practice: the truss method of a pile cap applies where the piles are at no more than 3φ
+
+    1.0 where the closest pile centres are at most three pile diameters apart (the strut-and-tie
+    idealisation of BS 8110-1:1997 3.11.4.2 and the engineering reference §6) [CP], 0.0 where
+    they are further apart, NaN where the spacing is unknown. A relative allowance of 1e-9 keeps
+    a spacing of exactly 3φ within.
+
+    Args:
+        spacing_min: smallest centre-to-centre pile spacing (n,) [mm]
+        pile_dia: pile diameter (n,) [mm]
+
+    Returns:
+        1.0 / 0.0 / NaN (n,) [-]
+    """
+    s = np.asarray(spacing_min, dtype=float)
+    within = (s <= 3.0 * np.asarray(pile_dia, dtype=float) * (1 + 1e-9)).astype(float)
+    return np.where(np.isnan(s), np.nan, within)
+
+
+def strut_lever_arm(n_piles, d_x, d_y):
+    """Derived: lever arm of the struts, the x layer's d for a two-pile cap, else the lower layer's
+
+    A two-pile cap has no tie along y, so its struts work with the x layer; other caps take the
+    smaller of the two layers' effective depths [D].
+
+    Args:
+        n_piles: number of piles (n,) [-]
+        d_x, d_y: effective depths of the x and y layers (n,) [mm]
+
+    Returns:
+        z (n,) [mm]
+    """
+    return np.where(np.asarray(n_piles) == 2, d_x, np.fmin(d_x, d_y))
+
+
+def min_inclined_strut_angle(theta, radial_distance, mask, r_vertical=0.5):
+    """Derived: the smallest strut angle of a cap over its inclined struts
+
+    A pile whose centre lies within ``r_vertical`` of the column centre carries its load in a
+    vertical strut, which has no inclination to check [D]; NaN where a cap has no inclined strut.
+
+    Args:
+        theta: strut angles (n, m) [degrees]
+        radial_distance: pile centre to column centre (n, m) [mm]
+        mask: real piles (n, m) [-]
+        r_vertical: radial distance below which a strut is taken as vertical [mm]
+
+    Returns:
+        smallest angle (n,) [degrees]
+    """
+    inclined = mask & (radial_distance > r_vertical)
+    low = np.min(np.where(inclined & ~np.isnan(theta), theta, np.inf), axis=1)
+    return np.where(np.isinf(low), np.nan, low)
+
+
+def column_strut_angle(theta_min, n_piles):
+    """Derived: strut angle at the column node, 90° where every strut is vertical
+
+    The smallest inclined strut angle of the cap; a cap with piles but no inclined strut (a single
+    pile under the column) loads the column node vertically, θ = 90° [D].
+
+    Args:
+        theta_min: smallest inclined strut angle (n,) [degrees]
+        n_piles: number of piles (n,) [-]
+
+    Returns:
+        θ (n,) [degrees]
+    """
+    return np.where(np.isnan(theta_min) & (np.asarray(n_piles) >= 1), 90.0, theta_min)
+
+
+def governing_strut_angle(stress, theta, mask):
+    """Derived: strut angle at the pile node with the largest strut stress
+
+    The angle of the strut whose node-face stress governs [D] (the first such pile on a tie).
+
+    Args:
+        stress: strut stress at each pile node (n, m) [MPa]
+        theta: strut angles (n, m) [degrees]
+        mask: real piles (n, m) [-]
+
+    Returns:
+        θ of the governing pile (n,) [degrees]
+    """
+    n = np.shape(theta)[0]
+    if not n:
+        return np.zeros(0)
+    gov = np.argmax(np.where(mask, stress, -np.inf), axis=1)
+    return np.asarray(theta)[np.arange(n), gov]
+
+
+def three_pile_side_tie(X, Y, Hx, Hy, mask, n_piles):
+    """Derived: the largest tie along the sides of a three-pile cap's triangle
+
+    For a cap of exactly three real piles in the first three positions, the largest of the
+    :func:`triangle_side_ties`; NaN for every other cap [D].
+
+    Args:
+        X, Y: pile centres (n, m) [mm]
+        Hx, Hy: horizontal pile-node forces (n, m) [N]
+        mask: real piles (n, m) [-]
+        n_piles: number of piles (n,) [-]
+
+    Returns:
+        side tie force (n,) [N]
+    """
+    n = np.shape(X)[0]
+    if np.shape(X)[1] < 3:  # the array width, not a value of any cap
+        return np.full(n, np.nan)
+    three = (np.asarray(n_piles) == 3) & mask[:, :3].all(axis=1)
+    sides = triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
+    return np.where(three, np.max(sides, axis=1), np.nan)
+
+
+def column_loaded_width(side, area, column_round):
+    """Derived: loaded width of a column in one plan direction
+
+    The column side, or for a circular column the side of the square of equal area [D].
+
+    Args:
+        side: column side (diameter if circular) in the direction (n,) [mm]
+        area: column area (n,) [mm²]
+        column_round: circular column (n,) [-]
+
+    Returns:
+        loaded width (n,) [mm]
+    """
+    return np.where(column_round, equivalent_square_side(area), side)

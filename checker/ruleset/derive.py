@@ -133,17 +133,72 @@ def derive(caps: pd.DataFrame, coords: pd.DataFrame | None = None,
     """
     caps = caps.reset_index(drop=True)
     X, Y, mask = geo.pile_arrays(caps, coords)
-    return _derive_arrays(caps, X, Y, mask, dict(params or {}))
+    return derive_arrays(caps, X, Y, mask, dict(params or {}))
 
 
-def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
+@dataclass
+class Inputs:
+    """The schedule's inputs as derive reads them (after the fills of the module docstring).
+
+    ``caps``: the canonical frame; ``n``: its rows; ``f``: input name -> (n,) float array (the
+    names of :data:`INPUT_QUANTITIES`); ``rnd``: circular column; ``uncased``: uncased pile;
+    ``bent``: bent or hooked bar ends; ``ends_known``: bar ends stated (all (n,) bool).
+    """
+
+    caps: pd.DataFrame
+    n: int
+    f: dict[str, np.ndarray]
+    rnd: np.ndarray
+    uncased: np.ndarray
+    bent: np.ndarray
+    ends_known: np.ndarray
+
+
+def derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
                   p: dict) -> Derived:
-    """derive() with the pile arrays already built (F-ordered (n, m) arrays)."""
+    """derive() with the pile arrays already built (F-ordered (n, m) arrays).
+
+    Each section below reads the inputs, the pile group, the profile parameters and the
+    quantities of the sections before it (by name in ``q``), and adds its own to ``q``; per-pile
+    arrays go to ``piles``. The order of the sections is the order of the quantities in ``q``.
+    """
+    inp = _inputs(caps)
+    g = geo.PileGroup.of(X, Y, mask)
+    q: dict[str, np.ndarray] = {}
+    piles: dict[str, np.ndarray] = {}
+    _geometry(q, piles, inp, g)
+    _materials(q, inp, p)
+    _reactions(q, piles, inp, g, p)
+    _reinforcement(q, inp, p)
+    _ties(q, piles, inp, g, p)
+    _three_pile_side_ties(q, piles, g)
+    _nodes(q, piles, inp, g, p)
+    _beam_shear(q, piles, inp, g, p)
+    _punching(q, piles, inp, g, p)
+    _pile_punching(q, piles, inp, g, p)
+    _anchorage(q, inp, g, p)
+    _bending(q, piles, inp, g, p)
+    _single_pile(q, piles, inp, g)
+    # crack control of the bottom steel (EN 1992-1-1 7.3), crack-x / crack-y: steel stress T/As
+    # counted of the tie check's truss under the SLS case (self-weight unfactored); on a ULS row
+    # qp_ratio x the ULS stress (NaN unless the profile sets the ratio). Two accepted methods, each
+    # as the largest steel stress it allows: Tables 7.2N (with Eq. (7.6N)) or 7.3N, either met
+    # (7.3.3(2)); and the calculated wk of 7.3.4 against wmax
+    q.update(_crack_quantities(inp.caps, q, inp.f, p, inp.n))
+    what = _stated_figures(q, inp)
+    # inputs as quantities
+    for name in INPUT_QUANTITIES:
+        q[name] = inp.f[name]
+    q["column_round"] = _flag(inp.rnd)
+    return Derived(q=q, X=X, Y=Y, mask=mask,
+                   piles={k: piles[k] for k in ("R", "R_col", "Hx", "Hy", "theta", "r", "face_dist")},
+                   text={"stated_diff_what": what})
+
+
+def _inputs(caps: pd.DataFrame) -> Inputs:
+    """The inputs and their fills: missing moments 0, fyk 500 MPa, column_y = column_x."""
     n = len(caps)
     f = {name: _num(caps, name, n) for name in INPUT_QUANTITIES}
-    gamma_c = float(_pget(p, "gamma_c"))
-
-    # ---- inputs and fills -------------------------------------------------------------------
     f["mx_ed"] = np.nan_to_num(f["mx_ed"], nan=0.0)
     f["my_ed"] = np.nan_to_num(f["my_ed"], nan=0.0)
     f["fyk"] = np.where(np.isnan(f["fyk"]), 500.0, f["fyk"])
@@ -152,63 +207,62 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         rnd = caps["column_round"].fillna(False).astype(bool).to_numpy()
     else:
         rnd = np.zeros(n, dtype=bool)
-    L, W, h = f["cap_length"], f["cap_width"], f["cap_depth"]
-    cx, cy = f["column_x"], f["column_y"]
-    phi_p, cover = f["pile_dia"], f["cover"]
-    phx, phy = f["phi_x"], f["phi_y"]
-    N, mx, my = f["n_ed"], f["mx_ed"], f["my_ed"]
-    fck, fyk = f["fck"], f["fyk"]
-
-    pile_type = _text(caps, "pile_type", n)
-    uncased = _contains(pile_type, "uncased")
     ends = _text(caps, "bar_ends", n)
-    ends_known = (ends != "").to_numpy(dtype=bool)
-    bent = _contains(ends, "bent", "hook")
+    return Inputs(caps=caps, n=n, f=f, rnd=rnd, uncased=_contains(_text(caps, "pile_type", n), "uncased"),
+                  bent=_contains(ends, "bent", "hook"), ends_known=(ends != "").to_numpy(dtype=bool))
 
-    q: dict[str, np.ndarray] = {}
 
-    # ---- geometry -----------------------------------------------------------------------
-    npile = geo.n_piles(mask)
-    d_x = geo.effective_depth_x(h, cover, phx)
-    d_y = geo.effective_depth_y(h, cover, phx, phy)
-    d_mean = 0.5 * (d_x + d_y)
+def _geometry(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup) -> None:
+    """Pile count, effective depths, spacing, edge distances, radial and column-face distances."""
+    f, X, Y, mask = inp.f, g.X, g.Y, g.mask
+    L, W, phi_p = f["cap_length"], f["cap_width"], f["pile_dia"]
+    d_x = geo.effective_depth_x(f["cap_depth"], f["cover"], f["phi_x"])
+    d_y = geo.effective_depth_y(f["cap_depth"], f["cover"], f["phi_x"], f["phi_y"])
     s_min = geo.spacing_min(X, Y, mask)
     r = geo.radial_distances(X, Y, mask)
-    face_dist = geo.column_face_distances(X, Y, mask, cx, cy, rnd)
-    le3 = np.where(np.isnan(s_min), np.nan, _flag(s_min <= 3.0 * phi_p * (1 + 1e-9)))
+    piles["r"] = r
+    piles["face_dist"] = geo.column_face_distances(X, Y, mask, f["column_x"], f["column_y"], inp.rnd)
     q.update(
-        n_piles=npile, d_x=d_x, d_y=d_y, d_mean=d_mean, spacing_min=s_min,
+        n_piles=geo.n_piles(mask), d_x=d_x, d_y=d_y, d_mean=0.5 * (d_x + d_y), spacing_min=s_min,
         edge_min=geo.edge_min(X, Y, mask, L, W, phi_p),
         plan_overhang=geo.plan_overhang(X, Y, mask, L, W, phi_p),
-        r_max=geo.row_max(r, mask), spacing_le_3phi=le3,
-        is_uncased=_flag(uncased), bar_ends_known=_flag(ends_known), bar_bent=_flag(bent),
+        r_max=geo.row_max(r, mask), spacing_le_3phi=st.piles_within_three_diameters(s_min, phi_p),
+        is_uncased=_flag(inp.uncased), bar_ends_known=_flag(inp.ends_known), bar_bent=_flag(inp.bent),
     )
 
-    # ---- materials ----------------------------------------------------------------------
-    values = str(_pget(p, "material_values"))
-    fctm = mat.fctm(fck, values=values)
-    fctk = mat.fctk_005(fck, values=values)
-    fcd = mat.fcd(fck, alpha_cc=float(_pget(p, "alpha_cc_flex")), gamma_c=gamma_c)
-    fcd_shear = mat.fcd(fck, alpha_cc=float(_pget(p, "alpha_cc_shear")), gamma_c=gamma_c)
-    fctd = mat.fctd(fctk, alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
-    fyd = mat.fyd(fyk, gamma_s=float(_pget(p, "gamma_s")))
-    nu_p = mat.nu_prime(fck)
-    nu = mat.nu(fck)
-    # UK NA 3.1.2(2)P: shear strength of classes above C50/60 taken as C50/60 (vRd,c, vmin)
-    fck_v = mat.fck_for_shear(fck, fck_max=float(_pget(p, "fck_shear_max")))
-    q.update(fck_shear=fck_v, fcd=fcd, fcd_shear=fcd_shear, fctm=fctm, fctk_005=fctk, fctd=fctd, fyd=fyd,
-             nu_prime=nu_p, nu=nu, table_class=mat.table_listed(fck))
 
-    # ---- reactions ----------------------------------------------------------------------
-    # the self-weight of an SLS load case is unfactored (gamma_G = 1.0, EN 1990 6.5.3); ULS: gamma_G
-    gamma_sw = np.full(n, float(_pget(p, "gamma_g")))
-    if "case_kind" in caps.columns:
-        gamma_sw = np.where(caps["case_kind"].to_numpy(dtype=object) == "SLS", 1.0, gamma_sw)
-    sw = rea.self_weight(L, W, h, gamma_g=gamma_sw, density=float(_pget(p, "concrete_density")))
+def _materials(q: dict, inp: Inputs, p: dict) -> None:
+    """Design strengths of concrete and steel (EN 1992-1-1 3.1, 3.2)."""
+    fck = inp.f["fck"]
+    gamma_c = float(_pget(p, "gamma_c"))
+    values = str(_pget(p, "material_values"))
+    fctk = mat.fctk_005(fck, values=values)
+    q.update(
+        # UK NA 3.1.2(2)P: shear strength of classes above C50/60 taken as C50/60 (vRd,c, vmin)
+        fck_shear=mat.fck_for_shear(fck, fck_max=float(_pget(p, "fck_shear_max"))),
+        fcd=mat.fcd(fck, alpha_cc=float(_pget(p, "alpha_cc_flex")), gamma_c=gamma_c),
+        fcd_shear=mat.fcd(fck, alpha_cc=float(_pget(p, "alpha_cc_shear")), gamma_c=gamma_c),
+        fctm=mat.fctm(fck, values=values), fctk_005=fctk,
+        fctd=mat.fctd(fctk, alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c),
+        fyd=mat.fyd(inp.f["fyk"], gamma_s=float(_pget(p, "gamma_s"))),
+        nu_prime=mat.nu_prime(fck), nu=mat.nu(fck), table_class=mat.table_listed(fck),
+    )
+
+
+def _reactions(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Self-weight and pile reactions, nominal and with the positional tolerance."""
+    f, X, Y, mask = inp.f, g.X, g.Y, g.mask
+    N, mx, my = f["n_ed"], f["mx_ed"], f["my_ed"]
+    sls = np.zeros(inp.n, dtype=bool)
+    if "case_kind" in inp.caps.columns:
+        sls = inp.caps["case_kind"].to_numpy(dtype=object) == "SLS"
+    gamma_sw = rea.self_weight_factor(sls, gamma_g=np.full(inp.n, float(_pget(p, "gamma_g"))))
+    sw = rea.self_weight(f["cap_length"], f["cap_width"], f["cap_depth"], gamma_g=gamma_sw,
+                         density=float(_pget(p, "concrete_density")))
     n_tot = N + sw
-    terms = rea._group_terms(X, Y, mask)
-    R = rea.pile_reactions(X, Y, mask, n_tot, mx, my, _terms=terms)
-    R_col = rea.pile_reactions(X, Y, mask, N, mx, my, _terms=terms)
+    R = rea.pile_reactions(X, Y, mask, n_tot, mx, my, _terms=g.terms)
+    piles["R"] = R
+    piles["R_col"] = rea.pile_reactions(X, Y, mask, N, mx, my, _terms=g.terms)
     e_tol = float(_pget(p, "pile_tolerance"))
     r_tol_max, r_tol_min = rea.tolerance_reactions(X, Y, mask, n_tot, mx, my, tolerance=e_tol)
     # method variant: the shift of e along both axes at once (±e, ±e) (reference decision 10)
@@ -218,23 +272,25 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     q.update(self_weight=sw, gamma_g_sw=gamma_sw, n_total=n_tot, r_nom_max=geo.row_max(R, mask),
              r_nom_min=geo.row_min(R, mask), r_tol_max=r_tol_max, r_tol_min=r_tol_min)
 
-    # ---- reinforcement and detailing ----------------------------------------------------
+
+def _reinforcement(q: dict, inp: Inputs, p: dict) -> None:
+    """Bars, areas, centres and clear spacings, minimum and maximum steel, cover."""
+    f, n = inp.f, inp.n
+    L, W, h, cover = f["cap_length"], f["cap_width"], f["cap_depth"], f["cover"]
+    phx, phy = f["phi_x"], f["phi_y"]
     nbx = np.where(np.isnan(f["nx"]), det.bar_count_from_centres(W, cover, phx, f["sx"]), f["nx"])
     nby = np.where(np.isnan(f["ny"]), det.bar_count_from_centres(L, cover, phy, f["sy"]), f["ny"])
     as_x = det.bar_area(nbx, phx)
-    as_y = det.bar_area(nby, phy)
     centres_x = np.where(np.isnan(f["sx"]), det.layer_centres(W, cover, phx, nbx), f["sx"])
     centres_y = np.where(np.isnan(f["sy"]), det.layer_centres(L, cover, phy, nby), f["sy"])
-    clear_x = det.clear_spacing(centres_x, phx)
-    clear_y = det.clear_spacing(centres_y, phy)
-    phi_max = np.fmax(phx, phy)
-    exp_codes, exp_uniq = pd.factorize(_text(caps, "exposure", n))
+    exp_codes, exp_uniq = pd.factorize(_text(inp.caps, "exposure", n))
     c_dur = det.cmin_dur(np.asarray(exp_uniq, dtype=str))[exp_codes] if n else np.zeros(0)
     q.update(
-        n_bars_x=nbx, n_bars_y=nby, phi_bar_min=np.fmin(phx, phy), as_x=as_x, as_y=as_y,
-        centres_x=centres_x, centres_y=centres_y, clear_x=clear_x, clear_y=clear_y,
-        clear_min_req=det.min_clear_spacing(phi_max, dg=float(_pget(p, "dg"))),
-        as_min_x=det.as_min(fctm, fyk, W, d_x), as_min_y=det.as_min(fctm, fyk, L, d_y),
+        n_bars_x=nbx, n_bars_y=nby, phi_bar_min=np.fmin(phx, phy), as_x=as_x, as_y=det.bar_area(nby, phy),
+        centres_x=centres_x, centres_y=centres_y,
+        clear_x=det.clear_spacing(centres_x, phx), clear_y=det.clear_spacing(centres_y, phy),
+        clear_min_req=det.min_clear_spacing(np.fmax(phx, phy), dg=float(_pget(p, "dg"))),
+        as_min_x=det.as_min(q["fctm"], f["fyk"], W, q["d_x"]), as_min_y=det.as_min(q["fctm"], f["fyk"], L, q["d_y"]),
         as_max_x=det.as_max(W * h), as_max_y=det.as_max(L * h),
         as_max=det.as_max(np.fmin(W, L) * h),
         cmin_dur=c_dur,
@@ -245,23 +301,29 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     )
     # method variant of min-steel-y: across a two-pile cap (no tie along y) the distribution steel,
     # 20 % of the main steel (EN 1992-1-1:2004 9.3.1.1(2), from memory); other caps keep 9.2.1.1(1)
-    q["as_min_y_dist"] = np.where(npile == 2, det.distribution_steel(as_x), q["as_min_y"])
+    q["as_min_y_dist"] = np.where(q["n_piles"] == 2, det.distribution_steel(as_x), q["as_min_y"])
 
-    # ---- strut-and-tie ------------------------------------------------------------------
-    # Each direction: its tie rows against the steel counted for them, and the tension across
-    # the column centreline against the whole layer (statics about the top node, reference
-    # decisions 11 and 12); bars of one direction are never credited to the other. Both the
-    # default truss and the column-width allowance ((3l² − a²) forms, reference §6) are computed.
+
+def _ties(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Strut-and-tie: the tie rows and the tension across the column centreline, each direction.
+
+    Each direction: its tie rows against the steel counted for them, and the tension across the
+    column centreline against the whole layer (statics about the top node, reference decisions 11
+    and 12); bars of one direction are never credited to the other. Both the default truss and the
+    column-width allowance ((3l² − a²) forms, reference §6) are computed.
+    """
+    f, X, Y, mask, R = inp.f, g.X, g.Y, g.mask, piles["R"]
     column_width = str(_pget(p, "tie_node")) == "column-width"
-    e_x = st.column_second_moment(cx, rnd)
-    e_y = st.column_second_moment(cy, rnd)
-    ties = {}
+    e_x = st.column_second_moment(f["column_x"], inp.rnd)
+    e_y = st.column_second_moment(f["column_y"], inp.rnd)
+    fyd, phi_p, cover = q["fyd"], f["pile_dia"], f["cover"]
     for sfx, ex, ey in (("", e_x * column_width, e_y * column_width), ("_cw", e_x, e_y)):
-        hx = st.pile_node_force(X, R, mask, N, d_x, ex)
-        hy = st.pile_node_force(Y, R, mask, N, d_y, ey)
-        ties[sfx] = (hx, hy)
-        tx = st.tie_layer_check(hx, X, Y, mask, as_x, fyd, phi_p, W, cover)
-        ty = st.tie_layer_check(hy, Y, X, mask, as_y, fyd, phi_p, L, cover)
+        hx = st.pile_node_force(X, R, mask, f["n_ed"], q["d_x"], ex)
+        hy = st.pile_node_force(Y, R, mask, f["n_ed"], q["d_y"], ey)
+        if not sfx:
+            piles["Hx"], piles["Hy"] = hx, hy
+        tx = st.tie_layer_check(hx, X, Y, mask, q["as_x"], fyd, phi_p, f["cap_width"], cover)
+        ty = st.tie_layer_check(hy, Y, X, mask, q["as_y"], fyd, phi_p, f["cap_length"], cover)
         for k, t in (("x", tx), ("y", ty)):
             q[f"tie_{k}{sfx}"] = t["T"]
             q[f"as_req_{k}{sfx}"] = t["as_req"]
@@ -279,40 +341,38 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
             q[f"tie_shared_{k}"] = t["shared"]
             q[f"tie_full_{k}"] = t["full"]
             q[f"as_layer_counted_{k}"] = t["as_layer_counted"]
-    Hx, Hy = ties[""]
     q["tie_full_width"] = np.where(np.isnan(q["tie_full_x"]) & np.isnan(q["tie_full_y"]), np.nan,
                                    np.fmin(q["tie_full_x"], q["tie_full_y"]))
-    # three-pile caps: the ties along the triangle's sides, for the working only (a detail with
-    # bars along the sides); the orthogonal mesh is checked on its own two directions above
-    three = (npile == 3) & (mask[:, :3].all(axis=1) if X.shape[1] >= 3 else False)
-    q["tie_side_3"] = np.full(n, np.nan)
-    if X.shape[1] >= 3:  # the array width, not a value of any cap
-        sides = st.triangle_side_ties(X[:, :3], Y[:, :3], Hx[:, :3], Hy[:, :3])
-        q["tie_side_3"] = np.where(three, np.max(sides, axis=1), np.nan)
-    q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], fyd)
 
-    # lever arm of the struts: the x layer for two-pile caps (no y ties), else the lower layer
-    z = np.where(npile == 2, d_x, np.fmin(d_x, d_y))
-    theta = st.strut_angle(r, z[:, None])
-    inclined = mask & (r > 0.5)
-    th_min = geo.row_min(np.where(inclined, theta, np.nan), inclined)
+
+def _three_pile_side_ties(q: dict, piles: dict, g: geo.PileGroup) -> None:
+    """Three-pile caps: the ties along the triangle's sides, for the working only (a detail with
+    bars along the sides); the orthogonal mesh is checked on its own two directions."""
+    q["tie_side_3"] = st.three_pile_side_tie(g.X, g.Y, piles["Hx"], piles["Hy"], g.mask, q["n_piles"])
+    q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], q["fyd"])
+
+
+def _nodes(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Strut angles and the stresses and limits of the column and pile nodes (6.5.4)."""
+    f, mask, R, npile = inp.f, g.mask, piles["R"], q["n_piles"]
+    cx, cy, h, fcd, nu_p = f["column_x"], f["column_y"], f["cap_depth"], q["fcd"], q["nu_prime"]
+    theta = st.strut_angle(piles["r"], st.strut_lever_arm(npile, q["d_x"], q["d_y"])[:, None])
+    piles["theta"] = theta
+    th_min = st.min_inclined_strut_angle(theta, piles["r"], mask)
     q.update(strut_angle_min=th_min, cot_theta_max=st.cot_theta(th_min))
-
-    a_col = st.column_area(cx, cy, rnd)
-    dp = st.pile_design_diameter(phi_p, uncased)
+    a_col = st.column_area(cx, cy, inp.rnd)
+    dp = st.pile_design_diameter(f["pile_dia"], inp.uncased)
     a_pile = np.pi * dp * dp / 4.0
-    th_col = np.where(np.isnan(th_min) & (npile >= 1), 90.0, th_min)
-    k_pile = st.pile_node_factor(npile, k1=float(_pget(p, "k1_node")),
-                                 k2=float(_pget(p, "k2_node")), k3=float(_pget(p, "k3_node")))
+    k1 = float(_pget(p, "k1_node"))
+    k_pile = st.pile_node_factor(npile, k1=k1, k2=float(_pget(p, "k2_node")), k3=float(_pget(p, "k3_node")))
     node_factor = float(_pget(p, "node_factor"))
     # strut face sized with the tie zone (Fig. 6.27): a1 = b = side of the equivalent square of the
     # pile head, u = 2(c + phi_x/2) of the lowest layer
     b_pile = st.equivalent_square_side(a_pile)
-    u_tie = st.tie_zone_height(cover, phx)
+    u_tie = st.tie_zone_height(f["cover"], f["phi_x"])
     sig_geom = st.strut_stress_node_geometry(R, b_pile[:, None], b_pile[:, None], u_tie[:, None], theta)
-    gov = np.argmax(np.where(mask, sig_geom, -np.inf), axis=1) if n else np.zeros(0, int)
-    th_gov = theta[np.arange(n), gov] if n else np.zeros(0)
-    pla = st.partially_loaded_area_ratio(cx, cy, h, L, W)
+    th_gov = st.governing_strut_angle(sig_geom, theta, mask)
+    pla = st.partially_loaded_area_ratio(cx, cy, h, f["cap_length"], f["cap_width"])
     q.update(
         b_pile_node=b_pile, u_tie=u_tie,
         a2_pile_node=np.where(npile >= 2, st.strut_face_width(b_pile, u_tie, th_gov), np.nan),
@@ -322,27 +382,32 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     )
     q.update(
         pile_dia_design=dp,
-        sigma_col=st.bearing_stress(N, a_col),
-        sigma_col_strut=st.strut_face_stress(N, a_col, th_col),
+        sigma_col=st.bearing_stress(f["n_ed"], a_col),
+        sigma_col_strut=st.strut_face_stress(f["n_ed"], a_col, st.column_strut_angle(th_min, npile)),
         sigma_pile_bearing=st.bearing_stress(geo.row_max(R, mask), a_pile),
         sigma_pile=geo.row_max(st.strut_face_stress(R, a_pile[:, None], theta), mask),
         k_pile_node=k_pile,
-        node_col_limit=node_factor * st.node_limit(float(_pget(p, "k1_node")), nu_p, fcd),
+        node_col_limit=node_factor * st.node_limit(k1, nu_p, fcd),
         node_pile_limit=node_factor * st.node_limit(k_pile, nu_p, fcd),
         node_pile_limit_cct=node_factor * st.node_limit(float(_pget(p, "k2_node")), nu_p, fcd),
         node_pile_limit_ctt=node_factor * st.node_limit(float(_pget(p, "k3_node")), nu_p, fcd),
     )
 
-    # ---- beam shear ---------------------------------------------------------------------
+
+def _beam_shear(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Beam shear at the critical sections of each direction (6.2.2), with both av definitions."""
+    f, R, mask = inp.f, piles["R"], g.mask
     av_mode = str(_pget(p, "shear_av"))
     crd = float(_pget(p, "crd_c_factor"))
-    for k, coord, across, col, d, width in (("x", X, Y, cx, d_x, W), ("y", Y, X, cy, d_y, L)):
-        as_l = as_x if k == "x" else as_y
-        rho = shr.rho_l(as_l, width, d)
-        vrdc = shr.v_rdc(fck_v, d, rho, gamma_c=gamma_c, crd_c_factor=crd)
-        s = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc,
-                           av_mode=av_mode)
-        vmax = shr.v_ed_max(width, d, nu, fcd_shear)
+    gamma_c = float(_pget(p, "gamma_c"))
+    phi_p = f["pile_dia"]
+    for k, coord, across, col, width in (("x", g.X, g.Y, f["column_x"], f["cap_width"]),
+                                         ("y", g.Y, g.X, f["column_y"], f["cap_length"])):
+        d = q[f"d_{k}"]
+        rho = shr.rho_l(q[f"as_{k}"], width, d)
+        vrdc = shr.v_rdc(q["fck_shear"], d, rho, gamma_c=gamma_c, crd_c_factor=crd)
+        s = shr.beam_shear(coord, across, R, mask, col, phi_p, d, width, vrdc, av_mode=av_mode)
+        vmax = shr.v_ed_max(width, d, q["nu"], q["fcd_shear"])
         q[f"rho_{k}"] = rho
         q[f"k_{k}"] = shr.k_size(d)
         q[f"vrdc_{k}"] = vrdc
@@ -362,21 +427,20 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"ved_{k}_{alt_sfx}"], q[f"vrd_{k}_{alt_sfx}"] = s2["ved"], s2["vrd"]
         q[f"ved_{k}_{own_sfx}"], q[f"vrd_{k}_{own_sfx}"] = s["ved"], s["vrd"]
 
-    # ---- punching -----------------------------------------------------------------------
-    # every perimeter within 2d (6.4.4(2), reference decision 13): the pile reactions deducted in
-    # proportion to the pile head area inside each perimeter (common practice), the same share at
-    # the column perimeter (a = 0) for the column-face check (6.4.5(3)). Moment transfer (issue 15,
-    # item 2): beta of 6.4.3(3) at the column face, Eq. (6.51) with u and W of each perimeter (the
-    # moments of the load case; MEd reduced by the reactions inside), the simplified beta of
-    # 6.4.3(6) as the method `simplified-6.4.3-6` (accepted where punching_beta_simplified = 1)
-    u0 = pun.column_perimeter(cx, cy, rnd)
-    applies = pun.perimeter_applies(X, Y, mask, phi_p, cx, cy, rnd)
-    applies = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, applies)
-    rho2 = pun.rho_two_way(q["rho_x"], q["rho_y"])
-    vrdc2 = shr.v_rdc(fck_v, d_mean, rho2, gamma_c=gamma_c, crd_c_factor=crd)
+
+def _punching_scan(inp: Inputs, g: geo.PileGroup, R_col: np.ndarray, d_mean: np.ndarray,
+                   vrdc2: np.ndarray) -> tuple[dict, dict]:
+    """The governing control perimeter within 2d, concentric (beta = 1) and with the moments.
+
+    Returns (scan, scan_c): with the moment transfer of Eq. (6.51) on caps with a moment, and the
+    concentric scan (the simplified method scales it by beta = 1.15).
+    """
+    f, X, Y, mask, rnd = inp.f, g.X, g.Y, g.mask, inp.rnd
+    N, mx, my, phi_p = f["n_ed"], f["mx_ed"], f["my_ed"], f["pile_dia"]
+    cx, cy, L, W = f["column_x"], f["column_y"], f["cap_length"], f["cap_width"]
     scan = pun.governing_perimeter(N, R_col, X, Y, mask, phi_p, cx, cy, rnd, L, W, d_mean, vrdc2)
     moment = (mx != 0) | (my != 0)
-    scan_c = scan  # concentric (beta = 1): the simplified method scales it by beta = 1.15
+    scan_c = scan
     if moment.any():
         mi = np.flatnonzero(moment)
         sm = pun.governing_perimeter(N[mi], R_col[mi], X[mi], Y[mi], mask[mi], phi_p[mi], cx[mi],
@@ -385,19 +449,40 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         scan = {k: v.copy() for k, v in scan_c.items()}
         for k in scan:
             scan[k][mi] = sm[k]
+    return scan, scan_c
+
+
+def _punching(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Punching at the column face and the control perimeters within 2d (6.4).
+
+    Every perimeter within 2d (6.4.4(2), reference decision 13): the pile reactions deducted in
+    proportion to the pile head area inside each perimeter (common practice), the same share at the
+    column perimeter (a = 0) for the column-face check (6.4.5(3)). Moment transfer (issue 15, item
+    2): beta of 6.4.3(3) at the column face, Eq. (6.51) with u and W of each perimeter (the moments
+    of the load case; MEd reduced by the reactions inside), the simplified beta of 6.4.3(6) as the
+    method `simplified-6.4.3-6` (accepted where punching_beta_simplified = 1).
+    """
+    f, rnd, d_mean = inp.f, inp.rnd, q["d_mean"]
+    N, mx, my, cx, cy = f["n_ed"], f["mx_ed"], f["my_ed"], f["column_x"], f["column_y"]
+    u0 = pun.column_perimeter(cx, cy, rnd)
+    applies = pun.perimeter_applies(g.X, g.Y, g.mask, f["pile_dia"], cx, cy, rnd)
+    applies = np.where(np.isnan(d_mean) | np.isnan(q["n_piles"]), np.nan, applies)
+    rho2 = pun.rho_two_way(q["rho_x"], q["rho_y"])
+    vrdc2 = shr.v_rdc(q["fck_shear"], d_mean, rho2, gamma_c=float(_pget(p, "gamma_c")),
+                      crd_c_factor=float(_pget(p, "crd_c_factor")))
+    scan, scan_c = _punching_scan(inp, g, piles["R_col"], d_mean, vrdc2)
     dved0 = np.nan_to_num(scan["dv0"], nan=0.0)  # piles unknown: nothing deducted (conservative)
     on = applies == 1.0
     beta0, beta0_src = pun.beta_column(N, mx, my, cx, cy, rnd, d_mean)
     beta_s = float(_pget(p, "beta_simplified"))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ecc_x, ecc_y = np.abs(my) / N, np.abs(mx) / N
     q.update(
         u0=u0, dved0=dved0, ved_red0=N - dved0,
-        beta0=beta0, beta0_src=beta0_src, punch_ex=ecc_x, punch_ey=ecc_y,
-        k_punch_x=np.where(rnd, 0.6, pun.k_moment(cx, cy)), k_punch_y=np.where(rnd, 0.6, pun.k_moment(cy, cx)),
+        beta0=beta0, beta0_src=beta0_src,
+        punch_ex=pun.load_eccentricity(my, N), punch_ey=pun.load_eccentricity(mx, N),
+        k_punch_x=pun.k_moment_column(cx, cy, rnd), k_punch_y=pun.k_moment_column(cy, cx, rnd),
         ved0=pun.shear_stress_column_face(N - dved0, u0, d_mean, beta=beta0),
         ved0_simpl=pun.shear_stress_column_face(N - dved0, u0, d_mean, beta=beta_s),
-        vrd_max_punch=pun.v_rd_max(nu, fcd_shear, coeff=float(_pget(p, "vrdmax_coeff"))),
+        vrd_max_punch=pun.v_rd_max(q["nu"], q["fcd_shear"], coeff=float(_pget(p, "vrdmax_coeff"))),
         punch_applies=applies,
         u1=np.where(on, scan["u"], np.nan), a_punch=np.where(on, scan["a"], np.nan),
         a_punch_d=np.where(on, scan["a"] / d_mean, np.nan),
@@ -411,18 +496,25 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         rho_punch=rho2, vrdc_punch=vrdc2,
     )
 
-    # ---- piles near the cap edge punching upward (issue 15, item 4) -----------------------
-    # the perimeter at 2d round each pile whose face is within 2d of a cap edge, Figure 6.15 form
-    # (6.4.2(4)); VEd = the pile's worst reaction with the positional tolerance (as pile-reaction,
-    # self-weight share included) plus the neighbours' reactions inside, less the column load
-    # inside; against vRd,c (two-way rho, a = 2d)
-    r0_tol, swing_tol, _, _ = rea._tolerance_swing(X, Y, mask, n_tot, mx, my, e_tol, False)
-    pp = pun.pile_punching(np.where(mask, r0_tol + swing_tol, np.nan), R, X, Y, mask, phi_p, cx, cy,
-                           rnd, N, sw, d_mean, L, W, vrdc2)
+
+def _pile_punching(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Piles near the cap edge punching upward (issue 15, item 4).
+
+    The perimeter at 2d round each pile whose face is within 2d of a cap edge, Figure 6.15 form
+    (6.4.2(4)); VEd = the pile's worst reaction with the positional tolerance (as pile-reaction,
+    self-weight share included) plus the neighbours' reactions inside, less the column load inside;
+    against vRd,c (two-way rho, a = 2d).
+    """
+    f, X, Y, mask = inp.f, g.X, g.Y, g.mask
+    npile, d_mean, vrdc2 = q["n_piles"], q["d_mean"], q["vrdc_punch"]
+    r0_tol, swing_tol, _, _ = rea.tolerance_swing(X, Y, mask, q["n_total"], f["mx_ed"], f["my_ed"],
+                                                  float(_pget(p, "pile_tolerance")), False, terms=g.terms)
+    pp = pun.pile_punching(np.where(mask, r0_tol + swing_tol, np.nan), piles["R"], X, Y, mask, f["pile_dia"],
+                           f["column_x"], f["column_y"], inp.rnd, f["n_ed"], q["self_weight"], d_mean,
+                           f["cap_length"], f["cap_width"], vrdc2)
     pp_on = (pp["applies"] == 1.0) & (npile >= 2)
-    pp_app = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, pp_on.astype(float))
+    q["pile_punch_applies"] = np.where(np.isnan(d_mean) | np.isnan(npile), np.nan, pp_on.astype(float))
     q.update(
-        pile_punch_applies=pp_app,
         ved_pile=np.where(pp_on, pp["ved"], np.nan), vrd_pile=np.where(pp_on, vrdc2, np.nan),
         ved_pile_force=np.where(pp_on, pp["ved_force"], np.nan),
         r_pile_punch=np.where(pp_on, pp["reaction"], np.nan),
@@ -434,42 +526,52 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         x_pile_punch=np.where(pp_on, pp["x"], np.nan), y_pile_punch=np.where(pp_on, pp["y"], np.nan),
     )
 
-    # ---- anchorage ----------------------------------------------------------------------
-    eta1 = float(_pget(p, "eta1"))
-    # 8.4.2(2): fctd for bond at no more than C60/75
-    fck_b = anc.fck_for_bond(fck)
-    fctd_b = mat.fctd(mat.fctk_005(fck_b, values=values), alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
-    fbd_x = anc.bond_strength(fctd_b, phx, eta1=eta1)
-    fbd_y = anc.bond_strength(fctd_b, phy, eta1=eta1)
+
+def _anchorage(q: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Bond strength and the required and available anchorage lengths of the ties (8.4)."""
+    f = inp.f
+    eta1, alpha_ct = float(_pget(p, "eta1")), float(_pget(p, "alpha_ct"))
+    gamma_c, values = float(_pget(p, "gamma_c")), str(_pget(p, "material_values"))
+    fck_b = anc.fck_for_bond(f["fck"])  # 8.4.2(2): fctd for bond at no more than C60/75
+    fctd_b = mat.fctd(mat.fctk_005(fck_b, values=values), alpha_ct=alpha_ct, gamma_c=gamma_c)
+    fbd_x = anc.bond_strength(fctd_b, f["phi_x"], eta1=eta1)
+    fbd_y = anc.bond_strength(fctd_b, f["phi_y"], eta1=eta1)
     q.update(fck_bond=fck_b, fctd_bond=fctd_b, fbd=np.fmin(fbd_x, fbd_y), fbd_x=fbd_x, fbd_y=fbd_y)
-    outer_x = geo.row_max(np.abs(X), mask)
-    outer_y = geo.row_max(np.abs(Y), mask)
-    for k, phi, fbd_k, clear, half, outer in (("x", phx, fbd_x, clear_x, 0.5 * L, outer_x),
-                                              ("y", phy, fbd_y, clear_y, 0.5 * W, outer_y)):
-        sig = anc.bar_stress(q[f"tie_{k}"], q[f"as_tie_{k}"], fyd)
+    cover, h, phi_p = f["cover"], f["cap_depth"], f["pile_dia"]
+    for k, phi, fbd_k, half, coord in (("x", f["phi_x"], fbd_x, 0.5 * f["cap_length"], g.X),
+                                       ("y", f["phi_y"], fbd_y, 0.5 * f["cap_width"], g.Y)):
+        outer = geo.row_max(np.abs(coord), g.mask)
+        sig = anc.bar_stress(q[f"tie_{k}"], q[f"as_tie_{k}"], q["fyd"])
         lb_rqd = anc.basic_anchorage_length(phi, sig, fbd_k)
-        cd = anc.cd_straight(cover, clear)
-        a1 = anc.alpha1(cd, phi, bent)
-        a2 = anc.alpha2(cd, phi, bent)
+        cd = anc.cd_straight(cover, q[f"clear_{k}"])
+        a1 = anc.alpha1(cd, phi, inp.bent)
+        a2 = anc.alpha2(cd, phi, inp.bent)
         q[f"sigma_sd_{k}"] = sig
         q[f"lb_rqd_{k}"] = lb_rqd
         q[f"lbd_{k}"] = anc.design_anchorage_length(lb_rqd, phi, a1, a2)
-        q[f"lb_avail_{k}"] = anc.available_length(half, cover, outer, phi_p, h, phi, bent)
+        q[f"lb_avail_{k}"] = anc.available_length(half, cover, outer, phi_p, h, phi, inp.bent)
         # method variant: the other material-value convention (Table 3.1 values or formulas)
         alt = "formula" if values != "formula" else "table"
-        fctd_alt = mat.fctd(mat.fctk_005(fck_b, values=alt), alpha_ct=float(_pget(p, "alpha_ct")), gamma_c=gamma_c)
-        fbd_alt = anc.bond_strength(fctd_alt, phi, eta1=eta1)
-        lb_alt = anc.basic_anchorage_length(phi, sig, fbd_alt)
+        fctd_alt = mat.fctd(mat.fctk_005(fck_b, values=alt), alpha_ct=alpha_ct, gamma_c=gamma_c)
+        lb_alt = anc.basic_anchorage_length(phi, sig, anc.bond_strength(fctd_alt, phi, eta1=eta1))
         q[f"lbd_{k}_{alt}"] = anc.design_anchorage_length(lb_alt, phi, a1, a2)
         q[f"lbd_{k}_{'formula' if values == 'formula' else 'table'}"] = q[f"lbd_{k}"]
 
-    # ---- bending theory: an accepted method of the tie-steel checks (tie-method = bending) -----
-    # the cap as a wide beam at the column face (or bending_section_inset × the column width
-    # inside it), rectangular stress block (3.1.7(3)), against the steel lying over the tie rows
+
+def _bending(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+    """Bending theory, an accepted method of the tie-steel checks (tie-method = bending).
+
+    The cap as a wide beam at the column face (or bending_section_inset × the column width inside
+    it), rectangular stress block (3.1.7(3)), against the steel lying over the tie rows.
+    """
+    f, R, mask = inp.f, piles["R"], g.mask
+    fcd, fck, fyd = q["fcd"], f["fck"], q["fyd"]
     inset = float(_pget(p, "bending_section_inset"))
-    for k, coord, col, d, width in (("x", X, cx, d_x, W), ("y", Y, cy, d_y, L)):
+    for k, coord, col, width in (("x", g.X, f["column_x"], f["cap_width"]),
+                                 ("y", g.Y, f["column_y"], f["cap_length"])):
+        d = q[f"d_{k}"]
         m = det.moment_at_column_face(coord, R, mask, col, inset=inset)
-        m = np.where(np.isnan(npile), np.nan, m)
+        m = np.where(np.isnan(q["n_piles"]), np.nan, m)
         z = det.lever_arm(m, width, d, fcd, fck)
         has = (m > 0) & np.isfinite(q[f"tie_{k}"])
         q[f"m_face_{k}"] = m
@@ -479,31 +581,35 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         q[f"as_req_{k}_bend"] = q[f"as_bend_{k}"]
         q[f"as_tie_{k}_bend"] = np.where(has, q[f"as_layer_counted_{k}"], np.nan)
 
-    # ---- single-pile caps: splitting tie and pile-head bearing (issue 15, item 3) -------------
-    # EN 1992-1-1:2004 6.5.3(3), Figure 6.25, Eq. (6.58)/(6.59): the column load spreads out from
-    # the column and gathers into the pile head; in each plan direction a = the loaded width (the
-    # column side, the pile's design diameter; circles as their equivalent square), b = the cap's
-    # plan dimension, H = the cap depth; the end with the larger tie governs (column end F = N,
-    # pile end F = R with the cap self-weight). The tie is carried by closed horizontal links, two
-    # legs per set across the plane, counted within the splitting zone (checker/calcs/splitting.py).
-    # The pile head bears on the cap as a partially loaded area (6.7, Eq. (6.63)): Ac0 = the pile
-    # head, Ac1 spread over the depth above the pile head (h less the embedment) and within the plan.
-    single = npile == 1
-    n_links = _num(caps, "n_links", n)
-    phi_links = _num(caps, "phi_links", n)
-    s_links = _num(caps, "s_links", n)
+
+def _single_pile(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup) -> None:
+    """Single-pile caps: splitting tie and pile-head bearing (issue 15, item 3).
+
+    EN 1992-1-1:2004 6.5.3(3), Figure 6.25, Eq. (6.58)/(6.59): the column load spreads out from the
+    column and gathers into the pile head; in each plan direction a = the loaded width (the column
+    side, the pile's design diameter; circles as their equivalent square), b = the cap's plan
+    dimension, H = the cap depth; the end with the larger tie governs (column end F = N, pile end
+    F = R with the cap self-weight). The tie is carried by closed horizontal links, two legs per set
+    across the plane, counted within the splitting zone (checker/calcs/splitting.py). The pile head
+    bears on the cap as a partially loaded area (6.7, Eq. (6.63)): Ac0 = the pile head, Ac1 spread
+    over the depth above the pile head (h less the embedment) and within the plan.
+    """
+    f, n, fyd, dp = inp.f, inp.n, q["fyd"], q["pile_dia_design"]
+    L, W, h, N = f["cap_length"], f["cap_width"], f["cap_depth"], f["n_ed"]
+    single = q["n_piles"] == 1
+    n_links, phi_links, s_links = (_num(inp.caps, k, n) for k in ("n_links", "phi_links", "s_links"))
     links_stated = ~np.isnan(phi_links) & ~(np.isnan(n_links) & np.isnan(s_links))
-    a_pile_burst = st.equivalent_square_side(a_pile)
-    r_single = geo.row_max(R, mask)
+    a_col = st.column_area(f["column_x"], f["column_y"], inp.rnd)
+    a_pile_burst = st.equivalent_square_side(np.pi * dp * dp / 4.0)
+    r_single = geo.row_max(piles["R"], g.mask)
     q["links_stated"] = _flag(links_stated)
     q["n_links"], q["phi_links"], q["s_links"] = n_links, phi_links, s_links
     q["a_burst_pile"] = np.where(single, a_pile_burst, np.nan)
-    for k, col, b in (("x", cx, L), ("y", cy, W)):
-        a_col_k = np.where(rnd, st.equivalent_square_side(a_col), col)
+    for k, col, b in (("x", f["column_x"], L), ("y", f["column_y"], W)):
+        a_col_k = st.column_loaded_width(col, a_col, inp.rnd)
         t_col = spl.splitting_tie(N, a_col_k, b, h)
         t_pile = spl.splitting_tie(r_single, a_pile_burst, b, h)
-        t = np.fmax(t_col, t_pile)
-        t = np.where(np.isnan(t_col) | np.isnan(t_pile), np.nan, t)
+        t = spl.governing_splitting_tie(t_col, t_pile)
         zone = spl.splitting_zone_depth(b, h)
         sets = spl.link_sets_in_zone(zone, n_links, s_links)
         as_links = np.where(links_stated, spl.link_area_across_plane(sets, phi_links), 0.0)
@@ -520,18 +626,15 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
     pla_pile = st.partially_loaded_area_ratio(dp, dp, h_above, L, W)
     q["h_above_pile"] = np.where(single, h_above, np.nan)
     q["pla_ratio_pile"] = np.where(single, pla_pile, np.nan)
-    q["pile_bearing_limit"] = np.where(single, st.partially_loaded_limit(fcd, pla_pile), np.nan)
+    q["pile_bearing_limit"] = np.where(single, st.partially_loaded_limit(q["fcd"], pla_pile), np.nan)
 
-    # ---- crack control of the bottom steel (EN 1992-1-1 7.3), crack-x / crack-y -------------
-    # steel stress T/As counted of the tie check's truss under the SLS case (self-weight unfactored);
-    # on a ULS row qp_ratio x the ULS stress (NaN unless the profile sets the ratio). Two accepted
-    # methods, each as the largest steel stress it allows: Tables 7.2N (with Eq. (7.6N)) or 7.3N,
-    # either met (7.3.3(2)); and the calculated wk of 7.3.4 against wmax
-    q.update(_crack_quantities(caps, q, f, p, n))
 
-    # ---- the designer's figures ---------------------------------------------------------
-    # a schedule's single "d" is compared with the mean of the two layers' effective depths (they
-    # differ by about one bar diameter, well inside the tolerance, so either layer's d also agrees)
+def _stated_figures(q: dict, inp: Inputs) -> np.ndarray:
+    """The designer's figures against the re-check: ``stated_diff`` and the figure that differs most.
+
+    A schedule's single "d" is compared with the mean of the two layers' effective depths (they
+    differ by about one bar diameter, well inside the tolerance, so either layer's d also agrees).
+    """
     q["d_mean"] = 0.5 * (q["d_x"] + q["d_y"])
     checks = {
         "stated_pile_load": q["r_nom_max"],
@@ -541,22 +644,12 @@ def _derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nd
         "stated_as_y": q["as_req_y"],
         "stated_d": q["d_mean"],
     }
-    diffs = np.stack([_rel_diff(f[name], checks[name]) for name in STATED_ITEMS], axis=1)
+    diffs = np.stack([_rel_diff(inp.f[name], checks[name]) for name in STATED_ITEMS], axis=1)
     any_d = ~np.all(np.isnan(diffs), axis=1)
     worst = np.argmax(np.where(np.isnan(diffs), -np.inf, diffs), axis=1)
     q["stated_diff"] = np.where(any_d, np.max(np.where(np.isnan(diffs), -np.inf, diffs), axis=1),
                                 np.nan)
-    what = np.where(any_d, np.asarray(STATED_ITEMS, dtype=object)[worst], "")  # text, not a quantity
-
-    # ---- inputs as quantities -----------------------------------------------------------
-    for name in INPUT_QUANTITIES:
-        q[name] = f[name]
-    q["column_round"] = _flag(rnd)
-
-    return Derived(q=q, X=X, Y=Y, mask=mask,
-                   piles={"R": R, "R_col": R_col, "Hx": Hx, "Hy": Hy, "theta": theta, "r": r,
-                          "face_dist": face_dist},
-                   text={"stated_diff_what": what})
+    return np.where(any_d, np.asarray(STATED_ITEMS, dtype=object)[worst], "")  # text, not a quantity
 
 
 def _crack_quantities(caps: pd.DataFrame, q: dict, f: dict, p: dict, n: int) -> dict[str, np.ndarray]:
