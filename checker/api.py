@@ -36,6 +36,7 @@ class Review:
     table_problems: list[dict[str, Any]] = field(default_factory=list)  # [{"source": {...}, "errors": [...]}]
     unused_headings: list[str] = field(default_factory=list)       # headings of the schedule not read
     remedy: Any = None                     # checker.remedy.RemedyResult: what would pass (issue 16), or None
+    variants: dict[str, Any] = field(default_factory=dict)  # rule id -> ruleset.evaluate.VariantOutcome
     _working: Any = None                   # callable(mark) -> list[WorkingLine]
     _working_many: Any = None              # callable(marks) -> {mark: {rule: working lines}}
 
@@ -107,7 +108,8 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
         derived = derive(caps, schedule.coords, params)
         env: dict[str, Any] = dict(derived.q)
         env.update(numeric_params(params))
-        findings = evaluate(ruleset, env, caps, render=True if messages == "all" else "issues")
+        outcomes: dict[str, Any] = {}
+        findings = evaluate(ruleset, env, caps, render=True if messages == "all" else "issues", outcomes=outcomes)
 
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
     pile_xy: dict[str, np.ndarray] = {}
@@ -173,6 +175,7 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
         rules_dir=", ".join(ruleset.folders),
         pile_xy=pile_xy,
         quantities=dict(derived.q),
+        variants=outcomes,
         notes=list(getattr(schedule, "notes", []) or []),
         skipped=list(getattr(schedule, "skipped", []) or []),
         table_problems=list(getattr(schedule, "problems", []) or []),
@@ -193,8 +196,9 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         derived = derive(ex.frame, schedule.coords, params)
         env: dict[str, Any] = dict(derived.q)
         env.update(numeric_params(params))
+        outcomes: dict[str, Any] = {}
         findings, _gov = evaluate_cases(ruleset, env, ex, caps, params,
-                                        render=True if messages == "all" else "issues")
+                                        render=True if messages == "all" else "issues", outcomes=outcomes)
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
     pile_xy: dict[str, np.ndarray] = {}
     X, Y, mask = derived.X, derived.Y, derived.mask
@@ -218,7 +222,7 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         findings=findings, caps=caps, rejected=list(schedule.rejected), rows_read=int(schedule.rows_read),
         profile_name=ruleset.profile.name, profile_params=params,
         profile_sources=dict(ruleset.profile.sources), rules=list(ruleset.rules), submission=submission,
-        rules_dir=", ".join(ruleset.folders), pile_xy=pile_xy, quantities=quantities,
+        rules_dir=", ".join(ruleset.folders), pile_xy=pile_xy, quantities=quantities, variants=outcomes,
         notes=list(getattr(schedule, "notes", []) or []), cases=schedule.cases,
         case_rows=int(schedule.case_rows), _working=working,
     )

@@ -355,3 +355,26 @@ def test_the_loads_option_of_the_command(tmp_path, capsys, findings_json):
     assert code == 0
     assert result(doc, "T3", "pile-reaction")["case"] == "ULS max M"
     assert doc["summary"]["case_rows"] == 1 and doc["summary"]["rows_read"] == 2
+
+
+def test_accepted_methods_table_reads_the_governing_case():
+    """The explain table's figures are those the engine graded: for a load-dependent rule, its
+    governing case (PC3 of revision C: the pile reaction governs under "ULS max M", unsafe under
+    both accepted methods), never re-worked on the cap's first case."""
+    from checker.report.variants_table import variant_rows
+
+    rv = review(SAMPLES / "harbourside-rev-C-cases.csv")
+    f = rv.findings
+    rows = variant_rows(rv, "PC3")
+    assert rows
+    for rid in {r.rule for r in rows}:
+        hit = f[(f["cap"] == "PC3") & (f["rule"] == rid)].iloc[0]
+        mine = [r for r in rows if r.rule == rid]
+        failing = {v for v in (hit["variants_failing"] or "").split("; ") if v}
+        assert {r.variant for r in mine if r.verdict == "not met"} == failing, rid
+        if not (isinstance(hit["value"], float) and math.isnan(hit["value"])):
+            assert mine[0].default
+            assert mine[0].value == pytest.approx(hit["value"], rel=1e-12), rid
+            assert mine[0].limit == pytest.approx(hit["limit"], rel=1e-12), rid
+    pile = {r.variant: r for r in rows if r.rule == "pile-reaction"}
+    assert {r.verdict for r in pile.values()} == {"not met"}

@@ -17,8 +17,11 @@ from bench_engine import synthetic_schedule  # noqa: E402  (invented caps)
 
 import checker  # noqa: E402
 from checker.findings import comment_records, records, sort_findings, source_of  # noqa: E402
-from checker.report.json_out import dumps, to_document  # noqa: E402
-from checker.ruleset.evaluate import variants_record  # noqa: E402
+from checker.report.json_out import (  # noqa: E402
+    dumps,
+    to_document,
+    variants_record,
+)
 
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_submissions" / "harbourside-rev-A.csv"
 

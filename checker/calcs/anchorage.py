@@ -7,10 +7,14 @@ runs from there to the bar end at the cap face, plus the vertical leg where the 
 
 from __future__ import annotations
 
+from typing import cast
+
 import numpy as np
 
+from checker.calcs._typing import Floats, Real
 
-def eta2(phi):
+
+def eta2(phi: Real) -> Floats:
     """EN 1992-1-1:2004 8.4.2(2)
 
     Bar-size coefficient η2 = 1.0 for φ ≤ 32, (132 − φ)/100 above [V: S8].
@@ -25,7 +29,7 @@ def eta2(phi):
     return np.where(phi <= 32.0, 1.0, (132.0 - phi) / 100.0)
 
 
-def bond_strength(fctd, phi, eta1=1.0):
+def bond_strength(fctd: Real, phi: Real, eta1: Real = 1.0) -> Floats:
     """EN 1992-1-1:2004 8.4.2(2), Eq. (8.2)
 
     Ultimate bond stress fbd = 2.25 η1 η2 fctd [V: S8]. η1 = 1.0 for good bond (bottom bars of a
@@ -39,10 +43,10 @@ def bond_strength(fctd, phi, eta1=1.0):
     Returns:
         fbd [MPa]
     """
-    return 2.25 * eta1 * eta2(phi) * np.asarray(fctd, dtype=float)
+    return cast(Floats, 2.25 * eta1 * eta2(phi) * np.asarray(fctd, dtype=float))
 
 
-def fck_for_bond(fck, fck_max=60.0):
+def fck_for_bond(fck: Real, fck_max: Real = 60.0) -> Floats:
     """EN 1992-1-1:2004 8.4.2(2)
 
     Cylinder strength at which fctd is taken in the bond strength: fctk,0.05 is limited to the
@@ -56,10 +60,10 @@ def fck_for_bond(fck, fck_max=60.0):
     Returns:
         fck for fctd in Eq. (8.2) [MPa]
     """
-    return np.minimum(np.asarray(fck, dtype=float), fck_max)
+    return cast(Floats, np.minimum(np.asarray(fck, dtype=float), fck_max))
 
 
-def bar_stress(tie_force, as_prov, fyd):
+def bar_stress(tie_force: Real, as_prov: Real, fyd: Real) -> Floats:
     """EN 1992-1-1:2004 8.4.3(2)
 
     Design stress of the bar where the anchorage starts, σsd = T/As,prov ≤ fyd [V: S7; CP for
@@ -76,7 +80,7 @@ def bar_stress(tie_force, as_prov, fyd):
     return np.minimum(np.asarray(tie_force, dtype=float) / as_prov, fyd)
 
 
-def basic_anchorage_length(phi, sigma_sd, fbd):
+def basic_anchorage_length(phi: Real, sigma_sd: Real, fbd: Real) -> Floats:
     """EN 1992-1-1:2004 8.4.3(2), Eq. (8.3)
 
     Basic required anchorage length lb,rqd = (φ/4)(σsd/fbd) [V: S7].
@@ -92,7 +96,7 @@ def basic_anchorage_length(phi, sigma_sd, fbd):
     return 0.25 * np.asarray(phi, dtype=float) * sigma_sd / fbd
 
 
-def cd_straight(cover, clear_spacing):
+def cd_straight(cover: Real, clear_spacing: Real) -> Floats:
     """EN 1992-1-1:2004 8.4.4(1), Table 8.2
 
     Cover dimension cd = min(a/2, c) for the bottom bars, a = clear spacing, c = cover (the
@@ -105,10 +109,10 @@ def cd_straight(cover, clear_spacing):
     Returns:
         cd [mm]
     """
-    return np.minimum(np.asarray(cover, dtype=float), 0.5 * np.asarray(clear_spacing, dtype=float))
+    return cast(Floats, np.minimum(np.asarray(cover, dtype=float), 0.5 * np.asarray(clear_spacing, dtype=float)))
 
 
-def alpha1(cd, phi, bent):
+def alpha1(cd: Real, phi: Real, bent: Real) -> Floats:
     """EN 1992-1-1:2004 8.4.4(1), Table 8.2
 
     Shape coefficient α1 = 0.7 for bent or hooked bars in tension where cd > 3φ, else 1.0 [M].
@@ -125,7 +129,7 @@ def alpha1(cd, phi, bent):
     return np.where(ok, 0.7, 1.0)
 
 
-def alpha2(cd, phi, bent=False):
+def alpha2(cd: Real, phi: Real, bent: bool | Real = False) -> Floats:
     """EN 1992-1-1:2004 8.4.4(1), Table 8.2
 
     Cover coefficient α2 = 1 − 0.15(cd − φ)/φ for straight bars, 1 − 0.15(cd − 3φ)/φ for
@@ -141,10 +145,10 @@ def alpha2(cd, phi, bent=False):
     """
     phi = np.asarray(phi, dtype=float)
     k = np.where(np.asarray(bent, dtype=bool), 3.0, 1.0)
-    return np.clip(1.0 - 0.15 * (np.asarray(cd, dtype=float) - k * phi) / phi, 0.7, 1.0)
+    return cast(Floats, np.clip(1.0 - 0.15 * (np.asarray(cd, dtype=float) - k * phi) / phi, 0.7, 1.0))
 
 
-def min_anchorage_length(lb_rqd, phi):
+def min_anchorage_length(lb_rqd: Real, phi: Real) -> Floats:
     """EN 1992-1-1:2004 8.4.4(1), Eq. (8.6)
 
     Minimum anchorage length in tension lb,min = max(0.3 lb,rqd, 10φ, 100 mm) [V: S7].
@@ -159,7 +163,7 @@ def min_anchorage_length(lb_rqd, phi):
     return np.maximum(np.maximum(0.3 * np.asarray(lb_rqd, dtype=float), 10.0 * np.asarray(phi, dtype=float)), 100.0)
 
 
-def design_anchorage_length(lb_rqd, phi, a1=1.0, a2=1.0):
+def design_anchorage_length(lb_rqd: Real, phi: Real, a1: Real = 1.0, a2: Real = 1.0) -> Floats:
     """EN 1992-1-1:2004 8.4.4(1), Eq. (8.4)
 
     Design anchorage length lbd = α1 α2 α3 α4 α5 lb,rqd ≥ lb,min with α3 = α4 = α5 = 1.0
@@ -177,7 +181,8 @@ def design_anchorage_length(lb_rqd, phi, a1=1.0, a2=1.0):
     return np.maximum(a1 * a2 * np.asarray(lb_rqd, dtype=float), min_anchorage_length(lb_rqd, phi))
 
 
-def available_length(half_cap, cover, outer_coord, pile_dia, h=0.0, phi=0.0, bent=False):
+def available_length(half_cap: Real, cover: Real, outer_coord: Real, pile_dia: Real, h: Real = 0.0, phi: Real = 0.0,
+                     bent: bool | Real = False) -> Floats:
     """Common practice: bar length from the inner face of the outermost pile to the bar end
 
     Straight: (L/2 − cover) − (|x|max − φp/2), the anchorage measured from the inner face of

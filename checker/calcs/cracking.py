@@ -15,8 +15,11 @@ stress beyond the last row of a column has no value (the table is not met).
 from __future__ import annotations
 
 import re
+from typing import cast
 
 import numpy as np
+
+from checker.calcs._typing import Floats, Real
 
 #: rows of Tables 7.2N and 7.3N, steel stress [MPa]
 TABLE_STRESS = np.array([160.0, 200.0, 240.0, 280.0, 320.0, 360.0, 400.0, 450.0])
@@ -47,7 +50,7 @@ TABLE_7_3N = np.array([
 _EXPOSURE_RE = re.compile(r"X0|X[CDSFA]\d")
 
 
-def _column(table: np.ndarray, wmax) -> np.ndarray:
+def _column(table: np.ndarray, wmax: Real) -> np.ndarray:
     """The table's column for each wmax, interpolated linearly between the printed columns:
     shape (n, 8). A wmax outside 0.2 ... 0.4 is read at the nearest column."""
     w = np.clip(np.atleast_1d(np.asarray(wmax, dtype=float)), TABLE_WK[0], TABLE_WK[-1])
@@ -60,7 +63,7 @@ def _column(table: np.ndarray, wmax) -> np.ndarray:
     return np.where(np.isnan(w)[:, None], np.nan, col)
 
 
-def _read(table: np.ndarray, sigma_s, wmax):
+def _read(table: np.ndarray, sigma_s: Real, wmax: Real) -> Floats:
     """Forward reading of a table at a steel stress (vectorised over caps)."""
     s, w = np.broadcast_arrays(np.asarray(sigma_s, dtype=float), np.asarray(wmax, dtype=float))
     shape = s.shape
@@ -76,7 +79,7 @@ def _read(table: np.ndarray, sigma_s, wmax):
     return np.where(np.isnan(s), np.nan, val).reshape(shape)
 
 
-def _invert(table: np.ndarray, q, wmax):
+def _invert(table: np.ndarray, q: Real, wmax: Real) -> Floats:
     """The largest tabulated steel stress at which the table's entry is at least q; 0 where no row
     of the table allows q (not met at any stress of the table)."""
     q, w = np.broadcast_arrays(np.asarray(q, dtype=float), np.asarray(wmax, dtype=float))
@@ -96,7 +99,7 @@ def _invert(table: np.ndarray, q, wmax):
     return np.where(np.isnan(q) | np.isnan(w), np.nan, best).reshape(shape)
 
 
-def wmax_exposure(exposure, wmax_x0=0.4, wmax_other=0.3):
+def wmax_exposure(exposure: Real, wmax_x0: Real = 0.4, wmax_other: Real = 0.3) -> Floats:
     """EN 1992-1-1:2004 7.3.1(5), Table 7.1N
 
     Recommended wmax for reinforced members under the quasi-permanent combination (from memory
@@ -127,7 +130,7 @@ def wmax_exposure(exposure, wmax_x0=0.4, wmax_other=0.3):
     return vals[inv].reshape(text.shape)
 
 
-def steel_stress_service(tie, as_counted):
+def steel_stress_service(tie: Real, as_counted: Real) -> Floats:
     """Derived: steel stress of a tie under service loads, sigma_s = T/As (the truss of the tie check)
 
     Args:
@@ -138,10 +141,10 @@ def steel_stress_service(tie, as_counted):
         sigma_s [MPa]
     """
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.asarray(tie, dtype=float) / np.asarray(as_counted, dtype=float)
+        return cast(Floats, np.asarray(tie, dtype=float) / np.asarray(as_counted, dtype=float))
 
 
-def phi_max_table(sigma_s, wmax):
+def phi_max_table(sigma_s: Real, wmax: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.3(2), Table 7.2N
 
     Maximum bar diameter phi*_s for crack control (from memory [M]); linear in the steel stress and
@@ -157,7 +160,7 @@ def phi_max_table(sigma_s, wmax):
     return _read(TABLE_7_2N, sigma_s, wmax)
 
 
-def spacing_max_table(sigma_s, wmax):
+def spacing_max_table(sigma_s: Real, wmax: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.3(2), Table 7.3N
 
     Maximum bar spacing for crack control (from memory [M]); linear in the steel stress and in wk
@@ -173,7 +176,7 @@ def spacing_max_table(sigma_s, wmax):
     return _read(TABLE_7_3N, sigma_s, wmax)
 
 
-def phi_factor_bending(fct_eff, h, d, kc=0.4, hcr=None):
+def phi_factor_bending(fct_eff: Real, h: Real, d: Real, kc: Real = 0.4, hcr: Real | None = None) -> Floats:
     """EN 1992-1-1:2004 7.3.3(2), Eq. (7.6N)
 
     Modification of the Table 7.2N diameter for bending: phi_s = phi*_s (fct,eff/2.9) kc hcr/(2(h - d));
@@ -196,7 +199,7 @@ def phi_factor_bending(fct_eff, h, d, kc=0.4, hcr=None):
         return (np.asarray(fct_eff, dtype=float) / 2.9) * kc * hcr / (2.0 * (h - d))
 
 
-def stress_limit_phi(phi, wmax, factor):
+def stress_limit_phi(phi: Real, wmax: Real, factor: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.3(2), Table 7.2N
 
     The largest steel stress at which the bars meet Table 7.2N as modified by Eq. (7.6N): phi <=
@@ -215,7 +218,7 @@ def stress_limit_phi(phi, wmax, factor):
         return _invert(TABLE_7_2N, np.asarray(phi, dtype=float) / factor, wmax)
 
 
-def stress_limit_spacing(spacing, wmax):
+def stress_limit_spacing(spacing: Real, wmax: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.3(2), Table 7.3N
 
     The largest steel stress at which the bar centres meet Table 7.3N (linear interpolation); 0
@@ -231,7 +234,7 @@ def stress_limit_spacing(spacing, wmax):
     return _invert(TABLE_7_3N, spacing, wmax)
 
 
-def neutral_axis_cracked(d, rho, alpha_e):
+def neutral_axis_cracked(d: Real, rho: Real, alpha_e: Real) -> Floats:
     """Derived: neutral axis depth of a cracked rectangular section in bending, elastic, no compression steel
 
     x = d (sqrt((alpha_e rho)² + 2 alpha_e rho) - alpha_e rho), from the first moment of the
@@ -246,10 +249,10 @@ def neutral_axis_cracked(d, rho, alpha_e):
         x [mm]
     """
     ar = np.asarray(alpha_e, dtype=float) * np.asarray(rho, dtype=float)
-    return np.asarray(d, dtype=float) * (np.sqrt(ar * ar + 2.0 * ar) - ar)
+    return cast(Floats, np.asarray(d, dtype=float) * (np.sqrt(ar * ar + 2.0 * ar) - ar))
 
 
-def hc_eff(h, d, x):
+def hc_eff(h: Real, d: Real, x: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.2(3)
 
     Effective depth of the concrete in tension round the bars, hc,ef = min(2.5 (h - d), (h - x)/3,
@@ -267,7 +270,7 @@ def hc_eff(h, d, x):
     return np.minimum(np.minimum(2.5 * (h - d), (h - x) / 3.0), h / 2.0)
 
 
-def rho_p_eff(as_, ac_eff):
+def rho_p_eff(as_: Real, ac_eff: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.4(2), Eq. (7.10)
 
     rho_p,eff = As/Ac,eff for reinforcing steel alone (no bonded tendons).
@@ -280,10 +283,11 @@ def rho_p_eff(as_, ac_eff):
         rho_p,eff [-]
     """
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.asarray(as_, dtype=float) / np.asarray(ac_eff, dtype=float)
+        return cast(Floats, np.asarray(as_, dtype=float) / np.asarray(ac_eff, dtype=float))
 
 
-def strain_difference(sigma_s, alpha_e, rho, fct_eff, kt=0.4, es=200000.0):
+def strain_difference(sigma_s: Real, alpha_e: Real, rho: Real, fct_eff: Real, kt: Real = 0.4,
+                      es: Real = 200000.0) -> Floats:
     """EN 1992-1-1:2004 7.3.4(2), Eq. (7.9)
 
     eps_sm - eps_cm = [sigma_s - kt fct,eff/rho_p,eff (1 + alpha_e rho_p,eff)]/Es >= 0.6 sigma_s/Es;
@@ -306,7 +310,8 @@ def strain_difference(sigma_s, alpha_e, rho, fct_eff, kt=0.4, es=200000.0):
     return np.maximum((s - tension) / es, 0.6 * s / es)
 
 
-def sr_max_close(c, phi, rho, k1=0.8, k2=0.5, k3=3.4, k4=0.425):
+def sr_max_close(c: Real, phi: Real, rho: Real, k1: Real = 0.8, k2: Real = 0.5, k3: Real = 3.4,
+                 k4: Real = 0.425) -> Floats:
     """EN 1992-1-1:2004 7.3.4(3), Eq. (7.11)
 
     Maximum crack spacing where the bars are at centres no more than 5(c + phi/2):
@@ -329,7 +334,7 @@ def sr_max_close(c, phi, rho, k1=0.8, k2=0.5, k3=3.4, k4=0.425):
         return k3 * np.asarray(c, dtype=float) + k1 * k2 * k4 * np.asarray(phi, dtype=float) / rho
 
 
-def sr_max_far(h, x):
+def sr_max_far(h: Real, x: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.4(3), Eq. (7.14)
 
     Maximum crack spacing where the bars are at centres above 5(c + phi/2): sr,max = 1.3 (h - x).
@@ -344,7 +349,7 @@ def sr_max_far(h, x):
     return 1.3 * (np.asarray(h, dtype=float) - x)
 
 
-def close_centres_limit(c, phi):
+def close_centres_limit(c: Real, phi: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.4(3)
 
     The largest centres at which Eq. (7.11) applies, 5(c + phi/2).
@@ -359,7 +364,7 @@ def close_centres_limit(c, phi):
     return 5.0 * (np.asarray(c, dtype=float) + 0.5 * np.asarray(phi, dtype=float))
 
 
-def crack_width(sr_max, strain):
+def crack_width(sr_max: Real, strain: Real) -> Floats:
     """EN 1992-1-1:2004 7.3.4(1), Eq. (7.8)
 
     wk = sr,max (eps_sm - eps_cm).
@@ -374,7 +379,8 @@ def crack_width(sr_max, strain):
     return np.asarray(sr_max, dtype=float) * strain
 
 
-def stress_limit_crack_width(wmax, sr_max, alpha_e, rho, fct_eff, kt=0.4, es=200000.0):
+def stress_limit_crack_width(wmax: Real, sr_max: Real, alpha_e: Real, rho: Real, fct_eff: Real, kt: Real = 0.4,
+                             es: Real = 200000.0) -> Floats:
     """Derived: the steel stress at which Eq. (7.8) with (7.9) gives wk = wmax
 
     eps_sm - eps_cm = max((sigma - B)/Es, 0.6 sigma/Es) with B = kt fct,eff/rho (1 + alpha_e rho)

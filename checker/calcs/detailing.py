@@ -5,8 +5,11 @@ bending-theory alternative of reference §8 (for the working only).
 from __future__ import annotations
 
 import re
+from typing import cast
 
 import numpy as np
+
+from checker.calcs._typing import Floats, Real
 
 # EN 1992-1-1:2004 Table 4.4N, cmin,dur for reinforcing steel, structural class S4 (recommended
 # values), from memory [M]. The UK NA refers to BS 8500-1 instead; these are the EN values.
@@ -20,7 +23,7 @@ CMIN_DUR_S4 = {
 _EXPOSURE_RE = re.compile(r"X0|X[CDS]\d")
 
 
-def bar_area(n, phi):
+def bar_area(n: Real, phi: Real) -> Floats:
     """Derived: area of n bars of diameter φ, n·πφ²/4
 
     Args:
@@ -34,7 +37,7 @@ def bar_area(n, phi):
     return np.asarray(n, dtype=float) * np.pi * phi * phi / 4.0
 
 
-def layer_centres(width, cover, phi, n):
+def layer_centres(width: Real, cover: Real, phi: Real, n: Real) -> Floats:
     """Derived: centres of n bars spread across a width, (width − 2·cover − φ)/(n − 1)
 
     Args:
@@ -51,7 +54,7 @@ def layer_centres(width, cover, phi, n):
     return (np.asarray(width, dtype=float) - 2.0 * cover - phi) / gaps
 
 
-def bar_count_from_centres(width, cover, phi, centres):
+def bar_count_from_centres(width: Real, cover: Real, phi: Real, centres: Real) -> Floats:
     """Derived: bars of a layer given at stated centres, floor((width − 2·cover − φ)/s) + 1
 
     Args:
@@ -66,7 +69,7 @@ def bar_count_from_centres(width, cover, phi, centres):
     return np.floor((np.asarray(width, dtype=float) - 2.0 * cover - phi) / centres + 1e-9) + 1.0
 
 
-def clear_spacing(centres, phi):
+def clear_spacing(centres: Real, phi: Real) -> Floats:
     """Derived: clear distance between adjacent parallel bars, centres − φ
 
     Args:
@@ -79,7 +82,7 @@ def clear_spacing(centres, phi):
     return np.asarray(centres, dtype=float) - phi
 
 
-def min_clear_spacing(phi, dg=20.0, k1=1.0, k2=5.0):
+def min_clear_spacing(phi: Real, dg: Real = 20.0, k1: Real = 1.0, k2: Real = 5.0) -> Floats:
     """EN 1992-1-1:2004 8.2(2)
 
     Minimum clear spacing of bars max(k1 φ, dg + k2, 20 mm); recommended k1 = 1, k2 = 5 mm
@@ -97,7 +100,7 @@ def min_clear_spacing(phi, dg=20.0, k1=1.0, k2=5.0):
     return np.maximum(np.maximum(k1 * np.asarray(phi, dtype=float), dg + k2), 20.0)
 
 
-def as_min(fctm, fyk, bt, d):
+def as_min(fctm: Real, fyk: Real, bt: Real, d: Real) -> Floats:
     """EN 1992-1-1:2004 9.2.1.1(1), Eq. (9.1N)
 
     Minimum tension reinforcement As,min = max(0.26 fctm/fyk, 0.0013) bt d [V: S5, S14].
@@ -112,10 +115,10 @@ def as_min(fctm, fyk, bt, d):
         As,min [mm²]
     """
     ratio = np.maximum(0.26 * np.asarray(fctm, dtype=float) / fyk, 0.0013)
-    return ratio * bt * np.asarray(d, dtype=float)
+    return cast(Floats, ratio * bt * np.asarray(d, dtype=float))
 
 
-def as_max(ac):
+def as_max(ac: Real) -> Floats:
     """EN 1992-1-1:2004 9.2.1.1(3)
 
     Maximum tension reinforcement outside laps As,max = 0.04 Ac (recommended) [V: S14; M EN].
@@ -129,7 +132,7 @@ def as_max(ac):
     return 0.04 * np.asarray(ac, dtype=float)
 
 
-def cmin_dur(exposure):
+def cmin_dur(exposure: Real) -> Floats:
     """EN 1992-1-1:2004 4.4.1.2(5), Table 4.4N
 
     Minimum cover for durability cmin,dur, reinforcing steel, structural class S4 [M]: X0 10,
@@ -150,7 +153,7 @@ def cmin_dur(exposure):
     return vals[inv].reshape(text.shape)
 
 
-def distribution_steel(as_main, proportion=0.2):
+def distribution_steel(as_main: Real, proportion: Real = 0.2) -> Floats:
     """EN 1992-1-1:2004 9.3.1.1(2)
 
     Secondary (distribution) reinforcement of a one-way slab, at least 20 % of the principal
@@ -167,7 +170,7 @@ def distribution_steel(as_main, proportion=0.2):
     return proportion * np.asarray(as_main, dtype=float)
 
 
-def cmin_bond(phi_lowest, phi_second=0.0):
+def cmin_bond(phi_lowest: Real, phi_second: Real = 0.0) -> Floats:
     """EN 1992-1-1:2004 4.4.1.2(3), Table 4.2
 
     Minimum cover for bond cmin,b = the bar diameter (separated bars), for the bars nearest the
@@ -182,10 +185,10 @@ def cmin_bond(phi_lowest, phi_second=0.0):
         cmin,b to be met by the stated cover [mm]
     """
     lo = np.asarray(phi_lowest, dtype=float)
-    return np.fmax(lo, np.asarray(phi_second, dtype=float) - lo)
+    return cast(Floats, np.fmax(lo, np.asarray(phi_second, dtype=float) - lo))
 
 
-def nominal_cover_required(cmin_dur, cmin_b, delta_c_dev=10.0, k1=40.0):
+def nominal_cover_required(cmin_dur: Real, cmin_b: Real, delta_c_dev: Real = 10.0, k1: Real = 40.0) -> Floats:
     """EN 1992-1-1:2004 4.4.1.1(2), Eq. (4.1)
 
     Cover required (with 4.4.1.2(2), Eq. (4.2), and 4.4.1.3(4)): cnom = cmin + Δcdev, cmin = max(cmin,b, cmin,dur, 10
@@ -204,10 +207,10 @@ def nominal_cover_required(cmin_dur, cmin_b, delta_c_dev=10.0, k1=40.0):
         cnom required [mm]
     """
     cmin = np.fmax(np.maximum(np.asarray(cmin_b, dtype=float), 10.0), cmin_dur)
-    return np.maximum(cmin, k1) + delta_c_dev
+    return cast(Floats, np.maximum(cmin, k1) + delta_c_dev)
 
 
-def moment_at_column_face(coord, reaction, mask, column_size, inset=0.0):
+def moment_at_column_face(coord: Real, reaction: Real, mask: Real, column_size: Real, inset: Real = 0.0) -> Floats:
     """Common practice: bending moment at the column face, Σ R_i (|c_i| − c/2) on the worse side
 
     Bending-theory alternative (reference §8; 9.8.1(2) [M]) [CP]: the cap as a wide beam
@@ -231,10 +234,10 @@ def moment_at_column_face(coord, reaction, mask, column_size, inset=0.0):
     m = np.where(mask, reaction * lever, 0.0)
     pos = np.sum(np.where(coord > 0, m, 0.0), axis=1)
     neg = np.sum(np.where(coord < 0, m, 0.0), axis=1)
-    return np.maximum(pos, neg)
+    return cast(Floats, np.maximum(pos, neg))
 
 
-def lever_arm(moment, b, d, fcd, fck):
+def lever_arm(moment: Real, b: Real, d: Real, fcd: Real, fck: Real) -> Floats:
     """EN 1992-1-1:2004 3.1.7(3)
 
     Lever arm of a singly reinforced rectangular section with the rectangular stress block
@@ -261,7 +264,7 @@ def lever_arm(moment, b, d, fcd, fck):
     return np.minimum(d * (0.5 + np.sqrt(np.where(disc >= 0, disc, np.nan))), 0.95 * d)
 
 
-def bending_steel(moment, b, d, fcd, fck, fyd):
+def bending_steel(moment: Real, b: Real, d: Real, fcd: Real, fck: Real, fyd: Real) -> Floats:
     """Common practice: bending steel of the cap as a wide beam, As = M/(fyd z) (reference §8)
 
     z from :func:`lever_arm` (EN 1992-1-1:2004 3.1.7(3), z ≤ 0.95 d) [CP]; NaN where compression

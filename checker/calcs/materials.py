@@ -7,7 +7,11 @@ C32/40 of BS 8500). ``values="formula"`` uses the formulae throughout.
 
 from __future__ import annotations
 
+from typing import cast
+
 import numpy as np
+
+from checker.calcs._typing import Floats, Real
 
 # EN 1992-1-1:2004 Table 3.1, printed values. C20/25 to C50/60 verified in a retrieved
 # transcription [V: S11]; C12/15, C16/20 and C55/67 to C90/105 from memory [M].
@@ -17,7 +21,7 @@ _TABLE_FCTK005 = np.array([1.1, 1.3, 1.5, 1.8, 2.0, 2.2, 2.5, 2.7, 2.9, 3.0, 3.1
 _TABLE_ECM_GPA = np.array([27, 29, 30, 31, 33, 34, 35, 36, 37, 38, 39, 41, 42, 44], dtype=float)
 
 
-def _table_lookup(fck, table: np.ndarray):
+def _table_lookup(fck: Real, table: np.ndarray) -> Floats:
     """Printed Table 3.1 value for each fck, NaN where the class is not listed."""
     fck = np.asarray(fck, dtype=float)
     idx = np.clip(np.searchsorted(_TABLE_FCK, fck), 0, _TABLE_FCK.size - 1)
@@ -25,7 +29,7 @@ def _table_lookup(fck, table: np.ndarray):
     return np.where(listed, table[idx], np.nan)
 
 
-def table_listed(fck):
+def table_listed(fck: Real) -> Floats:
     """EN 1992-1-1:2004 3.1.2, Table 3.1
 
     Whether Table 3.1 lists the strength class (1.0 listed, 0.0 not).
@@ -39,7 +43,7 @@ def table_listed(fck):
     return np.isfinite(_table_lookup(fck, _TABLE_FCTM)).astype(float)
 
 
-def fcm(fck, delta_f=8.0):
+def fcm(fck: Real, delta_f: Real = 8.0) -> Floats:
     """EN 1992-1-1:2004 3.1.2, Table 3.1
 
     Mean cylinder compressive strength fcm = fck + 8 [V: S11].
@@ -54,7 +58,7 @@ def fcm(fck, delta_f=8.0):
     return np.asarray(fck, dtype=float) + delta_f
 
 
-def fctm_formula(fck):
+def fctm_formula(fck: Real) -> Floats:
     """EN 1992-1-1:2004 3.1.2, Table 3.1
 
     Mean axial tensile strength by the Table 3.1 formulae [V: S11, S24]:
@@ -72,7 +76,7 @@ def fctm_formula(fck):
     return np.where(fck <= 50.0, low, high)
 
 
-def fctm(fck, values="table"):
+def fctm(fck: Real, values: str = "table") -> Floats:
     """EN 1992-1-1:2004 3.1.2, Table 3.1
 
     Mean axial tensile strength: printed Table 3.1 value where the class is listed and
@@ -92,7 +96,7 @@ def fctm(fck, values="table"):
     return np.where(np.isfinite(tab), tab, formula)
 
 
-def fctk_005(fck, values="table"):
+def fctk_005(fck: Real, values: str = "table") -> Floats:
     """EN 1992-1-1:2004 3.1.2, Table 3.1
 
     5 % fractile of the axial tensile strength, fctk,0.05 = 0.7 fctm [V: S11]; printed value
@@ -112,7 +116,7 @@ def fctk_005(fck, values="table"):
     return np.where(np.isfinite(tab), tab, formula)
 
 
-def fctk_095(fck):
+def fctk_095(fck: Real) -> Floats:
     """EN 1992-1-1:2004 3.1.2, Table 3.1
 
     95 % fractile of the axial tensile strength, fctk,0.95 = 1.3 fctm (formula) [V: S11].
@@ -126,7 +130,7 @@ def fctk_095(fck):
     return 1.3 * fctm_formula(fck)
 
 
-def ecm(fck, values="table"):
+def ecm(fck: Real, values: str = "table") -> Floats:
     """EN 1992-1-1:2004 3.1.3, Table 3.1
 
     Secant modulus of elasticity Ecm = 22 (fcm/10)^0.3 GPa [V: S11]; printed value where the
@@ -146,7 +150,7 @@ def ecm(fck, values="table"):
     return np.where(np.isfinite(tab), tab, formula)
 
 
-def fcd(fck, alpha_cc=1.0, gamma_c=1.5):
+def fcd(fck: Real, alpha_cc: Real = 1.0, gamma_c: Real = 1.5) -> Floats:
     """EN 1992-1-1:2004 3.1.6(1)P, Eq. (3.15)
 
     Design compressive strength fcd = αcc fck/γc.
@@ -163,7 +167,7 @@ def fcd(fck, alpha_cc=1.0, gamma_c=1.5):
     return alpha_cc * np.asarray(fck, dtype=float) / gamma_c
 
 
-def fctd(fctk005, alpha_ct=1.0, gamma_c=1.5):
+def fctd(fctk005: Real, alpha_ct: Real = 1.0, gamma_c: Real = 1.5) -> Floats:
     """EN 1992-1-1:2004 3.1.6(2)P, Eq. (3.16)
 
     Design tensile strength fctd = αct fctk,0.05/γc.
@@ -179,7 +183,7 @@ def fctd(fctk005, alpha_ct=1.0, gamma_c=1.5):
     return alpha_ct * np.asarray(fctk005, dtype=float) / gamma_c
 
 
-def fyd(fyk, gamma_s=1.15):
+def fyd(fyk: Real, gamma_s: Real = 1.15) -> Floats:
     """EN 1992-1-1:2004 3.2.7(2), Figure 3.8
 
     Design yield strength of reinforcement fyd = fyk/γs.
@@ -194,7 +198,7 @@ def fyd(fyk, gamma_s=1.15):
     return np.asarray(fyk, dtype=float) / gamma_s
 
 
-def nu_prime(fck):
+def nu_prime(fck: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.2(2), Eq. (6.57N)
 
     Strength reduction for struts and nodes ν' = 1 − fck/250 (recommended value) [V: S4].
@@ -208,7 +212,7 @@ def nu_prime(fck):
     return 1.0 - np.asarray(fck, dtype=float) / 250.0
 
 
-def nu(fck):
+def nu(fck: Real) -> Floats:
     """EN 1992-1-1:2004 6.2.2(6), Eq. (6.6N)
 
     Strength reduction for concrete cracked in shear ν = 0.6 (1 − fck/250) [V: S3, S24].
@@ -222,7 +226,7 @@ def nu(fck):
     return 0.6 * (1.0 - np.asarray(fck, dtype=float) / 250.0)
 
 
-def fck_for_shear(fck, fck_max=np.inf):
+def fck_for_shear(fck: Real, fck_max: Real = np.inf) -> Floats:
     """EN 1992-1-1:2004 3.1.2(2)P
 
     With the UK NA to BS EN 1992-1-1 (3.1.2(2)P): cylinder strength used in the shear resistance (vRd,c and vmin of
@@ -239,4 +243,4 @@ def fck_for_shear(fck, fck_max=np.inf):
     Returns:
         fck used in shear [MPa]
     """
-    return np.minimum(np.asarray(fck, dtype=float), fck_max)
+    return cast(Floats, np.minimum(np.asarray(fck, dtype=float), fck_max))

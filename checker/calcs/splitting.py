@@ -24,10 +24,14 @@ one each end has a zone of 0.8 b and its own tie T.
 
 from __future__ import annotations
 
+from typing import cast
+
 import numpy as np
 
+from checker.calcs._typing import Floats, Real
 
-def splitting_tie_partial(force, a, b):
+
+def splitting_tie_partial(force: Real, a: Real, b: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.3(3), Eq. (6.58)
 
     Transverse tie of a partial discontinuity (b ≤ H/2, Figure 6.25 a), T = ¼ (b − a)/b F; zero
@@ -43,10 +47,10 @@ def splitting_tie_partial(force, a, b):
     """
     a = np.asarray(a, dtype=float)
     b = np.asarray(b, dtype=float)
-    return 0.25 * np.maximum(b - a, 0.0) / b * np.asarray(force, dtype=float)
+    return cast(Floats, 0.25 * np.maximum(b - a, 0.0) / b * np.asarray(force, dtype=float))
 
 
-def splitting_tie_full(force, a, h):
+def splitting_tie_full(force: Real, a: Real, h: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.3(3), Eq. (6.59)
 
     Transverse tie of a full discontinuity (b > H/2, Figure 6.25 b), T = ¼ (1 − 0.7 a/h) F with
@@ -65,7 +69,7 @@ def splitting_tie_full(force, a, h):
     return 0.25 * (1.0 - 0.7 * a / h) * np.asarray(force, dtype=float)
 
 
-def full_discontinuity(b, depth):
+def full_discontinuity(b: Real, depth: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.3(3), Figure 6.25
 
     Which of the two cases applies: full discontinuity where the width b exceeds half the depth H
@@ -83,7 +87,7 @@ def full_discontinuity(b, depth):
     return np.where(np.isnan(b) | np.isnan(depth), np.nan, (b > 0.5 * depth).astype(float))
 
 
-def splitting_tie(force, a, b, depth):
+def splitting_tie(force: Real, a: Real, b: Real, depth: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.3(3), Figure 6.25
 
     Transverse tie under a concentrated force on a member of width b and depth H: Eq. (6.58)
@@ -105,7 +109,7 @@ def splitting_tie(force, a, b, depth):
     return np.where(np.isnan(full), np.nan, np.where(full == 1.0, t_full, t_part))
 
 
-def splitting_zone_depth(b, depth):
+def splitting_zone_depth(b: Real, depth: Real) -> Floats:
     """Common practice: depth of the zone whose links carry the splitting tie (from memory)
 
     The transverse tension lies from about 0.2 l to l from each loaded face, l = min(b, H/2) the
@@ -126,7 +130,7 @@ def splitting_zone_depth(b, depth):
     return np.where(full == 1.0, 0.8 * depth, np.where(full == 0.0, 0.8 * b, np.nan))
 
 
-def link_sets_in_zone(zone, count, centres):
+def link_sets_in_zone(zone: Real, count: Real, centres: Real) -> Floats:
     """Common practice: link sets counted within a zone (at stated centres, the fewest any placing gives)
 
     A count form (``4H16``: four sets) is taken as placed within the zone; a spacing form
@@ -149,7 +153,7 @@ def link_sets_in_zone(zone, count, centres):
     return np.where(np.isnan(count), spaced, count)
 
 
-def link_area_across_plane(sets, phi, legs=2.0):
+def link_area_across_plane(sets: Real, phi: Real, legs: Real = 2.0) -> Floats:
     """Derived: area of closed links crossing a vertical plane, legs × π φ²/4 × sets
 
     A closed horizontal link round the cap crosses a vertical plane through the column centre

@@ -9,6 +9,7 @@ the same records (see ``tests/benchmarks/bench_writers.py``), without holding th
 
 from __future__ import annotations
 
+import functools
 import io
 import itertools
 import json
@@ -19,7 +20,6 @@ import numpy as np
 
 from checker.caution import CAUTION
 from checker.findings import count_by_severity
-from checker.ruleset.evaluate import variants_record
 
 SCHEMA = "capcheck.findings/1"
 CHUNK = 5000          # results encoded and written per piece
@@ -86,6 +86,39 @@ def _number_texts(values) -> list[str]:
     for i in np.flatnonzero(~np.isfinite(values)).tolist():
         out[i] = "null"
     return out
+
+
+def variants_record(row: dict) -> dict | None:
+    """The ``variants`` object of the JSON contract from a findings row (None for single-method rules):
+    the engine's variant columns as they are, the passing methods the accepted ones not failing."""
+    acc = row.get("variants_accepted")
+    if not isinstance(acc, str):
+        return None
+    failing = row.get("variants_failing") or ""
+    accepted, failed, passing = _variant_lists(acc, failing if isinstance(failing, str) else "")
+    return {
+        "accepted": list(accepted),
+        "failing": list(failed),
+        "passing": list(passing),
+        "lowest": {"variant": row.get("variant_lo"), "utilisation": _r(row.get("util_lo"))},
+        "highest": {"variant": row.get("variant_hi"), "utilisation": _r(row.get("util_hi"))},
+    }
+
+
+@functools.lru_cache(maxsize=4096)
+def _variant_lists(accepted_text: str, failing_text: str) -> tuple[tuple[str, ...], ...]:
+    """(accepted, failing, passing) from the ``; ``-joined texts of a findings row (few distinct
+    pairs over a whole schedule, hence the cache)."""
+    accepted = tuple(a for a in accepted_text.split("; ") if a)
+    failing = tuple(a for a in failing_text.split("; ") if a)
+    return accepted, failing, tuple(a for a in accepted if a not in failing)
+
+
+def _r(x):
+    if x is None:
+        return None
+    x = float(x)
+    return None if (x != x or x in (float("inf"), float("-inf"))) else round(x, 4)
 
 
 def iter_result_texts(review, *, working: bool = False, chunk: int = CHUNK,

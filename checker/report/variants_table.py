@@ -2,17 +2,18 @@
 
 For every rule of the cap that declares method variants (``[[rule.variant]]`` in the rule files),
 one row per accepted combination of variants (one per family): the governing check's value,
-limit, utilisation and whether it is met under that method. The figures come from the Review
-alone: the rule is re-evaluated for that cap's row with the engine's own ``_governing`` over the
-derived quantities, each variant's quantities swapped in through ``_Overlay``, so no formula is
-written twice. Where the schedule states the method, only the stated variant was graded and only
-its rows are shown (the findings row's ``variants_accepted`` says which).
+limit, utilisation and whether it is met under that method. The figures are read from the
+Review's ``variants`` (one :class:`checker.ruleset.evaluate.VariantOutcome` per rule with
+variants), which the engine keeps as it grades the findings (in the load-case path, on the
+governing case the findings report): nothing is evaluated here. Where the schedule states the
+method, only the stated variant was graded and only its rows are shown.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from rich import box
@@ -20,8 +21,6 @@ from rich.table import Table
 from rich.text import Text
 
 from checker.report.palette import severity_text
-from checker.ruleset.catalogue import OUTPUT_SCALE
-from checker.ruleset.evaluate import _combo_name, _governing, _Overlay, variant_combos
 
 VERDICT_STYLE = {"met": "green", "not met": "bold red", "cannot be verified": "magenta"}
 
@@ -41,62 +40,24 @@ class VariantRow:
     default: bool         # the first variant of every family (the default method)
 
 
-def _cap_env(review, i: int) -> dict:
-    """The evaluation environment of ``check_schedule`` (derived quantities, then the numeric
-    profile parameters) cut down to one cap's row."""
-    env: dict = {}
-    for k, v in review.quantities.items():
-        env[k] = v[i:i + 1] if isinstance(v, np.ndarray) and v.ndim == 1 else v
-    env.update({k: float(v) for k, v in review.profile_params.items() if not isinstance(v, str)})
-    return env
-
-
-def variant_rows(review, mark: str) -> list[VariantRow]:
+def variant_rows(review: Any, mark: str) -> list[VariantRow]:
     """Every accepted method combination of every variant-bearing rule of cap ``mark``.
 
     Rules that do not apply to the cap (e.g. y ties of a two-pile cap) are left out."""
-    if not review.quantities or not len(review.caps):
+    outcomes = getattr(review, "variants", None) or {}
+    if not outcomes or not len(review.caps):
         return []
     idx = np.flatnonzero(review.caps["mark"].astype(str).to_numpy() == str(mark))
     if idx.size == 0:
         return []
-    env = _cap_env(review, int(idx[0]))
-    f = review.findings
-    accepted_by_rule: dict[str, set[str]] = {}
-    no_figures: set[str] = set()
-    if len(f) and "variants_accepted" in f:
-        mine = f[f["cap"].astype(str) == str(mark)]
-        for rid, acc in zip(mine["rule"].astype(str), mine["variants_accepted"]):
-            if isinstance(acc, str) and acc:
-                accepted_by_rule[rid] = set(acc.split("; "))
-        blank = mine["value"].astype(float).isna() & mine["limit"].astype(float).isna()
-        no_figures = set(mine.loc[blank, "rule"].astype(str))
+    i = int(idx[0])
     out: list[VariantRow] = []
     for rule in review.rules:
-        combos = variant_combos(rule) if getattr(rule, "variants", ()) else []
-        if len(combos) <= 1:
+        oc = outcomes.get(rule.id)
+        if oc is None:
             continue
-        if getattr(rule, "cases", None) == "sls" and rule.id in no_figures:
-            continue  # a serviceability check without service loads (a query asking for them): no figures
-        accepted = accepted_by_rule.get(rule.id)
-        scale = OUTPUT_SCALE.get(rule.unit, 1.0)
-        rows: list[VariantRow] = []
-        applies = False
-        for ci, c in enumerate(combos):
-            name = _combo_name(c)
-            if accepted is not None and name not in accepted:
-                continue
-            o = _governing(rule, _Overlay(env, [(a, b) for v in c for a, b in v.use]), 1)
-            if not (bool(o.applies[0]) and bool(o.any_use[0])):
-                continue
-            applies = True
-            verdict = ("cannot be verified" if bool(o.missing[0])
-                       else "not met" if bool(o.fail[0]) else "met")
-            rows.append(VariantRow(rule.id, name, rule.checks[int(o.g[0])].label,
-                                   float(o.value[0]) * scale, float(o.limit[0]) * scale, rule.unit,
-                                   float(o.util[0]), verdict, ci == 0))
-        if applies:
-            out.extend(rows)
+        out.extend(VariantRow(rule.id, v.name, v.check, v.value, v.limit, rule.unit, v.utilisation, v.verdict,
+                              v.combination == 0) for v in oc.at(i))
     return out
 
 

@@ -34,6 +34,7 @@ from checker.ruleset.evaluate import (
     SLS_MISSING_ACTION,
     SLS_MISSING_MESSAGE,
     RuleResult,
+    VariantOutcome,
     _put,
     assemble,
     evaluate_rule,
@@ -174,8 +175,11 @@ def _kn(x: float) -> str:
 
 
 def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params: dict, *,
-                   render: bool | str = True) -> tuple[pd.DataFrame, dict[str, np.ndarray]]:
-    """Every rule over the expanded frame -> (findings, rule id -> governing row of each cap)."""
+                   render: bool | str = True, outcomes: dict[str, VariantOutcome] | None = None,
+                   ) -> tuple[pd.DataFrame, dict[str, np.ndarray]]:
+    """Every rule over the expanded frame -> (findings, rule id -> governing row of each cap).
+    ``outcomes``, if given, receives each rule with variants' :class:`VariantOutcome` per cap, made
+    with its findings (for a load-dependent rule, on the governing case the findings report)."""
     n = len(caps)
     N = ex.cap.size
     if n == 0:
@@ -188,12 +192,12 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
     governing: dict[str, np.ndarray] = {}
     for rule in ruleset.rules:
         mode = case_mode(rule)
-        if mode is None:
-            results.append(evaluate_rule(rule, first, n, methods=methods, render=render))
-            continue
-        if mode == "envelope":
-            res = evaluate_rule(rule, _Envelope(env, ex), n, methods=methods, render=render)
+        if mode is None or mode == "envelope":
+            res = evaluate_rule(rule, first if mode is None else _Envelope(env, ex), n, methods=methods,
+                                render=render)
             results.append(res)
+            if outcomes is not None and res.outcome is not None:
+                outcomes[rule.id] = res.outcome
             continue
         core = evaluate_rule(rule, env, N, methods=methods_ex, render=False)
         eligible = _eligible(mode, ex, env)
@@ -230,6 +234,8 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
         res.case = case
         results.append(res)
         governing[rule.id] = gov
+        if outcomes is not None and res.outcome is not None:
+            outcomes[rule.id] = res.outcome
     return assemble(results, caps), governing
 
 
@@ -253,6 +259,8 @@ def _no_case(rule, mode: str, res: RuleResult, none: np.ndarray, ex: Expanded, e
     if res.variants is not None:
         for k, v in res.variants.items():
             v[idx] = np.nan if k.startswith("util") else None
+    if res.outcome is not None:
+        res.outcome.ungraded(idx, hide=mode == "sls")
     kinds_of = {int(c): sorted(set(ex.kind[ex.starts[c]:ex.starts[c] + ex.counts[c]].tolist()) - {""})
                 for c in idx.tolist()}
     if mode == "capacity-basis":

@@ -9,7 +9,6 @@ utilisation, else the highest utilisation of those that could be evaluated.
 
 from __future__ import annotations
 
-import functools
 import operator
 import re
 from dataclasses import dataclass
@@ -76,6 +75,59 @@ class RuleResult:
     variants: dict | None = None   # the spread over the accepted methods (VARIANT_COLUMNS arrays)
     code: np.ndarray | None = None  # severity rank per cap (index into SEVERITY_ORDER)
     case: np.ndarray | None = None  # the governing load case per cap (object: str or None), issue 11
+    outcome: VariantOutcome | None = None  # each accepted method's figures (rules with variants)
+
+
+VARIANT_VERDICTS = ("met", "not met", "cannot be verified")
+
+
+@dataclass(frozen=True)
+class VariantFigures:
+    """One method combination of one rule for one cap, as the engine graded it (output units)."""
+
+    combination: int      # index into VariantOutcome.names; 0 is the default (first of each family)
+    name: str             # e.g. "strut-face + cct"
+    check: str            # label of the governing check under that combination
+    value: float
+    limit: float
+    utilisation: float
+    verdict: str          # one of VARIANT_VERDICTS
+
+
+@dataclass
+class VariantOutcome:
+    """Every method combination of one rule with variants, per cap, made once with its findings:
+    what ``capcheck explain`` shows under "Accepted methods". Arrays are (combinations, caps),
+    indexed by the row of the Review's caps (in the load-case path the cap's governing case)."""
+
+    rule: str
+    names: tuple[str, ...]      # combination names, the defaults first
+    labels: tuple[str, ...]     # the rule's check labels (``check`` indexes them)
+    check: np.ndarray           # int8: the governing check under each combination
+    value: np.ndarray           # float64, output units
+    limit: np.ndarray
+    util: np.ndarray
+    verdict: np.ndarray         # int8 index into VARIANT_VERDICTS
+    applies: np.ndarray         # bool: the rule and one of its checks apply under the combination
+    accepted: np.ndarray        # bool: graded for the cap (only the stated method where one is stated)
+    shown: np.ndarray           # bool per cap: False where the result has no figures to split by method
+                                # (a serviceability rule without service loads)
+
+    def at(self, i: int) -> list[VariantFigures]:
+        """The accepted, applicable combinations of cap row ``i``."""
+        if not bool(self.shown[i]):
+            return []
+        return [VariantFigures(c, self.names[c], self.labels[int(self.check[c, i])], float(self.value[c, i]),
+                               float(self.limit[c, i]), float(self.util[c, i]),
+                               VARIANT_VERDICTS[int(self.verdict[c, i])])
+                for c in range(len(self.names)) if self.applies[c, i] and self.accepted[c, i]]
+
+    def ungraded(self, idx: np.ndarray, *, hide: bool) -> None:
+        """Caps whose result the load-case path turns into a query (no usable case): every
+        combination counts as accepted (the findings name none); ``hide`` where no figures remain."""
+        self.accepted[:, idx] = True
+        if hide:
+            self.shown[idx] = False
 
 
 @dataclass
@@ -299,9 +351,29 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     if noted.size:
         _put(message, noted, [f"{m} {t}".strip() for m, t in zip(message[noted].tolist(), notes[noted].tolist())])
     variants = None
+    outcome = None
     if grading is not None:
         variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
-    return RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, variants, code)
+        outcome = _variant_outcome(rule, grading, variants, scale)
+    res = RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, variants, code,
+                     outcome=outcome)
+    if outcome is not None and rule.cases == "sls":
+        # a serviceability result without figures (not applicable, or its inputs missing) is not split
+        outcome.shown &= ~(np.isnan(res.value) & np.isnan(res.limit))
+    return res
+
+
+def _variant_outcome(rule: Rule, grading: tuple, variants: dict, scale: float) -> VariantOutcome:
+    """Each combination's governing figures and verdict per cap, kept as the findings are made."""
+    combos, outs, _fails, _evaluated, _nf, _ne, _st, allowed, _rep = grading
+    live = np.not_equal(variants["variants_accepted"], None)
+    verdict = np.stack([np.where(o.missing, 2, np.where(o.fail, 1, 0)) for o in outs]).astype(np.int8)
+    return VariantOutcome(
+        rule.id, tuple(_combo_name(c) for c in combos), tuple(c.label for c in rule.checks),
+        np.stack([o.g for o in outs]).astype(np.int8 if len(rule.checks) < 128 else np.int32),
+        np.stack([o.value for o in outs]) * scale, np.stack([o.limit for o in outs]) * scale,
+        np.stack([o.util for o in outs]), verdict,
+        np.stack([o.applies & o.any_use for o in outs]), allowed | ~live, np.ones(live.size, bool))
 
 
 def _figures(rule: Rule, value: np.ndarray, limit: np.ndarray, util: np.ndarray):
@@ -403,31 +475,6 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
     return out
 
 
-def variants_record(row: dict) -> dict | None:
-    """The ``variants`` object of the JSON contract from a findings row (None for single-method rules)."""
-    acc = row.get("variants_accepted")
-    if not isinstance(acc, str):
-        return None
-    failing = row.get("variants_failing") or ""
-    accepted, failed, passing = _variant_lists(acc, failing if isinstance(failing, str) else "")
-    return {
-        "accepted": list(accepted),
-        "failing": list(failed),
-        "passing": list(passing),
-        "lowest": {"variant": row.get("variant_lo"), "utilisation": _r(row.get("util_lo"))},
-        "highest": {"variant": row.get("variant_hi"), "utilisation": _r(row.get("util_hi"))},
-    }
-
-
-@functools.lru_cache(maxsize=4096)
-def _variant_lists(accepted_text: str, failing_text: str) -> tuple[tuple[str, ...], ...]:
-    """(accepted, failing, passing) from the ``; ``-joined texts of a findings row (few distinct
-    pairs over a whole schedule, hence the cache)."""
-    accepted = tuple(a for a in accepted_text.split("; ") if a)
-    failing = tuple(a for a in failing_text.split("; ") if a)
-    return accepted, failing, tuple(a for a in accepted if a not in failing)
-
-
 def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
     """Name the methods a verdict turns on: the family whose variant alone decides it, if one does
     ("fails under strut-face; passes under bearing"), else every combination."""
@@ -444,15 +491,10 @@ def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
     return ", ".join(failing), ", ".join(passing)
 
 
-def _r(x):
-    if x is None:
-        return None
-    x = float(x)
-    return None if (x != x or x in (float("inf"), float("-inf"))) else round(x, 4)
-
-
-def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | str = True) -> pd.DataFrame:
-    """All rules over all caps -> the findings frame (FINDING_COLUMNS), sorted."""
+def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | str = True,
+             outcomes: dict[str, VariantOutcome] | None = None) -> pd.DataFrame:
+    """All rules over all caps -> the findings frame (FINDING_COLUMNS), sorted. ``outcomes``, if
+    given, receives each rule with variants' :class:`VariantOutcome` (rendered runs only)."""
     n = len(caps)
     if n == 0:
         return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
@@ -463,6 +505,8 @@ def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | 
         if r.cases == "sls":  # one ULS case per cap here: no SLS case
             sls_on_uls(r, res, env, np.ones(n, bool), render)
         results.append(res)
+        if outcomes is not None and res.outcome is not None:
+            outcomes[r.id] = res.outcome
     return assemble(results, caps)
 
 
@@ -498,6 +542,8 @@ def sls_on_uls(rule: Rule, res: RuleResult, env, rows: np.ndarray, render, whats
     if res.variants is not None:
         for k, v in res.variants.items():
             v[idx] = np.nan if k.startswith("util") else None
+    if res.outcome is not None:
+        res.outcome.ungraded(idx, hide=True)
     if render:
         what = [""] * idx.size if whats is None else [whats[i] for i in idx.tolist()]
         _put(res.message, idx, [SLS_MISSING_MESSAGE.format(what=w) for w in what])
