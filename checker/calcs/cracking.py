@@ -18,6 +18,7 @@ import re
 from typing import cast
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from checker.calcs._typing import Floats, Real
 
@@ -404,7 +405,7 @@ def stress_limit_crack_width(wmax: Real, sr_max: Real, alpha_e: Real, rho: Real,
     return np.minimum(e + b, e / 0.6)
 
 
-def centres_are_close(centres, c, phi):
+def centres_are_close(centres: Real, c: Real, phi: Real) -> NDArray[np.bool_]:
     """EN 1992-1-1:2004 7.3.4(3)
 
     True where the bar centres are within :func:`close_centres_limit` (Eq. (7.11) applies), with a
@@ -418,10 +419,10 @@ def centres_are_close(centres, c, phi):
     Returns:
         close [-]
     """
-    return centres <= close_centres_limit(c, phi) * (1 + 1e-9)
+    return cast(NDArray[np.bool_], np.asarray(centres, dtype=float) <= close_centres_limit(c, phi) * (1 + 1e-9))
 
 
-def quasi_permanent_stress(sigma, is_sls, qp_ratio):
+def quasi_permanent_stress(sigma: Real, is_sls: ArrayLike, qp_ratio: float) -> Floats:
     """Common practice: steel stress under the quasi-permanent load for the crack checks
 
     An SLS load case's own stress; on an ULS row the ratio of quasi-permanent to ULS load times
@@ -435,4 +436,5 @@ def quasi_permanent_stress(sigma, is_sls, qp_ratio):
     Returns:
         stress [MPa]
     """
-    return np.where(is_sls, sigma, qp_ratio * sigma)
+    sig = np.asarray(sigma, dtype=float)
+    return cast(Floats, np.where(np.asarray(is_sls, dtype=bool), sig, qp_ratio * sig))

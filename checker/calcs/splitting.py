@@ -171,7 +171,7 @@ def link_area_across_plane(sets: Real, phi: Real, legs: Real = 2.0) -> Floats:
     return legs * np.asarray(sets, dtype=float) * np.pi * phi * phi / 4.0
 
 
-def governing_splitting_tie(t_column, t_pile):
+def governing_splitting_tie(t_column: Real, t_pile: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.3(3), Figure 6.25
 
     The larger of the splitting ties at the column end and at the pile end; NaN where either is
@@ -184,5 +184,6 @@ def governing_splitting_tie(t_column, t_pile):
     Returns:
         governing tie [N]
     """
-    t = np.fmax(t_column, t_pile)
-    return np.where(np.isnan(t_column) | np.isnan(t_pile), np.nan, t)
+    tc = np.asarray(t_column, dtype=float)
+    tp = np.asarray(t_pile, dtype=float)
+    return cast(Floats, np.where(np.isnan(tc) | np.isnan(tp), np.nan, np.fmax(tc, tp)))
