@@ -50,7 +50,8 @@ from checker.ingest.plausible import MIN_CLEAR_BARS, PLAUSIBLE
 from checker.ingest.plausible import inside as plausible_inside
 from checker.ingest.plausible import problem as plausible_problem
 from checker.ingest.raw import FormulaCell, RawTable
-from checker.model import FIELDS, FRAME_COLUMNS, validate_frame
+from checker.model import FIELDS, FRAME_COLUMNS, FYK_DEFAULT, validate_frame
+from checker.units import TO_INTERNAL
 
 #: fields a schedule must give (pile_spacing only for 2 or more piles; the model checks that)
 REQUIRED_SOURCES: tuple[str, ...] = (
@@ -679,7 +680,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
     fyk = values.get("fyk", nan)
     if defaults is not None and "fyk" in defaults.values:
         fyk = apply_default("fyk", fyk, defaults.values["fyk"], defaults.texts["fyk"])
-    out["fyk"] = np.where(np.isnan(fyk), 500.0, fyk)
+    out["fyk"] = np.where(np.isnan(fyk), FYK_DEFAULT, fyk)
     for f in ("exposure", "pile_type", "method", "bar_ends", "mark", "case", "case_kind"):
         out[f] = values.get(f, np.full(n, "", dtype=object))
         if defaults is not None and f in defaults.values:
@@ -996,7 +997,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         bad = ~np.isnan(out[f]) & (out[f] <= 0) if f == "n_sls" else np.zeros(n_total, bool)
         if bad.any():
             rows = np.flatnonzero(bad)
-            errors.add(f, rows, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / 1e3)} kN must be greater than 0"
+            errors.add(f, rows, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / TO_INTERNAL['kN'])} kN must be greater than 0"
                                  for r in rows])
 
     # ---- repeated marks: a load case when there is a case column, else the later row is rejected ----
@@ -1162,7 +1163,8 @@ def attach_loads(res: FrameResult, loads: LoadsTable) -> None:
                                   f"{_heading_of(loads.labels.get('n_ed', 'n_ed'))!r} or SLS axial load)"
                                   for r in no_loads])
     bad_n = np.flatnonzero(~np.isnan(out["n_ed"]) & (out["n_ed"] <= 0))
-    errors.add("n_ed", bad_n, [f"{loads.labels.get('n_ed', 'n_ed')}: {_fmtn(out['n_ed'][r] / 1e3)} kN must be "
+    kn = TO_INTERNAL["kN"]
+    errors.add("n_ed", bad_n, [f"{loads.labels.get('n_ed', 'n_ed')}: {_fmtn(out['n_ed'][r] / kn)} kN must be "
                                "greater than 0" for r in bad_n])
     # repeated cases: against the schedule's own cases of the cap, then within the table
     sched = res.cases if res.cases is not None else pd.DataFrame({"cap": [], "case": []})

@@ -41,6 +41,7 @@ from checker.report.comments import (
 )
 from checker.report.svg import geometry_from_row, plan_svg, targets_of
 from checker.report.writefile import write_atomic
+from checker.units import TO_INTERNAL
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
@@ -230,7 +231,7 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
          if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
         ("Cap L × W × h", " × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth")) + " mm"),
         ("Column", escape(_column_text(info))),
-        ("N_Ed", _fmt(float(info["n_ed"]) / 1000.0, "kN") if _is_num(info.get("n_ed")) else "–"),
+        ("N_Ed", _fmt(float(info["n_ed"]) / TO_INTERNAL["kN"], "kN") if _is_num(info.get("n_ed")) else "–"),
         ("Concrete", escape(str(info.get("concrete") or "–"))),
         ("Bars x / y", escape(f"{info.get('bars_x') or '–'} / {info.get('bars_y') or '–'}")),
         ("Cover", _fmt(info.get("cover"), "mm")),
