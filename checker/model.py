@@ -21,6 +21,7 @@ import pandas as pd
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 from pydantic_core import core_schema
 
+from checker.records import FieldError
 from checker.units import FROM_INTERNAL, KIND_OF_UNIT
 
 # --------------------------------------------------------------------------------------------
@@ -427,24 +428,17 @@ def _fmt_values(values: np.ndarray, scale: float) -> list[str]:
     return [shown[c] for c in codes]
 
 
-@dataclass
-class _FieldErrors:
-    field: str
-    rows: np.ndarray            # positions
-    messages: list[str]
-
-
-def _check_columns(df: pd.DataFrame) -> tuple[list[_FieldErrors], dict[str, np.ndarray], dict[str, np.ndarray]]:
+def _check_columns(df: pd.DataFrame) -> tuple[list[FieldError], dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Field-level checks. Returns (errors, bad mask per field, values per field as arrays)."""
     n = len(df)
-    errors: list[_FieldErrors] = []
+    errors: list[FieldError] = []
     bad: dict[str, np.ndarray] = {}
     values: dict[str, np.ndarray] = {}
 
     def add(field: str, mask: np.ndarray, msgs: list[str]) -> None:
         rows = np.flatnonzero(mask)
         if rows.size:
-            errors.append(_FieldErrors(field, rows, msgs))
+            errors.append(FieldError.of(field, rows, msgs))
             bad[field] = bad.get(field, np.zeros(n, bool)) | mask
 
     for spec in FIELDS.values():
@@ -566,7 +560,7 @@ def validate_frame(df: pd.DataFrame) -> tuple[pd.DataFrame, dict[Any, list[str]]
             continue
         rows = np.flatnonzero(applies)[~ok]
         msgs = chk.message({f: values[f][rows] for f in chk.uses})
-        errors.append(_FieldErrors(chk.field, rows, msgs))
+        errors.append(FieldError.of(chk.field, rows, msgs))
         any_bad[rows] = True
 
     out: dict[Any, list[str]] = {}

@@ -467,11 +467,11 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                  "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
                  "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>")
         for rej in review.rejected:
-            src = rej.get("source") or {}
-            errs = "<br>".join(escape(str(e)) for e in rej.get("errors") or [])
+            src = rej.source or {}
+            errs = "<br>".join(escape(str(e)) for e in rej.errors)
             h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
                      f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
-                     f"<td>{escape(str(rej.get('mark') or ''))}</td><td>{errs}</td></tr>")
+                     f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
         h.append("</tbody></table></section>")
 
     h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')

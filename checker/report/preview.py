@@ -94,8 +94,8 @@ def print_preview(args, out: Console, err: Console, defaults=None) -> int:
     if sched.rejected:
         out.print(Text(f"\n{len(sched.rejected)} row(s) cannot be read:", style="bold red"))
         for r in sched.rejected:
-            mark = f" {r['mark']}" if r.get("mark") else ""
-            out.print(Text(f"  {describe_source(r['source'])}{mark}: ", style="bold") + Text("; ".join(r["errors"])))
+            mark = f" {r.mark}" if r.mark else ""
+            out.print(Text(f"  {describe_source(r.source)}{mark}: ", style="bold") + Text("; ".join(r.errors)))
     shown = {note for rep in (sched.reports or []) for note in rep.notes}
     for note in sched.notes:
         if note not in shown:
