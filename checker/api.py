@@ -13,13 +13,14 @@ import numpy as np
 import pandas as pd
 
 from checker.findings import WorkingLine  # the trace line type is the findings model's (re-exported)
+from checker.records import RejectedRow, SkippedRow
 
 
 @dataclass
 class Review:
     findings: pd.DataFrame                 # FINDING_COLUMNS, sorted (checker.findings.sort_findings)
     caps: pd.DataFrame                     # canonical schedule frame of the caps checked
-    rejected: list[dict[str, Any]]         # [{"source": {...}, "errors": [...]}]
+    rejected: list[RejectedRow]            # source, mark, errors (to_dict(): the JSON form)
     rows_read: int
     profile_name: str
     profile_params: dict[str, Any]         # resolved parameter values
@@ -32,7 +33,7 @@ class Review:
     notes: list[str] = field(default_factory=list)
     cases: pd.DataFrame | None = None      # one row per (cap, load case) read, or None (one ULS case per cap)
     case_rows: int = 0                     # rows read that only add a load case to a cap counted earlier
-    skipped: list[dict[str, Any]] = field(default_factory=list)    # [{"source": {...}, "reason": ...}]
+    skipped: list[SkippedRow] = field(default_factory=list)    # source, reason, text
     table_problems: list[dict[str, Any]] = field(default_factory=list)  # [{"source": {...}, "errors": [...]}]
     unused_headings: list[str] = field(default_factory=list)       # headings of the schedule not read
     remedy: Any = None                     # checker.remedy.RemedyResult: what would pass (issue 16), or None

@@ -343,16 +343,16 @@ def cmd_explain(args, out: Console, err: Console) -> int:
 
     cap = asked if asked in marks else next((m for m in marks if same(m)), None)
     if cap is None:
-        rejected = [r for r in rv.rejected if same(r.get("mark"))] or [
-            r for r in rv.rejected if asked.strip() and asked.strip() in " ".join(map(str, r["errors"]))]
+        # the mark itself (case and spaces ignored), never a search of the error text: PC1 is not PC10
+        rejected = [r for r in rv.rejected if r.is_mark(asked)]
         if rejected:
             from checker.findings import describe_source
 
             out.print(Text(f"Cap '{asked}' was rejected and not checked:", style="bold"))
             for r in rejected:
-                where = describe_source(r.get("source") or {})
+                where = describe_source(r.source or {})
                 out.print(Text(f"  {where}: " if where else "  ", style="dim"))
-                for e in r["errors"]:
+                for e in r.errors:
                     out.print(Text(f"    - {e}"))
             return EXIT_UNREADABLE
         err.print(Text(f"capcheck: cap '{asked}' is not in {rv.submission}. "

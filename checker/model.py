@@ -21,6 +21,9 @@ import pandas as pd
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 from pydantic_core import core_schema
 
+from checker.records import FieldError
+from checker.units import FROM_INTERNAL, KIND_OF_UNIT
+
 # --------------------------------------------------------------------------------------------
 # Catalogues
 # --------------------------------------------------------------------------------------------
@@ -77,15 +80,24 @@ def _list_values(values: tuple) -> str:
     return ", ".join(shown)
 
 
+_AUTO = "auto"
+
+
 def _f(default: Any = ..., *, unit: str = "", show: tuple[str, float] | None = None, doc: str = "",
-       **constraints: Any) -> Any:
-    """A model field with its internal unit, its display unit (name, factor from internal) and doc."""
-    extra = {"unit": unit, "show_unit": (show or (unit, 1.0))[0], "show_scale": (show or (unit, 1.0))[1]}
+       meaning: str = "", heading: str | None = _AUTO, **constraints: Any) -> Any:
+    """A model field with its internal unit, its display unit (name, factor from internal), doc, its
+    meaning as a rule quantity (default: the doc) and the kind of schedule heading that gives it
+    (default: the kind of its unit, 'text' for text; None: not read from a heading of its own)."""
+    extra = {"unit": unit, "show_unit": (show or (unit, 1.0))[0], "show_scale": (show or (unit, 1.0))[1],
+             "meaning": meaning or doc, "heading": heading}
     return Field(default, description=doc, json_schema_extra=extra, **constraints)
 
 
-_KN = ("kN", 1e-3)
-_KNM = ("kNm", 1e-6)
+_KN = ("kN", FROM_INTERNAL["kN"])
+_KNM = ("kNm", FROM_INTERNAL["kNm"])
+
+#: reinforcement characteristic yield strength [MPa] where the schedule gives none (the brief)
+FYK_DEFAULT: float = 500.0
 
 # --------------------------------------------------------------------------------------------
 # Cross-field checks (one definition, used by the record and by the frame)
@@ -180,50 +192,64 @@ class CapRecord(BaseModel):
     model_config = ConfigDict(allow_inf_nan=False, str_strip_whitespace=True, extra="ignore", frozen=True)
 
     mark: str = _f(doc="cap reference as on the drawings", min_length=1)
-    piles: int = _f(unit="count", doc="number of piles (standard layouts 1 to 6)", ge=1, le=6)
-    pile_dia: float = _f(unit="mm", doc="pile diameter", gt=0)
+    piles: int = _f(unit="count", doc="number of piles (standard layouts 1 to 6)", meaning="number of piles",
+                    ge=1, le=6)
+    pile_dia: float = _f(unit="mm", doc="pile diameter", meaning="pile diameter as scheduled", gt=0)
     pile_spacing: _OptF = _f(None, unit="mm", doc="centre-to-centre spacing s of the layout", gt=0)
-    cap_length: float = _f(unit="mm", doc="plan L along x", gt=0)
-    cap_width: float = _f(unit="mm", doc="plan W along y", gt=0)
-    cap_depth: float = _f(unit="mm", doc="overall depth h", gt=0)
-    column_x: float = _f(unit="mm", doc="column size along x (circular: D)", gt=0)
-    column_y: float = _f(unit="mm", doc="column size along y (circular: D)", gt=0)
-    column_round: bool = _f(False, doc="True for a circular column")
+    cap_length: float = _f(unit="mm", doc="plan L along x", meaning="cap plan length L (along x)", gt=0)
+    cap_width: float = _f(unit="mm", doc="plan W along y", meaning="cap plan width W (along y)", gt=0)
+    cap_depth: float = _f(unit="mm", doc="overall depth h", meaning="overall cap depth h", gt=0)
+    column_x: float = _f(unit="mm", doc="column size along x (circular: D)", meaning="column size along x", gt=0)
+    column_y: float = _f(unit="mm", doc="column size along y (circular: D)", meaning="column size along y", gt=0)
+    column_round: bool = _f(False, doc="True for a circular column", heading=None)
     n_ed: _OptF = _f(None, unit="N", show=_KN, doc="ULS axial load, compression positive (of the cap's first "
-                     "load case; a cap given only SLS loads or loads in a loads table may leave it blank)", gt=0)
+                     "load case; a cap given only SLS loads or loads in a loads table may leave it blank)",
+                     meaning="ULS axial load", gt=0)
     mx_ed: _OptF = _f(None, unit="N·mm", show=_KNM, doc="ULS moment about x")
     my_ed: _OptF = _f(None, unit="N·mm", show=_KNM, doc="ULS moment about y")
     concrete: typing.Annotated[str, OneOf(tuple(CONCRETE_CLASSES))] = _f(doc="strength class, C32/40")
     fck: float = _f(unit="MPa", doc="characteristic cylinder strength, from the class", ge=12, le=90)
-    fyk: float = _f(500.0, unit="MPa", doc="reinforcement characteristic yield strength", ge=400, le=600)
-    cover: float = _f(unit="mm", doc="nominal cover, soffit to the lowest bars (also side cover)", gt=0)
+    fyk: float = _f(FYK_DEFAULT, unit="MPa", doc="reinforcement characteristic yield strength", ge=400, le=600)
+    cover: float = _f(unit="mm", doc="nominal cover, soffit to the lowest bars (also side cover)",
+                      meaning="nominal cover to the lowest bars", gt=0)
     exposure: str = _f("", doc="exposure class, e.g. XC2")
-    bars_x: str = _f(doc="bottom bars spanning along x (lowest layer), as written", min_length=1)
-    nx: int = _f(unit="count", doc="number of bars_x", ge=1)
+    bars_x: str = _f(doc="bottom bars spanning along x (lowest layer), as written", heading="bars", min_length=1)
+    nx: int = _f(unit="count", doc="number of bars_x", meaning="number of bars along x", heading=None, ge=1)
     phi_x: typing.Annotated[float, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
-        unit="mm", doc="diameter of bars_x")
-    sx: _OptF = _f(None, unit="mm", doc="stated centres of bars_x", gt=0)
-    bars_y: str = _f(doc="bottom bars spanning along y (second layer), as written", min_length=1)
-    ny: int = _f(unit="count", doc="number of bars_y", ge=1)
+        unit="mm", doc="diameter of bars_x", meaning="diameter of the bars along x", heading=None)
+    sx: _OptF = _f(None, unit="mm", doc="stated centres of bars_x", meaning="stated centres of the bars along x",
+                   heading=None, gt=0)
+    bars_y: str = _f(doc="bottom bars spanning along y (second layer), as written", heading="bars", min_length=1)
+    ny: int = _f(unit="count", doc="number of bars_y", meaning="number of bars along y", heading=None, ge=1)
     phi_y: typing.Annotated[float, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
-        unit="mm", doc="diameter of bars_y")
-    sy: _OptF = _f(None, unit="mm", doc="stated centres of bars_y", gt=0)
+        unit="mm", doc="diameter of bars_y", meaning="diameter of the bars along y", heading=None)
+    sy: _OptF = _f(None, unit="mm", doc="stated centres of bars_y", meaning="stated centres of the bars along y",
+                   heading=None, gt=0)
     # single-pile caps (issue 15, item 3): closed horizontal links carrying the splitting tie
-    links: str = _f("", doc="horizontal links (splitting steel) of a single-pile cap, as written; '' if not stated")
-    n_links: typing.Optional[int] = _f(None, unit="count", doc="number of closed link sets (count form)", ge=1)
+    links: str = _f("", doc="horizontal links (splitting steel) of a single-pile cap, as written; '' if not stated",
+                    heading="bars")
+    n_links: typing.Optional[int] = _f(None, unit="count", doc="number of closed link sets (count form)",
+                                       meaning="number of closed horizontal link sets stated (count form)",
+                                       heading=None, ge=1)
     phi_links: typing.Annotated[_OptF, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
-        None, unit="mm", doc="diameter of the links")
-    s_links: _OptF = _f(None, unit="mm", doc="stated vertical centres of the link sets (spacing form)", gt=0)
-    embedment: _OptF = _f(None, unit="mm", doc="length of pile head inside the cap", ge=0)
-    pile_capacity: _OptF = _f(None, unit="N", show=_KN, doc="pile resistance (ULS) or working capacity (SLS)", gt=0)
+        None, unit="mm", doc="diameter of the links", meaning="diameter of the horizontal links", heading=None)
+    s_links: _OptF = _f(None, unit="mm", doc="stated vertical centres of the link sets (spacing form)",
+                        meaning="stated vertical centres of the horizontal links (spacing form)", heading=None, gt=0)
+    embedment: _OptF = _f(None, unit="mm", doc="length of pile head inside the cap",
+                          meaning="pile head embedment into the cap", ge=0)
+    pile_capacity: _OptF = _f(None, unit="N", show=_KN, doc="pile resistance (ULS) or working capacity (SLS)",
+                              meaning="ULS pile resistance", gt=0)
     capacity_basis: typing.Annotated[str, OneOf(CAPACITY_BASES)] = _f(
         "", doc="basis of pile_capacity: ULS design resistance or SLS working capacity; '' (none given) is ULS")
     stated_pile_load: _OptF = _f(None, unit="N", show=_KN, doc="designer's maximum pile load", ge=0)
     stated_tie_x: _OptF = _f(None, unit="N", show=_KN, doc="designer's tie force along x", ge=0)
     stated_tie_y: _OptF = _f(None, unit="N", show=_KN, doc="designer's tie force along y", ge=0)
-    stated_as_x: _OptF = _f(None, unit="mm²", doc="designer's steel area required, bars_x", ge=0)
-    stated_as_y: _OptF = _f(None, unit="mm²", doc="designer's steel area required, bars_y", ge=0)
-    stated_d: _OptF = _f(None, unit="mm", doc="designer's effective depth d", ge=0)
+    stated_as_x: _OptF = _f(None, unit="mm²", doc="designer's steel area required, bars_x",
+                            meaning="designer's steel required along x", ge=0)
+    stated_as_y: _OptF = _f(None, unit="mm²", doc="designer's steel area required, bars_y",
+                            meaning="designer's steel required along y", ge=0)
+    stated_d: _OptF = _f(None, unit="mm", doc="designer's effective depth d", meaning="designer's effective depth",
+                         ge=0)
     pile_type: str = _f("", doc="e.g. uncased bored")
     bar_ends: typing.Annotated[str, OneOf(BAR_ENDS)] = _f("", doc="straight, bent or hooked; '' if not stated")
     method: str = _f("", doc="the designer's stated method")
@@ -296,6 +322,8 @@ class FieldSpec:
     bounds: tuple[tuple[str, float], ...]   # ('gt', 0), ('le', 6) ...
     one_of: tuple | None
     min_length: int
+    meaning: str = ""                       # as a rule quantity (catalogue.QUANTITIES)
+    heading: str | None = None              # kind of schedule heading giving it (headings.SCHEDULE_FIELDS)
 
 
 def _base_kind(annotation: Any) -> str:
@@ -307,6 +335,15 @@ def _base_kind(annotation: Any) -> str:
         kinds = [_base_kind(a) for a in args if a is not type(None)]
         return kinds[0]
     return {float: "float", int: "int", str: "str", bool: "bool"}[annotation]
+
+
+def _heading_kind(given: Any, unit: str, kind: str) -> str | None:
+    """The heading kind of a field: as declared, else 'text' for text, else the kind of its unit."""
+    if given != _AUTO:
+        return given
+    if kind == "str":
+        return "text"
+    return KIND_OF_UNIT.get(unit)
 
 
 def _catalogue() -> dict[str, FieldSpec]:
@@ -339,6 +376,8 @@ def _catalogue() -> dict[str, FieldSpec]:
             unit=str(extra.get("unit", "")), show_unit=str(extra.get("show_unit", "")),
             show_scale=float(extra.get("show_scale", 1.0)), doc=info.description or "",
             bounds=tuple(bounds), one_of=one_of, min_length=min_length,
+            meaning=str(extra.get("meaning", "")),
+            heading=_heading_kind(extra.get("heading", _AUTO), str(extra.get("unit", "")), _base_kind(ann)),
         )
     return out
 
@@ -351,6 +390,13 @@ SOURCE_COLUMNS: tuple[str, ...] = ("src_file", "src_sheet", "src_page", "src_row
 
 #: Every column of the canonical schedule frame, in order.
 FRAME_COLUMNS: tuple[str, ...] = tuple(FIELDS) + SOURCE_COLUMNS
+
+#: The numeric fields, carried through ``derive`` as quantities of the same name.
+INPUT_QUANTITIES: tuple[str, ...] = tuple(n for n, s in FIELDS.items() if s.kind in ("float", "int"))
+
+#: Fields read from a schedule heading of their own -> the heading's kind ('length', 'force', 'text',
+#: 'bars' ...); the ingest vocabulary (``ingest.headings.SCHEDULE_FIELDS``) adds its combined forms.
+HEADING_FIELDS: dict[str, str] = {n: s.heading for n, s in FIELDS.items() if s.heading is not None}
 
 # --------------------------------------------------------------------------------------------
 # Frame validation
@@ -382,24 +428,17 @@ def _fmt_values(values: np.ndarray, scale: float) -> list[str]:
     return [shown[c] for c in codes]
 
 
-@dataclass
-class _FieldErrors:
-    field: str
-    rows: np.ndarray            # positions
-    messages: list[str]
-
-
-def _check_columns(df: pd.DataFrame) -> tuple[list[_FieldErrors], dict[str, np.ndarray], dict[str, np.ndarray]]:
+def _check_columns(df: pd.DataFrame) -> tuple[list[FieldError], dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Field-level checks. Returns (errors, bad mask per field, values per field as arrays)."""
     n = len(df)
-    errors: list[_FieldErrors] = []
+    errors: list[FieldError] = []
     bad: dict[str, np.ndarray] = {}
     values: dict[str, np.ndarray] = {}
 
     def add(field: str, mask: np.ndarray, msgs: list[str]) -> None:
         rows = np.flatnonzero(mask)
         if rows.size:
-            errors.append(_FieldErrors(field, rows, msgs))
+            errors.append(FieldError.of(field, rows, msgs))
             bad[field] = bad.get(field, np.zeros(n, bool)) | mask
 
     for spec in FIELDS.values():
@@ -521,7 +560,7 @@ def validate_frame(df: pd.DataFrame) -> tuple[pd.DataFrame, dict[Any, list[str]]
             continue
         rows = np.flatnonzero(applies)[~ok]
         msgs = chk.message({f: values[f][rows] for f in chk.uses})
-        errors.append(_FieldErrors(chk.field, rows, msgs))
+        errors.append(FieldError.of(chk.field, rows, msgs))
         any_bad[rows] = True
 
     out: dict[Any, list[str]] = {}

@@ -31,6 +31,7 @@ from typing import TYPE_CHECKING, Any
 
 from checker.findings import comment_key, comment_records, records, severity_rank
 from checker.ingest.errors import IngestError
+from checker.units import TO_INTERNAL
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
@@ -53,16 +54,16 @@ INPUTS_MARKER = "capcheck.inputs/1"
 LISTS_SHEET = "capcheck-lists"       # hidden: the statuses of the drop-down (one contains a comma)
 CHANGES_SHEET = "Changes"
 # The schedule inputs compared between revisions: field, unit shown, divisor from the internal unit.
-INPUT_FIELDS: tuple[tuple[str, str, float], ...] = (
-    ("piles", "", 1.0), ("pile_dia", "mm", 1.0), ("pile_spacing", "mm", 1.0),
-    ("cap_length", "mm", 1.0), ("cap_width", "mm", 1.0), ("cap_depth", "mm", 1.0),
-    ("column", "mm", 1.0), ("n_ed", "kN", 1e3), ("mx_ed", "kNm", 1e6), ("my_ed", "kNm", 1e6),
-    ("concrete", "", 1.0), ("fyk", "MPa", 1.0), ("cover", "mm", 1.0), ("exposure", "", 1.0),
-    ("bars_x", "", 1.0), ("bars_y", "", 1.0), ("links", "", 1.0), ("embedment", "mm", 1.0),
-    ("pile_capacity", "kN", 1e3), ("stated_pile_load", "kN", 1e3), ("stated_tie_x", "kN", 1e3),
-    ("stated_tie_y", "kN", 1e3), ("stated_as_x", "mm²", 1.0), ("stated_as_y", "mm²", 1.0),
-    ("pile_type", "", 1.0), ("bar_ends", "", 1.0), ("method", "", 1.0),
-)
+INPUT_FIELDS: tuple[tuple[str, str, float], ...] = tuple((name, unit, TO_INTERNAL.get(unit, 1.0)) for name, unit in (
+    ("piles", ""), ("pile_dia", "mm"), ("pile_spacing", "mm"),
+    ("cap_length", "mm"), ("cap_width", "mm"), ("cap_depth", "mm"),
+    ("column", "mm"), ("n_ed", "kN"), ("mx_ed", "kNm"), ("my_ed", "kNm"),
+    ("concrete", ""), ("fyk", "MPa"), ("cover", "mm"), ("exposure", ""),
+    ("bars_x", ""), ("bars_y", ""), ("links", ""), ("embedment", "mm"),
+    ("pile_capacity", "kN"), ("stated_pile_load", "kN"), ("stated_tie_x", "kN"),
+    ("stated_tie_y", "kN"), ("stated_as_x", "mm²"), ("stated_as_y", "mm²"),
+    ("pile_type", ""), ("bar_ends", ""), ("method", ""),
+))
 DATA_COLUMNS: tuple[str, ...] = (
     "key",
     "no",

@@ -16,6 +16,7 @@ import pandas as pd
 
 from checker.api import Review, WorkingLine
 from checker.findings import FINDING_COLUMNS, sort_findings
+from checker.records import RejectedRow
 
 
 def layout(n: int, s: float) -> np.ndarray:
@@ -152,7 +153,7 @@ def working_lines(mark: str) -> list[WorkingLine]:
 
 
 def make_review(findings: list[dict[str, Any]] | None = None, caps=CAPS, *,
-                rejected: list[dict[str, Any]] | None = None,
+                rejected: list[RejectedRow] | None = None,
                 submission: str = "ashgrove-caps-rev1.csv") -> Review:
     rows = copy.deepcopy(findings if findings is not None else base_findings())
     frame = pd.DataFrame(rows, columns=list(FINDING_COLUMNS))
@@ -160,8 +161,8 @@ def make_review(findings: list[dict[str, Any]] | None = None, caps=CAPS, *,
     caps_df = caps_frame(caps, src_file=submission)
     pile_xy = {c[0]: layout(c[1], c[3]) for c in caps}
     if rejected is None:
-        rejected = [{"source": {"file": submission, "sheet": None, "page": None, "row": 9}, "mark": "PC9",
-                     "errors": ["pile_dia: 'six hundred' is not a number", "cap_depth missing"]}]
+        rejected = [RejectedRow({"file": submission, "sheet": None, "page": None, "row": 9},
+                                ("pile_dia: 'six hundred' is not a number", "cap_depth missing"), "PC9")]
     return Review(
         findings=frame,
         caps=caps_df,

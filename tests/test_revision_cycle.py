@@ -449,6 +449,31 @@ def test_explain_a_rejected_cap_says_why(capsys):
     assert "Cap ' pc15 ' was rejected and not checked" in out and "2 layers 8H20" in out and "row 17" in out
 
 
+def test_explain_finds_a_rejected_cap_by_its_mark_only(capsys):
+    # the mark, case and spaces ignored; never a search of the error text (PC1 would match PC10)
+    assert main(["explain", str(REV_A), "--cap", "p c15"]) == EXIT_UNREADABLE
+    assert "was rejected and not checked" in capsys.readouterr().out
+    for asked in ("8H20", "layers", "PC1 5x"):
+        assert main(["explain", str(REV_A), "--cap", asked]) == EXIT_UNREADABLE
+        captured = capsys.readouterr()
+        assert "was rejected" not in captured.out and "is not in" in captured.err
+
+
+def test_rejected_and_skipped_rows_are_typed_records_with_the_json_dicts():
+    from checker.ingest.schedule import read_schedule
+    from checker.records import RejectedRow, SkippedRow
+
+    rej = RejectedRow({"file": "a.csv", "sheet": None, "page": None, "row": 3}, ("e1", "e2"), "PC10")
+    assert rej.to_dict() == {"source": {"file": "a.csv", "sheet": None, "page": None, "row": 3}, "mark": "PC10",
+                             "errors": ["e1", "e2"]}
+    assert rej.is_mark("pc 10") and not rej.is_mark("PC1")
+    assert "mark" not in RejectedRow({}, ("e",)).to_dict()
+    assert SkippedRow({}, "why").to_dict() == {"source": {}, "reason": "why"}
+    s = read_schedule(REV_A)
+    assert s.rejected and all(isinstance(r, RejectedRow) for r in s.rejected)
+    assert all(isinstance(r, SkippedRow) for r in s.skipped)
+
+
 def test_explain_matches_marks_ignoring_case_and_spaces(capsys):
     assert main(["explain", str(REV_A), "--cap", " pc14 "]) == 0
     captured = capsys.readouterr()

@@ -50,7 +50,9 @@ from checker.ingest.plausible import MIN_CLEAR_BARS, PLAUSIBLE
 from checker.ingest.plausible import inside as plausible_inside
 from checker.ingest.plausible import problem as plausible_problem
 from checker.ingest.raw import FormulaCell, RawTable
-from checker.model import FIELDS, FRAME_COLUMNS, validate_frame
+from checker.model import FIELDS, FRAME_COLUMNS, FYK_DEFAULT, validate_frame
+from checker.records import FieldError, RejectedRow
+from checker.units import TO_INTERNAL
 
 #: fields a schedule must give (pile_spacing only for 2 or more piles; the model checks that)
 REQUIRED_SOURCES: tuple[str, ...] = (
@@ -92,20 +94,20 @@ _BAR_ENDS = {
 
 @dataclass
 class _Errors:
-    """Row problems collected column-wise: (field, row positions, messages)."""
+    """Row problems collected column-wise, one :class:`~checker.records.FieldError` per field and check."""
 
-    items: list[tuple[str, np.ndarray, list[str]]] = field(default_factory=list)
+    items: list[FieldError] = field(default_factory=list)
 
     def add(self, fld: str, rows: Iterable[int] | np.ndarray, msgs: Sequence[str]) -> None:
-        rows = np.asarray(list(rows) if not isinstance(rows, np.ndarray) else rows, dtype=np.int64)
-        if rows.size:
-            self.items.append((fld, rows, list(msgs)))
+        err = FieldError.of(fld, rows, msgs)
+        if err.rows.size:
+            self.items.append(err)
 
 
 @dataclass
 class FrameResult:
     caps: pd.DataFrame                  # canonical frame, index 0..n-1
-    rejected: list[dict]                # {"source": {...}, "mark": "PC1" (when read), "errors": [...]}
+    rejected: list[RejectedRow]         # source, mark (when read), errors
     reports: list[HeadingReport]        # heading matches, one per table
     notes: list[str]
     rows_read: int
@@ -594,7 +596,8 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
     out["capacity_basis"] = basis
     applied: list[tuple[np.ndarray, str]] = []
     bad_rows: dict[str, set[int]] = {}
-    for fld, rows, _ in errors.items:
+    for fe in errors.items:
+        fld, rows, _ = fe.field, fe.rows, fe.messages
         bad_rows.setdefault(fld, set()).update(rows.tolist())
 
     def blank_of(f: str, arr: np.ndarray) -> np.ndarray:
@@ -679,7 +682,7 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
     fyk = values.get("fyk", nan)
     if defaults is not None and "fyk" in defaults.values:
         fyk = apply_default("fyk", fyk, defaults.values["fyk"], defaults.texts["fyk"])
-    out["fyk"] = np.where(np.isnan(fyk), 500.0, fyk)
+    out["fyk"] = np.where(np.isnan(fyk), FYK_DEFAULT, fyk)
     for f in ("exposure", "pile_type", "method", "bar_ends", "mark", "case", "case_kind"):
         out[f] = values.get(f, np.full(n, "", dtype=object))
         if defaults is not None and f in defaults.values:
@@ -925,7 +928,8 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     applied_rows: dict[int, list[str]] = {}
     offset = 0
     for p in parts:
-        for fld, rows, msgs in p.errors.items:
+        for fe in p.errors.items:
+            fld, rows, msgs = fe.field, fe.rows, fe.messages
             errors.add(fld, rows + offset, msgs)
         for k, v in p.labels.items():
             labels.setdefault(k, v)
@@ -996,7 +1000,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         bad = ~np.isnan(out[f]) & (out[f] <= 0) if f == "n_sls" else np.zeros(n_total, bool)
         if bad.any():
             rows = np.flatnonzero(bad)
-            errors.add(f, rows, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / 1e3)} kN must be greater than 0"
+            errors.add(f, rows, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / TO_INTERNAL['kN'])} kN must be greater than 0"
                                  for r in rows])
 
     # ---- repeated marks: a load case when there is a case column, else the later row is rejected ----
@@ -1029,7 +1033,8 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     _, vmsgs = validate_frame(frame)
 
     per_row: dict[int, list[tuple[str, str]]] = {}
-    for fld, rows, msgs in errors.items:
+    for fe in errors.items:
+        fld, rows, msgs = fe.field, fe.rows, fe.messages
         for r, msg in zip(rows.tolist(), msgs):
             per_row.setdefault(r, []).append((fld, msg))
     for r, msgs in vmsgs.items():
@@ -1052,13 +1057,10 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     keep = np.ones(n_total, dtype=bool)
     keep[np.asarray(bad_rows, dtype=np.int64)] = False
     marks_out = out["mark"]
-    rejected = []
-    for r in bad_rows:
-        rec: dict[str, Any] = {"source": _source(provenance, r)}
-        if isinstance(marks_out[r], str) and marks_out[r]:
-            rec["mark"] = marks_out[r]
-        rec["errors"] = list(dict.fromkeys(m for _, m in per_row[r]))
-        rejected.append(rec)
+    rejected = [
+        RejectedRow(_source(provenance, r), tuple(dict.fromkeys(m for _, m in per_row[r])),
+                    marks_out[r] if isinstance(marks_out[r], str) else "")
+        for r in bad_rows]
     caps = _canonical(frame.loc[keep & ~cont].reset_index(drop=True))
     applied = [applied_rows.get(r, []) for r in np.flatnonzero(keep & ~cont).tolist()]
     if defaults is not None:
@@ -1126,7 +1128,8 @@ def read_loads(tables: Sequence[RawTable], *, mapping: Any = None) -> LoadsTable
     labels: dict[str, str] = {}
     off = 0
     for p in parts:
-        for fld, rows, msgs in p.errors.items:
+        for fe in p.errors.items:
+            fld, rows, msgs = fe.field, fe.rows, fe.messages
             errors.add(fld, rows + off, msgs)
         for k, v in p.labels.items():
             labels.setdefault(k, v)
@@ -1162,7 +1165,8 @@ def attach_loads(res: FrameResult, loads: LoadsTable) -> None:
                                   f"{_heading_of(loads.labels.get('n_ed', 'n_ed'))!r} or SLS axial load)"
                                   for r in no_loads])
     bad_n = np.flatnonzero(~np.isnan(out["n_ed"]) & (out["n_ed"] <= 0))
-    errors.add("n_ed", bad_n, [f"{loads.labels.get('n_ed', 'n_ed')}: {_fmtn(out['n_ed'][r] / 1e3)} kN must be "
+    kn = TO_INTERNAL["kN"]
+    errors.add("n_ed", bad_n, [f"{loads.labels.get('n_ed', 'n_ed')}: {_fmtn(out['n_ed'][r] / kn)} kN must be "
                                "greater than 0" for r in bad_n])
     # repeated cases: against the schedule's own cases of the cap, then within the table
     sched = res.cases if res.cases is not None else pd.DataFrame({"cap": [], "case": []})
@@ -1185,13 +1189,14 @@ def attach_loads(res: FrameResult, loads: LoadsTable) -> None:
                         "its own name")
         errors.add("case", rows, msgs)
     per_row: dict[int, list[str]] = {}
-    for _fld, rows, msgs in errors.items:
+    for fe in errors.items:
+        _fld, rows, msgs = fe.field, fe.rows, fe.messages
         for r, msg in zip(rows.tolist(), msgs):
             per_row.setdefault(r, []).append(msg)
     bad = np.zeros(n, bool)
     bad[list(per_row)] = True
     for r in sorted(per_row):
-        res.rejected.append({"source": _source(prov, r), "errors": list(dict.fromkeys(per_row[r]))})
+        res.rejected.append(RejectedRow(_source(prov, r), tuple(dict.fromkeys(per_row[r]))))
     rows = np.flatnonzero(~bad)
     added = case_entries(out, rows, cap[rows], prov)
     res.cases = added if res.cases is None else pd.concat([res.cases, added], ignore_index=True).sort_values(
@@ -1315,7 +1320,8 @@ def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[st
     """Figures outside their plausible range (:mod:`checker.ingest.plausible`), a column larger than
     the cap, and a bar count that does not fit the cap at the least clear spacing, as row errors."""
     have: dict[str, set[int]] = {}
-    for fld, rows, _ in errors.items:
+    for fe in errors.items:
+        fld, rows, _ = fe.field, fe.rows, fe.messages
         have.setdefault(fld, set()).update(rows.tolist())
     for f in PLAUSIBLE:
         v = out.get(f)

@@ -29,30 +29,23 @@ from typing import Any, Iterable, Mapping, Sequence
 from checker.ingest import limits
 from checker.ingest.errors import IngestError
 from checker.ingest.notation import DEFAULT_SCALE, UNIT_NAMES, UNITS, clean_text, normalise_unit
+from checker.model import HEADING_FIELDS
 
 # --------------------------------------------------------------------------------------------
 # What a heading can map to
 # --------------------------------------------------------------------------------------------
 
-#: ingest field -> kind. Canonical fields of the schedule frame, plus the combined forms that the
-#: frame builder splits: ``size`` (L x W x D), ``plan`` (L x W) and ``column`` (600x400, D600).
+#: ingest field -> kind: the fields of the model read from a heading of their own
+#: (:data:`checker.model.HEADING_FIELDS`), plus the combined forms that the frame builder splits --
+#: ``size`` (L x W x D), ``plan`` (L x W) and ``column`` (600x400, D600) -- and the load case fields
+#: (issue 11: the case of a row, its limit state, SLS loads, a working pile capacity) that go to
+#: ``Schedule.cases``.
 SCHEDULE_FIELDS: dict[str, str] = {
-    "mark": "text", "piles": "count", "pile_dia": "length", "pile_spacing": "length",
-    "cap_length": "length", "cap_width": "length", "cap_depth": "length",
-    "size": "length", "plan": "length",
-    "column": "length", "column_x": "length", "column_y": "length",
-    "n_ed": "force", "mx_ed": "moment", "my_ed": "moment",
-    "concrete": "text", "fck": "stress", "fyk": "stress", "cover": "length", "exposure": "text",
-    "bars_x": "bars", "bars_y": "bars", "embedment": "length", "pile_capacity": "force",
-    "stated_pile_load": "force", "stated_tie_x": "force", "stated_tie_y": "force",
-    "stated_as_x": "area", "stated_as_y": "area", "stated_d": "length",
-    "pile_type": "text", "bar_ends": "text", "method": "text",
-    # load cases (issue 11): the case of a row, its limit state, SLS loads, the capacity's basis
+    **HEADING_FIELDS,
+    "size": "length", "plan": "length", "column": "length",
     "case": "text", "case_kind": "text", "n_sls": "force", "mx_sls": "moment", "my_sls": "moment",
-    "pile_capacity_working": "force", "capacity_basis": "text",
+    "pile_capacity_working": "force",
 }
-# single-pile caps (issue 15, item 3): the horizontal links that carry the splitting tie
-SCHEDULE_FIELDS["links"] = "bars"
 
 #: the fields of a loads table (``--loads FILE`` or a workbook sheet): one row per cap and case
 LOAD_FIELDS: dict[str, str] = {f: SCHEDULE_FIELDS[f] for f in (

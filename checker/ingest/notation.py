@@ -21,6 +21,8 @@ import numpy as np
 import pandas as pd
 
 from checker.model import CONCRETE_CLASSES, STANDARD_BAR_SIZES
+from checker.units import DEFAULT_UNIT, TO_INTERNAL
+from checker.units import UNITS as SCALE_TABLE
 
 
 class NotationError(ValueError):
@@ -183,27 +185,23 @@ def _finite(v: float, original: Any) -> float:
 # Units and numbers
 # --------------------------------------------------------------------------------------------
 
-#: unit text (normalised: lower case, no spaces/dots/middle dots, ² -> 2) -> (kind, factor to internal)
-UNITS: dict[str, tuple[str, float]] = {
-    "mm": ("length", 1.0), "m": ("length", 1000.0), "cm": ("length", 10.0),
-    "n": ("force", 1.0), "kn": ("force", 1e3), "mn": ("force", 1e6),
-    "nmm": ("moment", 1.0), "knm": ("moment", 1e6), "mnm": ("moment", 1e9),
-    "mpa": ("stress", 1.0), "n/mm2": ("stress", 1.0),
-    "mm2": ("area", 1.0), "cm2": ("area", 100.0), "m2": ("area", 1e6),
-    "no": ("count", 1.0), "nr": ("count", 1.0), "nos": ("count", 1.0), "piles": ("count", 1.0),
-}
-
-#: the unit assumed when a heading or cell gives none (the brief: mm, kN, kNm, MPa, mm², count)
-DEFAULT_SCALE: dict[str, float] = {
-    "length": 1.0, "force": 1e3, "moment": 1e6, "stress": 1.0, "area": 1.0, "count": 1.0,
-}
-
-#: display spelling of the normalised unit keys
+#: display spelling of the normalised unit keys (the units of :data:`checker.units.UNITS` and their
+#: other spellings)
 UNIT_NAMES: dict[str, str] = {
     "mm": "mm", "m": "m", "cm": "cm", "n": "N", "kn": "kN", "mn": "MN", "nmm": "Nmm", "knm": "kNm",
     "mnm": "MNm", "mpa": "MPa", "n/mm2": "N/mm²", "mm2": "mm²", "cm2": "cm²", "m2": "m²", "no": "no.",
     "nr": "nr", "nos": "nos", "piles": "piles",
 }
+
+#: the unit of the one scale table each key is
+_SAME_AS: dict[str, str] = {"nmm": "N·mm", "n/mm2": "MPa", "no": "count", "nr": "count", "nos": "count",
+                            "piles": "count"}
+
+#: unit text (normalised: lower case, no spaces/dots/middle dots, ² -> 2) -> (kind, factor to internal)
+UNITS: dict[str, tuple[str, float]] = {k: SCALE_TABLE[_SAME_AS.get(k, name)] for k, name in UNIT_NAMES.items()}
+
+#: the unit assumed when a heading or cell gives none (the brief: mm, kN, kNm, MPa, mm², count)
+DEFAULT_SCALE: dict[str, float] = {kind: TO_INTERNAL[u] for kind, u in DEFAULT_UNIT.items()}
 
 
 def normalise_unit(text: str) -> str | None:

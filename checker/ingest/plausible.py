@@ -12,6 +12,8 @@ from __future__ import annotations
 
 import math
 
+from checker.units import DEFAULT_UNIT, TO_INTERNAL
+
 #: field -> (least, greatest) in internal units (mm, N, N·mm, mm²); moments are judged by magnitude
 PLAUSIBLE: dict[str, tuple[float, float]] = {
     "pile_dia": (150.0, 3000.0),
@@ -41,10 +43,9 @@ MIN_CLEAR_BARS = 20.0
 
 #: kind -> (unit display name, factor to internal units), the units a hint may name
 _UNITS_OF: dict[str, tuple[tuple[str, float], ...]] = {
-    "length": (("mm", 1.0), ("cm", 10.0), ("m", 1000.0)),
-    "force": (("N", 1.0), ("kN", 1e3), ("MN", 1e6)),
-    "moment": (("kNm", 1e6), ("MNm", 1e9)),
-    "area": (("mm²", 1.0), ("cm²", 100.0), ("m²", 1e6)),
+    kind: tuple((u, TO_INTERNAL[u]) for u in names) for kind, names in {
+        "length": ("mm", "cm", "m"), "force": ("N", "kN", "MN"), "moment": ("kNm", "MNm"),
+        "area": ("mm²", "cm²", "m²")}.items()
 }
 _FACTORS = (10.0, 1e3, 1e6)
 
@@ -64,7 +65,7 @@ def _fmt(v: float) -> str:
 def range_text(field: str, kind: str, unit: str, factor: float) -> str:
     """'200 to 5,000 mm' in the unit of the column."""
     lo, hi = PLAUSIBLE[field]
-    show = {"length": ("mm", 1.0), "force": ("kN", 1e3), "moment": ("kNm", 1e6), "area": ("mm²", 1.0)}
+    show = {k: (DEFAULT_UNIT[k], TO_INTERNAL[DEFAULT_UNIT[k]]) for k in ("length", "force", "moment", "area")}
     name, f = show.get(kind, (unit, factor))
     return f"{_fmt(lo / f)} to {_fmt(hi / f)} {name}".rstrip()
 

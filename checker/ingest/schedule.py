@@ -28,12 +28,13 @@ from checker.ingest.headings import (
 )
 from checker.ingest.raw import RawTable
 from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, read_csv, read_tabular
+from checker.records import RejectedRow, SkippedRow
 
 
 @dataclass
 class Schedule:
     caps: pd.DataFrame                  # canonical frame (DEVELOPERS.md), index 0..n-1
-    rejected: list[dict]                # [{"source": {"file","sheet","page","row"}, "mark": ..., "errors": [...]}]
+    rejected: list[RejectedRow]         # source {"file","sheet","page","row"}, mark, errors
     rows_read: int                      # == len(caps) + len(rejected) + len(skipped) + case_rows
     matches: list[HeadingMatch]         # heading -> field matches (each distinct heading once)
     unmapped: list[str]                 # headings not used (each once)
@@ -46,7 +47,7 @@ class Schedule:
     cases: pd.DataFrame | None = None
     case_rows: int = 0                  # rows read that only add a load case to a cap read earlier
 
-    skipped: list[dict] = field(default_factory=list)    # [{"source": {...}, "reason": ..., "text": ...}]
+    skipped: list[SkippedRow] = field(default_factory=list)    # source, reason, text
     problems: list[dict] = field(default_factory=list)   # of a whole table: [{"source": {...}, "errors": [...]}]
     applied: list[list[str]] = field(default_factory=list)   # per cap: project-file values applied
 
@@ -146,8 +147,7 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
                       defaults=defaults)
     if parsed_loads is not None:
         attach_loads(res, parsed_loads)
-    skipped = [{"source": {"file": t.file, "sheet": t.sheet, "page": page, "row": row}, "reason": reason,
-                **({"text": text} if text else {})}
+    skipped = [SkippedRow({"file": t.file, "sheet": t.sheet, "page": page, "row": row}, reason, text or "")
                for t in schedule_tables for page, row, reason, text in t.skipped]
     matches: list[HeadingMatch] = []
     seen: set[tuple] = set()

@@ -41,6 +41,7 @@ from checker.report.comments import (
 )
 from checker.report.svg import geometry_from_row, plan_svg, targets_of
 from checker.report.writefile import write_atomic
+from checker.units import TO_INTERNAL
 
 if TYPE_CHECKING:  # pragma: no cover
     from checker.api import Review
@@ -230,7 +231,7 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
          if _is_num(info.get("piles")) and float(info["piles"]) > 1 else "–"),
         ("Cap L × W × h", " × ".join(_fmt(info.get(k)) for k in ("cap_length", "cap_width", "cap_depth")) + " mm"),
         ("Column", escape(_column_text(info))),
-        ("N_Ed", _fmt(float(info["n_ed"]) / 1000.0, "kN") if _is_num(info.get("n_ed")) else "–"),
+        ("N_Ed", _fmt(float(info["n_ed"]) / TO_INTERNAL["kN"], "kN") if _is_num(info.get("n_ed")) else "–"),
         ("Concrete", escape(str(info.get("concrete") or "–"))),
         ("Bars x / y", escape(f"{info.get('bars_x') or '–'} / {info.get('bars_y') or '–'}")),
         ("Cover", _fmt(info.get("cover"), "mm")),
@@ -466,11 +467,11 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                  "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
                  "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>")
         for rej in review.rejected:
-            src = rej.get("source") or {}
-            errs = "<br>".join(escape(str(e)) for e in rej.get("errors") or [])
+            src = rej.source or {}
+            errs = "<br>".join(escape(str(e)) for e in rej.errors)
             h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
                      f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
-                     f"<td>{escape(str(rej.get('mark') or ''))}</td><td>{errs}</td></tr>")
+                     f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
         h.append("</tbody></table></section>")
 
     h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')

@@ -246,11 +246,8 @@ def _revision_doc(revision) -> dict[str, Any]:
 def _tail(review, revision=None) -> dict[str, Any]:
     """What follows the results: the rows not checked and why, the notes, and the remedies."""
     doc: dict[str, Any] = {
-        "rejected": [
-            {"source": r["source"], **({"mark": r["mark"]} if r.get("mark") else {}), "errors": list(r["errors"])}
-            for r in review.rejected
-        ],
-        "skipped": [dict(r) for r in getattr(review, "skipped", None) or []],
+        "rejected": [r.to_dict() for r in review.rejected],
+        "skipped": [r.to_dict() for r in getattr(review, "skipped", None) or []],
         "table_problems": [{"source": p["source"], "errors": list(p["errors"])}
                            for p in getattr(review, "table_problems", None) or []],
         "unused_headings": list(getattr(review, "unused_headings", None) or []),

@@ -14,19 +14,17 @@ from rich.table import Table
 from rich.text import Text
 
 from checker.findings import describe_source
+from checker.model import FIELDS
 from checker.report.terminal import print_caution
 
-PREVIEW_FIELDS = (
-    ("mark", "", 1.0), ("piles", "", 1.0), ("pile_dia", "mm", 1.0), ("pile_spacing", "mm", 1.0),
-    ("cap_length", "mm", 1.0), ("cap_width", "mm", 1.0), ("cap_depth", "mm", 1.0),
-    ("column_x", "mm", 1.0), ("column_y", "mm", 1.0), ("n_ed", "kN", 1e-3), ("mx_ed", "kNm", 1e-6),
-    ("my_ed", "kNm", 1e-6), ("concrete", "", 1.0), ("cover", "mm", 1.0), ("nx", "", 1.0),
-    ("phi_x", "mm", 1.0), ("ny", "", 1.0), ("phi_y", "mm", 1.0), ("embedment", "mm", 1.0),
-    ("pile_capacity", "kN", 1e-3),
+#: the fields of the first rows shown, with their unit and scale from the field catalogue (counts unlabelled)
+PREVIEW_FIELDS: tuple[tuple[str, str, float], ...] = tuple(
+    (name, FIELDS[name].show_unit if FIELDS[name].show_unit != "count" else "", FIELDS[name].show_scale)
+    for name in ("mark", "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth",
+                 "column_x", "column_y", "n_ed", "mx_ed", "my_ed", "concrete", "cover", "nx", "phi_x", "ny",
+                 "phi_y", "embedment", "pile_capacity",
+                 "links")     # single-pile caps (issue 15, item 3): the horizontal links as written
 )
-# single-pile caps (issue 15, item 3): the horizontal links as written
-PREVIEW_FIELDS += (("links", "", 1.0),)
-
 
 def _cell(v, scale: float) -> str:
     if v is None:
@@ -96,8 +94,8 @@ def print_preview(args, out: Console, err: Console, defaults=None) -> int:
     if sched.rejected:
         out.print(Text(f"\n{len(sched.rejected)} row(s) cannot be read:", style="bold red"))
         for r in sched.rejected:
-            mark = f" {r['mark']}" if r.get("mark") else ""
-            out.print(Text(f"  {describe_source(r['source'])}{mark}: ", style="bold") + Text("; ".join(r["errors"])))
+            mark = f" {r.mark}" if r.mark else ""
+            out.print(Text(f"  {describe_source(r.source)}{mark}: ", style="bold") + Text("; ".join(r.errors)))
     shown = {note for rep in (sched.reports or []) for note in rep.notes}
     for note in sched.notes:
         if note not in shown:

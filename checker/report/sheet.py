@@ -27,6 +27,7 @@ import xlsxwriter
 
 from checker.caution import CAUTION
 from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, sort_findings
+from checker.records import RejectedRow
 from checker.report.comments import (
     ALL_CHECKS_SHEET,
     CAUTION_FILL,
@@ -511,15 +512,15 @@ def _all_checks_rows(ws, fmts: _Formats, frame, ncols: int) -> None:
         r += 1
 
 
-def _rejected_sheet(ws, fmts: _Formats, rejected: list[dict[str, Any]], meta: dict[str, Any]) -> None:
+def _rejected_sheet(ws, fmts: _Formats, rejected: list[RejectedRow], meta: dict[str, Any]) -> None:
     _caution_row(ws, fmts, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
     _table_header(ws, fmts, REJECTED_HEADINGS, REJECTED_WIDTHS)
     row = FIRST_DATA_ROW
     body = fmts("body")
     for rej in rejected:
-        src = rej.get("source") or {}
-        errors = rej.get("errors") or []
-        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), rej.get("mark") or "",
+        src = rej.source or {}
+        errors = rej.errors
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), rej.mark,
                   "\n".join(str(e) for e in errors)]
         for col, v in enumerate(values, start=1):
             _put(ws, row, col, v, body)

@@ -287,10 +287,10 @@ def print_findings(review, console: Console, *, show_ok: bool = False, listing: 
         console.print(Text("\nRows not checked", style="bold red"))
         shown = review.rejected if view == "list" else review.rejected[:REJECTED_SHOWN]
         for r in shown:
-            where = describe_source(r["source"]) or "?"
-            mark = f" {r['mark']}" if r.get("mark") else ""
-            console.print(Text(f"  {r['source'].get('file') or ''} {where}{mark}: ", style="bold") +
-                          Text("; ".join(r["errors"])))
+            where = describe_source(r.source) or "?"
+            mark = f" {r.mark}" if r.mark else ""
+            console.print(Text(f"  {r.source.get('file') or ''} {where}{mark}: ", style="bold") +
+                          Text("; ".join(r.errors)))
         if len(shown) < len(review.rejected):
             console.print(Text(f"  ... and {len(review.rejected) - len(shown):,} more rows not checked "
                                "(--full lists them all)", style="bold red"))

@@ -40,6 +40,7 @@ from checker.ruleset.evaluate import (
     evaluate_rule,
     sls_on_uls,
 )
+from checker.units import FROM_INTERNAL, TO_INTERNAL
 
 _RANK = SEVERITY_RANK
 _SEV = np.array(SEVERITY_ORDER, dtype=object)
@@ -171,7 +172,7 @@ def _eligible(mode: str, ex: Expanded, env: dict) -> np.ndarray:
 
 
 def _kn(x: float) -> str:
-    return f"{x / 1e3:.0f}"
+    return f"{x / TO_INTERNAL['kN']:.0f}"
 
 
 def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params: dict, *,
@@ -281,8 +282,8 @@ def _no_case(rule, mode: str, res: RuleResult, none: np.ndarray, ex: Expanded, e
                 _set(res, c, msg, act, render)
                 continue
             R, C = r[row], cap_v[row]
-            res.value[c] = R * 1e-3
-            res.limit[c] = C * 1e-3 if np.isfinite(C) else np.nan
+            res.value[c] = R * FROM_INTERNAL["kN"]
+            res.limit[c] = C * FROM_INTERNAL["kN"] if np.isfinite(C) else np.nan
             nm = ex.name[row] or ex.kind[row]
             if basis == "SLS":
                 lo, hi = R / gamma_q, R / gamma_g

@@ -7,36 +7,8 @@ a rule file is refused with the rule id before any schedule is read.
 
 from __future__ import annotations
 
-# name: (internal unit, meaning)
-FIELDS: dict[str, tuple[str, str]] = {
-    "piles": ("count", "number of piles"),
-    "pile_dia": ("mm", "pile diameter as scheduled"),
-    "pile_spacing": ("mm", "centre-to-centre spacing s of the layout"),
-    "cap_length": ("mm", "cap plan length L (along x)"),
-    "cap_width": ("mm", "cap plan width W (along y)"),
-    "cap_depth": ("mm", "overall cap depth h"),
-    "column_x": ("mm", "column size along x"),
-    "column_y": ("mm", "column size along y"),
-    "n_ed": ("N", "ULS axial load"),
-    "mx_ed": ("N·mm", "ULS moment about x"),
-    "my_ed": ("N·mm", "ULS moment about y"),
-    "fyk": ("MPa", "reinforcement characteristic yield strength"),
-    "cover": ("mm", "nominal cover to the lowest bars"),
-    "embedment": ("mm", "pile head embedment into the cap"),
-    "pile_capacity": ("N", "ULS pile resistance"),
-    "nx": ("count", "number of bars along x"),
-    "phi_x": ("mm", "diameter of the bars along x"),
-    "sx": ("mm", "stated centres of the bars along x"),
-    "ny": ("count", "number of bars along y"),
-    "phi_y": ("mm", "diameter of the bars along y"),
-    "sy": ("mm", "stated centres of the bars along y"),
-    "stated_pile_load": ("N", "designer's maximum pile load"),
-    "stated_tie_x": ("N", "designer's tie force along x"),
-    "stated_tie_y": ("N", "designer's tie force along y"),
-    "stated_as_x": ("mm²", "designer's steel required along x"),
-    "stated_as_y": ("mm²", "designer's steel required along y"),
-    "stated_d": ("mm", "designer's effective depth"),
-}
+from checker.model import FIELDS as MODEL_FIELDS
+from checker.units import FROM_INTERNAL
 
 DERIVED: dict[str, tuple[str, str]] = {
     "n_piles": ("count", "number of piles in the group (layout or explicit coordinates)"),
@@ -281,11 +253,6 @@ DERIVED: dict[str, tuple[str, str]] = {
 }
 
 # single-pile caps (issue 15, item 3): the splitting tie under the column and the pile-head bearing
-FIELDS.update({
-    "n_links": ("count", "number of closed horizontal link sets stated (count form)"),
-    "phi_links": ("mm", "diameter of the horizontal links"),
-    "s_links": ("mm", "stated vertical centres of the horizontal links (spacing form)"),
-})
 DERIVED.update({
     "links_stated": ("", "1 where the schedule states horizontal links"),
     "a_burst_pile": ("mm", "loaded width of the pile head for the splitting tie (circle: equivalent square)"),
@@ -311,6 +278,13 @@ DERIVED.update({
     "pla_ratio_pile": ("", "sqrt(Ac1/Ac0) of the pile head on the cap underside, 6.7"),
     "pile_bearing_limit": ("MPa", "pile-head bearing limit on the cap, fcd sqrt(Ac1/Ac0) <= 3 fcd"),
 })
+
+#: The schedule fields a rule may name: the numeric fields of the model (:data:`checker.model.FIELDS`,
+#: name: (internal unit, meaning)) that are not derived (``fck`` comes from the concrete class).
+FIELDS: dict[str, tuple[str, str]] = {
+    name: (spec.unit, spec.meaning) for name, spec in MODEL_FIELDS.items()
+    if spec.kind in ("float", "int") and name not in DERIVED
+}
 
 QUANTITIES: dict[str, tuple[str, str]] = {**FIELDS, **DERIVED}
 
@@ -347,7 +321,7 @@ LOAD_INDEPENDENT = LOAD_INDEPENDENT | frozenset({
     "as_links_x", "as_links_y", "h_above_pile", "pla_ratio_pile", "pile_bearing_limit",
 })
 
-OUTPUT_SCALE: dict[str, float] = {"kN": 1e-3, "kNm": 1e-6, "%": 100.0}
+OUTPUT_SCALE: dict[str, float] = {u: FROM_INTERNAL[u] for u in ("kN", "kNm", "%")}
 """Multipliers from internal units to a rule's output unit (N -> kN, N·mm -> kNm, ratio -> %)."""
 
 

@@ -43,14 +43,7 @@ from checker.calcs import reactions as rea
 from checker.calcs import shear as shr
 from checker.calcs import splitting as spl
 from checker.calcs import strut_tie as st
-
-#: Canonical numeric input columns carried through as quantities of the same name.
-INPUT_QUANTITIES: tuple[str, ...] = (
-    "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth",
-    "column_x", "column_y", "n_ed", "mx_ed", "my_ed", "fck", "fyk", "cover", "embedment",
-    "pile_capacity", "nx", "phi_x", "sx", "ny", "phi_y", "sy",
-    "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "stated_d",
-)
+from checker.model import FYK_DEFAULT, INPUT_QUANTITIES
 
 #: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
 STATED_ITEMS: tuple[str, ...] = (
@@ -201,7 +194,7 @@ def _inputs(caps: pd.DataFrame) -> Inputs:
     f = {name: _num(caps, name, n) for name in INPUT_QUANTITIES}
     f["mx_ed"] = np.nan_to_num(f["mx_ed"], nan=0.0)
     f["my_ed"] = np.nan_to_num(f["my_ed"], nan=0.0)
-    f["fyk"] = np.where(np.isnan(f["fyk"]), 500.0, f["fyk"])
+    f["fyk"] = np.where(np.isnan(f["fyk"]), FYK_DEFAULT, f["fyk"])
     f["column_y"] = np.where(np.isnan(f["column_y"]), f["column_x"], f["column_y"])
     if "column_round" in caps.columns:
         rnd = caps["column_round"].fillna(False).astype(bool).to_numpy()

@@ -13,7 +13,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-UNIT_SCALE = {"kN": 1e-3, "kNm": 1e-6, "MN": 1e-6, "m": 1e-3, "%": 100.0, "": 1.0}
+from checker.units import FROM_INTERNAL
+
+#: the output units a template may name -> multiplier from the internal unit
+UNIT_SCALE = {u: FROM_INTERNAL[u] for u in ("kN", "kNm", "MN", "m", "%", "")}
 _FORMATTER = string.Formatter()
 _SPEC = __import__("re").compile(r"^[<>^]?[+\- ]?\d{0,2},?(\.\d{1,2})?[fgde%]?$")
 

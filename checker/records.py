@@ -1,0 +1,74 @@
+"""Typed records at the seams between ingest, the review and the writers (issue 12, item 3).
+
+:class:`FieldError` is one field's problem over some rows of a table (collected column-wise while a
+frame is built); :class:`RejectedRow` a schedule or loads row that was not checked, with all its
+reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row).
+They are frozen; ``to_dict()`` gives the dictionaries of the JSON output and the sheets, unchanged.
+``record["errors"]`` and ``record.get("mark")`` read the same keys as ``to_dict()`` (a read-only
+view, for code written against the dictionaries).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+
+def _compact(text: Any) -> str:
+    """A mark as compared: case and spaces ignored (``'pc 1'`` is ``'PC1'``)."""
+    return "".join(str(text or "").split()).casefold()
+
+
+class _DictView:
+    def to_dict(self) -> dict[str, Any]:
+        raise NotImplementedError
+
+    def __getitem__(self, key: str) -> Any:
+        return self.to_dict()[key]
+
+    def get(self, key: str, default: Any = None) -> Any:
+        return self.to_dict().get(key, default)
+
+
+@dataclass(frozen=True)
+class FieldError:
+    """One field's problem over rows of a table: the row positions and one message per row."""
+
+    field: str
+    rows: np.ndarray            # positions (int64)
+    messages: tuple[str, ...]
+
+    @classmethod
+    def of(cls, field: str, rows: Any, messages: Any) -> "FieldError":
+        arr = np.asarray(list(rows) if not isinstance(rows, np.ndarray) else rows, dtype=np.int64)
+        return cls(field, arr, tuple(messages))
+
+
+@dataclass(frozen=True)
+class RejectedRow(_DictView):
+    """A row not checked: where it is (file, sheet, page, row), its mark when read, every reason."""
+
+    source: dict[str, Any]
+    errors: tuple[str, ...]
+    mark: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"source": self.source, **({"mark": self.mark} if self.mark else {}), "errors": list(self.errors)}
+
+    def is_mark(self, asked: str) -> bool:
+        """True when this row's mark is ``asked``, exactly but for case and spaces (``PC1`` is not ``PC10``)."""
+        return bool(self.mark) and _compact(self.mark) == _compact(asked)
+
+
+@dataclass(frozen=True)
+class SkippedRow(_DictView):
+    """A row not read as a cap, with the reason and its first cell text ('' when none)."""
+
+    source: dict[str, Any]
+    reason: str
+    text: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"source": self.source, "reason": self.reason, **({"text": self.text} if self.text else {})}
