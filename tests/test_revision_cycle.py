@@ -41,6 +41,7 @@ from checker.revision import (
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_submissions"
 LEGACY = Path(__file__).parent / "data" / "revision" / "sheet-d6b7519.xlsx"
+REMEDY_LAST = Path(__file__).parent / "data" / "revision" / "sheet-4687e0b.xlsx"
 
 
 def write(folder: Path, rv, *, previous=None, name="comments.xlsx", meta=META) -> Path:
@@ -331,6 +332,40 @@ def test_a_sheet_of_the_earlier_version_is_still_read(tmp_path):
     assert "not recorded" in str(wb["Changes"]["A3"].value)
     # and the sheet written now records them for the next round
     assert read_previous_sheet(s2).inputs
+
+
+def test_a_sheet_with_the_remedy_column_last_is_still_read(tmp_path):
+    """tests/data/revision/sheet-4687e0b.xlsx was written by capcheck at 4687e0b from
+    harbourside-rev-A.csv ("Would pass with" after "Key", before "Checker reply") and edited with
+    openpyxl: "Drawing ref" inserted after "Would pass with", "Due date" (a date) and "Hours"
+    (numbers) added at the end, responses, statuses and replies typed, a row added without a key."""
+    sheet = tmp_path / "a.xlsx"
+    shutil.copy(REMEDY_LAST, sheet)
+    prev = read_previous_sheet(sheet)
+    assert [h for h, f in prev.columns if f == "extra"] == ["Drawing ref", "Due date", "Hours"]
+    assert not any("read as" in w for w in prev.warnings)
+    assert prev.comments["PC8/pile-spacing"].status == "closed"
+    out = tmp_path / "b.xlsx"
+    assert main(["check", str(REV_B), "--previous", str(sheet), "-o", str(out), "-q"]) in (0, 1)
+    rows = rows_by_key(out)
+    node = rows["PC10/node-pile"]
+    assert node["Designer response"] == "Cap deepened to 1100 mm, see drawing 31 rev B"
+    assert node["Drawing ref"] == "DWG-31 B" and node["Due date"].startswith("2027-01-15")
+    assert node["Hours"] == 3.5
+    spacing = rows["PC8/pile-spacing"]
+    assert spacing["Checker status"] == "closed" and spacing["Checker reply"] == "Letter GD-7 seen; accepted"
+    restraint = rows["PC1/restraint"]
+    assert restraint["Designer response"] == "Tie beams TB1 and TB2"
+    assert restraint["Checker reply"] == "Send the tie beam calcs" and restraint["Drawing ref"] == "DWG-40"
+    assert restraint["Hours"] == 2 and isinstance(restraint["Hours"], (int, float))
+    hand = [r for k, r in rows.items() if k.startswith("(no key)")]
+    assert [r["Designer response"] for r in hand] == ["General: is the cover to the pile heads checked?"]
+    # the remedy still written on the failing comments, the person's column still beside it
+    failing = [r for r in rows.values() if r["Severity"] == "unsafe" and r["Checker status"] == "open"]
+    assert failing and all(r["Would pass with"] for r in failing)
+    order = [c.value for c in openpyxl.load_workbook(out)["Comments"][2]]
+    assert order[order.index("Would pass with") + 1] == "Drawing ref"
+    assert order[-2:] == ["Due date", "Hours"]
 
 
 # --------------------------------------------------------------------------------------------
