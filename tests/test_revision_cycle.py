@@ -26,6 +26,7 @@ from conftest_report import (
 
 from checker.cli import EXIT_UNREADABLE, main
 from checker.report import write_outputs
+from checker.report.comments import COMMENT_HEADINGS
 from checker.revision import (
     EVIDENCE,
     MET,
@@ -366,6 +367,13 @@ def test_a_sheet_with_the_remedy_column_last_is_still_read(tmp_path):
     order = [c.value for c in openpyxl.load_workbook(out)["Comments"][2]]
     assert order[order.index("Would pass with") + 1] == "Drawing ref"
     assert order[-2:] == ["Due date", "Hours"]
+    # written in today's order: the remedy beside the action (issue 16), the rest as before
+    assert [h for h in order if h not in ("Drawing ref", "Due date", "Hours")] == list(COMMENT_HEADINGS)
+    assert order.index("Would pass with") == order.index("Action required") + 1
+    # and the sheet written now is read back the same way
+    again = read_previous_sheet(out)
+    assert again.comments["PC1/restraint"].extras == {"Drawing ref": "DWG-40", "Hours": 2}
+    assert again.comments["PC1/restraint"].reply == "Send the tie beam calcs"
 
 
 # --------------------------------------------------------------------------------------------
