@@ -396,7 +396,7 @@ def _listing(folder: Path) -> dict[str, bytes]:
 
 @pytest.mark.parametrize("case", ["pdf", "no-ext", "same-as-schedule", "same-as-previous",
                                   "previous-not-a-sheet", "previous-missing", "previous-text",
-                                  "bad-close"])
+                                  "bad-close", "bad-close-option"])
 def test_refusals_exit_2_and_write_nothing(tmp_path, capsys, sheet_a, case):
     sched = tmp_path / "schedule.csv"
     shutil.copy(REV_B, sched)
@@ -425,6 +425,8 @@ def test_refusals_exit_2_and_write_nothing(tmp_path, capsys, sheet_a, case):
         proj = tmp_path / "project.toml"
         proj.write_text('close = "sometimes"\n')
         args += ["--project", str(proj), "--previous", str(prev), "-o", str(tmp_path / "x.xlsx")]
+    elif case == "bad-close-option":
+        args += ["--close", "sometimes", "--previous", str(prev), "-o", str(tmp_path / "x.xlsx")]
     before = _listing(tmp_path)
     assert main(args) == EXIT_UNREADABLE
     captured = capsys.readouterr()
@@ -464,6 +466,37 @@ def test_project_close_checker(tmp_path, capsys, sheet_a):
     out = tmp_path / "b.xlsx"
     main(["check", str(REV_B), "--project", str(proj), "--previous", str(sheet_a), "-o", str(out), "-q"])
     statuses = {r["Checker status"] for r in rows_by_key(out).values()}
+    assert MET in statuses and "closed" not in statuses
+
+
+@pytest.mark.parametrize("project_close, option, want", [
+    (None, "checker", "checker"),          # the option alone
+    ("checker", "auto", "auto"),           # the option over the project file, both ways
+    ("auto", " Checker ", "checker"),      # written as in the project file: case and spaces ignored
+    ("sometimes", "auto", "auto"),         # the project file's value is not used, so not refused
+])
+def test_close_option_overrides_the_project_file(tmp_path, capsys, sheet_a, project_close, option, want):
+    args = ["check", str(REV_B), "--previous", str(sheet_a), "--close", option, "--format", "json", "-q",
+            "-o", str(tmp_path / "b.xlsx")]
+    if project_close is not None:
+        proj = tmp_path / "project.toml"
+        proj.write_text(f'project = "Invented works"\nclose = "{project_close}"\n')
+        args += ["--project", str(proj)]
+    assert main(args) in (0, 1)
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["revision"]["policy"] == want
+    statuses = {r["Checker status"] for r in rows_by_key(tmp_path / "b.xlsx").values()}
+    assert (MET in statuses) == (want == "checker")
+    assert ("closed" in statuses) == (want == "auto")
+
+
+def test_demo_close_option(tmp_path, capsys):
+    assert main(["demo", "--out", str(tmp_path / "bad"), "--close", "never"]) == EXIT_UNREADABLE
+    captured = capsys.readouterr()
+    assert "--close never" in captured.err and captured.out == ""
+    assert not (tmp_path / "bad").exists()                   # refused before any work
+    assert main(["demo", "--out", str(tmp_path / "demo"), "--close", "checker"]) == 0
+    statuses = {r["Checker status"] for r in rows_by_key(tmp_path / "demo" / "harbourside-rev-B.xlsx").values()}
     assert MET in statuses and "closed" not in statuses
 
 
