@@ -112,6 +112,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="the previous revision's comment sheet (.xlsx) to carry responses from")
     c.add_argument("--revision", help="revision label for the comment sheet")
     c.add_argument("--checker", dest="checker_name", help="checker's name for the comment sheet")
+    c.add_argument("--close", metavar="auto|checker",
+                   help="closing policy with --previous, over the project file's close: auto (capcheck "
+                        "closes a comment whose check is now met; the default) or checker (it becomes "
+                        "'met, for checker to close')")
 
     e = sub.add_parser("explain", help="print the working of every check for one cap")
     _input(e)
@@ -129,6 +133,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     d = sub.add_parser("demo", help="check the bundled sample submission and write its outputs")
     d.add_argument("--out", metavar="DIR", help="output folder (default: a new capcheck-demo folder here)")
+    d.add_argument("--close", metavar="auto|checker",
+                   help="closing policy of the revision B round (default auto; see check --close)")
     _common(d)
 
     sub.add_parser("schema", help="print the JSON Schema of the --format json output (capcheck.findings/1)")
@@ -206,13 +212,20 @@ def _project_defaults(args):
 
 
 def _close_policy(args, review=None) -> str:
-    """The closing policy: the project file's ``close`` ("auto", the default, or "checker")."""
+    """The closing policy: ``--close`` if given, else the project file's ``close`` ("auto", the
+    default, or "checker"). A bad value of either is a usage error (exit 2)."""
+    from checker.revision import CLOSE_POLICIES
+
+    given = getattr(args, "close", None)
+    if given is not None:
+        v = str(given).strip().lower()
+        if v not in CLOSE_POLICIES:
+            raise _UsageError(f"--close {given}: use one of {', '.join(CLOSE_POLICIES)}")
+        return v
     data = _project(args)
     value = data.get("close", (data.get("revision") if isinstance(data.get("revision"), dict) else {}).get("close"))
     if value is None:
         return "auto"
-    from checker.revision import CLOSE_POLICIES
-
     v = str(value).strip().lower()
     if v not in CLOSE_POLICIES:
         raise _UsageError(f"--project {args.project}: close = {value!r}; use one of "
@@ -262,8 +275,7 @@ def preflight(args, outputs: list[str]):
         if t in seen:
             raise _UsageError(f"-o {o}: named twice (also as -o {seen[t]})")
         seen[t] = o
-    if getattr(args, "project", None):
-        _close_policy(args)   # a bad value is refused before the work starts
+    _close_policy(args)   # a bad --close or project close is refused before the work starts
     prev_path = getattr(args, "previous", None)
     if not prev_path:
         return None
@@ -403,6 +415,7 @@ def cmd_demo(args, out: Console, err: Console) -> int:
     from checker.api import review
     from checker.report.terminal import print_findings, print_summary
 
+    policy = _close_policy(args)   # before any work: a bad --close is refused (exit 2)
     samples = sample_dir()
     sample = samples / "harbourside-rev-A.csv"
     if not sample.exists():
@@ -428,7 +441,7 @@ def cmd_demo(args, out: Console, err: Console) -> int:
         out.print("\n[bold]Revision B of the sample (partly fixed), against revision A's comment sheet:[/bold]")
         from checker.revision import carry_over, change_text, read_previous_sheet
 
-        rev_b = carry_over(rv_b, read_previous_sheet(sheet_a)).relabel("B")
+        rev_b = carry_over(rv_b, read_previous_sheet(sheet_a), policy=policy).relabel("B")
         _print_revision(rev_b, out)
         out.print(f"[bold]Inputs changed between revisions A and B ({len(rev_b.changes)}):[/bold]")
         for ch in rev_b.changes:

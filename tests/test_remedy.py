@@ -257,8 +257,10 @@ def test_comment_sheet_column(tmp_path):
     ws = load_workbook(p)["Comments"]
     head = [c.value for c in ws[2]]
     col = head.index("Would pass with")
-    texts = {ws.cell(r, 2).value: ws.cell(r, col + 1).value for r in range(3, ws.max_row + 1)
-             if ws.cell(r, 6).value in ("unsafe", "non-compliant")}
+    assert col == head.index("Action required") + 1            # beside the action, for the designer
+    cap, sev = head.index("Cap") + 1, head.index("Severity") + 1
+    texts = {ws.cell(r, cap).value: ws.cell(r, col + 1).value for r in range(3, ws.max_row + 1)
+             if ws.cell(r, sev).value in ("unsafe", "non-compliant")}
     assert texts["PC12"].startswith("Would meet the listed checks with: bars x 8H16 -> 24H16")
     [h] = write_outputs(rv, [tmp_path / "r.html"])
     assert "Would pass with:" in h.read_text(encoding="utf-8")

@@ -242,9 +242,10 @@ def test_revision_report_lists_comments_of_removed_caps(tmp_path):
     (s1,) = write_outputs(make_review(), [tmp_path / "c.xlsx"], meta=META)
     wb = __import__("openpyxl").load_workbook(s1)
     ws = wb["Comments"]
+    head = {c.value: c.column for c in ws[2] if c.value}
     for r in range(3, ws.max_row + 1):
-        if ws.cell(row=r, column=11).value == "PC3/pile-embedment":
-            ws.cell(row=r, column=9).value = "Embedment 100 mm <see note>"
+        if ws.cell(row=r, column=head["Key"]).value == "PC3/pile-embedment":
+            ws.cell(row=r, column=head["Designer response"]).value = "Embedment 100 mm <see note>"
     wb.save(s1)
     rows = [r for r in base_findings() if r["cap"] != "PC3"]
     rv2 = make_review(rows, without_cap(CAPS, "PC3"))

@@ -43,6 +43,20 @@ def _headings(ws, row=2):
     return [c.value for c in ws[row] if c.value is not None]
 
 
+def _col(ws, heading: str) -> int:
+    """The 1-based column of a heading of the Comments sheet (tests find columns by heading)."""
+    return _headings(ws).index(heading) + 1
+
+
+def _letter(ws, heading: str) -> str:
+    return openpyxl.utils.get_column_letter(_col(ws, heading))
+
+
+def _comment_rows(ws) -> list[dict]:
+    head = _headings(ws)
+    return [dict(zip(head, r)) for r in ws.iter_rows(min_row=3, values_only=True) if r[0] is not None]
+
+
 def test_sheets_in_order(sheet):
     _, wb = sheet
     assert wb.sheetnames == ["Cover", "Comments", "All checks", "Rejected rows", "capcheck-data",
@@ -57,16 +71,18 @@ def test_comment_columns_and_rows(sheet):
     rv, wb = sheet
     ws = wb["Comments"]
     assert tuple(_headings(ws)) == COMMENT_HEADINGS
-    rows = [r for r in ws.iter_rows(min_row=3, values_only=True) if r[0] is not None]
+    # the remedy beside the action (issue 16), the columns people type in after it
+    assert COMMENT_HEADINGS.index("Would pass with") == COMMENT_HEADINGS.index("Action required") + 1
+    rows = _comment_rows(ws)
     n_comments = int((rv.findings["severity"] != "ok").sum())
     assert len(rows) == n_comments == 9
-    assert [r[0] for r in rows] == list(range(1, n_comments + 1))
+    assert [r["No."] for r in rows] == list(range(1, n_comments + 1))
     # worst first, then cap, then rule (the one sort order)
-    assert [r[5] for r in rows[:2]] == ["unsafe", "unsafe"]
-    keys = [r[10] for r in rows]
+    assert [r["Severity"] for r in rows[:2]] == ["unsafe", "unsafe"]
+    keys = [r["Key"] for r in rows]
     assert keys[0] == "PC2/tie-steel-x" and len(set(keys)) == len(keys)
-    assert all(r[9] == "open" for r in rows)
-    assert all(r[8] is None for r in rows)   # designer response left empty
+    assert all(r["Checker status"] == "open" for r in rows)
+    assert all(r["Designer response"] is None for r in rows)   # designer response left empty
     # no passed check becomes a comment
     ok_keys = {f"{r['cap']}/{r['rule']}" for r in base_findings() if r["severity"] == "ok"}
     assert not ok_keys & set(keys)
@@ -75,26 +91,28 @@ def test_comment_columns_and_rows(sheet):
 def test_found_text_carries_the_figures(sheet):
     _, wb = sheet
     ws = wb["Comments"]
-    row = next(r for r in ws.iter_rows(min_row=3, values_only=True) if r[10] == "PC1/edge-distance")
-    found = row[4]
+    rows = {r["Key"]: r for r in _comment_rows(ws)}
+    row = rows["PC1/edge-distance"]
+    found = row["Found"]
     assert "value 100 mm" in found and "limit 150 mm" in found and "utilisation 1.50" in found
-    assert row[2] == "edge-distance: Cap edge beyond the pile face"
-    assert row[3] == "common practice"
-    assert row[6].startswith("Increase the cap")
-    assert row[7] == "row 3"
-    strut = next(r for r in ws.iter_rows(min_row=3, values_only=True) if r[10] == "PC2/strut-angle")
-    assert "value 41.2°" in strut[4] and "limit 45°" in strut[4]
+    assert row["Check"] == "edge-distance: Cap edge beyond the pile face"
+    assert row["Clause"] == "common practice"
+    assert row["Action required"].startswith("Increase the cap")
+    assert row["Source"] == "row 3"
+    strut = rows["PC2/strut-angle"]
+    assert "value 41.2°" in strut["Found"] and "limit 45°" in strut["Found"]
 
 
 def test_severity_fills(sheet):
     _, wb = sheet
     ws = wb["Comments"]
     seen = set()
+    col = _col(ws, "Severity")
     for r in range(3, ws.max_row + 1):
-        sev = ws.cell(row=r, column=6).value
+        sev = ws.cell(row=r, column=col).value
         if sev is None:
             continue
-        assert _rgb(ws.cell(row=r, column=6)) == SEVERITY_FILL[sev]
+        assert _rgb(ws.cell(row=r, column=col)) == SEVERITY_FILL[sev]
         seen.add(sev)
     assert seen == {"unsafe", "non-compliant", "query", "advisory"}
     # the palette is distinct per severity
@@ -112,23 +130,22 @@ def test_status_drop_down(sheet):
     assert dv.formula1 == "'capcheck-lists'!$A$1:$A$4"
     assert [wb["capcheck-lists"].cell(row=i, column=1).value for i in range(1, 5)] == [
         "open", "met, for checker to close", "closed", "superseded"]
+    status = _letter(ws, "Checker status")
     ranges = str(dv.sqref)
-    assert ranges.startswith("J3:J")
-    assert int(ranges.split(":J")[1]) >= 3 + 9  # covers every comment and spare rows below
-    assert ws["J2"].value == "Checker status"
+    assert ranges.startswith(f"{status}3:{status}")
+    assert int(ranges.split(f":{status}")[1]) >= 3 + 9  # covers every comment and spare rows below
 
 
 def test_freeze_filter_widths_wrap(sheet):
     _, wb = sheet
     ws = wb["Comments"]
     assert ws.freeze_panes == "A3"
-    assert ws.auto_filter.ref.startswith("A2:M")  # the last column: "Checker reply" (issue 13)
-    widths = {ws.cell(row=2, column=i).value: ws.column_dimensions[openpyxl.utils.get_column_letter(i)].width
-              for i in range(1, 12)}
+    assert ws.auto_filter.ref.startswith(f"A2:{_letter(ws, COMMENT_HEADINGS[-1])}")  # every column of ours
+    widths = {h: ws.column_dimensions[_letter(ws, h)].width for h in _headings(ws)}
     assert widths["Key"] < widths["Found"] and widths["Key"] <= 12
     assert widths["No."] < widths["Check"]
-    assert ws["E3"].alignment.wrap_text is True
-    assert ws["I3"].alignment.wrap_text is True
+    for heading in ("Found", "Designer response", "Would pass with"):
+        assert ws[f"{_letter(ws, heading)}3"].alignment.wrap_text is True
 
 
 def test_print_setup_on_every_table_sheet(sheet):
@@ -233,7 +250,7 @@ def test_text_that_looks_like_a_formula_stays_text(tmp_path):
     rv = make_review(rows)
     (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
     wb = openpyxl.load_workbook(path)
-    cell = next(c for c in wb["Comments"]["E"] if c.value and "SUM" in str(c.value))
+    cell = next(c for c in wb["Comments"][_letter(wb["Comments"], "Found")] if c.value and "SUM" in str(c.value))
     assert cell.data_type == "s"
 
 

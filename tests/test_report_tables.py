@@ -28,7 +28,10 @@ def test_csv(tmp_path):
     assert tuple(rows[1]) == COMMENT_HEADINGS
     comments = build_comments(rv)
     assert len(rows) - 2 == len(comments) == 9
-    assert rows[2][0] == "1" and rows[2][10] == "PC2/tie-steel-x"
+    first = dict(zip(rows[1], rows[2]))
+    assert first["No."] == "1" and first["Key"] == "PC2/tie-steel-x"
+    # the remedy beside the action, as on the comment sheet (issue 16)
+    assert rows[1].index("Would pass with") == rows[1].index("Action required") + 1
     frame = pd.read_csv(path, skiprows=1, encoding="utf-8-sig")
     assert list(frame.columns) == list(COMMENT_HEADINGS)
     assert frame["Key"].is_unique

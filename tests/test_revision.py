@@ -35,6 +35,11 @@ def write_sheet(folder: Path, rv, *, previous=None, meta=META, name="comments.xl
     return path
 
 
+def heads(ws) -> dict[str, int]:
+    """The 1-based column of each heading of the Comments sheet (tests find columns by heading)."""
+    return {c.value: c.column for c in ws[2] if c.value}
+
+
 def edit(path: Path, typed: dict[str, tuple[str | None, str | None]]) -> None:
     """Type responses and statuses into the Comments sheet by key, with openpyxl, and save."""
     wb = openpyxl.load_workbook(path)
@@ -242,16 +247,18 @@ def test_comment_sheet_rearranged_by_a_person(tmp_path):
     s1 = write_sheet(tmp_path, make_review())
     wb = openpyxl.load_workbook(s1)
     ws = wb["Comments"]
-    ws.insert_cols(9)                      # a column of the person's own before the response
-    ws.cell(row=2, column=9).value = "Checker notes"
-    ws.cell(row=2, column=10).value = "Response"      # renamed heading (was "Designer response")
+    response = heads(ws)["Designer response"]
+    ws.insert_cols(response)               # a column of the person's own before the response
+    ws.cell(row=2, column=response).value = "Checker notes"
+    ws.cell(row=2, column=response + 1).value = "Response"      # renamed heading (was "Designer response")
+    h = heads(ws)
     data = [[c.value for c in row] for row in ws.iter_rows(min_row=3, max_row=11)]
     data.reverse()                         # re-sorted
     for i, vals in enumerate(data, start=3):
         for j, v in enumerate(vals, start=1):
             ws.cell(row=i, column=j).value = v
-    ws.cell(row=3, column=10).value = "typed after re-sorting"
-    key_of_row3 = ws.cell(row=3, column=12).value
+    ws.cell(row=3, column=h["Response"]).value = "typed after re-sorting"
+    key_of_row3 = ws.cell(row=3, column=h["Key"]).value
     wb.save(s1)
     prev = read_previous_sheet(s1)
     assert prev.comments[key_of_row3].response == "typed after re-sorting"
@@ -272,13 +279,14 @@ def test_every_typed_response_survives(tmp_path):
     edit(s1, typed)
     wb = openpyxl.load_workbook(s1)
     ws = wb["Comments"]
+    h = heads(ws)
     r = ws.max_row + 1
-    ws.cell(row=r, column=2).value = "general"
-    ws.cell(row=r, column=5).value = "Designer asks: does the check cover the pile heads?"
-    ws.cell(row=r, column=9).value = "General comment added by hand, keep me"
-    ws.cell(row=r + 1, column=9).value = "=a formula typed as a reply"        # formula, no cached value
-    ws.cell(row=r + 1, column=11).value = "PC5/bar-spacing"
-    ws.cell(row=r + 1, column=1).value = 9                                      # a pasted copy of row 9
+    ws.cell(row=r, column=h["Cap"]).value = "general"
+    ws.cell(row=r, column=h["Found"]).value = "Designer asks: does the check cover the pile heads?"
+    ws.cell(row=r, column=h["Designer response"]).value = "General comment added by hand, keep me"
+    ws.cell(row=r + 1, column=h["Designer response"]).value = "=a formula typed as a reply"  # no cached value
+    ws.cell(row=r + 1, column=h["Key"]).value = "PC5/bar-spacing"
+    ws.cell(row=r + 1, column=h["No."]).value = 9                              # a pasted copy of row 9
     wb.save(s1)
     all_typed = [v[0] for v in typed.values()] + ["General comment added by hand, keep me",
                                                   "=a formula typed as a reply"]
@@ -292,7 +300,8 @@ def test_every_typed_response_survives(tmp_path):
         assert text in got2, text
     # the '=...' reply is still text, not a formula
     wb2 = openpyxl.load_workbook(s2)
-    cells = [c for c in wb2["Comments"]["I"] if c.value == "=agreed, steel increased"]
+    response = openpyxl.utils.get_column_letter(heads(wb2["Comments"])["Designer response"])
+    cells = [c for c in wb2["Comments"][response] if c.value == "=agreed, steel increased"]
     assert cells and cells[0].data_type == "s"
     # a third revision with no edits in between keeps them all again
     res3, s3 = next_round(tmp_path, s2, make_review(new, without_cap(CAPS, "PC3")))
@@ -306,11 +315,12 @@ def test_keyless_row_is_carried_whole(tmp_path):
     s1 = write_sheet(tmp_path, make_review())
     wb = openpyxl.load_workbook(s1)
     ws = wb["Comments"]
+    h = heads(ws)
     r = ws.max_row + 1
-    ws.cell(row=r, column=1).value = 42
-    ws.cell(row=r, column=5).value = "raised at the review meeting"
-    ws.cell(row=r, column=9).value = "answered in the meeting notes"
-    ws.cell(row=r, column=10).value = "open"
+    ws.cell(row=r, column=h["No."]).value = 42
+    ws.cell(row=r, column=h["Found"]).value = "raised at the review meeting"
+    ws.cell(row=r, column=h["Designer response"]).value = "answered in the meeting notes"
+    ws.cell(row=r, column=h["Checker status"]).value = "open"
     wb.save(s1)
     res, s2 = next_round(tmp_path, s1, make_review())
     rows = sheet_rows(s2)

@@ -26,6 +26,7 @@ from conftest_report import (
 
 from checker.cli import EXIT_UNREADABLE, main
 from checker.report import write_outputs
+from checker.report.comments import COMMENT_HEADINGS
 from checker.revision import (
     EVIDENCE,
     MET,
@@ -41,6 +42,7 @@ from checker.revision import (
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_submissions"
 LEGACY = Path(__file__).parent / "data" / "revision" / "sheet-d6b7519.xlsx"
+REMEDY_LAST = Path(__file__).parent / "data" / "revision" / "sheet-4687e0b.xlsx"
 
 
 def write(folder: Path, rv, *, previous=None, name="comments.xlsx", meta=META) -> Path:
@@ -333,6 +335,47 @@ def test_a_sheet_of_the_earlier_version_is_still_read(tmp_path):
     assert read_previous_sheet(s2).inputs
 
 
+def test_a_sheet_with_the_remedy_column_last_is_still_read(tmp_path):
+    """tests/data/revision/sheet-4687e0b.xlsx was written by capcheck at 4687e0b from
+    harbourside-rev-A.csv ("Would pass with" after "Key", before "Checker reply") and edited with
+    openpyxl: "Drawing ref" inserted after "Would pass with", "Due date" (a date) and "Hours"
+    (numbers) added at the end, responses, statuses and replies typed, a row added without a key."""
+    sheet = tmp_path / "a.xlsx"
+    shutil.copy(REMEDY_LAST, sheet)
+    prev = read_previous_sheet(sheet)
+    assert [h for h, f in prev.columns if f == "extra"] == ["Drawing ref", "Due date", "Hours"]
+    assert not any("read as" in w for w in prev.warnings)
+    assert prev.comments["PC8/pile-spacing"].status == "closed"
+    out = tmp_path / "b.xlsx"
+    assert main(["check", str(REV_B), "--previous", str(sheet), "-o", str(out), "-q"]) in (0, 1)
+    rows = rows_by_key(out)
+    node = rows["PC10/node-pile"]
+    assert node["Designer response"] == "Cap deepened to 1100 mm, see drawing 31 rev B"
+    assert node["Drawing ref"] == "DWG-31 B" and node["Due date"].startswith("2027-01-15")
+    assert node["Hours"] == 3.5
+    spacing = rows["PC8/pile-spacing"]
+    assert spacing["Checker status"] == "closed" and spacing["Checker reply"] == "Letter GD-7 seen; accepted"
+    restraint = rows["PC1/restraint"]
+    assert restraint["Designer response"] == "Tie beams TB1 and TB2"
+    assert restraint["Checker reply"] == "Send the tie beam calcs" and restraint["Drawing ref"] == "DWG-40"
+    assert restraint["Hours"] == 2 and isinstance(restraint["Hours"], (int, float))
+    hand = [r for k, r in rows.items() if k.startswith("(no key)")]
+    assert [r["Designer response"] for r in hand] == ["General: is the cover to the pile heads checked?"]
+    # the remedy still written on the failing comments, the person's column still beside it
+    failing = [r for r in rows.values() if r["Severity"] == "unsafe" and r["Checker status"] == "open"]
+    assert failing and all(r["Would pass with"] for r in failing)
+    order = [c.value for c in openpyxl.load_workbook(out)["Comments"][2]]
+    assert order[order.index("Would pass with") + 1] == "Drawing ref"
+    assert order[-2:] == ["Due date", "Hours"]
+    # written in today's order: the remedy beside the action (issue 16), the rest as before
+    assert [h for h in order if h not in ("Drawing ref", "Due date", "Hours")] == list(COMMENT_HEADINGS)
+    assert order.index("Would pass with") == order.index("Action required") + 1
+    # and the sheet written now is read back the same way
+    again = read_previous_sheet(out)
+    assert again.comments["PC1/restraint"].extras == {"Drawing ref": "DWG-40", "Hours": 2}
+    assert again.comments["PC1/restraint"].reply == "Send the tie beam calcs"
+
+
 # --------------------------------------------------------------------------------------------
 # the command: options checked before any work, the JSON and the terminal
 
@@ -353,7 +396,7 @@ def _listing(folder: Path) -> dict[str, bytes]:
 
 @pytest.mark.parametrize("case", ["pdf", "no-ext", "same-as-schedule", "same-as-previous",
                                   "previous-not-a-sheet", "previous-missing", "previous-text",
-                                  "bad-close"])
+                                  "bad-close", "bad-close-option"])
 def test_refusals_exit_2_and_write_nothing(tmp_path, capsys, sheet_a, case):
     sched = tmp_path / "schedule.csv"
     shutil.copy(REV_B, sched)
@@ -382,6 +425,8 @@ def test_refusals_exit_2_and_write_nothing(tmp_path, capsys, sheet_a, case):
         proj = tmp_path / "project.toml"
         proj.write_text('close = "sometimes"\n')
         args += ["--project", str(proj), "--previous", str(prev), "-o", str(tmp_path / "x.xlsx")]
+    elif case == "bad-close-option":
+        args += ["--close", "sometimes", "--previous", str(prev), "-o", str(tmp_path / "x.xlsx")]
     before = _listing(tmp_path)
     assert main(args) == EXIT_UNREADABLE
     captured = capsys.readouterr()
@@ -421,6 +466,37 @@ def test_project_close_checker(tmp_path, capsys, sheet_a):
     out = tmp_path / "b.xlsx"
     main(["check", str(REV_B), "--project", str(proj), "--previous", str(sheet_a), "-o", str(out), "-q"])
     statuses = {r["Checker status"] for r in rows_by_key(out).values()}
+    assert MET in statuses and "closed" not in statuses
+
+
+@pytest.mark.parametrize("project_close, option, want", [
+    (None, "checker", "checker"),          # the option alone
+    ("checker", "auto", "auto"),           # the option over the project file, both ways
+    ("auto", " Checker ", "checker"),      # written as in the project file: case and spaces ignored
+    ("sometimes", "auto", "auto"),         # the project file's value is not used, so not refused
+])
+def test_close_option_overrides_the_project_file(tmp_path, capsys, sheet_a, project_close, option, want):
+    args = ["check", str(REV_B), "--previous", str(sheet_a), "--close", option, "--format", "json", "-q",
+            "-o", str(tmp_path / "b.xlsx")]
+    if project_close is not None:
+        proj = tmp_path / "project.toml"
+        proj.write_text(f'project = "Invented works"\nclose = "{project_close}"\n')
+        args += ["--project", str(proj)]
+    assert main(args) in (0, 1)
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["revision"]["policy"] == want
+    statuses = {r["Checker status"] for r in rows_by_key(tmp_path / "b.xlsx").values()}
+    assert (MET in statuses) == (want == "checker")
+    assert ("closed" in statuses) == (want == "auto")
+
+
+def test_demo_close_option(tmp_path, capsys):
+    assert main(["demo", "--out", str(tmp_path / "bad"), "--close", "never"]) == EXIT_UNREADABLE
+    captured = capsys.readouterr()
+    assert "--close never" in captured.err and captured.out == ""
+    assert not (tmp_path / "bad").exists()                   # refused before any work
+    assert main(["demo", "--out", str(tmp_path / "demo"), "--close", "checker"]) == 0
+    statuses = {r["Checker status"] for r in rows_by_key(tmp_path / "demo" / "harbourside-rev-B.xlsx").values()}
     assert MET in statuses and "closed" not in statuses
 
 

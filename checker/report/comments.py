@@ -58,16 +58,17 @@ COMMENT_HEADINGS: tuple[str, ...] = (
     "Found",
     "Severity",
     "Action required",
+    "Would pass with",   # issue 16: the least change that would meet the listed checks (checker.remedy),
+                         # beside the action; read back by heading, so a sheet with it after "Key" still reads
     "Source",
     "Designer response",
     "Checker status",
     "Key",
-    "Would pass with",   # issue 16: the least change that would meet the listed checks (checker.remedy)
     "Checker reply",     # issue 13: the checker's answer to the designer's response, carried over
 )
 # the field each heading is read back as (checker.revision._HEADING_ALIASES)
-COMMENT_FIELDS: tuple[str, ...] = ("no", "cap", "check", "clause", "found", "severity", "action", "source",
-                                   "response", "status", "key", "remedy", "reply")
+COMMENT_FIELDS: tuple[str, ...] = ("no", "cap", "check", "clause", "found", "severity", "action", "remedy",
+                                   "source", "response", "status", "key", "reply")
 
 
 def comment_layout(revision: "RevisionResult | None" = None) -> list[tuple[str, str]]:
@@ -274,11 +275,11 @@ class Comment:
             self.found_cell,
             self.severity,
             self.action,
+            self.remedy,
             self.source,
             self.response,
             self.status,
             self.key,
-            self.remedy,
             self.reply,
         ]
 
