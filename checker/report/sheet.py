@@ -193,7 +193,11 @@ def _put(ws, row: int, col: int, value: Any, fmt=None) -> None:
     elif isinstance(value, (int, float)):
         ws.write_number(r, c, value, fmt)
     elif isinstance(value, (_dt.date, _dt.datetime)):
-        ws.write_string(r, c, value.isoformat(), fmt)
+        if fmt is not None and getattr(fmt, "num_format", 0):   # a date typed by a person stays a date
+            when = value if isinstance(value, _dt.datetime) else _dt.datetime.combine(value, _dt.time())
+            ws.write_datetime(r, c, when, fmt)
+        else:
+            ws.write_string(r, c, value.isoformat(), fmt)
     else:
         ws.write_string(r, c, str(value), fmt)
 
@@ -385,6 +389,9 @@ def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str,
         values = [cm.extras.get(h) if f == "extra" else base[f] for h, f in layout]
         names[sev_col] = fmts(f"body:sev={cm.severity}")
         for col, (v, fmt) in enumerate(zip(values, names), start=1):
+            if isinstance(v, (_dt.date, _dt.datetime)):        # a person's date, kept as a date
+                timed = isinstance(v, _dt.datetime) and v.time() != _dt.time()
+                fmt = fmts("body:fmt=yyyy-mm-dd hh:mm" if timed else "body:fmt=yyyy-mm-dd")
             _put(ws, row, col, v, fmt)
         _fit_row_height(ws, row, values, widths, line_height=12.0)
         row += 1
