@@ -158,9 +158,9 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
         f = findings
         fmarks = f["cap"].astype(str).tolist()
         for m, r, sev, msg in zip(fmarks, f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
-            lines = out.get(m, {}).get(r)
-            if lines is not None:
-                lines.append(f"  -> {sev}: {msg}".strip())
+            cap_lines = out.get(m, {}).get(r)
+            if cap_lines is not None:
+                cap_lines.append(f"  -> {sev}: {msg}".strip())
         return out
 
     return Review(
@@ -276,7 +276,7 @@ def review(source, profile: str = "uk-na", *, rules_dir: str | Path | None = Non
         defaults = read_defaults(defaults)
     if isinstance(source, pd.DataFrame):
         sched = schedule_from_frame(source, mapping=mapping, coords=coords, loads=loads, defaults=defaults,
-                                    **({"max_rows": max_rows} if max_rows else {}))
+                                    max_rows=max_rows if max_rows else None)  # None: the default limit
         name = "<dataframe>"
     else:
         kwargs: dict[str, Any] = {"mapping": mapping, "coords": coords, "loads": loads, "defaults": defaults}

@@ -13,7 +13,7 @@ from __future__ import annotations
 import types
 import typing
 from dataclasses import dataclass
-from typing import Any, Callable, Mapping
+from typing import Any, Callable, Mapping, cast
 
 import annotated_types as at
 import numpy as np
@@ -88,8 +88,8 @@ def _f(default: Any = ..., *, unit: str = "", show: tuple[str, float] | None = N
     """A model field with its internal unit, its display unit (name, factor from internal), doc, its
     meaning as a rule quantity (default: the doc) and the kind of schedule heading that gives it
     (default: the kind of its unit, 'text' for text; None: not read from a heading of its own)."""
-    extra = {"unit": unit, "show_unit": (show or (unit, 1.0))[0], "show_scale": (show or (unit, 1.0))[1],
-             "meaning": meaning or doc, "heading": heading}
+    extra: dict[str, Any] = {"unit": unit, "show_unit": (show or (unit, 1.0))[0],
+                             "show_scale": (show or (unit, 1.0))[1], "meaning": meaning or doc, "heading": heading}
     return Field(default, description=doc, json_schema_extra=extra, **constraints)
 
 
@@ -349,19 +349,19 @@ def _heading_kind(given: Any, unit: str, kind: str) -> str | None:
 def _catalogue() -> dict[str, FieldSpec]:
     out: dict[str, FieldSpec] = {}
     for name, info in CapRecord.model_fields.items():
-        extra = info.json_schema_extra or {}
+        extra = cast(dict[str, Any], info.json_schema_extra or {})  # a dict on every field (_f)
         bounds: list[tuple[str, float]] = []
         one_of = None
         min_length = 0
         for m in info.metadata:
             if isinstance(m, at.Gt):
-                bounds.append(("gt", float(m.gt)))
+                bounds.append(("gt", float(cast(float, m.gt))))
             elif isinstance(m, at.Ge):
-                bounds.append(("ge", float(m.ge)))
+                bounds.append(("ge", float(cast(float, m.ge))))
             elif isinstance(m, at.Lt):
-                bounds.append(("lt", float(m.lt)))
+                bounds.append(("lt", float(cast(float, m.lt))))
             elif isinstance(m, at.Le):
-                bounds.append(("le", float(m.le)))
+                bounds.append(("le", float(cast(float, m.le))))
             elif isinstance(m, at.MinLen):
                 min_length = int(m.min_length)
             elif isinstance(m, OneOf):

@@ -37,7 +37,7 @@ from __future__ import annotations
 import math
 import time
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 import pandas as pd
@@ -181,7 +181,7 @@ class _Engine:
             if self.cases is None or not len(self.cases):
                 X, Y, M = (np.asfortranarray(a[parent]) for a in (self.X, self.Y, self.mask))
                 d = derive_arrays(frame, X, Y, M, dict(self.params))
-                env = dict(d.q)
+                env: dict[str, Any] = dict(d.q)
                 env.update(numeric_params(self.params))
                 methods = frame["method"].to_numpy(dtype=object) if "method" in frame else None
                 for j, rule in enumerate(self.rules):
@@ -550,7 +550,7 @@ class _Search:
         stuck = np.ones_like(self.axis_bad["depth"])
         for a in ("depth", "bars"):
             stuck &= self.axis_bad[a] & (self.axis_minu[a] >= base * (1 - 1e-9))
-        return stuck.any(axis=1)
+        return cast(np.ndarray, stuck.any(axis=1))
 
     def _combined(self, bars_ok: np.ndarray):
         """The smallest depth at which some arrangement (scheduled diameters) passes; only for caps
@@ -559,7 +559,7 @@ class _Search:
         first = np.where(self.depth_pass.any(axis=1), np.argmax(self.depth_pass, axis=1), K)
         todo = np.flatnonzero(~bars_ok & (first > 0) & ~self._unmoved())
         done = np.zeros(self.m, bool)
-        found = {}
+        found: dict[Any, tuple[int, int, Any, Any, float]] = {}
         CH = 4
         for a in range(0, K, CH):
             live = todo[~done[todo]]

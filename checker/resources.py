@@ -60,7 +60,7 @@ def data_dir(name: str) -> Path:
     res = resources.files("checker") / "_data" / name
     if isinstance(res, Path) or not res.is_dir():
         return Path(str(res))
-    return _as_path(res)
+    return _as_path(res)  # type: ignore[arg-type]  # @cache wants Hashable; a Traversable hashes by identity
 
 
 def findings_schema_text() -> str:

@@ -4,10 +4,47 @@ control perimeter for a column base, with the pile-cap practice of reference §1
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import TypedDict, cast
+
 import numpy as np
+from numpy.typing import NDArray
+
+from checker.calcs._typing import Floats, Real
 
 
-def column_perimeter(column_x, column_y, column_round=False):
+class PileEdgePerimeter(TypedDict):
+    """:func:`pile_edge_perimeter`, each of the broadcast shape of the pile centres and ρ."""
+
+    u: Floats
+    u_fig: Floats
+    u_circle: Floats
+    near: Floats
+    legs: Floats
+    rho: Floats
+
+
+class PilePunching(TypedDict):
+    """:func:`pile_punching`: the governing pile of each cap, (n,) each."""
+
+    applies: Floats
+    ved: Floats
+    ved_force: Floats
+    reaction: Floats
+    dv_col: Floats
+    dv_sw: Floats
+    dv_piles: Floats
+    u: Floats
+    u_circle: Floats
+    rho: Floats
+    near: Floats
+    legs: Floats
+    util: Floats
+    x: Floats
+    y: Floats
+
+
+def column_perimeter(column_x: Real, column_y: Real, column_round: Real = False) -> Floats:
     """EN 1992-1-1:2004 6.4.5(3)
 
     Perimeter u0 of an internal column: 2(cx + cy) for a rectangle, πD for a circle [M].
@@ -24,7 +61,7 @@ def column_perimeter(column_x, column_y, column_round=False):
     return np.where(np.asarray(column_round, dtype=bool), np.pi * cx, 2.0 * (cx + cy))
 
 
-def shear_stress_column_face(v_ed, u0, d_mean, beta=1.0):
+def shear_stress_column_face(v_ed: Real, u0: Real, d_mean: Real, beta: Real = 1.0) -> Floats:
     """EN 1992-1-1:2004 6.4.5(3), Eq. (6.53)
 
     Shear stress at the column face vEd,0 = β VEd/(u0 d). β = 1.0 for a concentrically loaded
@@ -42,7 +79,7 @@ def shear_stress_column_face(v_ed, u0, d_mean, beta=1.0):
     return beta * np.asarray(v_ed, dtype=float) / (u0 * np.asarray(d_mean, dtype=float))
 
 
-def v_rd_max(nu, fcd, coeff=0.5):
+def v_rd_max(nu: Real, fcd: Real, coeff: Real = 0.5) -> Floats:
     """EN 1992-1-1:2004 6.4.5(3)
 
     Maximum punching shear stress at the column face vRd,max = coeff·ν·fcd: 0.5 in the 2004
@@ -59,7 +96,7 @@ def v_rd_max(nu, fcd, coeff=0.5):
     return coeff * np.asarray(nu, dtype=float) * fcd
 
 
-def basic_control_perimeter(column_x, column_y, d, column_round=False):
+def basic_control_perimeter(column_x: Real, column_y: Real, d: Real, column_round: Real = False) -> Floats:
     """EN 1992-1-1:2004 6.4.2(1)
 
     Basic control perimeter at 2d from the column face: u1 = 2(cx + cy) + 4πd, or π(D + 4d)
@@ -80,7 +117,9 @@ def basic_control_perimeter(column_x, column_y, d, column_round=False):
                     2.0 * (cx + cy) + 4.0 * np.pi * d)
 
 
-def pile_under_column(X, Y, pile_dia, column_x, column_y, column_round=False):
+def pile_under_column(
+    X: Real, Y: Real, pile_dia: Real, column_x: Real, column_y: Real, column_round: Real = False,
+) -> NDArray[np.bool_]:
     """Derived: a pile head lies entirely under the column (its whole disc inside the column face)
 
     Rectangle cx × cy (centred): |X| + φ/2 ≤ cx/2 and |Y| + φ/2 ≤ cy/2; circle D: r + φ/2 ≤ D/2.
@@ -108,7 +147,10 @@ def pile_under_column(X, Y, pile_dia, column_x, column_y, column_round=False):
     return np.where(rnd, circ, rect)
 
 
-def perimeter_applies(X, Y, mask, pile_dia, column_x, column_y, column_round=False):
+def perimeter_applies(
+    X: Real, Y: Real, mask: NDArray[np.bool_], pile_dia: Real, column_x: Real, column_y: Real,
+    column_round: Real = False,
+) -> Floats:
     """EN 1992-1-1:2004 6.4.4(2)
 
     The control perimeters within 2d are checked wherever a pile face lies outside the column
@@ -131,7 +173,9 @@ def perimeter_applies(X, Y, mask, pile_dia, column_x, column_y, column_round=Fal
     return (mask & ~under).any(axis=1).astype(float)
 
 
-def signed_distance_to_column(x, y, column_x, column_y, column_round=False):
+def signed_distance_to_column(
+    x: Real, y: Real, column_x: Real, column_y: Real, column_round: Real = False,
+) -> Floats:
     """EN 1992-1-1:2004 6.4.2(1)
 
     Signed distance from a point to the column face, negative under the column. The control
@@ -159,10 +203,12 @@ def signed_distance_to_column(x, y, column_x, column_y, column_round=False):
     out = np.hypot(np.maximum(qx, 0), np.maximum(qy, 0))
     out += np.minimum(np.maximum(qx, qy), 0)
     out -= rad
-    return out
+    return cast(Floats, out)
 
 
-def control_perimeter_length(a, column_x, column_y, column_round, cap_length, cap_width):
+def control_perimeter_length(
+    a: Real, column_x: Real, column_y: Real, column_round: Real, cap_length: Real, cap_width: Real,
+) -> Floats:
     """EN 1992-1-1:2004 6.4.2(1)
 
     Length of the control perimeter at a from the column face, u(a) = 2(cx + cy) + 2πa for a
@@ -198,10 +244,10 @@ def control_perimeter_length(a, column_x, column_y, column_round, cap_length, ca
                - np.arccos(np.clip(ex / safe, -1.0, 1.0)))
     arcs = 4.0 * rho * np.maximum(ang, 0.0)
     sides = np.where(rnd, 0.0, 2.0 * cx * (a <= ey) + 2.0 * cy * (a <= ex))
-    return sides + arcs
+    return cast(Floats, sides + arcs)
 
 
-def unit_disc_points(n_points=192):
+def unit_disc_points(n_points: int = 192) -> tuple[Floats, Floats]:
     """Derived: equal-area quadrature points over the unit disc (Vogel's sunflower spiral)
 
     Point j at radius √((j + ½)/P) and angle j·π(3 − √5): every point stands for the same
@@ -221,7 +267,7 @@ def unit_disc_points(n_points=192):
     return rad * np.cos(ang), rad * np.sin(ang)
 
 
-def area_fraction_inside(sd, width, a0, step, n_steps):
+def area_fraction_inside(sd: Real, width: Real, a0: Real, step: Real, n_steps: int) -> Floats:
     """Derived: share of a pile head's area inside the control perimeters a0 + k·step (k = 0..K)
 
     Each quadrature point of the pile head stands for a cell of the head's area; the cell is
@@ -268,9 +314,11 @@ def area_fraction_inside(sd, width, a0, step, n_steps):
     return np.where(frac > 1.0 - 1e-4, 1.0, np.where(frac < 1e-4, 0.0, frac))
 
 
-def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y, column_round,
-                        cap_length, cap_width, d, vrdc, mx_ed=None, my_ed=None, n_coarse=64, n_fine=16,
-                        n_points=192, chunk_points=2 ** 21):
+def governing_perimeter(v_ed: Real, reaction: Real, X: Real, Y: Real, mask: Real, pile_dia: Real,
+                        column_x: Real, column_y: Real, column_round: Real, cap_length: Real, cap_width: Real,
+                        d: Real, vrdc: Real, mx_ed: Real | None = None, my_ed: Real | None = None,
+                        n_coarse: int = 64, n_fine: int = 16, n_points: int = 192,
+                        chunk_points: int = 2 ** 21) -> dict[str, Floats]:
     """EN 1992-1-1:2004 6.4.4(2)
 
     Every control perimeter within 2d of the column face, the lowest resistance governing:
@@ -389,13 +437,13 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
         base = under[sl].astype(float)
         Rc = R[sl]
 
-        def fractions(fu, nodes):
+        def fractions(fu: Floats, nodes: int) -> Floats:
             f = np.repeat(base[:, :, None], nodes, axis=2)
             if len(rows):
                 f[rows, cols] = fu[inv]
             return f
 
-        def trial(a, f):
+        def trial(a: Floats, f: Floats) -> tuple[Floats, Floats, Floats, Floats, Floats]:
             dd = d[sl][:, None]
             u = control_perimeter_length(a, cx[sl][:, None], cy[sl][:, None], rnd[sl][:, None],
                                          L[sl][:, None], W[sl][:, None])
@@ -439,7 +487,7 @@ def governing_perimeter(v_ed, reaction, X, Y, mask, pile_dia, column_x, column_y
     return out
 
 
-def reduced_punching_force(v_ed, reaction, fraction):
+def reduced_punching_force(v_ed: Real, reaction: Real, fraction: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.4(2), Eq. (6.48)
 
     Net punching force VEd,red = VEd − ΔVEd on a control perimeter, ΔVEd = Σ R_i f_i with f_i
@@ -458,11 +506,11 @@ def reduced_punching_force(v_ed, reaction, fraction):
     f = np.asarray(fraction, dtype=float)
     v = np.asarray(v_ed, dtype=float)
     if f.ndim == 3:
-        return v[:, None] - np.einsum("cm,cmk->ck", R, f)
-    return v - np.sum(R * f, axis=-1)
+        return cast(Floats, v[:, None] - np.einsum("cm,cmk->ck", R, f))
+    return cast(Floats, v - np.sum(R * f, axis=-1))
 
 
-def shear_stress_perimeter(v_ed_red, u, d):
+def shear_stress_perimeter(v_ed_red: Real, u: Real, d: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.4(2), Eq. (6.49)
 
     Punching shear stress on a control perimeter of a column base, vEd = VEd,red/(u d) (β = 1.0,
@@ -479,7 +527,7 @@ def shear_stress_perimeter(v_ed_red, u, d):
     return np.asarray(v_ed_red, dtype=float) / (u * np.asarray(d, dtype=float))
 
 
-def v_rd_column_base(vrdc, d, a):
+def v_rd_column_base(vrdc: Real, d: Real, a: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.4(2), Eq. (6.50)
 
     Punching resistance of a column base on a perimeter at a from the column face,
@@ -493,10 +541,10 @@ def v_rd_column_base(vrdc, d, a):
     Returns:
         vRd [MPa]
     """
-    return np.asarray(vrdc, dtype=float) * 2.0 * np.asarray(d, dtype=float) / a
+    return cast(Floats, np.asarray(vrdc, dtype=float) * 2.0 * np.asarray(d, dtype=float) / a)
 
 
-def rho_two_way(rho_x, rho_y):
+def rho_two_way(rho_x: Real, rho_y: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.4(1), Eq. (6.47)
 
     Two-way reinforcement ratio ρl = √(ρlx ρly) ≤ 0.02 [M].
@@ -512,7 +560,7 @@ def rho_two_way(rho_x, rho_y):
 
 # ---- punching with moment transfer (issue 15, item 2) ---------------------------------------
 
-def k_moment(c1, c2):
+def k_moment(c1: Real, c2: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.3(3), Table 6.1
 
     Share k of the unbalanced moment transferred by shear, for a rectangular column: c1/c2 ≤ 0.5:
@@ -528,10 +576,12 @@ def k_moment(c1, c2):
         k [-]
     """
     ratio = np.asarray(c1, dtype=float) / np.asarray(c2, dtype=float)
-    return np.interp(ratio, [0.5, 1.0, 2.0, 3.0], [0.45, 0.60, 0.70, 0.80])
+    return cast(Floats, np.interp(ratio, [0.5, 1.0, 2.0, 3.0], [0.45, 0.60, 0.70, 0.80]))
 
 
-def perimeter_w(a, column_x, column_y, column_round, cap_length, cap_width):
+def perimeter_w(
+    a: Real, column_x: Real, column_y: Real, column_round: Real, cap_length: Real, cap_width: Real
+) -> tuple[Floats, Floats]:
     """EN 1992-1-1:2004 6.4.3(3), Eq. (6.41)
 
     W = ∫|e| dl over the control perimeter at a from the column face (the definition of W1 in
@@ -578,7 +628,9 @@ def perimeter_w(a, column_x, column_y, column_round, cap_length, cap_width):
     return wx, wy
 
 
-def beta_column(n_ed, mx_ed, my_ed, column_x, column_y, column_round, d):
+def beta_column(
+    n_ed: Real, mx_ed: Real, my_ed: Real, column_x: Real, column_y: Real, column_round: Real, d: Real
+) -> tuple[Floats, Floats]:
     """EN 1992-1-1:2004 6.4.3(3), Eq. (6.39)
 
     β for an internal column transferring a moment, on the basic control perimeter (used for the
@@ -629,7 +681,7 @@ def beta_column(n_ed, mx_ed, my_ed, column_x, column_y, column_round, d):
 
 # ---- piles near the cap edge punching upward (issue 15, item 4) -----------------------------
 
-def disc_overlap_area(dist, radius_a, radius_b):
+def disc_overlap_area(dist: Real, radius_a: Real, radius_b: Real) -> Floats:
     """Derived: area common to two discs of radii ρa and ρb whose centres are dist apart
 
     Plane geometry (the lens): ρa² acos((D² + ρa² − ρb²)/(2Dρa)) + ρb² acos((D² + ρb² − ρa²)/(2Dρb))
@@ -656,13 +708,13 @@ def disc_overlap_area(dist, radius_a, radius_b):
     return np.where(np.isnan(D) | np.isnan(ra) | np.isnan(rb), np.nan, out)
 
 
-def _disc_quadrant(a, b, rho):
+def _disc_quadrant(a: Real, b: Real, rho: Real) -> Floats:
     """Area of the disc of radius ρ about the origin where u ≥ a and v ≥ b (closed form) [mm²]."""
-    def prim(u):  # ∫ √(ρ² − u²) du
+    def prim(u: Real) -> Floats:  # ∫ √(ρ² − u²) du
         s = np.sqrt(np.maximum(rho * rho - u * u, 0.0))
         with np.errstate(divide="ignore", invalid="ignore"):
             ang = np.arcsin(np.clip(np.where(rho > 0, u / np.where(rho > 0, rho, 1.0), 0.0), -1.0, 1.0))
-        return 0.5 * (u * s + rho * rho * ang)
+        return cast(Floats, 0.5 * (u * s + rho * rho * ang))
 
     ub = np.sqrt(np.maximum(rho * rho - b * b, 0.0))
     lo = np.minimum(np.maximum(np.clip(a, -rho, rho), -ub), ub)
@@ -671,10 +723,10 @@ def _disc_quadrant(a, b, rho):
     a2 = np.clip(a, -rho, rho)
     upper = chord - b * span                                    # b ≥ 0: the cap above v = b
     lower = 2.0 * (prim(rho) - prim(a2)) - (chord + b * span)   # b < 0: all but the cap below
-    return np.maximum(np.where(b >= 0, upper, lower), 0.0)
+    return cast(Floats, np.maximum(np.where(b >= 0, upper, lower), 0.0))
 
 
-def disc_rectangle_area(x0, x1, y0, y1, rho):
+def disc_rectangle_area(x0: Real, x1: Real, y0: Real, y1: Real, rho: Real) -> Floats:
     """Derived: area of the disc of radius ρ about the origin inside the rectangle [x0, x1] × [y0, y1]
 
     Inclusion-exclusion over four quadrant areas Q(a, b) = area of the disc where u ≥ a and v ≥ b,
@@ -695,7 +747,9 @@ def disc_rectangle_area(x0, x1, y0, y1, rho):
     return np.maximum(q, 0.0)
 
 
-def pile_edge_perimeter(X, Y, pile_dia, d, cap_length, cap_width):
+def pile_edge_perimeter(
+    X: Real, Y: Real, pile_dia: Real, d: Real, cap_length: Real, cap_width: Real
+) -> PileEdgePerimeter:
     """EN 1992-1-1:2004 6.4.2(4), Figure 6.15
 
     Control perimeter at 2d round a pile head near the cap edges (the loaded area pushing up into
@@ -726,7 +780,7 @@ def pile_edge_perimeter(X, Y, pile_dia, d, cap_length, cap_width):
     """
     X = np.asarray(X, dtype=float)
     Y = np.asarray(Y, dtype=float)
-    col = lambda v: np.asarray(v, dtype=float)[:, None]  # noqa: E731
+    col: Callable[[Real], Floats] = lambda v: np.asarray(v, dtype=float)[:, None]  # noqa: E731
     rho = 0.5 * col(pile_dia) + 2.0 * col(d)
     hl, hw = 0.5 * col(cap_length), 0.5 * col(cap_width)
     e = {"+x": hl - X, "-x": hl + X, "+y": hw - Y, "-y": hw + Y}
@@ -753,13 +807,14 @@ def pile_edge_perimeter(X, Y, pile_dia, d, cap_length, cap_width):
             legs = legs + on
             leg_len = leg_len + np.where(on, e[k], 0.0)
     u_fig = arcs + leg_len
-    n_near = sum(near[k].astype(float) for k in e)
+    n_near = cast(Floats, sum(near[k].astype(float) for k in e))
     return {"u": np.minimum(u_fig, u_circ), "u_fig": u_fig, "u_circle": u_circ, "near": n_near,
             "legs": legs, "rho": np.broadcast_to(rho, shape)}
 
 
-def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y, column_round,
-                  n_ed, self_weight, d, cap_length, cap_width, vrdc):
+def pile_punching(reaction: Real, reactions: Real, X: Real, Y: Real, mask: Real, pile_dia: Real, column_x: Real,
+                  column_y: Real, column_round: Real, n_ed: Real, self_weight: Real, d: Real, cap_length: Real,
+                  cap_width: Real, vrdc: Real) -> PilePunching:
     """EN 1992-1-1:2004 6.4.4(1), Eq. (6.47)
 
     Piles near the cap edge punching upward: on the perimeter at 2d round each pile whose face is
@@ -801,9 +856,10 @@ def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y,
     Y = np.asarray(Y, dtype=float)
     mask = np.asarray(mask, dtype=bool)
     n, m = X.shape
-    b = lambda v, dt=float: np.broadcast_to(np.asarray(v, dtype=dt), (n,))  # noqa: E731
+    b: Callable[[Real], Floats] = lambda v: np.broadcast_to(np.asarray(v, dtype=float), (n,))  # noqa: E731
     r = 0.5 * b(pile_dia)
-    cx, cy, rnd = b(column_x), b(column_y), b(column_round, bool)
+    cx, cy = b(column_x), b(column_y)
+    rnd = np.broadcast_to(np.asarray(column_round, dtype=bool), (n,))
     N, dd, vr = b(n_ed), b(d), b(vrdc)
     Xs, Ys = np.where(mask, X, 0.0), np.where(mask, Y, 0.0)
     per = pile_edge_perimeter(Xs, Ys, 2 * r, dd, cap_length, cap_width)
@@ -861,14 +917,14 @@ def pile_punching(reaction, reactions, X, Y, mask, pile_dia, column_x, column_y,
     g = np.argmax(key, axis=1) if m else np.zeros(n, dtype=int)
     rows = np.arange(n)
     has = ok.any(axis=1) & np.isfinite(dd) & np.isfinite(N) & np.isfinite(vr)
-    pick = lambda arr: np.where(has, np.asarray(arr)[rows, g], np.nan)  # noqa: E731
+    pick: Callable[[Real], Floats] = lambda arr: np.where(has, np.asarray(arr)[rows, g], np.nan)  # noqa: E731
     return {"applies": ok.any(axis=1).astype(float), "ved": pick(ved), "ved_force": pick(force),
             "reaction": pick(R_own), "dv_col": pick(dv_col), "dv_sw": pick(dv_sw), "dv_piles": pick(dv_p), "u": pick(u),
             "u_circle": pick(per["u_circle"]), "rho": pick(rho), "near": pick(per["near"]),
             "legs": pick(per["legs"]), "util": pick(util), "x": pick(X), "y": pick(Y)}
 
 
-def k_moment_column(c1, c2, column_round):
+def k_moment_column(c1: Real, c2: Real, column_round: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.3(3), Table 6.1
 
     k of :func:`k_moment` for a rectangular column, 0.6 for a circular one (Eq. (6.42)) [M].
@@ -884,7 +940,7 @@ def k_moment_column(c1, c2, column_round):
     return np.where(column_round, 0.6, k_moment(c1, c2))
 
 
-def load_eccentricity(m_ed, v_ed):
+def load_eccentricity(m_ed: Real, v_ed: Real) -> Floats:
     """EN 1992-1-1:2004 6.4.3(3)
 
     Eccentricity of the column load, e = |MEd|/VEd (inf or NaN where VEd = 0).

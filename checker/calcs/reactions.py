@@ -7,10 +7,20 @@ axially only, reaction proportional to axial shortening.
 
 from __future__ import annotations
 
+from typing import TypeAlias, cast
+
 import numpy as np
+from numpy.typing import NDArray
+
+from checker.calcs._typing import Floats, Real
+
+# group_terms: (ns, xc, yc, u, v, suu, svv, suv)
+GroupTerms: TypeAlias = tuple[Floats, Floats, Floats, Floats, Floats, Floats, Floats, Floats]
 
 
-def self_weight(cap_length, cap_width, cap_depth, gamma_g=1.35, density=25.0):
+def self_weight(
+    cap_length: Real, cap_width: Real, cap_depth: Real, gamma_g: Real = 1.35, density: Real = 25.0
+) -> Floats:
     """EN 1991-1-1:2002 Annex A, Table A.1
 
     Design self-weight of a rectangular cap, γG ρ L W h. Reinforced concrete 25 kN/m³ [M];
@@ -27,10 +37,10 @@ def self_weight(cap_length, cap_width, cap_depth, gamma_g=1.35, density=25.0):
         design self-weight [N]
     """
     vol = np.asarray(cap_length, dtype=float) * cap_width * cap_depth  # mm³
-    return gamma_g * density * 1e-6 * vol  # kN/m³ = 1e-6 N/mm³
+    return cast(Floats, gamma_g * density * 1e-6 * vol)  # kN/m³ = 1e-6 N/mm³
 
 
-def self_weight_factor(is_sls, gamma_g=1.35):
+def self_weight_factor(is_sls: Real, gamma_g: Real = 1.35) -> Floats:
     """Derived: partial factor on the cap self-weight, γG for a ULS case and 1.0 for an SLS case
 
     The self-weight of a serviceability combination is unfactored (EN 1990:2002 6.5.3, the
@@ -47,7 +57,7 @@ def self_weight_factor(is_sls, gamma_g=1.35):
     return np.where(np.asarray(is_sls, dtype=bool), 1.0, np.asarray(gamma_g, dtype=float))
 
 
-def group_terms(X, Y, mask):
+def group_terms(X: Floats, Y: Floats, mask: NDArray[np.bool_]) -> GroupTerms:
     """Derived: centroid and second moments of a pile group about its centroid
 
     Per cap: ns the number of piles, (xc, yc) the centroid, (u, v) the pile centres relative to
@@ -75,7 +85,10 @@ def group_terms(X, Y, mask):
     return ns, xc, yc, u, v, suu, svv, suv
 
 
-def pile_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, _terms=None):
+def pile_reactions(
+    X: Floats, Y: Floats, mask: NDArray[np.bool_], n_ed: Real, mx_ed: Real = 0.0, my_ed: Real = 0.0,
+    _terms: GroupTerms | None = None,
+) -> Floats:
     """Common practice: rigid-cap pile group, R_i = N/n + Mx·y_i/Σy² + My·x_i/Σx²
 
     Rigid-cap linear distribution (engineering reference §5) [CP]. Coordinates are taken from
@@ -118,7 +131,10 @@ def pile_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, _terms=None):
     return np.where(mask, R, np.nan)
 
 
-def tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis, terms=None):
+def tolerance_swing(
+    X: Floats, Y: Floats, mask: NDArray[np.bool_], n_ed: Real, mx_ed: Real, my_ed: Real, tolerance: Real,
+    per_axis: bool, terms: GroupTerms | None = None,
+) -> tuple[Floats, Floats, Floats, Floats]:
     """Common practice: pile reactions and their largest change under a group shift of e
 
     R0 the nominal reactions and the largest change of each pile's reaction when the group is
@@ -153,7 +169,10 @@ def tolerance_swing(X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis, terms=N
     return R0, (N * tolerance)[:, None] * reach, rx, ry
 
 
-def tolerance_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0, per_axis=False):
+def tolerance_reactions(
+    X: Floats, Y: Floats, mask: NDArray[np.bool_], n_ed: Real, mx_ed: Real = 0.0, my_ed: Real = 0.0,
+    tolerance: Real = 75.0, per_axis: bool = False,
+) -> tuple[Floats, Floats]:
     """Common practice: pile positional tolerance as a group shift of e in the worst direction
 
     Worst reactions when the whole group is displaced from its nominal position relative to the
@@ -182,7 +201,10 @@ def tolerance_reactions(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0, 
     return np.where(np.isfinite(hi), hi, np.nan), np.where(np.isfinite(lo), lo, np.nan)
 
 
-def tolerance_direction(X, Y, mask, n_ed, mx_ed=0.0, my_ed=0.0, tolerance=75.0):
+def tolerance_direction(
+    X: Floats, Y: Floats, mask: NDArray[np.bool_], n_ed: Real, mx_ed: Real = 0.0, my_ed: Real = 0.0,
+    tolerance: Real = 75.0,
+) -> Floats:
     """Derived: direction of the group shift that gives the largest pile reaction
 
     The shift (ex, ey) = −e (r_y, r_x)/√(r_x² + r_y²) of the most loaded pile (see

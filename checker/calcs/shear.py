@@ -12,10 +12,28 @@ not applied here.
 
 from __future__ import annotations
 
+from typing import TypedDict, cast
+
 import numpy as np
+from numpy.typing import NDArray
+
+from checker.calcs._typing import Floats, Real
 
 
-def k_size(d):
+class BeamShear(TypedDict):
+    """The governing section of :func:`beam_shear`, (n,) each."""
+
+    ved: Floats
+    vrd: Floats
+    util: Floats
+    av: Floats
+    av_geom: Floats
+    beta: Floats
+    b_enh: Floats
+    ved_max: Floats
+
+
+def k_size(d: Real) -> Floats:
     """EN 1992-1-1:2004 6.2.2(1), Eq. (6.2.a)
 
     Size factor k = 1 + √(200/d) ≤ 2.0 [V: S2].
@@ -29,7 +47,7 @@ def k_size(d):
     return np.minimum(1.0 + np.sqrt(200.0 / np.asarray(d, dtype=float)), 2.0)
 
 
-def rho_l(as_l, b, d):
+def rho_l(as_l: Real, b: Real, d: Real) -> Floats:
     """EN 1992-1-1:2004 6.2.2(1), Eq. (6.2.a)
 
     Longitudinal reinforcement ratio ρl = Asl/(bw d) ≤ 0.02 [V: S2]. Asl should be the steel
@@ -47,7 +65,7 @@ def rho_l(as_l, b, d):
     return np.minimum(np.asarray(as_l, dtype=float) / (b * np.asarray(d, dtype=float)), 0.02)
 
 
-def v_min(k, fck):
+def v_min(k: Real, fck: Real) -> Floats:
     """EN 1992-1-1:2004 6.2.2(1), Eq. (6.3N)
 
     Minimum shear strength vmin = 0.035 k^1.5 fck^0.5 (recommended value) [V: S1].
@@ -60,10 +78,10 @@ def v_min(k, fck):
         vmin [MPa]
     """
     k = np.asarray(k, dtype=float)
-    return 0.035 * k * np.sqrt(k) * np.sqrt(np.asarray(fck, dtype=float))
+    return cast(Floats, 0.035 * k * np.sqrt(k) * np.sqrt(np.asarray(fck, dtype=float)))
 
 
-def v_rdc_calc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
+def v_rdc_calc(fck: Real, d: Real, rho: Real, gamma_c: Real = 1.5, crd_c_factor: Real = 0.18) -> Floats:
     """EN 1992-1-1:2004 6.2.2(1), Eq. (6.2.a)
 
     The calculated part of the shear stress resistance, σcp = 0: CRd,c k (100 ρl fck)^(1/3) with
@@ -84,7 +102,7 @@ def v_rdc_calc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
     return crd_c_factor / gamma_c * k_size(d) * np.cbrt(100.0 * np.asarray(rho, dtype=float) * fck)
 
 
-def v_rdc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
+def v_rdc(fck: Real, d: Real, rho: Real, gamma_c: Real = 1.5, crd_c_factor: Real = 0.18) -> Floats:
     """EN 1992-1-1:2004 6.2.2(1), Eq. (6.2.b)
 
     Design shear stress resistance without shear reinforcement, σcp = 0:
@@ -105,7 +123,7 @@ def v_rdc(fck, d, rho, gamma_c=1.5, crd_c_factor=0.18):
     return np.maximum(calc, v_min(k_size(d), fck))
 
 
-def beta_av(av, d):
+def beta_av(av: Real, d: Real) -> Floats:
     """EN 1992-1-1:2004 6.2.2(6)
 
     Reduction of the contribution of a load near a support, β = av/(2d) with av taken as 0.5d
@@ -119,10 +137,10 @@ def beta_av(av, d):
         β [-]
     """
     d = np.asarray(d, dtype=float)
-    return np.minimum(np.maximum(np.asarray(av, dtype=float), 0.5 * d) / (2.0 * d), 1.0)
+    return cast(Floats, np.minimum(np.maximum(np.asarray(av, dtype=float), 0.5 * d) / (2.0 * d), 1.0))
 
 
-def v_ed_max(b, d, nu, fcd):
+def v_ed_max(b: Real, d: Real, nu: Real, fcd: Real) -> Floats:
     """EN 1992-1-1:2004 6.2.2(6), Eq. (6.5)
 
     Upper limit of the unreduced shear force, VEd ≤ 0.5 bw d ν fcd [V: S3].
@@ -139,7 +157,7 @@ def v_ed_max(b, d, nu, fcd):
     return 0.5 * np.asarray(b, dtype=float) * d * nu * fcd
 
 
-def critical_section_offset(pile_dia):
+def critical_section_offset(pile_dia: Real) -> Floats:
     """Common practice: beam-shear section 0.2φ inside the inner pile face (BS 8110 3.11.4.3)
 
     The section lies 0.3φ from the pile centre towards the column (reference §9, decision 7;
@@ -154,7 +172,7 @@ def critical_section_offset(pile_dia):
     return 0.3 * np.asarray(pile_dia, dtype=float)
 
 
-def enhanced_resistance(vrdc, beta, b_enh, width, d):
+def enhanced_resistance(vrdc: Real, beta: Real, b_enh: Real, width: Real, d: Real) -> Floats:
     """Common practice: VRd = [b_enh·vRd,c/β + (W − b_enh)·vRd,c]·d (reference §9)
 
     The UK form of 6.2.2(6): the enhanced stress vRd,c·2d/av = vRd,c/β over the enhanced width,
@@ -170,11 +188,12 @@ def enhanced_resistance(vrdc, beta, b_enh, width, d):
     Returns:
         VRd [N]
     """
-    return (b_enh * vrdc / beta + (width - b_enh) * vrdc) * d
+    return cast(Floats, (b_enh * vrdc / beta + (width - b_enh) * vrdc) * d)
 
 
-def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, vrdc,
-               av_mode="inside-pile", tol=1.0):
+def beam_shear(coord: Floats, across: Floats, reaction: Floats, mask: NDArray[np.bool_], column_size: Real,
+               pile_dia: Real, d: Real, width: Real, vrdc: Real, av_mode: str = "inside-pile",
+               tol: float = 1.0) -> BeamShear:
     """Common practice: beam shear on the critical sections of one direction (reference §9)
 
     For each pile i off the column centre the section parallel to the other axis lies at
@@ -210,7 +229,7 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
     """
     n = coord.shape[0]
 
-    def col(v):  # a per-cap input as an (n, 1) column
+    def col(v: Real) -> Floats:  # a per-cap input as an (n, 1) column
         return np.broadcast_to(np.asarray(v, dtype=float), (n,))[:, None]
 
     phi, dd, W = col(pile_dia), col(d), col(width)
@@ -230,7 +249,7 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
     g = np.argmax(key, axis=1)[:, None]
     has = valid.any(axis=1)
 
-    def pick(arr):
+    def pick(arr: Floats) -> Floats:
         return np.where(has, np.take_along_axis(arr, g, axis=1)[:, 0], np.nan)
 
     ved_max = np.max(np.where(valid, ved, -np.inf), axis=1)
@@ -240,7 +259,7 @@ def beam_shear(coord, across, reaction, mask, column_size, pile_dia, d, width, v
             "ved_max": np.where(has, ved_max, np.nan)}
 
 
-def _ved_beyond(coord, reaction, mask, a, tol):
+def _ved_beyond(coord: Floats, reaction: Floats, mask: NDArray[np.bool_], a: Floats, tol: float) -> Floats:
     """VEd at each pile's section: the reactions of the piles on its side at or beyond it [N]."""
     side = np.sign(np.where(mask, coord, 0.0))
     c0 = np.where(mask, coord, 0.0)
@@ -258,7 +277,8 @@ def _ved_beyond(coord, reaction, mask, a, tol):
     return ved
 
 
-def enhanced_width(coord, across, mask, pile_dia, width, tol=1.0):
+def enhanced_width(coord: Floats, across: Floats, mask: NDArray[np.bool_], pile_dia: Real, width: Real,
+                   tol: float = 1.0) -> Floats:
     """Common practice: width of a beam-shear section with enhancement near the piles (reference §9)
 
     The whole width where the piles on the section's line are at most 3φ apart (each has a

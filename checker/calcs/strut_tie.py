@@ -20,10 +20,49 @@ published]; and with a = 0: N l/(4d), N l/(8d), N l/(9d).
 
 from __future__ import annotations
 
+from typing import TypedDict, cast
+
 import numpy as np
+from numpy.typing import NDArray
+
+from checker.calcs._typing import Floats, Real
 
 
-def column_second_moment(size, column_round=False):
+class TieRowLines(TypedDict):
+    """:func:`tie_row_lines`: (n, m) at each pile, then (n,) ``rows`` and ``gap``."""
+
+    t_row: Floats
+    first: NDArray[np.bool_]
+    active: NDArray[np.bool_]
+    two_sided: NDArray[np.bool_]
+    rows: Floats
+    gap: Floats
+
+
+class TieRows(TypedDict):
+    """:func:`tie_rows_check`, (n,) each."""
+
+    T: Floats
+    as_req: Floats
+    as_prov: Floats
+    util: Floats
+    rows: Floats
+    t_total: Floats
+    shared: Floats
+    full: Floats
+    as_layer_counted: Floats
+
+
+class TieLayer(TieRows):
+    """:func:`tie_layer_check`: :class:`TieRows` of the governing condition and the layer's own."""
+
+    cut: Floats
+    util_rows: Floats
+    util_cut: Floats
+    by_layer: Floats
+
+
+def column_second_moment(size: Real, column_round: Real = False) -> Floats:
     """Derived: mean square offset E[u²] of a column load spread uniformly over the column
 
     Rectangle of side a along the axis: a²/12; circle of diameter D: D²/16 [D].
@@ -36,10 +75,12 @@ def column_second_moment(size, column_round=False):
         E[u²] [mm²]
     """
     a = np.asarray(size, dtype=float)
-    return np.where(np.asarray(column_round, dtype=bool), a * a / 16.0, a * a / 12.0)
+    return cast(Floats, np.where(np.asarray(column_round, dtype=bool), a * a / 16.0, a * a / 12.0))
 
 
-def pile_node_force(coord, reaction, mask, n_ed, lever_arm, spread_u2=0.0):
+def pile_node_force(
+    coord: Floats, reaction: Floats, mask: NDArray[np.bool_], n_ed: Real, lever_arm: Real, spread_u2: Real = 0.0,
+) -> Floats:
     """Derived: horizontal strut force at each pile node, H_i = c_i (R_i − N·E[u²]/Σc²)/z
 
     See the module docstring for the derivation [D]. ``coord`` is the pile coordinate along
@@ -64,7 +105,7 @@ def pile_node_force(coord, reaction, mask, n_ed, lever_arm, spread_u2=0.0):
     return np.where(mask, H, np.nan)
 
 
-def tie_steel_required(tie_force, fyd):
+def tie_steel_required(tie_force: Real, fyd: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.3(1)
 
     Tie reinforcement required, As,req = T/fyd (design strength of the tie) [M].
@@ -79,7 +120,7 @@ def tie_steel_required(tie_force, fyd):
     return np.asarray(tie_force, dtype=float) / fyd
 
 
-def tie_band_steel(row_coord, as_total, pile_dia, width, cover):
+def tie_band_steel(row_coord: Floats, as_total: Real, pile_dia: Real, width: Real, cover: Real) -> Floats:
     """Common practice: steel of a layer counted in the band over a tie row (BS 8110-1 3.11.4.2)
 
     Where the tie rows are more than 3φ apart (or there is a single row) only the bars within
@@ -101,10 +142,10 @@ def tie_band_steel(row_coord, as_total, pile_dia, width, cover):
     half = (0.5 * np.asarray(width, dtype=float) - np.asarray(cover, dtype=float))[:, None]
     b = (1.5 * np.asarray(pile_dia, dtype=float))[:, None]
     band = np.clip(row_coord + b, -half, half) - np.clip(row_coord - b, -half, half)
-    return as_total[:, None] * band / (2.0 * half)
+    return cast(Floats, as_total[:, None] * band / (2.0 * half))
 
 
-def tie_row_lines(H, row_coord, mask, tol=1.0):
+def tie_row_lines(H: Floats, row_coord: Floats, mask: NDArray[np.bool_], tol: float = 1.0) -> TieRowLines:
     """Derived: the tie rows of one direction, the distinct pile lines carrying H ≠ 0
 
     A row is a line of piles (coordinate across the bars, merged within ``tol``) whose node
@@ -152,7 +193,10 @@ def tie_row_lines(H, row_coord, mask, tol=1.0):
             "rows": first.sum(axis=1).astype(float), "gap": np.min(gap, axis=1)}
 
 
-def tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol=1.0):
+def tie_rows_check(
+    H: Floats, row_coord: Floats, mask: NDArray[np.bool_], as_total: Real, fyd: Real, pile_dia: Real,
+    width: Real, cover: Real, tol: float = 1.0,
+) -> TieRows:
     """Common practice: tie rows of one direction and the governing row's utilisation
 
     Rows from :func:`tie_row_lines`. Where the rows are at most 3φ apart the layer is
@@ -210,7 +254,10 @@ def tie_rows_check(H, row_coord, mask, as_total, fyd, pile_dia, width, cover, to
             "as_layer_counted": np.where(rows > 0, counted_layer, np.nan)}
 
 
-def tie_layer_check(H, coord, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol=1.0):
+def tie_layer_check(
+    H: Floats, coord: Floats, row_coord: Floats, mask: NDArray[np.bool_], as_total: Real, fyd: Real,
+    pile_dia: Real, width: Real, cover: Real, tol: float = 1.0,
+) -> TieLayer:
     """EN 1992-1-1:2004 6.5.3
 
     The tie steel of one direction (with 9.8.1(3)), rows and the whole layer. Two conditions, both to be met, the
@@ -245,16 +292,16 @@ def tie_layer_check(H, coord, row_coord, mask, as_total, fyd, pile_dia, width, c
     key_r = np.where(np.isnan(rows["util"]), -np.inf, rows["util"])
     key_c = np.where(np.isnan(util_cut), -np.inf, util_cut)
     by_layer = (key_c > key_r) | (np.isnan(rows["T"]) & np.isfinite(cut))
-    out = dict(rows)
+    out = TieLayer(**rows, cut=cut, util_rows=rows["util"], util_cut=util_cut,
+                   by_layer=by_layer.astype(float))  # the keys in the order of `dict(rows)` then these
     out["T"] = np.where(by_layer, cut, rows["T"])
     out["as_prov"] = np.where(by_layer, as_total, rows["as_prov"])
     out["util"] = np.where(by_layer, util_cut, rows["util"])
     out["as_req"] = tie_steel_required(out["T"], fyd)
-    out.update(cut=cut, util_rows=rows["util"], util_cut=util_cut, by_layer=by_layer.astype(float))
     return out
 
 
-def tension_across_centreline(H, coord, mask, tol=1.0):
+def tension_across_centreline(H: Floats, coord: Floats, mask: NDArray[np.bool_], tol: float = 1.0) -> Floats:
     """Derived: total tie tension across the column centreline of one direction
 
     The larger of Σ H_i over the piles on the + side and −Σ H_i over those on the − side [D].
@@ -279,7 +326,9 @@ def tension_across_centreline(H, coord, mask, tol=1.0):
     return np.where((pos | neg).any(axis=1), t, np.nan)
 
 
-def resolve_onto_ties(hx, hy, u1x, u1y, u2x, u2y):
+def resolve_onto_ties(
+    hx: Real, hy: Real, u1x: Real, u1y: Real, u2x: Real, u2y: Real
+) -> tuple[Floats, Floats]:
     """Derived: resolve a node's outward horizontal force onto two ties meeting at the node
 
     Solves T1·u1 + T2·u2 = −H, with u1, u2 unit vectors from the node along the ties (towards
@@ -301,7 +350,7 @@ def resolve_onto_ties(hx, hy, u1x, u1y, u2x, u2y):
     return t1, t2
 
 
-def triangle_side_ties(X, Y, Hx, Hy):
+def triangle_side_ties(X: Floats, Y: Floats, Hx: Floats, Hy: Floats) -> Floats:
     """Derived: tie forces along the three sides of a 3-pile cap from the pile-node forces
 
     Each pile node's horizontal force (Hx, Hy) is resolved onto the two sides meeting there
@@ -330,7 +379,7 @@ def triangle_side_ties(X, Y, Hx, Hy):
     return np.stack(sides, axis=1)
 
 
-def strut_angle(radial_distance, lever_arm):
+def strut_angle(radial_distance: Floats, lever_arm: Real) -> Floats:
     """Derived: inclination of the strut from the top node to a pile node, θ = atan(z/r)
 
     Reference §6: θ = atan(d / horizontal run to the pile centre) [D]; 90° for a pile under
@@ -343,10 +392,10 @@ def strut_angle(radial_distance, lever_arm):
     Returns:
         θ [degrees]
     """
-    return np.degrees(np.arctan2(np.asarray(lever_arm, dtype=float), radial_distance))
+    return cast(Floats, np.degrees(np.arctan2(np.asarray(lever_arm, dtype=float), radial_distance)))
 
 
-def cot_theta(theta_deg):
+def cot_theta(theta_deg: Real) -> Floats:
     """Derived: cot θ of a strut angle (compared with the cot θ ≤ 2.5 practice limit)
 
     Args:
@@ -356,10 +405,10 @@ def cot_theta(theta_deg):
         cot θ [-]
     """
     t = np.radians(np.asarray(theta_deg, dtype=float))
-    return np.cos(t) / np.sin(t)
+    return cast(Floats, np.cos(t) / np.sin(t))
 
 
-def column_area(column_x, column_y, column_round=False):
+def column_area(column_x: Real, column_y: Real, column_round: Real = False) -> Floats:
     """Derived: plan area of the column, cx·cy or πD²/4
 
     Args:
@@ -370,11 +419,11 @@ def column_area(column_x, column_y, column_round=False):
         A_col [mm²]
     """
     cx = np.asarray(column_x, dtype=float)
-    return np.where(np.asarray(column_round, dtype=bool), np.pi * cx * cx / 4.0,
-                    cx * np.asarray(column_y, dtype=float))
+    return cast(Floats, np.where(np.asarray(column_round, dtype=bool), np.pi * cx * cx / 4.0,
+                                 cx * np.asarray(column_y, dtype=float)))
 
 
-def pile_design_diameter(d_nom, uncased=False):
+def pile_design_diameter(d_nom: Real, uncased: Real = False) -> Floats:
     """EN 1992-1-1:2004 2.3.4.2(2)
 
     Design diameter of cast-in-place piles without permanent casing [V: S25]: d_nom − 20 for
@@ -393,7 +442,7 @@ def pile_design_diameter(d_nom, uncased=False):
     return np.where(np.asarray(uncased, dtype=bool), red, d)
 
 
-def bearing_stress(force, area):
+def bearing_stress(force: Real, area: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.4(4)
 
     Node bearing stress on a loaded face, σ = F/A (the stress compared with σRd,max) [M].
@@ -408,7 +457,7 @@ def bearing_stress(force, area):
     return np.asarray(force, dtype=float) / area
 
 
-def strut_face_stress(force, area, theta_deg):
+def strut_face_stress(force: Real, area: Real, theta_deg: Real) -> Floats:
     """Derived: node stress on the face normal to an inclined strut, σ = F/(A sin²θ)
 
     A strut of force C = F/sinθ reaching a horizontal node face A meets it over A·sinθ
@@ -424,10 +473,10 @@ def strut_face_stress(force, area, theta_deg):
         σ [MPa]
     """
     s = np.sin(np.radians(np.asarray(theta_deg, dtype=float)))
-    return np.asarray(force, dtype=float) / (area * s * s)
+    return cast(Floats, np.asarray(force, dtype=float) / (area * s * s))
 
 
-def equivalent_square_side(area):
+def equivalent_square_side(area: Real) -> Floats:
     """Derived: side of the square of the same area as a node face, b = √A
 
     Used for the width of the pile node normal to the plane of the strut, and for the node
@@ -440,10 +489,10 @@ def equivalent_square_side(area):
     Returns:
         b [mm]
     """
-    return np.sqrt(np.asarray(area, dtype=float))
+    return cast(Floats, np.sqrt(np.asarray(area, dtype=float)))
 
 
-def tie_zone_height(cover, phi):
+def tie_zone_height(cover: Real, phi: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.4, Figure 6.27
 
     CCT node: height u of the tie zone below the node, taken as twice the depth to the centre of the
@@ -461,7 +510,7 @@ def tie_zone_height(cover, phi):
     return 2.0 * (np.asarray(cover, dtype=float) + 0.5 * np.asarray(phi, dtype=float))
 
 
-def strut_face_width(a1, u, theta_deg):
+def strut_face_width(a1: Real, u: Real, theta_deg: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.4, Figure 6.27
 
     CCT node: width of the node face normal to the strut, a2 = a1 sin θ + u cos θ, with a1 the bearing
@@ -476,10 +525,10 @@ def strut_face_width(a1, u, theta_deg):
         a2 [mm]
     """
     t = np.radians(np.asarray(theta_deg, dtype=float))
-    return np.asarray(a1, dtype=float) * np.sin(t) + np.asarray(u, dtype=float) * np.cos(t)
+    return cast(Floats, np.asarray(a1, dtype=float) * np.sin(t) + np.asarray(u, dtype=float) * np.cos(t))
 
 
-def strut_stress_node_geometry(force, a1, b, u, theta_deg):
+def strut_stress_node_geometry(force: Real, a1: Real, b: Real, u: Real, theta_deg: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.4(4), Figure 6.27
 
     Strut stress at a pile node sized with the tie zone: σ = C/(a2 b) with the strut force C = F/sin θ, a2 = a1 sin θ
@@ -500,10 +549,10 @@ def strut_stress_node_geometry(force, a1, b, u, theta_deg):
     """
     s = np.sin(np.radians(np.asarray(theta_deg, dtype=float)))
     c = np.asarray(force, dtype=float) / s
-    return c / (strut_face_width(a1, u, theta_deg) * b)
+    return cast(Floats, c / (strut_face_width(a1, u, theta_deg) * b))
 
 
-def partially_loaded_area_ratio(b1, d1, h, length, width):
+def partially_loaded_area_ratio(b1: Real, d1: Real, h: Real, length: Real, width: Real) -> Floats:
     """EN 1992-1-1:2004 6.7(3), Figure 6.29
 
     Partially loaded area (6.7(2), Eq. (6.63)): √(Ac1/Ac0) for a concentric load on Ac0 = b1 × d1 spread to the
@@ -529,7 +578,7 @@ def partially_loaded_area_ratio(b1, d1, h, length, width):
     return np.maximum(lam, 1.0)
 
 
-def partially_loaded_limit(fcd, area_ratio_sqrt, cap=3.0):
+def partially_loaded_limit(fcd: Real, area_ratio_sqrt: Real, cap: Real = 3.0) -> Floats:
     """EN 1992-1-1:2004 6.7(2), Eq. (6.63)
 
     Bearing stress on a partially loaded area, FRdu/Ac0 = fcd √(Ac1/Ac0) ≤ 3.0 fcd [M]. The
@@ -544,10 +593,10 @@ def partially_loaded_limit(fcd, area_ratio_sqrt, cap=3.0):
     Returns:
         σRdu = FRdu/Ac0 [MPa]
     """
-    return np.asarray(fcd, dtype=float) * np.minimum(np.asarray(area_ratio_sqrt, dtype=float), cap)
+    return cast(Floats, np.asarray(fcd, dtype=float) * np.minimum(np.asarray(area_ratio_sqrt, dtype=float), cap))
 
 
-def node_limit(k, nu_prime, fcd):
+def node_limit(k: Real, nu_prime: Real, fcd: Real) -> Floats:
     """EN 1992-1-1:2004 6.5.4(4), Eq. (6.60)
 
     Design strength of a node, σRd,max = k ν' fcd; k1 = 1.0 (CCC, Eq. 6.60), k2 = 0.85 (CCT,
@@ -564,7 +613,7 @@ def node_limit(k, nu_prime, fcd):
     return k * np.asarray(nu_prime, dtype=float) * fcd
 
 
-def pile_node_factor(n_piles, k1=1.0, k2=0.85, k3=0.75):
+def pile_node_factor(n_piles: Real, k1: Real = 1.0, k2: Real = 0.85, k3: Real = 0.75) -> Floats:
     """EN 1992-1-1:2004 6.5.4(4)
 
     Node factor for the pile node (reference decision 6): CCT (k2) where the ties are anchored
@@ -583,7 +632,7 @@ def pile_node_factor(n_piles, k1=1.0, k2=0.85, k3=0.75):
     return np.where(np.isnan(n), np.nan, k)
 
 
-def piles_within_three_diameters(spacing_min, pile_dia):
+def piles_within_three_diameters(spacing_min: Real, pile_dia: Real) -> Floats:
     """Common practice: the truss method of a pile cap applies where the piles are at no more than 3φ
 
     1.0 where the closest pile centres are at most three pile diameters apart (the strut-and-tie
@@ -603,7 +652,7 @@ def piles_within_three_diameters(spacing_min, pile_dia):
     return np.where(np.isnan(s), np.nan, within)
 
 
-def strut_lever_arm(n_piles, d_x, d_y):
+def strut_lever_arm(n_piles: Real, d_x: Real, d_y: Real) -> Floats:
     """Derived: lever arm of the struts, the x layer's d for a two-pile cap, else the lower layer's
 
     A two-pile cap has no tie along y, so its struts work with the x layer; other caps take the
@@ -619,7 +668,9 @@ def strut_lever_arm(n_piles, d_x, d_y):
     return np.where(np.asarray(n_piles) == 2, d_x, np.fmin(d_x, d_y))
 
 
-def min_inclined_strut_angle(theta, radial_distance, mask, r_vertical=0.5):
+def min_inclined_strut_angle(
+    theta: Floats, radial_distance: Floats, mask: NDArray[np.bool_], r_vertical: Real = 0.5,
+) -> Floats:
     """Derived: the smallest strut angle of a cap over its inclined struts
 
     A pile whose centre lies within ``r_vertical`` of the column centre carries its load in a
@@ -639,7 +690,7 @@ def min_inclined_strut_angle(theta, radial_distance, mask, r_vertical=0.5):
     return np.where(np.isinf(low), np.nan, low)
 
 
-def column_strut_angle(theta_min, n_piles):
+def column_strut_angle(theta_min: Real, n_piles: Real) -> Floats:
     """Derived: strut angle at the column node, 90° where every strut is vertical
 
     The smallest inclined strut angle of the cap; a cap with piles but no inclined strut (a single
@@ -655,7 +706,7 @@ def column_strut_angle(theta_min, n_piles):
     return np.where(np.isnan(theta_min) & (np.asarray(n_piles) >= 1), 90.0, theta_min)
 
 
-def governing_strut_angle(stress, theta, mask):
+def governing_strut_angle(stress: Floats, theta: Floats, mask: NDArray[np.bool_]) -> Floats:
     """Derived: strut angle at the pile node with the largest strut stress
 
     The angle of the strut whose node-face stress governs [D] (the first such pile on a tie).
@@ -672,10 +723,12 @@ def governing_strut_angle(stress, theta, mask):
     if not n:
         return np.zeros(0)
     gov = np.argmax(np.where(mask, stress, -np.inf), axis=1)
-    return np.asarray(theta)[np.arange(n), gov]
+    return cast(Floats, np.asarray(theta)[np.arange(n), gov])
 
 
-def three_pile_side_tie(X, Y, Hx, Hy, mask, n_piles):
+def three_pile_side_tie(
+    X: Floats, Y: Floats, Hx: Floats, Hy: Floats, mask: NDArray[np.bool_], n_piles: Real,
+) -> Floats:
     """Derived: the largest tie along the sides of a three-pile cap's triangle
 
     For a cap of exactly three real piles in the first three positions, the largest of the
@@ -698,7 +751,7 @@ def three_pile_side_tie(X, Y, Hx, Hy, mask, n_piles):
     return np.where(three, np.max(sides, axis=1), np.nan)
 
 
-def column_loaded_width(side, area, column_round):
+def column_loaded_width(side: Real, area: Real, column_round: Real) -> Floats:
     """Derived: loaded width of a column in one plan direction
 
     The column side, or for a circular column the side of the square of equal area [D].

@@ -15,7 +15,7 @@ import numbers
 import re
 import unicodedata
 from dataclasses import dataclass
-from typing import Any, Callable, NamedTuple, TypeVar
+from typing import Any, Callable, NamedTuple, TypeVar, cast
 
 import numpy as np
 import pandas as pd
@@ -57,7 +57,7 @@ def _memo(fn: Callable[..., T]) -> Callable[..., T]:
                 cache.clear()
             cache[key] = hit
         if hit[0]:
-            return hit[1]
+            return cast(T, hit[1])
         raise NotationError(hit[1])
 
     wrapper.cache_clear = cache.clear  # type: ignore[attr-defined]

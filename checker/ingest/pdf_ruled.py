@@ -30,7 +30,8 @@ def _columns(table) -> list[tuple[float, float]]:
     right = table.bbox[2]
     out: list[tuple[float, float]] = []
     for c in range(ncols):
-        x0 = x0s[c] if x0s[c] is not None else (out[-1][1] if out else table.bbox[0])
+        xc = x0s[c]
+        x0 = xc if xc is not None else (out[-1][1] if out else table.bbox[0])
         nxt = next((x for x in x0s[c + 1:] if x is not None), right)
         out.append((x0, nxt))
     return out
@@ -215,7 +216,7 @@ def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
                 continue                                    # spacer row
             if is_stop_text(filled[0]):
                 break                                       # notes inside the grid
-            if headings is not None and _is_heading_row(cells, is_heading) and \
+            if headings is not None and hr is not None and _is_heading_row(cells, is_heading) and \
                     [h.lower() for h in cells] == [h.lower() for h in texts[hr]]:
                 continue                                    # heading repeated inside the grid
             missing = [c for c in range(ncols) if raw[c] is None]

@@ -10,7 +10,7 @@ from __future__ import annotations
 import bisect
 import re
 from dataclasses import dataclass, field
-from typing import Callable, Iterable, Sequence
+from typing import Callable, Iterable, Sequence, cast
 
 # --------------------------------------------------------------------------------------------
 # Glyphs, words and lines
@@ -82,7 +82,7 @@ def _word_from(glyphs: list[Glyph], spaces_after: list[bool]) -> Word:
             x1 = g.x1
         if g.size > size:
             size = g.size
-    return Word(glyphs, "".join(parts).strip(), glyphs[0].x0, x1, top, bottom, size,
+    return Word(glyphs, "".join(parts).strip(), glyphs[0].x0, x1, cast(float, top), cast(float, bottom), size,
                 list(spaces_after))
 
 
@@ -145,7 +145,7 @@ def page_content(page) -> PageContent:
     width = float(page.width)
     mb_x0, mb_top = float(page.mediabox[0]), float(page.mediabox[1])
     off = height + mb_top
-    chars: list[tuple] = []
+    chars: list[LTChar] = []
     hsegs: list[tuple[float, float, float]] = []
     vsegs: list[tuple[float, float, float]] = []
     images = drawings = 0

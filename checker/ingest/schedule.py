@@ -129,7 +129,9 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
                           "such as Mark, Piles, Pile dia, Cap depth, Column, NEd, Concrete, Cover, Bars X)")
     limits.check_rows(sum(len(t.row_numbers) for t in schedule_tables), schedule_tables[0].file,
                       limits.MAX_ROWS if max_rows is None else max_rows)
-    coord_df, problems, cnotes = None, None, []
+    coord_df: pd.DataFrame | None = None
+    problems: dict[str, list[str]] | None = None
+    cnotes: list[str] = []
     source = coords if coords is not None else (coord_tables[0] if coord_tables else None)
     if coords is not None and coord_tables:
         notes.append(f"{_table_label(coord_tables[0])}: pile coordinates taken from {coords!s} instead")
@@ -254,7 +256,7 @@ class _FrameTable(RawTable):
         super().__init__(file=file, sheet=None, headings=headings, rows=None,  # type: ignore[arg-type]
                          pages=[None] * n, row_numbers=list(range(2, n + 2)))
 
-    @property  # type: ignore[override]
+    @property
     def rows(self) -> list[list[object]]:
         if self._rows is None:
             g = self._grid.astype(object)

@@ -834,7 +834,7 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
                 else:
                     idx = find_heading_row(rows, "coords", hmap)
                     kind = "coords" if idx is not None else None
-                if kind is None:
+                if kind is None or idx is None:     # both None together
                     if sheet is not None and title == sheet:
                         raise IngestError(_no_heading_message(name, rows, "schedule", f', sheet "{title}"'))
                     notes.append(f'sheet "{title}" skipped: no schedule headings')

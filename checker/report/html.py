@@ -178,7 +178,8 @@ def _fmt(v: Any, unit: str = "") -> str:
 
 
 def _column_text(row: dict[str, Any]) -> str:
-    cx, cy = row.get("column_x"), row.get("column_y")
+    cx: Any = row.get("column_x")   # float() below sorts out None and text
+    cy: Any = row.get("column_y")
     try:
         cx, cy = float(cx), float(cy)
     except (TypeError, ValueError):

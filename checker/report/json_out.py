@@ -25,7 +25,7 @@ SCHEMA = "capcheck.findings/1"
 CHUNK = 5000          # results encoded and written per piece
 
 try:  # the C encoder, built once (json.dumps builds one per call)
-    from json.encoder import c_make_encoder as _c_make_encoder
+    from json.encoder import c_make_encoder as _c_make_encoder  # type: ignore[attr-defined]  # not in the stubs
     from json.encoder import encode_basestring as _encode_basestring
 except ImportError:  # pragma: no cover - CPython always has it
     _c_make_encoder = None
@@ -55,7 +55,7 @@ except ImportError:  # pragma: no cover
 
 
 def _int_none(values: list) -> list:
-    out = []
+    out: list[int | None] = []
     for v in values:
         if v is None or v is _NA:
             out.append(None)

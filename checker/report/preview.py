@@ -77,17 +77,17 @@ def print_preview(args, out: Console, err: Console, defaults=None) -> int:
     n = max(0, int(getattr(args, "rows", 5)))
     if len(caps):
         head = caps.head(n).to_dict("records")
-        t = Table(title=f"First {len(head)} of {len(caps)} caps as read (capcheck units)",
-                  header_style="bold")
-        t.add_column("field")
+        grid = Table(title=f"First {len(head)} of {len(caps)} caps as read (capcheck units)",
+                     header_style="bold")
+        grid.add_column("field")
         for row in head:
-            t.add_column(str(row.get("mark")), justify="right")
-        t.add_row("source", *[describe_source({"page": r.get("src_page"), "sheet": r.get("src_sheet"),
-                                               "row": r.get("src_row")}) for r in head], style="dim")
+            grid.add_column(str(row.get("mark")), justify="right")
+        grid.add_row("source", *[describe_source({"page": r.get("src_page"), "sheet": r.get("src_sheet"),
+                                                  "row": r.get("src_row")}) for r in head], style="dim")
         for f, u, s in PREVIEW_FIELDS:
             if f in caps.columns and f != "mark":
-                t.add_row(f + (f" [{u}]" if u else ""), *[_cell(r.get(f), s) for r in head])
-        out.print(t)
+                grid.add_row(f + (f" [{u}]" if u else ""), *[_cell(r.get(f), s) for r in head])
+        out.print(grid)
     for p in sched.problems:
         out.print(Text(f"\nTable problem ({describe_source(p['source'])}, heading row): ", style="bold red")
                   + Text("; ".join(p["errors"])))

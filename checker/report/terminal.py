@@ -13,6 +13,7 @@ finding: rich measures and wraps every segment, which took half a minute for 10,
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -118,7 +119,7 @@ class _Lister:
         self.show_ok = show_ok
         self.paint = _Painter(console)
         self.width = console.width
-        self.cols = {c: (f[c].tolist() if c in f.columns else [None] * len(f))
+        self.cols: dict[str, list[Any]] = {c: (f[c].tolist() if c in f.columns else [None] * len(f))
                      for c in ("rule", "severity", "value", "limit", "unit", "utilisation", "message",
                                "action", "clause", "src_page", "src_sheet", "src_row")}
         self.badges = {s: self.paint(STYLE[s], f" {LABEL[s]} ") for s in SEVERITY_ORDER}
@@ -183,7 +184,7 @@ def _emit(console: Console, lines: list[str]) -> None:
     through the console when it records or captures, so that nothing is lost."""
     if not lines:
         return
-    if console.record or getattr(console, "_buffer_index", 0):
+    if console.record or getattr(console, "_buffer_index", None):  # rich's private depth; None (falsy) where absent
         for ln in lines:
             console.out(Text.from_ansi(ln), highlight=False)
         return

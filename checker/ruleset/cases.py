@@ -23,7 +23,7 @@ contiguous rows of each cap.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 import pandas as pd
@@ -208,7 +208,7 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
         gov = order[ex.starts]
         none = ~np.logical_or.reduceat(eligible, ex.starts)
         res = evaluate_rule(rule, _Rows(env, gov, N), n, methods=methods, render=render)
-        case = np.where(multi, ex.name[gov], None).astype(object)
+        case = cast(np.ndarray, np.where(multi, ex.name[gov], None)).astype(object)  # the stubs: a tuple, given None
         case[case == ""] = None
         # a check that does not apply to the cap (no tie along y of a two-pile cap ...) names no case
         case[np.isnan(res.value) & np.isnan(res.limit) & (res.code == _RANK["ok"])] = None
@@ -228,7 +228,7 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
         elif none.any():
             _no_case(rule, mode, res, none, ex, env, case, render)
         if render:
-            named = np.flatnonzero(np.not_equal(case, None) & ~none)
+            named = np.flatnonzero(np.not_equal(case, None) & ~none)  # type: ignore[call-overload]  # the stubs refuse None
             if named.size:
                 pre = np.array([f"Load case {c}: " for c in case[named].tolist()], dtype=object)
                 _put(res.message, named, (pre + res.message[named].astype(object)).tolist())
@@ -347,7 +347,8 @@ def case_working(ruleset, env: dict, ex: Expanded, ci: int, findings_for_cap: pd
             env_one = first if mode != "envelope" else _Envelope(env, ex)
             if mode == "envelope":
                 env_one = {k: (env_one[k][ci] if isinstance(env_one.get(k), np.ndarray) and
-                               np.ndim(env_one.get(k)) == 1 else env_one.get(k)) for k in rule_names(rule)}
+                               np.ndim(cast(np.ndarray, env_one.get(k))) == 1 else env_one.get(k))
+                           for k in rule_names(rule)}
                 env_one = {**first, **env_one}
                 lines.append(WorkingLine(rule.id, "  against the largest re-checked figures over the ULS load cases"))
             for t in rule.working:

@@ -12,7 +12,7 @@ from __future__ import annotations
 import operator
 import re
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 import pandas as pd
@@ -70,10 +70,10 @@ class RuleResult:
     value: np.ndarray      # output units
     limit: np.ndarray
     util: np.ndarray
-    message: list[str]
-    action: list[str]
-    variants: dict | None = None   # the spread over the accepted methods (VARIANT_COLUMNS arrays)
-    code: np.ndarray | None = None  # severity rank per cap (index into SEVERITY_ORDER)
+    message: np.ndarray    # object array of str
+    action: np.ndarray     # object array of str
+    variants: dict | None  # the spread over the accepted methods (VARIANT_COLUMNS arrays), or None
+    code: np.ndarray       # severity rank per cap (index into SEVERITY_ORDER)
     case: np.ndarray | None = None  # the governing load case per cap (object: str or None), issue 11
     outcome: VariantOutcome | None = None  # each accepted method's figures (rules with variants)
 
@@ -169,7 +169,7 @@ def _governing(rule: Rule, env, n: int) -> _Outcome:
     g = np.argmax(score, axis=0)
     cols = np.arange(n)
     return _Outcome(applies, g, V[g, cols], L[g, cols], U[g, cols], failing[g, cols],
-                    missing[g, cols], USE.any(axis=0))
+                    missing[g, cols], cast(np.ndarray, USE.any(axis=0)))
 
 
 class _Layer(dict):
@@ -246,7 +246,7 @@ def numeric_params(params: dict[str, Any]) -> dict[str, float]:
     return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
 
 
-def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods=None) -> RuleResult:
+def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, methods=None) -> RuleResult:
     """One rule over all caps, graded over its accepted method variants.
 
     ``render``: True renders every message; "issues" only those of results that are not ``ok``
@@ -335,8 +335,8 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
     message[not_app] = f"Not applicable: {rule.not_applicable}."
     miss_rows = np.flatnonzero(g_missing & ~not_app)
     if miss_rows.size:
-        names = sorted(rule.names | {n_ for c in rule.checks if c.applies for n_ in c.applies.names})
-        arrays = {nm: np.asarray(env[nm]) for nm in names if isinstance(env.get(nm), np.ndarray)}
+        inputs = sorted(rule.names | {n_ for c in rule.checks if c.applies for n_ in c.applies.names})
+        arrays = {nm: np.asarray(env[nm]) for nm in inputs if isinstance(env.get(nm), np.ndarray)}
         for idx in miss_rows.tolist():
             gaps = [nm for nm, a in arrays.items() if a.dtype.kind == "f" and np.isnan(a[idx])]
             words = list(dict.fromkeys(plain_words(nm) for nm in gaps)) or ["an input of this check"]
@@ -366,7 +366,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool = True, methods
 def _variant_outcome(rule: Rule, grading: tuple, variants: dict, scale: float) -> VariantOutcome:
     """Each combination's governing figures and verdict per cap, kept as the findings are made."""
     combos, outs, _fails, _evaluated, _nf, _ne, _st, allowed, _rep = grading
-    live = np.not_equal(variants["variants_accepted"], None)
+    live = np.not_equal(variants["variants_accepted"], None)  # type: ignore[call-overload]  # the stubs refuse None
     verdict = np.stack([np.where(o.missing, 2, np.where(o.fail, 1, 0)) for o in outs]).astype(np.int8)
     return VariantOutcome(
         rule.id, tuple(_combo_name(c) for c in combos), tuple(c.label for c in rule.checks),
@@ -376,7 +376,8 @@ def _variant_outcome(rule: Rule, grading: tuple, variants: dict, scale: float) -
         np.stack([o.applies & o.any_use for o in outs]), allowed | ~live, np.ones(live.size, bool))
 
 
-def _figures(rule: Rule, value: np.ndarray, limit: np.ndarray, util: np.ndarray):
+def _figures(rule: Rule, value: np.ndarray, limit: np.ndarray,
+             util: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The value, limit and utilisation a result carries: none for a condition rule (met or not met
     is its whole result; the numbers behind the comparison mean nothing to the reader)."""
     if rule.is_condition:

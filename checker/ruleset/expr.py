@@ -14,7 +14,7 @@ import ast
 import operator
 import warnings
 from dataclasses import dataclass
-from typing import Callable, Mapping
+from typing import Any, Callable, Mapping
 
 import numpy as np
 
@@ -60,7 +60,7 @@ def _reduce(fn, args):
     return out
 
 
-_BINOPS = {
+_BINOPS: dict[type[ast.operator], Callable[[Any, Any], Any]] = {
     ast.Add: operator.add,
     ast.Sub: operator.sub,
     ast.Mult: operator.mul,

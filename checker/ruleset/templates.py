@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import string
 from dataclasses import dataclass
+from typing import cast
 
 import numpy as np
 
@@ -115,6 +116,7 @@ def parse_template(text: str, known: set[str]) -> Template:
             parts.append(literal)
         if field_name is None:
             continue
+        spec = cast(str, spec)  # a str wherever field_name is one
         if conv:
             raise TemplateError(f"template {text!r}: conversions like !r are not allowed")
         name, _, unit = field_name.partition("|")
