@@ -26,6 +26,7 @@ import pandas as pd
 from checker.ingest.headings import (
     SCHEDULE_FIELDS,
     HeadingMap,
+    HeadingMatch,
     HeadingReport,
     match_headings,
     resolve_mapping,
@@ -477,163 +478,219 @@ def _formula_cells(col: pd.Series) -> np.ndarray:
     return np.flatnonzero(col.map(lambda v: isinstance(v, FormulaCell)).to_numpy(dtype=bool))
 
 
+@dataclass
+class _ParseState:
+    """What parsing one table builds up: the parsed columns, their labels and units, the errors."""
+    n: int
+    errors: _Errors = field(default_factory=_Errors)
+    values: dict[str, np.ndarray] = field(default_factory=dict)
+    given: dict[str, np.ndarray] = field(default_factory=dict)
+    labels: dict[str, str] = field(default_factory=dict)
+    units: dict[str, tuple[str, str, float]] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+    applied: list[tuple[np.ndarray, str]] = field(default_factory=list)
+    bad_rows: dict[str, set[int]] = field(default_factory=dict)
+    nan: np.ndarray = field(default_factory=lambda: np.empty(0))
+
+    def err(self, fld: str, rows: np.ndarray, msgs: Sequence[str]) -> None:
+        self.errors.add(fld, rows, [f"{self.labels[fld]}: {m}" for m in msgs])
+
+    def note_bad_rows(self) -> None:
+        """Remember the cells that could not be read: a project-file default does not replace them."""
+        for fe in self.errors.items:
+            self.bad_rows.setdefault(fe.field, set()).update(fe.rows.tolist())
+
+    def blank_of(self, f: str, arr: np.ndarray) -> np.ndarray:
+        mask = np.isnan(arr) if arr.dtype.kind == "f" else (arr == "")
+        if self.bad_rows.get(f):
+            mask[list(self.bad_rows[f])] = False
+        return mask
+
+    def apply_default(self, f: str, arr: np.ndarray, value: Any, text: str) -> np.ndarray:
+        mask = self.blank_of(f, arr)
+        if not mask.any():
+            return arr
+        arr = arr.copy()
+        arr[mask] = value
+        self.given[f] = self.given.get(f, np.zeros(self.n, bool)) | mask
+        self.labels.setdefault(f, f"{f} (project file)")
+        self.applied.append((np.flatnonzero(mask), text))
+        return arr
+
+
 def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool = False,
                  defaults: Defaults | None = None) -> _Parsed:
     """Parse the mapped columns of one table. ``cells`` columns are positions 0..k-1.
     ``formulas``: the table may hold :class:`FormulaCell` cells; ``defaults``: the project file's
     values for blank cells and missing columns."""
     n = len(cells)
-    errors = _Errors()
-    values: dict[str, np.ndarray] = {}
-    given: dict[str, np.ndarray] = {}
-    labels: dict[str, str] = {}
-    units: dict[str, tuple[str, str, float]] = {}
-    notes: list[str] = []
-    nan = np.full(n, np.nan)
+    st = _ParseState(n, nan=np.full(n, np.nan))
     no_value: dict[str, np.ndarray] = {}
-
-    def err(fld: str, rows: np.ndarray, msgs: Sequence[str]) -> None:
-        errors.add(fld, rows, [f"{labels[fld]}: {m}" for m in msgs])
-
     for m in report.matches:
-        fld, kind = m.field, SCHEDULE_FIELDS[m.field]
-        col = cells.iloc[:, m.column]
-        labels[fld] = _label(fld, m.heading)
-        units[fld] = (kind, m.unit or _SHOWN_DEFAULT.get(kind, ""), m.scale)
-        if formulas:
-            frows = _formula_cells(col)
-            if frows.size:
-                err(fld, frows, [f"{str(col.iat[r])[:60]!r} is a formula saved without its calculated value "
-                                 "(the workbook was written by a program that does not calculate); open it in "
-                                 "a spreadsheet program, save it and read it again" for r in frows.tolist()])
-                col = col.copy()
-                col.iloc[frows] = None
-                no_value[fld] = frows
-        if kind in ("force", "moment") and fld in PLAUSIBLE:
-            col, note = _thousands(col, fld, m.scale, labels[fld])
-            if note:
-                notes.append(note)
-        if kind in _NUMERIC_KINDS and fld not in ("column", "size", "plan"):
-            v, rows, msgs = _steel(col) if fld == "fyk" else _numeric(col, kind, m.scale)
-            values[fld] = v
-            given[fld] = ~np.isnan(v)
-            given[fld][rows] = True
-            err(fld, rows, msgs)
-        elif fld in _TEXT_FIELDS or fld in ("bar_ends", "case_kind", "capacity_basis"):
-            transform = {"exposure": str.upper, "bar_ends": _bar_ends, "case_kind": _case_kind,
-                         "capacity_basis": _capacity_basis}.get(fld)
-            v, rows, msgs = _text_column(col, transform)
-            values[fld] = v
-            given[fld] = v != ""
-            given[fld][rows] = True
-            err(fld, rows, msgs)
-        elif fld == "concrete":
-            u = _map_unique(col, lambda v: tuple(parse_concrete(v)[:2]), 2)
-            values["concrete"] = u.texts(0)
-            values["_fck_class"] = u.floats(1)
-            given[fld] = ~u.blank
-            err(fld, *u.error_rows())
-        elif fld in ("bars_x", "bars_y"):
-            suffix = fld[-1]
-
-            def bar(u: Any) -> tuple:
-                spec = parse_bars(u)
-                return (_text(u), spec.count, spec.dia, spec.centres)
-
-            u = _map_unique(col, bar, 4)
-            values[fld] = u.texts(0)
-            values[f"_text_{fld}"] = _as_text(u)
-            values[f"_count_{suffix}"] = u.floats(1)
-            values[f"phi_{suffix}"] = u.floats(2)
-            values[f"s{suffix}"] = u.floats(3)
-            given[fld] = ~u.blank
-            err(fld, *u.error_rows())
-        elif fld == "links":
-            # single-pile caps (issue 15, item 3): closed link sets (count form) or their centres
-            def link(u: Any) -> tuple:
-                spec = parse_links(u)
-                return (_text(u), spec.count, spec.dia, spec.centres)
-
-            u = _map_unique(col, link, 4)
-            values["links"] = u.texts(0)
-            values["_text_links"] = _as_text(u)
-            values["n_links"], values["phi_links"], values["s_links"] = u.floats(1), u.floats(2), u.floats(3)
-            given[fld] = ~u.blank
-            err(fld, *u.error_rows())
-        elif fld == "column":
-            u = _map_unique(col, lambda v: tuple(parse_column(v, m.scale)), 3)
-            values["_col_x"], values["_col_y"] = u.floats(0), u.floats(1)
-            values["_col_round"] = pd.Series(u.outs[2], dtype=object).eq(True).to_numpy(dtype=bool)[u.codes]
-            values["_text_column"] = _as_text(u)
-            given[fld] = ~u.blank
-            err(fld, *u.error_rows())
-        elif fld in ("size", "plan"):
-            parts = 3 if fld == "size" else 2
-            u = _map_unique(col, lambda v: parse_size(v, m.scale, parts), parts)
-            for k, name in enumerate(("cap_length", "cap_width", "cap_depth")[:parts]):
-                values[f"_{fld}_{name}"] = u.floats(k)
-            given[fld] = ~u.blank
-            err(fld, *u.error_rows())
-
+        _parse_column(st, m, cells.iloc[:, m.column], formulas, no_value)
     for fld, frows in no_value.items():                 # named above; not also 'missing'
-        if fld in given:
-            given[fld][frows] = True
-    # ---- combined and derived fields -------------------------------------------------------
+        if fld in st.given:
+            st.given[fld][frows] = True
+    out = _combine_fields(st, defaults)
+    return _Parsed(out, st.given, st.errors, st.labels, n, st.units, st.notes, st.applied)
+
+
+def _parse_column(st: _ParseState, m: HeadingMatch, col: pd.Series, formulas: bool,
+                  no_value: dict[str, np.ndarray]) -> None:
+    """One mapped column: its label and unit, formulas without a value, thousands, then its cells."""
+    fld, kind = m.field, SCHEDULE_FIELDS[m.field]
+    st.labels[fld] = _label(fld, m.heading)
+    st.units[fld] = (kind, m.unit or _SHOWN_DEFAULT.get(kind, ""), m.scale)
+    if formulas:
+        frows = _formula_cells(col)
+        if frows.size:
+            st.err(fld, frows, [f"{str(col.iat[r])[:60]!r} is a formula saved without its calculated value "
+                                "(the workbook was written by a program that does not calculate); open it in "
+                                "a spreadsheet program, save it and read it again" for r in frows.tolist()])
+            col = col.copy()
+            col.iloc[frows] = None
+            no_value[fld] = frows
+    if kind in ("force", "moment") and fld in PLAUSIBLE:
+        col, note = _thousands(col, fld, m.scale, st.labels[fld])
+        if note:
+            st.notes.append(note)
+    _read_column(st, fld, kind, col, m.scale)
+
+
+def _read_column(st: _ParseState, fld: str, kind: str, col: pd.Series, scale: float) -> None:
+    """Parse the cells of one column into ``st.values`` (and helper arrays), ``st.given`` and errors."""
+    values, given = st.values, st.given
+    if kind in _NUMERIC_KINDS and fld not in ("column", "size", "plan"):
+        v, rows, msgs = _steel(col) if fld == "fyk" else _numeric(col, kind, scale)
+        values[fld] = v
+        given[fld] = ~np.isnan(v)
+        given[fld][rows] = True
+        st.err(fld, rows, msgs)
+    elif fld in _TEXT_FIELDS or fld in ("bar_ends", "case_kind", "capacity_basis"):
+        transform = {"exposure": str.upper, "bar_ends": _bar_ends, "case_kind": _case_kind,
+                     "capacity_basis": _capacity_basis}.get(fld)
+        v, rows, msgs = _text_column(col, transform)
+        values[fld] = v
+        given[fld] = v != ""
+        given[fld][rows] = True
+        st.err(fld, rows, msgs)
+    elif fld == "concrete":
+        u = _map_unique(col, lambda v: tuple(parse_concrete(v)[:2]), 2)
+        values["concrete"] = u.texts(0)
+        values["_fck_class"] = u.floats(1)
+        given[fld] = ~u.blank
+        st.err(fld, *u.error_rows())
+    elif fld in ("bars_x", "bars_y"):
+        suffix = fld[-1]
+
+        def bar(u: Any) -> tuple:
+            spec = parse_bars(u)
+            return (_text(u), spec.count, spec.dia, spec.centres)
+
+        u = _map_unique(col, bar, 4)
+        values[fld] = u.texts(0)
+        values[f"_text_{fld}"] = _as_text(u)
+        values[f"_count_{suffix}"] = u.floats(1)
+        values[f"phi_{suffix}"] = u.floats(2)
+        values[f"s{suffix}"] = u.floats(3)
+        given[fld] = ~u.blank
+        st.err(fld, *u.error_rows())
+    elif fld == "links":
+        # single-pile caps (issue 15, item 3): closed link sets (count form) or their centres
+        def link(u: Any) -> tuple:
+            spec = parse_links(u)
+            return (_text(u), spec.count, spec.dia, spec.centres)
+
+        u = _map_unique(col, link, 4)
+        values["links"] = u.texts(0)
+        values["_text_links"] = _as_text(u)
+        values["n_links"], values["phi_links"], values["s_links"] = u.floats(1), u.floats(2), u.floats(3)
+        given[fld] = ~u.blank
+        st.err(fld, *u.error_rows())
+    elif fld == "column":
+        u = _map_unique(col, lambda v: tuple(parse_column(v, scale)), 3)
+        values["_col_x"], values["_col_y"] = u.floats(0), u.floats(1)
+        values["_col_round"] = pd.Series(u.outs[2], dtype=object).eq(True).to_numpy(dtype=bool)[u.codes]
+        values["_text_column"] = _as_text(u)
+        given[fld] = ~u.blank
+        st.err(fld, *u.error_rows())
+    elif fld in ("size", "plan"):
+        parts = 3 if fld == "size" else 2
+        u = _map_unique(col, lambda v: parse_size(v, scale, parts), parts)
+        for k, name in enumerate(("cap_length", "cap_width", "cap_depth")[:parts]):
+            values[f"_{fld}_{name}"] = u.floats(k)
+        given[fld] = ~u.blank
+        st.err(fld, *u.error_rows())
+
+
+def _combine_fields(st: _ParseState, defaults: Defaults | None) -> dict[str, np.ndarray]:
+    """The parsed columns -> the canonical fields: combined columns, derived fields, project defaults."""
+    values, n, nan = st.values, st.n, st.nan
     out: dict[str, np.ndarray] = {}
     for f in ("piles", "pile_dia", "pile_spacing", "n_ed", "mx_ed", "my_ed", "cover", "embedment",
               "pile_capacity", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
               "n_sls", "mx_sls", "my_sls", "stated_d"):
         out[f] = values.get(f, nan).copy()
-    # the pile capacity's basis: a working (SLS) heading, or a capacity_basis column; ULS otherwise
-    basis = values.get("capacity_basis", np.full(n, "", dtype=object)).astype(object)
-    working = values.get("pile_capacity_working")
+    _capacity_fields(st, out)
+    st.note_bad_rows()
+    if defaults is not None and "cover" in defaults.values:
+        out["cover"] = st.apply_default("cover", out["cover"], defaults.values["cover"], defaults.texts["cover"])
+    _cap_dimensions(st, out)
+    _column_fields(st, out)
+    _concrete_fields(st, out, defaults)
+    fyk = values.get("fyk", nan)
+    if defaults is not None and "fyk" in defaults.values:
+        fyk = st.apply_default("fyk", fyk, defaults.values["fyk"], defaults.texts["fyk"])
+    out["fyk"] = np.where(np.isnan(fyk), FYK_DEFAULT, fyk)
+    for f in ("exposure", "pile_type", "method", "bar_ends", "mark", "case", "case_kind"):
+        out[f] = values.get(f, np.full(n, "", dtype=object))
+        if defaults is not None and f in defaults.values:
+            out[f] = st.apply_default(f, np.asarray(out[f], dtype=object), defaults.values[f], defaults.texts[f])
+    _reinforcement_fields(st, out)
+    none = np.zeros(n, dtype=bool)
+    for f, combos in (("cap_length", ("size", "plan")), ("cap_width", ("size", "plan")), ("cap_depth", ("size",))):
+        sources = [f, *combos]
+        if any(s in st.given for s in sources):       # a value, or a cell that could not be read
+            st.given[f] = ~np.isnan(out[f]) | np.logical_or.reduce([st.given.get(s, none) for s in sources])
+    return out
+
+
+def _capacity_fields(st: _ParseState, out: dict[str, np.ndarray]) -> None:
+    """The pile capacity's basis: a working (SLS) heading, or a capacity_basis column; ULS otherwise."""
+    basis = st.values.get("capacity_basis", np.full(st.n, "", dtype=object)).astype(object)
+    working = st.values.get("pile_capacity_working")
     if working is not None:
         use_w = np.isnan(out["pile_capacity"]) & ~np.isnan(working)
         out["pile_capacity"] = np.where(use_w, working, out["pile_capacity"])
         basis = np.where(use_w & (basis == ""), "SLS", basis).astype(object)
-        given["pile_capacity"] = given.get("pile_capacity", np.zeros(n, bool)) | given["pile_capacity_working"]
-        labels.setdefault("pile_capacity", labels["pile_capacity_working"])
+        st.given["pile_capacity"] = st.given.get("pile_capacity", np.zeros(st.n, bool)) | \
+            st.given["pile_capacity_working"]
+        st.labels.setdefault("pile_capacity", st.labels["pile_capacity_working"])
     out["capacity_basis"] = basis
-    applied: list[tuple[np.ndarray, str]] = []
-    bad_rows: dict[str, set[int]] = {}
-    for fe in errors.items:
-        fld, rows, _ = fe.field, fe.rows, fe.messages
-        bad_rows.setdefault(fld, set()).update(rows.tolist())
 
-    def blank_of(f: str, arr: np.ndarray) -> np.ndarray:
-        mask = np.isnan(arr) if arr.dtype.kind == "f" else (arr == "")
-        if bad_rows.get(f):
-            mask[list(bad_rows[f])] = False
-        return mask
 
-    def apply_default(f: str, arr: np.ndarray, value: Any, text: str) -> np.ndarray:
-        mask = blank_of(f, arr)
-        if not mask.any():
-            return arr
-        arr = arr.copy()
-        arr[mask] = value
-        given[f] = given.get(f, np.zeros(n, bool)) | mask
-        labels.setdefault(f, f"{f} (project file)")
-        applied.append((np.flatnonzero(mask), text))
-        return arr
-
-    if defaults is not None and "cover" in defaults.values:
-        out["cover"] = apply_default("cover", out["cover"], defaults.values["cover"], defaults.texts["cover"])
+def _cap_dimensions(st: _ParseState, out: dict[str, np.ndarray]) -> None:
+    """Cap length, width and depth from their own columns or a size/plan column; disagreements are errors."""
     for f in ("cap_length", "cap_width", "cap_depth"):
-        v = values.get(f, nan).copy()
+        v = st.values.get(f, st.nan).copy()
         for combo in ("size", "plan"):
-            alt = values.get(f"_{combo}_{f}")
+            alt = st.values.get(f"_{combo}_{f}")
             if alt is None:
                 continue
             both = ~np.isnan(v) & ~np.isnan(alt) & ~np.isclose(v, alt)
             if both.any():
                 rows = np.flatnonzero(both)
-                err(f, rows, [f"{_fmtn(v[r])} mm disagrees with {_fmtn(alt[r])} mm in {labels[combo]}"
-                              for r in rows])
+                st.err(f, rows, [f"{_fmtn(v[r])} mm disagrees with {_fmtn(alt[r])} mm in {st.labels[combo]}"
+                                 for r in rows])
             v = np.where(np.isnan(v), alt, v)
-            labels.setdefault(f, labels[combo])
-            units.setdefault(f, units[combo])
+            st.labels.setdefault(f, st.labels[combo])
+            st.units.setdefault(f, st.units[combo])
         out[f] = v
+
+
+def _column_fields(st: _ParseState, out: dict[str, np.ndarray]) -> None:
+    """The column's size and shape from a 'column' cell, or from separate column_x/column_y columns."""
+    values, labels = st.values, st.labels
     if "_col_x" in values:
         out["column_x"], out["column_y"] = values["_col_x"], values["_col_y"]
         for f in ("column_x", "column_y"):
@@ -642,22 +699,25 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
         out["column_round"] = values["_col_round"]
         out["_text_column"] = values["_text_column"]
     else:
-        out["column_x"] = values.get("column_x", nan)
-        out["column_y"] = values.get("column_y", nan)
-        out["column_round"] = np.zeros(n, dtype=bool)
+        out["column_x"] = values.get("column_x", st.nan)
+        out["column_y"] = values.get("column_y", st.nan)
+        out["column_round"] = np.zeros(st.n, dtype=bool)
         if "column_x" in values or "column_y" in values:
-            given["column"] = ~np.isnan(out["column_x"]) | ~np.isnan(out["column_y"])
+            st.given["column"] = ~np.isnan(out["column_x"]) | ~np.isnan(out["column_y"])
             labels["column"] = labels.get("column_x") or labels["column_y"]
     for f in ("column_x", "column_y", "column_round"):
         if "column" in labels:
             labels.setdefault(f, f"{f} (column {_heading_of(labels['column'])!r})")
-            if "column" in units:
-                units.setdefault(f, units["column"])
-    # concrete and fck: the class gives fck; a bare fck column gives the class
-    fck_col = values.get("fck")
-    if "concrete" in values:
-        out["concrete"] = values["concrete"]
-        cls_fck = values["_fck_class"]
+            if "column" in st.units:
+                st.units.setdefault(f, st.units["column"])
+
+
+def _concrete_fields(st: _ParseState, out: dict[str, np.ndarray], defaults: Defaults | None) -> None:
+    """Concrete and fck: the class gives fck; a bare fck column gives the class."""
+    fck_col = st.values.get("fck")
+    if "concrete" in st.values:
+        out["concrete"] = st.values["concrete"]
+        cls_fck = st.values["_fck_class"]
         out["fck"] = cls_fck if fck_col is None else np.where(np.isnan(fck_col), cls_fck, fck_col)
     elif fck_col is not None:
         lookup: dict[float, str] = {}
@@ -666,27 +726,24 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
                 lookup[u] = concrete_from_fck(u).name
             except NotationError as exc:
                 rows = np.flatnonzero(fck_col == u)
-                err("fck", rows, [str(exc)] * rows.size)
+                st.err("fck", rows, [str(exc)] * rows.size)
         out["concrete"] = _texts(pd.Series(fck_col).map(lookup).to_numpy(dtype=object))
         out["fck"] = fck_col
-        given["concrete"] = ~np.isnan(fck_col)
-        labels["concrete"] = labels["fck"]
+        st.given["concrete"] = ~np.isnan(fck_col)
+        st.labels["concrete"] = st.labels["fck"]
     else:
-        out["concrete"], out["fck"] = np.full(n, "", dtype=object), nan
+        out["concrete"], out["fck"] = np.full(st.n, "", dtype=object), st.nan
     if defaults is not None and "concrete" in defaults.values:
         name, fck = defaults.values["concrete"]
-        before = blank_of("concrete", np.asarray(out["concrete"], dtype=object))
-        out["concrete"] = apply_default("concrete", np.asarray(out["concrete"], dtype=object), name,
-                                        defaults.texts["concrete"])
+        before = st.blank_of("concrete", np.asarray(out["concrete"], dtype=object))
+        out["concrete"] = st.apply_default("concrete", np.asarray(out["concrete"], dtype=object), name,
+                                           defaults.texts["concrete"])
         out["fck"] = np.where(before, fck, out["fck"])
-    fyk = values.get("fyk", nan)
-    if defaults is not None and "fyk" in defaults.values:
-        fyk = apply_default("fyk", fyk, defaults.values["fyk"], defaults.texts["fyk"])
-    out["fyk"] = np.where(np.isnan(fyk), FYK_DEFAULT, fyk)
-    for f in ("exposure", "pile_type", "method", "bar_ends", "mark", "case", "case_kind"):
-        out[f] = values.get(f, np.full(n, "", dtype=object))
-        if defaults is not None and f in defaults.values:
-            out[f] = apply_default(f, np.asarray(out[f], dtype=object), defaults.values[f], defaults.texts[f])
+
+
+def _reinforcement_fields(st: _ParseState, out: dict[str, np.ndarray]) -> None:
+    """Bars each way (count from the spacing when not written) and, for single-pile caps, the links."""
+    values, n, nan = st.values, st.n, st.nan
     for s, width_field in (("x", "cap_width"), ("y", "cap_length")):
         bars = f"bars_{s}"
         out[bars] = values.get(bars, np.full(n, "", dtype=object))
@@ -704,12 +761,6 @@ def _parse_cells(cells: pd.DataFrame, report: HeadingReport, *, formulas: bool =
         out[f] = values.get(f, nan)
     if "_text_links" in values:
         out["_text_links"] = values["_text_links"]
-    none = np.zeros(n, dtype=bool)
-    for f, combos in (("cap_length", ("size", "plan")), ("cap_width", ("size", "plan")), ("cap_depth", ("size",))):
-        sources = [f, *combos]
-        if any(s in given for s in sources):       # a value, or a cell that could not be read
-            given[f] = ~np.isnan(out[f]) | np.logical_or.reduce([given.get(s, none) for s in sources])
-    return _Parsed(out, given, errors, labels, n, units, notes, applied)
 
 
 def _required_missing(f: str, have: np.ndarray, has_col: np.ndarray, labels: dict[str, str],
