@@ -915,6 +915,45 @@ def cells_of(table: RawTable) -> pd.DataFrame:
     return df
 
 
+@dataclass
+class _Joined:
+    """The parsed tables of one schedule joined end to end: row r of every array is the same row."""
+    parts: list[_Parsed]
+    out: dict[str, np.ndarray]
+    errors: _Errors
+    labels: dict[str, str]
+    units: dict[str, tuple[str, str, float]]
+    given: dict[str, np.ndarray]
+    has_col: dict[str, np.ndarray]
+    applied_rows: dict[int, list[str]]
+    provenance: pd.DataFrame
+    n_total: int
+
+    def __post_init__(self) -> None:
+        self.starts = np.cumsum([0] + [p.n for p in self.parts])
+
+    def part_of(self, r: int) -> _Parsed:
+        return self.parts[int(np.searchsorted(self.starts, r, side="right")) - 1]
+
+    def labels_at(self, r: int) -> dict[str, str]:
+        return {**self.labels, **self.part_of(r).labels}
+
+    def units_at(self, r: int) -> dict[str, tuple[str, str, float]]:
+        return self.part_of(r).units
+
+
+@dataclass
+class _CaseRows:
+    """Which rows are further load cases of a mark (issue 11), and each row's first row of its mark."""
+    marks: pd.Series
+    mk: np.ndarray
+    pos: np.ndarray
+    first_pos: np.ndarray
+    case_mode: bool
+    cont: np.ndarray
+    case_name: np.ndarray
+
+
 def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
                 coords: pd.DataFrame | None = None, coord_problems: dict[str, list[str]] | None = None,
                 cells: Sequence[pd.DataFrame] | None = None, load_marks: frozenset[str] = frozenset(),
@@ -928,7 +967,27 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     """
     if isinstance(tables, RawTable):
         tables = [tables]
-    hmap = resolve_mapping(mapping)
+    reports, notes, parts, prov = _parse_tables(tables, resolve_mapping(mapping), cells, defaults)
+    j = _join(parts, prov)
+    if coords is not None or coord_problems:
+        _apply_coords(j.out, coords if coords is not None else pd.DataFrame(columns=["mark", "x", "y"]),
+                      coord_problems or {}, j.errors, j.labels, notes, j.given)
+    rows = _case_rows(j, load_marks)
+    problems = _table_problems(tables, parts, j.given, reports)
+    _check_rows(j, rows, notes)
+    # ---- the model's constraints ---------------------------------------------------------------
+    frame = pd.DataFrame({f: j.out[f] for f in FIELDS})
+    for c in j.provenance.columns:
+        frame[c] = j.provenance[c].to_numpy(dtype=object)
+    _, vmsgs = validate_frame(frame)
+    per_row = _rejections(j, rows, vmsgs)
+    return _frame_result(j, rows, frame, per_row, reports, notes, problems, load_marks, defaults)
+
+
+def _parse_tables(tables: Sequence[RawTable], hmap: HeadingMap, cells: Sequence[pd.DataFrame] | None,
+                  defaults: Defaults | None
+                  ) -> tuple[list[HeadingReport], list[str], list[_Parsed], list[pd.DataFrame]]:
+    """Match the headings of each table and parse its cells; the notes, and each row's provenance."""
     reports: list[HeadingReport] = []
     notes: list[str] = []
     parts: list[_Parsed] = []
@@ -957,9 +1016,12 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             "src_row": np.array(list(table.row_numbers), dtype=object) if len(table.row_numbers) == n
             else np.arange(1, n + 1).astype(object),
         }))
-    n_total = sum(p.n for p in parts)
+    return reports, notes, parts, prov
 
-    # ---- concatenate the tables ------------------------------------------------------------
+
+def _join(parts: list[_Parsed], prov: list[pd.DataFrame]) -> _Joined:
+    """Concatenate the parsed tables: values, errors (rows offset), labels and units (first wins)."""
+    n_total = sum(p.n for p in parts)
     keys = list(dict.fromkeys(list(FIELDS) + list(CASE_FIELDS))) + \
         sorted({k for p in parts for k in p.values if k.startswith("_text_")})
     out: dict[str, np.ndarray] = {}
@@ -995,11 +1057,12 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
         has_col[f] = np.concatenate([np.full(p.n, f in p.given) for p in parts]) if parts else np.zeros(0, bool)
     provenance = pd.concat(prov, ignore_index=True) if prov else pd.DataFrame(
         {c: pd.Series([], dtype=object) for c in ("src_file", "src_sheet", "src_page", "src_row")})
+    return _Joined(parts, out, errors, labels, units, given, has_col, applied_rows, provenance, n_total)
 
-    if coords is not None or coord_problems:
-        _apply_coords(out, coords if coords is not None else pd.DataFrame(columns=["mark", "x", "y"]),
-                      coord_problems or {}, errors, labels, notes, given)
-    # ---- load cases: further rows of a mark, SLS loads (issue 11) -----------------------------
+
+def _case_rows(j: _Joined, load_marks: frozenset[str]) -> _CaseRows:
+    """Load cases: further rows of a mark, SLS loads (issue 11). Marks the rows that must carry loads."""
+    out, given, has_col, n_total = j.out, j.given, j.has_col, j.n_total
     marks = pd.Series(out["mark"], dtype=object)
     mk = marks.to_numpy(dtype=object)
     pos = np.arange(n_total)
@@ -1008,7 +1071,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     case_mode = bool(has_col.get("case", np.zeros(0, bool)).any())
     cont = named & (first_pos != pos) if case_mode else np.zeros(n_total, bool)
     if cont.any():
-        _continuation_rows(out, given, cont, first_pos, provenance, labels, errors)
+        _continuation_rows(out, given, cont, first_pos, j.provenance, j.labels, j.errors)
     sls_given = given.get("n_sls", np.zeros(n_total, bool))
     own_loads = given.get("n_ed", np.zeros(n_total, bool)) | sls_given
     mark_loads = pd.Series(own_loads).groupby(mk).transform("any").to_numpy() if n_total else own_loads
@@ -1019,26 +1082,21 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     no_loads = ~own_loads & (cont | ((case_name != "") & ~in_table))
     if no_loads.any():
         rows = np.flatnonzero(no_loads)
-        errors.add("n_ed", rows, [f"case {_case_label(case_name[r])}of mark {mk[r]!r} has no loads (no "
-                                  f"{_heading_of(labels.get('n_ed', 'NEd'))!r} or SLS axial load)" for r in rows])
+        j.errors.add("n_ed", rows, [f"case {_case_label(case_name[r])}of mark {mk[r]!r} has no loads (no "
+                                    f"{_heading_of(j.labels.get('n_ed', 'NEd'))!r} or SLS axial load)"
+                                    for r in rows])
     given["n_ed"] = own_loads | no_loads | (named & ~cont & (in_table | (case_mode & mark_loads)))
     has_col["n_ed"] = has_col["n_ed"] | has_col.get("n_sls", np.zeros(n_total, bool)) | bool(load_marks)
-    problems = _table_problems(tables, parts, given, reports)
-    starts = np.cumsum([0] + [p.n for p in parts])
+    return _CaseRows(marks, mk, pos, first_pos, case_mode, cont, case_name)
 
-    def part_of(r: int) -> _Parsed:
-        return parts[int(np.searchsorted(starts, r, side="right")) - 1]
 
-    def labels_at(r: int) -> dict[str, str]:
-        return {**labels, **part_of(r).labels}
-
-    def units_at(r: int) -> dict[str, tuple[str, str, float]]:
-        return part_of(r).units
-
+def _check_rows(j: _Joined, rows: _CaseRows, notes: list[str]) -> None:
+    """Required fields, single-pile spacing, plausibility, SLS loads and repeated marks."""
+    out, errors, labels, n_total = j.out, j.errors, j.labels, j.n_total
     for f in REQUIRED_SOURCES:
-        for k, p in enumerate(parts):
-            a, b = int(starts[k]), int(starts[k + 1])
-            _required_missing(f, given[f][a:b], has_col[f][a:b], {**labels, **p.labels}, errors, offset=a)
+        for k, p in enumerate(j.parts):
+            a, b = int(j.starts[k]), int(j.starts[k + 1])
+            _required_missing(f, j.given[f][a:b], j.has_col[f][a:b], {**labels, **p.labels}, errors, offset=a)
 
     # ---- one pile: a spacing of 0 means "not applicable" -------------------------------------
     with np.errstate(invalid="ignore"):
@@ -1046,45 +1104,48 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     if zero.any():
         out["pile_spacing"][zero] = np.nan
         notes.append(f"{int(zero.sum())} single-pile cap(s): a pile spacing of 0 read as not applicable")
-    _plausibility(out, labels_at, units_at, errors)
+    _plausibility(out, j.labels_at, j.units_at, errors)
     for f in ("n_sls", "mx_sls", "my_sls"):
         bad = ~np.isnan(out[f]) & (out[f] <= 0) if f == "n_sls" else np.zeros(n_total, bool)
         if bad.any():
-            rows = np.flatnonzero(bad)
-            errors.add(f, rows, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / TO_INTERNAL['kN'])} kN must be greater than 0"
-                                 for r in rows])
+            bad_at = np.flatnonzero(bad)
+            errors.add(f, bad_at, [f"{labels.get(f, f)}: {_fmtn(out[f][r] / TO_INTERNAL['kN'])} kN must be "
+                                   "greater than 0" for r in bad_at])
+    _repeated_marks(j, rows)
 
-    # ---- repeated marks: a load case when there is a case column, else the later row is rejected ----
-    lab = labels.get("mark", "mark")
-    if case_mode:
+
+def _repeated_marks(j: _Joined, c: _CaseRows) -> None:
+    """Repeated marks: a load case when there is a case column, else the later row is rejected."""
+    marks, mk, case_name, provenance = c.marks, c.mk, c.case_name, j.provenance
+    if c.case_mode:
         key = pd.Series(list(zip(mk.tolist(), case_name.tolist())), dtype=object)
         dup = (key.duplicated(keep="first") & (marks != "")).to_numpy()
         if dup.any():
             rows = np.flatnonzero(dup)
-            first_key = pd.Series(pos).groupby(key.to_numpy()).transform("first").to_numpy()
-            clab = labels.get("case", "case")
-            errors.add("case", rows, [
+            first_key = pd.Series(c.pos).groupby(key.to_numpy()).transform("first").to_numpy()
+            clab = j.labels.get("case", "case")
+            j.errors.add("case", rows, [
                 (f"{clab}: case {case_name[r]!r} of mark {mk[r]!r} repeats {_where(provenance, first_key[r])}; "
                  "each load case of a cap needs its own name") if case_name[r] != "" else
                 (f"{clab}: missing; mark {mk[r]!r} is given on several rows (first on "
-                 f"{_where(provenance, first_pos[r])}): each further row needs its own load case name")
+                 f"{_where(provenance, c.first_pos[r])}): each further row needs its own load case name")
                 for r in rows])
     else:
         dup = (marks.duplicated(keep="first") & (marks != "")).to_numpy()
         if dup.any():
             rows = np.flatnonzero(dup)
-            errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of "
-                                      f"{_where(provenance, first_pos[r])}; each cap needs its own mark (or give a "
-                                      "load case column for the rows of further load cases)" for r in rows])
+            lab = j.labels.get("mark", "mark")
+            j.errors.add("mark", rows, [f"{lab}: {marks.iat[r]!r} repeats the mark of "
+                                        f"{_where(provenance, c.first_pos[r])}; each cap needs its own mark (or "
+                                        "give a load case column for the rows of further load cases)"
+                                        for r in rows])
 
-    # ---- the model's constraints ---------------------------------------------------------------
-    frame = pd.DataFrame({f: out[f] for f in FIELDS})
-    for c in provenance.columns:
-        frame[c] = provenance[c].to_numpy(dtype=object)
-    _, vmsgs = validate_frame(frame)
 
+def _rejections(j: _Joined, c: _CaseRows, vmsgs: dict[Any, list[str]]) -> dict[int, list[tuple[str, str]]]:
+    """Row -> (field, message) of every reason to reject it: parse errors, then the model's constraints
+    not already explained by them, then a first row of its mark that was rejected."""
     per_row: dict[int, list[tuple[str, str]]] = {}
-    for fe in errors.items:
+    for fe in j.errors.items:
         fld, rows, msgs = fe.field, fe.rows, fe.messages
         for r, msg in zip(rows.tolist(), msgs):
             per_row.setdefault(r, []).append((fld, msg))
@@ -1094,26 +1155,34 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
             fld, _, rest = msg.partition(":")
             if fld in have or any(s in have for s in DERIVED_FROM.get(fld, ())):
                 continue
-            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, out, labels_at(r))}:{rest}"))
+            per_row.setdefault(r, []).append((fld, f"{_derived_label(fld, r, j.out, j.labels_at(r))}:{rest}"))
     # the further rows of a mark whose first row was rejected are not checked either
-    if cont.any():
-        for r in np.flatnonzero(cont).tolist():
-            fr = int(first_pos[r])
+    if c.cont.any():
+        lab = j.labels.get("mark", "mark")
+        for r in np.flatnonzero(c.cont).tolist():
+            fr = int(c.first_pos[r])
             if fr in per_row:
                 per_row.setdefault(r, []).append(
-                    ("mark", f"{lab}: the first row of mark {mk[r]!r} ({_where(provenance, fr)}) was rejected, "
-                             "so this load case is not checked"))
+                    ("mark", f"{lab}: the first row of mark {c.mk[r]!r} ({_where(j.provenance, fr)}) was "
+                             "rejected, so this load case is not checked"))
+    return per_row
 
+
+def _frame_result(j: _Joined, c: _CaseRows, frame: pd.DataFrame, per_row: dict[int, list[tuple[str, str]]],
+                  reports: list[HeadingReport], notes: list[str], problems: list[dict], load_marks: frozenset[str],
+                  defaults: Defaults | None) -> FrameResult:
+    """The kept caps, the rejected rows, the load cases and the notes of the project file's defaults."""
+    n_total, has_col, provenance, cont = j.n_total, j.has_col, j.provenance, c.cont
     bad_rows = sorted(per_row)
     keep = np.ones(n_total, dtype=bool)
     keep[np.asarray(bad_rows, dtype=np.int64)] = False
-    marks_out = out["mark"]
+    marks_out = j.out["mark"]
     rejected = [
         RejectedRow(_source(provenance, r), tuple(dict.fromkeys(m for _, m in per_row[r])),
                     marks_out[r] if isinstance(marks_out[r], str) else "")
         for r in bad_rows]
     caps = _canonical(frame.loc[keep & ~cont].reset_index(drop=True))
-    applied = [applied_rows.get(r, []) for r in np.flatnonzero(keep & ~cont).tolist()]
+    applied = [j.applied_rows.get(r, []) for r in np.flatnonzero(keep & ~cont).tolist()]
     if defaults is not None:
         for fld, text in defaults.texts.items():
             caps_with = [caps["mark"].iat[i] for i, a in enumerate(applied) if text in a]
@@ -1121,15 +1190,15 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
                 shown = ", ".join(map(str, caps_with[:8])) + (" ..." if len(caps_with) > 8 else "")
                 notes.append(f"{text}, for {len(caps_with)} cap(s) whose schedule leaves it blank ({shown})")
     cases = None
-    wants_cases = case_mode or bool(load_marks) or bool(has_col.get("n_sls", np.zeros(0, bool)).any()) or \
+    wants_cases = c.case_mode or bool(load_marks) or bool(has_col.get("n_sls", np.zeros(0, bool)).any()) or \
         bool(has_col.get("case_kind", np.zeros(0, bool)).any()) or bool((caps["capacity_basis"] == "SLS").any())
     if wants_cases:
         cap_of = np.full(n_total, -1, dtype=np.int64)
         heads = np.flatnonzero(keep & ~cont)
         cap_of[heads] = np.arange(heads.size)
         rows = np.flatnonzero(keep)
-        cases = case_entries(out, rows, cap_of[first_pos[rows]], provenance)
-    rejected_marks = frozenset(str(mk[r]) for r in bad_rows if mk[r] != "")
+        cases = case_entries(j.out, rows, cap_of[c.first_pos[rows]], provenance)
+    rejected_marks = frozenset(str(c.mk[r]) for r in bad_rows if c.mk[r] != "")
     return FrameResult(caps, rejected, reports, notes, n_total, cases=cases, case_rows=int((keep & cont).sum()),
                        rejected_marks=rejected_marks, problems=problems, applied=applied)
 
