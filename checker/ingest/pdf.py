@@ -33,6 +33,7 @@ import io
 import logging
 import os
 import re
+from dataclasses import dataclass, field
 from typing import Callable
 
 from checker.ingest.errors import IngestError
@@ -87,6 +88,52 @@ def _quiet_pdfminer():
         log.setLevel(level)
 
 
+@dataclass
+class _Assembly:
+    """The tables of a PDF as they are put together page by page: a page without a heading row goes
+    on with the table before it, and a strip printed to the right joins the rows it continues."""
+    name: str
+    tables: list[RawTable] = field(default_factory=list)
+    prev: Layout | None = None      # layout of the table read last, for a continuation
+    left: PageTable | None = None   # the table that started on the page before (its strips)
+    left_at: int = 0                # index of its first row in ``current.rows``
+    current: RawTable | None = None
+    started: dict[int, int] = field(default_factory=dict)   # id(RawTable) -> page of its heading row
+    struck: dict[int, list[tuple[int, int]]] = field(default_factory=dict)  # id -> per row (struck, filled)
+
+    def add(self, page_tables: list[PageTable], page_no: int, notes: list[str]) -> None:
+        """The tables read on one page: each starts a table, or goes on with the current one."""
+        current = self.current
+        taken = 0                       # rows of this page already numbered (two tables on a page)
+        for pt in page_tables:
+            notes.extend(pt.notes)
+            if pt.row_numbers and taken and min(pt.row_numbers) <= taken:
+                pt.row_numbers = [r + taken for r in pt.row_numbers]   # no two records share page and row
+            taken = max([taken, *pt.row_numbers])
+            if pt.headings is None:
+                notes.append(f"page {page_no}: no heading row; read as a continuation of "
+                             f"the table from page {self.started[id(current)]}")
+            elif (current is None or len(current.headings) != len(pt.headings)
+                  or not _same_headings(current.headings, pt.headings)):
+                current = RawTable(file=self.name, sheet=None, headings=list(pt.headings),
+                                   rows=[], pages=[], row_numbers=[])
+                self.current = current
+                self.tables.append(current)
+                self.started[id(current)] = page_no
+                self.struck[id(current)] = []
+            width = len(current.headings)
+            if pt.headings is not None and pt.head_tops and pt.rows:
+                self.left, self.left_at = pt, len(current.rows)
+            else:
+                self.left = None
+            current.rows.extend(r + [""] * (width - len(r)) for r in pt.rows)
+            current.pages.extend([page_no] * len(pt.rows))
+            current.row_numbers.extend(pt.row_numbers)
+            self.struck[id(current)].extend(pt.struck if len(pt.struck) == len(pt.rows)
+                                            else [(0, 0)] * len(pt.rows))
+            self.prev = pt.layout
+
+
 def _read(name: str, strategy: str, max_pages: int | None,
           progress) -> tuple[list[RawTable], list[str]]:
     pdf, salvaged = _open(name)
@@ -94,7 +141,7 @@ def _read(name: str, strategy: str, max_pages: int | None,
     if salvaged:
         notes.append(f"{name} is damaged or truncated ({salvaged}); read what could be "
                      f"recovered; pages may be missing")
-    tables: list[RawTable] = []
+    asm = _Assembly(name)
     try:
         try:
             pages = pdf.pages
@@ -111,111 +158,93 @@ def _read(name: str, strategy: str, max_pages: int | None,
         pages_with_text = 0
         kinds: dict[str, int] = {}      # what the pages without text hold: image / drawing / blank
         failed: list[int] = []
-        prev: Layout | None = None      # layout of the table read last, for a continuation
-        left: PageTable | None = None   # the table that started on the page before (its strips)
-        left_at = 0                     # index of its first row in ``current.rows``
-        current: RawTable | None = None
-        started: dict[int, int] = {}    # id(RawTable) -> page of its heading row
-        struck: dict[int, list[tuple[int, int]]] = {}   # id(RawTable) -> per row (cells struck, filled)
         for page_no, page in enumerate(pages, start=1):
-            try:
-                page_tables, has_text, page_note = _read_page(page, page_no, strategy,
-                                                              is_heading, prev, left)
-            except IngestError:
-                raise
-            except Exception as exc:   # a damaged page: say so and read the others
-                failed.append(page_no)
-                notes.append(f"page {page_no}: could not be read ({_reason(exc)}); skipped")
-                page_tables, has_text, page_note = [], False, None
-                prev = None
-            finally:
-                try:
-                    page.close()
-                except Exception:
-                    pass
-                if progress is not None:
-                    try:
-                        progress(page_no, total)
-                    except Exception:
-                        pass
+            page_tables, has_text, page_note = _read_one_page(page, page_no, total, strategy, is_heading,
+                                                              asm, failed, notes, progress)
             pages_with_text += has_text is True
             if isinstance(has_text, str):
                 kinds[has_text] = kinds.get(has_text, 0) + 1
             if page_note:
                 notes.append(page_note)
-            if page_tables and page_tables[0].side and current is not None and left is not None:
-                _add_strip(current, page_tables[0], left_at, page_no, notes, struck[id(current)])
+            if page_tables and page_tables[0].side and asm.current is not None and asm.left is not None:
+                _add_strip(asm.current, page_tables[0], asm.left_at, page_no, notes, asm.struck[id(asm.current)])
                 continue
-            left = None
+            asm.left = None
             if not page_tables:
-                prev = None             # a continuation must follow its table directly
+                asm.prev = None             # a continuation must follow its table directly
                 if has_text is True and not page_note:
                     notes.append(f"page {page_no}: no schedule table, skipped")
                 elif salvaged and has_text == "blank" and page_no not in failed:
                     notes[-1] = (f"page {page_no}: nothing to read (its content was lost in the "
                                  f"damaged file), skipped")
                 continue
-            taken = 0                       # rows of this page already numbered (two tables on a page)
-            for pt in page_tables:
-                notes.extend(pt.notes)
-                if pt.row_numbers and taken and min(pt.row_numbers) <= taken:
-                    pt.row_numbers = [r + taken for r in pt.row_numbers]   # no two records share page and row
-                taken = max([taken, *pt.row_numbers])
-                if pt.headings is None:
-                    notes.append(f"page {page_no}: no heading row; read as a continuation of "
-                                 f"the table from page {started[id(current)]}")
-                elif (current is None or len(current.headings) != len(pt.headings)
-                      or not _same_headings(current.headings, pt.headings)):
-                    current = RawTable(file=name, sheet=None, headings=list(pt.headings),
-                                       rows=[], pages=[], row_numbers=[])
-                    tables.append(current)
-                    started[id(current)] = page_no
-                    struck[id(current)] = []
-                width = len(current.headings)
-                if pt.headings is not None and pt.head_tops and pt.rows:
-                    left, left_at = pt, len(current.rows)
-                else:
-                    left = None
-                current.rows.extend(r + [""] * (width - len(r)) for r in pt.rows)
-                current.pages.extend([page_no] * len(pt.rows))
-                current.row_numbers.extend(pt.row_numbers)
-                struck[id(current)].extend(pt.struck if len(pt.struck) == len(pt.rows)
-                                           else [(0, 0)] * len(pt.rows))
-                prev = pt.layout
+            asm.add(page_tables, page_no, notes)
     finally:
         try:
             pdf.close()
         except Exception:
             pass
 
+    tables = asm.tables
     if not tables:
-        if pages_with_text == 0 and not failed:
-            if kinds.get("image"):
-                raise IngestError(_NO_TEXT.format(name=name))
-            if kinds.get("drawing"):
-                raise IngestError(
-                    f"{name} has no text to read: its pages hold only drawing (text converted to "
-                    f"outlines?). Reading such PDFs (OCR) is out of scope; ask for the PDF as "
-                    f"exported from the spreadsheet, or for the schedule as CSV/XLSX.")
-            raise IngestError(
-                f"{name} has no text to read: its pages are blank, or their content could not "
-                f"be decoded (a damaged file?). Ask for the file again, or for the schedule as "
-                f"CSV/XLSX.")
-        if failed and pages_with_text == 0:
-            raise IngestError(f"{name}: no page could be read (the PDF looks damaged); "
-                              + "; ".join(notes[:3]))
-        raise IngestError(
-            f"no schedule table found in {name}: no page has a heading row with at least three "
-            f"schedule headings (such as mark, piles, pile diameter, cap size or depth, column, "
-            f"load, concrete, bars, cover). Check that this is the schedule, force a reading "
-            f"method (--pdf-strategy lines or text), or give the schedule as CSV/XLSX."
-            + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
+        raise _no_table(name, pages_with_text, failed, kinds, notes)
     for t in tables:
-        _sort_rows(t, notes, struck[id(t)])
+        _sort_rows(t, notes, asm.struck[id(t)])
         if not t.rows and not t.skipped:
-            notes.append(f"page {started[id(t)]}: the table headed "
+            notes.append(f"page {asm.started[id(t)]}: the table headed "
                          f"{', '.join(repr(h) for h in t.headings[:3])} ... has no rows")
     return tables, notes
+
+
+def _read_one_page(page, page_no: int, total: int, strategy: str, is_heading: Callable[[str], bool],
+                   asm: _Assembly, failed: list[int], notes: list[str], progress
+                   ) -> tuple[list[PageTable], bool | str, str | None]:
+    """Read one page; a damaged page is noted and read as empty. The page is closed after."""
+    try:
+        return _read_page(page, page_no, strategy, is_heading, asm.prev, asm.left)
+    except IngestError:
+        raise
+    except Exception as exc:   # a damaged page: say so and read the others
+        failed.append(page_no)
+        notes.append(f"page {page_no}: could not be read ({_reason(exc)}); skipped")
+        asm.prev = None
+        return [], False, None
+    finally:
+        try:
+            page.close()
+        except Exception:
+            pass
+        if progress is not None:
+            try:
+                progress(page_no, total)
+            except Exception:
+                pass
+
+
+def _no_table(name: str, pages_with_text: int, failed: list[int], kinds: dict[str, int],
+              notes: list[str]) -> IngestError:
+    """Why no schedule table was found: pages without text (scanned, drawing, blank), damage, or none."""
+    if pages_with_text == 0 and not failed:
+        if kinds.get("image"):
+            return IngestError(_NO_TEXT.format(name=name))
+        if kinds.get("drawing"):
+            return IngestError(
+                f"{name} has no text to read: its pages hold only drawing (text converted to "
+                f"outlines?). Reading such PDFs (OCR) is out of scope; ask for the PDF as "
+                f"exported from the spreadsheet, or for the schedule as CSV/XLSX.")
+        return IngestError(
+            f"{name} has no text to read: its pages are blank, or their content could not "
+            f"be decoded (a damaged file?). Ask for the file again, or for the schedule as "
+            f"CSV/XLSX.")
+    if failed and pages_with_text == 0:
+        return IngestError(f"{name}: no page could be read (the PDF looks damaged); "
+                           + "; ".join(notes[:3]))
+    return IngestError(
+        f"no schedule table found in {name}: no page has a heading row with at least three "
+        f"schedule headings (such as mark, piles, pile diameter, cap size or depth, column, "
+        f"load, concrete, bars, cover). Check that this is the schedule, force a reading "
+        f"method (--pdf-strategy lines or text), or give the schedule as CSV/XLSX."
+        + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
 
 
 def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: list[str],

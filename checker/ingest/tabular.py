@@ -818,35 +818,13 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
                 continue
             marks = SheetMarks()
             try:
-                it = bounded_rows(_sheet_rows(ws, marks), name, where=f', sheet "{title}"', max_rows=max_rows)
-                rows: list[list[Any]] = []
-                numbers: list[int] = []
-                for number, row in it:
-                    rows.append(row)
-                    numbers.append(number)
-                    if len(rows) >= HEADING_SCAN:
-                        break
+                it, rows, numbers = _head_rows(ws, marks, name, max_rows)
                 if not first_rows:
                     first_rows = rows
-                kind, idx = None, find_heading_row(rows, "schedule", hmap)
-                if idx is not None:
-                    kind = "schedule"
-                else:
-                    idx = find_heading_row(rows, "coords", hmap)
-                    kind = "coords" if idx is not None else None
-                if kind is None or idx is None:     # both None together
-                    if sheet is not None and title == sheet:
-                        raise IngestError(_no_heading_message(name, rows, "schedule", f', sheet "{title}"'))
-                    notes.append(f'sheet "{title}" skipped: no schedule headings')
+                found = _sheet_kind(rows, hmap, name, title, sheet, notes, coords is not None, loads is not None)
+                if found is None:
                     continue
-                if kind == "schedule" and _loads_headings(rows[idx], hmap):
-                    kind = "loads"                  # mark, case and loads only: a loads table (issue 11)
-                if kind == "schedule" and sheet is not None and title != sheet:
-                    notes.append(f'sheet "{title}" skipped: --sheet {sheet} chooses the schedule')
-                    continue
-                if (kind == "coords" and coords is not None) or (kind == "loads" and loads is not None):
-                    notes.append(f'sheet "{title}" skipped: the {kind} was read from an earlier sheet')
-                    continue
+                kind, idx = found
                 for number, row in it:
                     rows.append(row)
                     numbers.append(number)
@@ -876,6 +854,46 @@ def read_xlsx(path: str | os.PathLike, *, mapping: Any = None,
         notes.append(f"{name}: schedule read from the sheets " + ", ".join(
             dict.fromkeys(f'"{t.sheet}"' for t in schedules)) + " (choose one with --sheet NAME)")
     return schedules + [t for t in (coords, loads) if t is not None], notes
+
+
+def _head_rows(ws: Any, marks: SheetMarks, name: str, max_rows: int | None
+               ) -> tuple[Iterator[tuple[int, list[Any]]], list[list[Any]], list[int]]:
+    """The first rows of a sheet (enough to find its heading row) and the iterator over the rest."""
+    it = bounded_rows(_sheet_rows(ws, marks), name, where=f', sheet "{ws.title}"', max_rows=max_rows)
+    rows: list[list[Any]] = []
+    numbers: list[int] = []
+    for number, row in it:
+        rows.append(row)
+        numbers.append(number)
+        if len(rows) >= HEADING_SCAN:
+            break
+    return it, rows, numbers
+
+
+def _sheet_kind(rows: list[list[Any]], hmap: Any, name: str, title: str, sheet: str | None, notes: list[str],
+                have_coords: bool, have_loads: bool) -> tuple[str, int] | None:
+    """What a sheet holds ('schedule', 'coords' or 'loads') and its heading row; None (with a note)
+    when the sheet is skipped."""
+    kind, idx = None, find_heading_row(rows, "schedule", hmap)
+    if idx is not None:
+        kind = "schedule"
+    else:
+        idx = find_heading_row(rows, "coords", hmap)
+        kind = "coords" if idx is not None else None
+    if kind is None or idx is None:     # both None together
+        if sheet is not None and title == sheet:
+            raise IngestError(_no_heading_message(name, rows, "schedule", f', sheet "{title}"'))
+        notes.append(f'sheet "{title}" skipped: no schedule headings')
+        return None
+    if kind == "schedule" and _loads_headings(rows[idx], hmap):
+        kind = "loads"                  # mark, case and loads only: a loads table (issue 11)
+    if kind == "schedule" and sheet is not None and title != sheet:
+        notes.append(f'sheet "{title}" skipped: --sheet {sheet} chooses the schedule')
+        return None
+    if (kind == "coords" and have_coords) or (kind == "loads" and have_loads):
+        notes.append(f'sheet "{title}" skipped: the {kind} was read from an earlier sheet')
+        return None
+    return kind, idx
 
 
 def _loads_headings(row: Sequence[Any], hmap: Any) -> bool:
