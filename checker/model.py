@@ -428,6 +428,9 @@ def _fmt_values(values: np.ndarray, scale: float) -> list[str]:
     return [shown[c] for c in codes]
 
 
+_Add = Callable[[str, np.ndarray, list[str]], None]     # (field, rows mask, messages) -> record errors
+
+
 def _check_columns(df: pd.DataFrame) -> tuple[list[FieldError], dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Field-level checks. Returns (errors, bad mask per field, values per field as arrays)."""
     n = len(df)
@@ -444,88 +447,107 @@ def _check_columns(df: pd.DataFrame) -> tuple[list[FieldError], dict[str, np.nda
     for spec in FIELDS.values():
         name = spec.name
         if name not in df.columns:
-            if spec.required:
-                add(name, np.ones(n, bool), [f"{name}: missing (required)"] * n)
-            if spec.kind in ("float", "int"):
-                default = np.nan if spec.default is None else float(spec.default)
-                values[name] = np.full(n, default)
-            elif spec.kind == "bool":
-                values[name] = np.full(n, bool(spec.default))
-            else:
-                values[name] = np.full(n, spec.default if spec.default is not None else "", dtype=object)
-            continue
-        col = df[name]
-        if spec.kind in ("float", "int"):
-            raw_missing = col.isna().to_numpy()
-            if col.dtype.kind in "fiu":
-                v = col.to_numpy(dtype=float)
-            else:
-                v = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
-                notnum = np.isnan(v) & ~raw_missing
-                if notnum.any():
-                    rows = np.flatnonzero(notnum)
-                    add(name, notnum, [f"{name}: {col.iloc[r]!r} is not a number" for r in rows])
-            missing = raw_missing
-            if spec.required:
-                add(name, missing, [f"{name}: missing (required)"] * int(missing.sum()))
-            elif spec.default is not None:
-                v = np.where(missing, float(spec.default), v)
-            values[name] = v
-            present = ~np.isnan(v)
-            inf = present & ~np.isfinite(v)
-            add(name, inf, [f"{name}: {_fmt(x)} must be a finite number" for x in v[inf]])
-            fin = present & ~inf
-            unit = f" {spec.show_unit}" if spec.show_unit and spec.show_unit != "count" else ""
-            if spec.kind == "int":
-                frac = fin & (np.floor(np.where(fin, v, 0)) != np.where(fin, v, 0))
-                add(name, frac, [f"{name}: {s} must be a whole number" for s in _fmt_values(v[frac], 1.0)])
-                fin &= ~frac
-            with np.errstate(invalid="ignore"):
-                for op, bound in spec.bounds:
-                    fn, words = _OPS[op]
-                    fail = fin & ~fn(v, bound)
-                    if fail.any():
-                        b = _fmt(bound * spec.show_scale) + (unit if bound != 0 else "")
-                        shown = _fmt_values(v[fail], spec.show_scale)
-                        add(name, fail, [f"{name}: {s}{unit} {words} {b}" for s in shown])
-                        fin &= ~fail
-            if spec.one_of is not None:
-                fail = fin & ~np.isin(v, np.asarray(spec.one_of, dtype=float))
-                add(name, fail, [f"{name}: {s}{unit} must be one of {_list_values(spec.one_of)}"
-                                 for s in _fmt_values(v[fail], 1.0)])
+            values[name] = _missing_column(spec, n, add)
+        elif spec.kind in ("float", "int"):
+            values[name] = _check_numeric(spec, df[name], add)
         elif spec.kind == "bool":
-            if col.dtype == bool:
-                v = col.to_numpy()
-            else:
-                missing = col.isna().to_numpy()
-                okb = col.map(lambda x: isinstance(x, (bool, np.bool_))).to_numpy(dtype=bool)
-                fail = ~okb & ~missing
-                add(name, fail, [f"{name}: {col.iloc[r]!r} must be True or False" for r in np.flatnonzero(fail)])
-                v = np.where(okb, col.to_numpy(dtype=object), bool(spec.default)).astype(bool)
-            values[name] = v
-        else:  # str: work on the distinct values only
-            codes, uniq = pd.factorize(col.astype(object), use_na_sentinel=True)
-            if pd.api.types.infer_dtype(uniq, skipna=False) in ("string", "empty"):
-                u_str = np.ones(len(uniq) + 1, dtype=bool)
-                u_val = np.array([u.strip() for u in uniq] + [""], dtype=object)
-            else:
-                u_str = np.array([isinstance(u, str) for u in uniq] + [False], dtype=bool)
-                u_val = np.array([u.strip() if isinstance(u, str) else "" for u in uniq] + [""], dtype=object)
-            u_str[-1] = False
-            missing = codes < 0
-            is_str = u_str[codes]
-            s = u_val[codes]
-            nonstr = ~is_str & ~missing
-            add(name, nonstr, [f"{name}: {x!r} must be text" for x in col.to_numpy(dtype=object)[nonstr]])
-            empty = ((s == "") & is_str) | missing
-            if spec.required or spec.min_length:
-                add(name, empty, [f"{name}: missing (required)"] * int(empty.sum()))
-            if spec.one_of is not None:
-                u_ok = np.array([v in spec.one_of or (v == "" and spec.required) for v in u_val], dtype=bool)
-                fail = is_str & ~u_ok[codes]
-                add(name, fail, [f"{name}: {x!r} must be one of {_list_values(spec.one_of)}" for x in s[fail]])
-            values[name] = s
+            values[name] = _check_bool(spec, df[name], add)
+        else:
+            values[name] = _check_text(spec, df[name], add)
     return errors, bad, values
+
+
+def _missing_column(spec: FieldSpec, n: int, add: _Add) -> np.ndarray:
+    """A field with no column: an error when required; its default on every row."""
+    name = spec.name
+    if spec.required:
+        add(name, np.ones(n, bool), [f"{name}: missing (required)"] * n)
+    if spec.kind in ("float", "int"):
+        default = np.nan if spec.default is None else float(spec.default)
+        return np.full(n, default)
+    if spec.kind == "bool":
+        return np.full(n, bool(spec.default))
+    return np.full(n, spec.default if spec.default is not None else "", dtype=object)
+
+
+def _check_numeric(spec: FieldSpec, col: pd.Series, add: _Add) -> np.ndarray:
+    """A float/int column: numbers, required or defaulted, finite, whole (int), bounds, allowed values."""
+    name = spec.name
+    raw_missing = col.isna().to_numpy()
+    if col.dtype.kind in "fiu":
+        v = col.to_numpy(dtype=float)
+    else:
+        v = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
+        notnum = np.isnan(v) & ~raw_missing
+        if notnum.any():
+            rows = np.flatnonzero(notnum)
+            add(name, notnum, [f"{name}: {col.iloc[r]!r} is not a number" for r in rows])
+    missing = raw_missing
+    if spec.required:
+        add(name, missing, [f"{name}: missing (required)"] * int(missing.sum()))
+    elif spec.default is not None:
+        v = np.where(missing, float(spec.default), v)
+    present = ~np.isnan(v)
+    inf = present & ~np.isfinite(v)
+    add(name, inf, [f"{name}: {_fmt(x)} must be a finite number" for x in v[inf]])
+    fin = present & ~inf
+    unit = f" {spec.show_unit}" if spec.show_unit and spec.show_unit != "count" else ""
+    if spec.kind == "int":
+        frac = fin & (np.floor(np.where(fin, v, 0)) != np.where(fin, v, 0))
+        add(name, frac, [f"{name}: {s} must be a whole number" for s in _fmt_values(v[frac], 1.0)])
+        fin &= ~frac
+    with np.errstate(invalid="ignore"):
+        for op, bound in spec.bounds:
+            fn, words = _OPS[op]
+            fail = fin & ~fn(v, bound)
+            if fail.any():
+                b = _fmt(bound * spec.show_scale) + (unit if bound != 0 else "")
+                shown = _fmt_values(v[fail], spec.show_scale)
+                add(name, fail, [f"{name}: {s}{unit} {words} {b}" for s in shown])
+                fin &= ~fail
+    if spec.one_of is not None:
+        fail = fin & ~np.isin(v, np.asarray(spec.one_of, dtype=float))
+        add(name, fail, [f"{name}: {s}{unit} must be one of {_list_values(spec.one_of)}"
+                         for s in _fmt_values(v[fail], 1.0)])
+    return v
+
+
+def _check_bool(spec: FieldSpec, col: pd.Series, add: _Add) -> np.ndarray:
+    """A bool column: True or False; a blank is the default."""
+    name = spec.name
+    if col.dtype == bool:
+        return col.to_numpy()
+    missing = col.isna().to_numpy()
+    okb = col.map(lambda x: isinstance(x, (bool, np.bool_))).to_numpy(dtype=bool)
+    fail = ~okb & ~missing
+    add(name, fail, [f"{name}: {col.iloc[r]!r} must be True or False" for r in np.flatnonzero(fail)])
+    return np.where(okb, col.to_numpy(dtype=object), bool(spec.default)).astype(bool)
+
+
+def _check_text(spec: FieldSpec, col: pd.Series, add: _Add) -> np.ndarray:
+    """A str column, worked on the distinct values only: text, required, allowed values."""
+    name = spec.name
+    codes, uniq = pd.factorize(col.astype(object), use_na_sentinel=True)
+    if pd.api.types.infer_dtype(uniq, skipna=False) in ("string", "empty"):
+        u_str = np.ones(len(uniq) + 1, dtype=bool)
+        u_val = np.array([u.strip() for u in uniq] + [""], dtype=object)
+    else:
+        u_str = np.array([isinstance(u, str) for u in uniq] + [False], dtype=bool)
+        u_val = np.array([u.strip() if isinstance(u, str) else "" for u in uniq] + [""], dtype=object)
+    u_str[-1] = False
+    missing = codes < 0
+    is_str = u_str[codes]
+    s = u_val[codes]
+    nonstr = ~is_str & ~missing
+    add(name, nonstr, [f"{name}: {x!r} must be text" for x in col.to_numpy(dtype=object)[nonstr]])
+    empty = ((s == "") & is_str) | missing
+    if spec.required or spec.min_length:
+        add(name, empty, [f"{name}: missing (required)"] * int(empty.sum()))
+    if spec.one_of is not None:
+        u_ok = np.array([v in spec.one_of or (v == "" and spec.required) for v in u_val], dtype=bool)
+        fail = is_str & ~u_ok[codes]
+        add(name, fail, [f"{name}: {x!r} must be one of {_list_values(spec.one_of)}" for x in s[fail]])
+    return s
 
 
 def validate_frame(df: pd.DataFrame) -> tuple[pd.DataFrame, dict[Any, list[str]]]:

@@ -169,6 +169,7 @@ def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
                    if _is_heading_row(texts[r], is_heading)), None)
         layout = Layout(cells=cols, headings=[], ruled=True)
         notes: list[str] = []
+        headings: list[str] | None
         if hr is None:
             if prev is None or not prev.matches(layout):
                 continue
@@ -176,73 +177,93 @@ def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
             layout.headings = list(prev.headings)
             first = 0
         else:
-            last = hr
-            while (last + 1 < len(data) and last - hr < 2
-                   and any(texts[last + 1])
-                   and not any(looks_like_value(x) for x in texts[last + 1] if x)
-                   and not is_stop_text(next(x for x in texts[last + 1] if x))):
-                last += 1
-            headings = []
-            for c in range(ncols):
-                parts = []
-                for r in range(hr, last + 1):
-                    if data[r][c] is None:
-                        if r == hr or _spanned_from_above(t, data, r, c) is None:
-                            span = _spanned_from_left(t, data, r, c, cols)
-                            if span:
-                                parts.append(normalise_cell(span))
-                        continue
-                    if texts[r][c]:
-                        parts.append(texts[r][c])
-                headings.append(" ".join(parts))
+            headings, first = _grid_headings(t, data, texts, hr, cols)
             layout.headings = headings
-            first = last + 1
-        rows: list[list[str]] = []
-        numbers: list[int] = []
-        taken: set[int] = set()          # grid rows read as part of the row above them
-        grid_rows = t.rows
-        for r in range(first, len(data)):
-            if r in taken:
-                continue
-            raw = data[r]
-            cells = texts[r]
-            divided = _divided_row(t, grid_rows, data, r, cols)
-            if divided is not None:
-                raw, subs = divided
-                taken.update(subs)
-                cells = [normalise_cell(x) for x in raw]
-            filled = [x for x in cells if x]
-            if not filled:
-                continue                                    # spacer row
-            if is_stop_text(filled[0]):
-                break                                       # notes inside the grid
-            if headings is not None and hr is not None and _is_heading_row(cells, is_heading) and \
-                    [h.lower() for h in cells] == [h.lower() for h in texts[hr]]:
-                continue                                    # heading repeated inside the grid
-            missing = [c for c in range(ncols) if raw[c] is None]
-            if missing:
-                row_text = list(cells)
-                horizontal = []
-                for c in missing:
-                    above = _spanned_from_above(t, data, r, c)
-                    if above is not None:
-                        row_text[c] = normalise_cell(above)   # a cell merged down over rows
-                    else:
-                        horizontal.append(c)
-                if horizontal and len(filled) == 1 and len(horizontal) >= ncols - 2:
-                    notes.append(f"page {page_no}: '{filled[0]}' runs across the table; "
-                                 f"not read as a cap")
-                    continue
-                cells = row_text
-                if horizontal:
-                    names = (layout.headings or [""] * ncols)
-                    notes.append(
-                        f"page {page_no}, row {len(rows) + 1}: merged cells under "
-                        + ", ".join(f"'{names[c]}'" for c in horizontal)
-                        + " (read as empty)")
-            rows.append(cells)
-            numbers.append(len(rows))
+        rows, numbers = _grid_rows(t, data, texts, first, hr if headings is not None else None, layout,
+                                   page_no, is_heading, notes)
         out.append(PageTable(page=page_no, headings=headings, layout=layout, rows=rows,
                              row_numbers=numbers, method="lines", notes=notes))
         prev = layout
     return out
+
+
+def _grid_headings(t, data: list[list], texts: list[list[str]], hr: int, cols: list
+                   ) -> tuple[list[str], int]:
+    """The headings of a grid whose heading row is ``hr`` (up to two more rows of heading text below
+    it; cells merged across or down), and the index of its first data row."""
+    last = hr
+    while (last + 1 < len(data) and last - hr < 2
+           and any(texts[last + 1])
+           and not any(looks_like_value(x) for x in texts[last + 1] if x)
+           and not is_stop_text(next(x for x in texts[last + 1] if x))):
+        last += 1
+    headings = []
+    for c in range(len(cols)):
+        parts = []
+        for r in range(hr, last + 1):
+            if data[r][c] is None:
+                if r == hr or _spanned_from_above(t, data, r, c) is None:
+                    span = _spanned_from_left(t, data, r, c, cols)
+                    if span:
+                        parts.append(normalise_cell(span))
+                continue
+            if texts[r][c]:
+                parts.append(texts[r][c])
+        headings.append(" ".join(parts))
+    return headings, last + 1
+
+
+def _grid_rows(t, data: list[list], texts: list[list[str]], first: int, hr: int | None, layout: Layout,
+               page_no: int, is_heading: Callable[[str], bool], notes: list[str]
+               ) -> tuple[list[list[str]], list[int]]:
+    """The data rows of a grid from ``first``: spacer rows, repeated headings and rows running across
+    the table are left out; cells merged down are read in every row, cells merged across as empty.
+    ``hr``: the heading row when the grid has one."""
+    cols = layout.cells
+    ncols = len(cols)
+    rows: list[list[str]] = []
+    numbers: list[int] = []
+    taken: set[int] = set()          # grid rows read as part of the row above them
+    grid_rows = t.rows
+    for r in range(first, len(data)):
+        if r in taken:
+            continue
+        raw = data[r]
+        cells = texts[r]
+        divided = _divided_row(t, grid_rows, data, r, cols)
+        if divided is not None:
+            raw, subs = divided
+            taken.update(subs)
+            cells = [normalise_cell(x) for x in raw]
+        filled = [x for x in cells if x]
+        if not filled:
+            continue                                    # spacer row
+        if is_stop_text(filled[0]):
+            break                                       # notes inside the grid
+        if hr is not None and _is_heading_row(cells, is_heading) and \
+                [h.lower() for h in cells] == [h.lower() for h in texts[hr]]:
+            continue                                    # heading repeated inside the grid
+        missing = [c for c in range(ncols) if raw[c] is None]
+        if missing:
+            row_text = list(cells)
+            horizontal = []
+            for c in missing:
+                above = _spanned_from_above(t, data, r, c)
+                if above is not None:
+                    row_text[c] = normalise_cell(above)   # a cell merged down over rows
+                else:
+                    horizontal.append(c)
+            if horizontal and len(filled) == 1 and len(horizontal) >= ncols - 2:
+                notes.append(f"page {page_no}: '{filled[0]}' runs across the table; "
+                             f"not read as a cap")
+                continue
+            cells = row_text
+            if horizontal:
+                names = (layout.headings or [""] * ncols)
+                notes.append(
+                    f"page {page_no}, row {len(rows) + 1}: merged cells under "
+                    + ", ".join(f"'{names[c]}'" for c in horizontal)
+                    + " (read as empty)")
+        rows.append(cells)
+        numbers.append(len(rows))
+    return rows, numbers

@@ -447,74 +447,91 @@ def _edges(body: list[Line], geo: _Geometry, vrule_xs: list[float]):
         merged: dict[int, tuple[int, int]] = {}
         merge_e = None
         for e, side in ((cells[j + 1].x0, "left"), (cells[j].x1, "right")):
-            cand: dict[int, tuple[int, int]] = {}
-            for li, ln in enumerate(body):
-                for wi, w in enumerate(ln.words):
-                    if not (w.x0 < e - 0.5 and w.x1 > e + 0.5):
-                        continue
-                    gi = _nearest_boundary(w, e)
-                    if gi is None and side == "left":
-                        gi = _clip_boundary(w, e)
-                    if gi is None:
-                        continue
-                    if side == "left":
-                        prev_edge = -math.inf
-                        if j > 0:
-                            pe = line_edges[li][j - 1]
-                            prev_edge = edges[j - 1] if pe is None else pe
-                        alone = not any(o is not w and o.x1 <= w.x0 + 0.1 and o.x0 >= prev_edge
-                                        for o in ln.words)
-                    else:
-                        lim = cells[j + 2].x0 if j + 2 < len(cells) else math.inf
-                        alone = not any(o is not w and o.x0 >= w.x1 - 0.1 and o.x1 <= lim
-                                        for o in ln.words)
-                    if alone:
-                        cand[li] = (wi, gi)
-            if not cand:
-                continue
-            # evidence from the other rows that this column's text is aligned on the edge
-            others = []
-            for li, ln in enumerate(body):
-                if li in cand:
-                    continue
-                for w in ln.words:
-                    if side == "left" and w.x1 > e and w.x0 < cells[j + 1].x1 and w.x0 > lo - 0.5:
-                        others.append(abs(w.x0 - e) <= 1.0)
-                    elif side == "right" and w.x0 < e and w.x1 > cells[j].x0 and w.x1 < hi + 0.5:
-                        others.append(abs(w.x1 - e) <= 1.0)
-            if others:
-                ok = sum(others) >= 0.5 * len(others)
-            else:       # no other row to learn from: two rows agreeing, or one split exactly there
-                ok = len(cand) >= 2 or all(
-                    abs(_cut_at(body[li].words[wi], gi) - e) <= 0.35 for li, (wi, gi) in cand.items())
-            if ok:
+            cand = _touching_words(body, cells, j, e, side, edges, line_edges)
+            if cand and _aligned_elsewhere(body, cells, j, e, side, lo, hi, cand):
                 merged, merge_e = cand, e
                 break
-        cover = []
-        for li, ln in enumerate(body):
-            m = merged.get(li)
-            for wi, w in enumerate(ln.words):
-                if m is not None and m[0] == wi:
-                    continue
-                if w.x1 <= lo or w.x0 >= hi:
-                    if not (hi - lo < 1e-6 and w.x0 < lo < w.x1):
-                        continue
-                cover.append((w.x0, w.x1))
-        free = _free_intervals(lo, hi, cover)
-        if free:
-            if merge_e is not None:
-                pick = min(free, key=lambda ab: 0.0 if ab[0] <= merge_e <= ab[1]
-                           else min(abs(ab[0] - merge_e), abs(ab[1] - merge_e)))
-            else:
-                pick = free[-1]
-            edges[j] = (pick[0] + pick[1]) / 2.0
-        else:
-            edges[j] = mid
+        edges[j] = _default_edge(body, lo, hi, merged, merge_e)
         for li, (wi, gi) in merged.items():
             w = body[li].words[wi]
             line_edges[li][j] = _cut_at(w, gi)
             splits.setdefault((li, wi), []).append((j, gi, _clipped(w, gi)))
     return edges, line_edges, splits
+
+
+def _touching_words(body: list[Line], cells: list, j: int, e: float, side: str, edges: list[float],
+                    line_edges: list[list[float | None]]) -> dict[int, tuple[int, int]]:
+    """Per line, the (word, glyph) where a word running over edge ``e`` of boundary ``j`` can be split:
+    alone in its column on ``side`` ('left': the column after the edge starts; 'right': the one before
+    it ends)."""
+    cand: dict[int, tuple[int, int]] = {}
+    for li, ln in enumerate(body):
+        for wi, w in enumerate(ln.words):
+            if not (w.x0 < e - 0.5 and w.x1 > e + 0.5):
+                continue
+            gi = _nearest_boundary(w, e)
+            if gi is None and side == "left":
+                gi = _clip_boundary(w, e)
+            if gi is None:
+                continue
+            if side == "left":
+                prev_edge = -math.inf
+                if j > 0:
+                    pe = line_edges[li][j - 1]
+                    prev_edge = edges[j - 1] if pe is None else pe
+                alone = not any(o is not w and o.x1 <= w.x0 + 0.1 and o.x0 >= prev_edge
+                                for o in ln.words)
+            else:
+                lim = cells[j + 2].x0 if j + 2 < len(cells) else math.inf
+                alone = not any(o is not w and o.x0 >= w.x1 - 0.1 and o.x1 <= lim
+                                for o in ln.words)
+            if alone:
+                cand[li] = (wi, gi)
+    return cand
+
+
+def _aligned_elsewhere(body: list[Line], cells: list, j: int, e: float, side: str, lo: float, hi: float,
+                       cand: dict[int, tuple[int, int]]) -> bool:
+    """Evidence from the other rows that this column's text is aligned on the edge; with no other
+    row to learn from, two rows agreeing, or one split exactly there."""
+    others = []
+    for li, ln in enumerate(body):
+        if li in cand:
+            continue
+        for w in ln.words:
+            if side == "left" and w.x1 > e and w.x0 < cells[j + 1].x1 and w.x0 > lo - 0.5:
+                others.append(abs(w.x0 - e) <= 1.0)
+            elif side == "right" and w.x0 < e and w.x1 > cells[j].x0 and w.x1 < hi + 0.5:
+                others.append(abs(w.x1 - e) <= 1.0)
+    if others:
+        return sum(others) >= 0.5 * len(others)
+    return len(cand) >= 2 or all(
+        abs(_cut_at(body[li].words[wi], gi) - e) <= 0.35 for li, (wi, gi) in cand.items())
+
+
+def _default_edge(body: list[Line], lo: float, hi: float, merged: dict[int, tuple[int, int]],
+                  merge_e: float | None) -> float:
+    """The default edge in the gap (lo, hi): the middle of a free interval (the one at the split
+    edge when words are split, else the last), or the middle of the gap when none is free."""
+    cover = []
+    for li, ln in enumerate(body):
+        m = merged.get(li)
+        for wi, w in enumerate(ln.words):
+            if m is not None and m[0] == wi:
+                continue
+            if w.x1 <= lo or w.x0 >= hi:
+                if not (hi - lo < 1e-6 and w.x0 < lo < w.x1):
+                    continue
+            cover.append((w.x0, w.x1))
+    free = _free_intervals(lo, hi, cover)
+    if free:
+        if merge_e is not None:
+            pick = min(free, key=lambda ab: 0.0 if ab[0] <= merge_e <= ab[1]
+                       else min(abs(ab[0] - merge_e), abs(ab[1] - merge_e)))
+        else:
+            pick = free[-1]
+        return (pick[0] + pick[1]) / 2.0
+    return (lo + hi) / 2.0
 
 
 # --------------------------------------------------------------------------------------------

@@ -259,33 +259,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
         use = [(a, b) for v in (combos[0] if combos else ()) for a, b in v.use]
         out = _governing(rule, _Overlay(env, use) if use else env, n)
     else:
-        outs = [_governing(rule, _Overlay(env, [(a, b) for v in c for a, b in v.use]), n) for c in combos]
-        allowed = np.ones((len(combos), n), bool)
-        stated_any = np.zeros(n, bool)
-        if methods is not None:
-            stated = stated_methods(methods, rule)
-            for fam, names in stated.items():
-                has = names != ""
-                stated_any |= has
-                fi = rule.families.index(fam)
-                for ci, c in enumerate(combos):
-                    allowed[ci] &= ~has | (names == c[fi].name)
-        first_allowed = np.argmax(allowed, axis=0)
-        pick = np.stack([o.value for o in outs])  # shape (combos, n)
-        cols = np.arange(n)
-        sel = lambda attr: np.stack([getattr(o, attr) for o in outs])[first_allowed, cols]  # noqa: E731
-        out = _Outcome(outs[0].applies, sel("g"), pick[first_allowed, cols], sel("limit"), sel("util"),
-                       sel("fail"), sel("missing"), outs[0].any_use)
-        fails = np.stack([o.fail for o in outs]) & allowed
-        evaluated = np.stack([~o.missing for o in outs]) & allowed
-        n_fail = fails.sum(axis=0)
-        n_eval = evaluated.sum(axis=0)
-        grading = (combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, first_allowed)
-        # some but not all accepted methods fail: a query, not a verdict
-        mixed = (n_fail > 0) & (n_fail < n_eval)
-        all_fail = (n_fail > 0) & (n_fail == n_eval)
-        out.fail = all_fail | (out.fail & ~mixed & (n_fail > 0))
-        out.mixed = mixed
+        out, grading = _graded(rule, env, n, combos, methods)
     g, gv, gl, gu = out.g, out.value, out.limit, out.util
     g_fail, g_missing, applies, any_use = out.fail, out.missing, out.applies, out.any_use
 
@@ -315,7 +289,66 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
     action = np.full(n, "", dtype=object)
     if not render:
         return RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, None, code)
-    # each cap's message uses the quantities of the method its value and limit come from
+    _render_groups(rule, env, n, combos, grading, out_v, out_l, gu,
+                   (g, g_fail, g_missing, not_app, sev), render, message, action)
+    message[not_app] = f"Not applicable: {rule.not_applicable}."
+    _missing_messages(rule, env, np.flatnonzero(g_missing & ~not_app), message, action)
+    noted = np.flatnonzero(notes != "")
+    if noted.size:
+        _put(message, noted, [f"{m} {t}".strip() for m, t in zip(message[noted].tolist(), notes[noted].tolist())])
+    variants = None
+    outcome = None
+    if grading is not None:
+        variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
+        outcome = _variant_outcome(rule, grading, variants, scale)
+    res = RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, variants, code,
+                     outcome=outcome)
+    if outcome is not None and rule.cases == "sls":
+        # a serviceability result without figures (not applicable, or its inputs missing) is not split
+        outcome.shown &= ~(np.isnan(res.value) & np.isnan(res.limit))
+    return res
+
+
+def _graded(rule: Rule, env: dict, n: int, combos: list, methods) -> tuple[_Outcome, tuple]:
+    """A rule with several accepted method combinations: each combination's outcome, the one reported
+    per cap (the first the schedule's stated method allows), and the grading kept for the notes.
+    Some but not all accepted methods failing is a query, not a verdict."""
+    outs = [_governing(rule, _Overlay(env, [(a, b) for v in c for a, b in v.use]), n) for c in combos]
+    allowed = np.ones((len(combos), n), bool)
+    stated_any = np.zeros(n, bool)
+    if methods is not None:
+        stated = stated_methods(methods, rule)
+        for fam, names in stated.items():
+            has = names != ""
+            stated_any |= has
+            fi = rule.families.index(fam)
+            for ci, c in enumerate(combos):
+                allowed[ci] &= ~has | (names == c[fi].name)
+    first_allowed = np.argmax(allowed, axis=0)
+    pick = np.stack([o.value for o in outs])  # shape (combos, n)
+    cols = np.arange(n)
+    sel = lambda attr: np.stack([getattr(o, attr) for o in outs])[first_allowed, cols]  # noqa: E731
+    out = _Outcome(outs[0].applies, sel("g"), pick[first_allowed, cols], sel("limit"), sel("util"),
+                   sel("fail"), sel("missing"), outs[0].any_use)
+    fails = np.stack([o.fail for o in outs]) & allowed
+    evaluated = np.stack([~o.missing for o in outs]) & allowed
+    n_fail = fails.sum(axis=0)
+    n_eval = evaluated.sum(axis=0)
+    grading = (combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, first_allowed)
+    # some but not all accepted methods fail: a query, not a verdict
+    mixed = (n_fail > 0) & (n_fail < n_eval)
+    all_fail = (n_fail > 0) & (n_fail == n_eval)
+    out.fail = all_fail | (out.fail & ~mixed & (n_fail > 0))
+    out.mixed = mixed
+    return out, grading
+
+
+def _render_groups(rule: Rule, env: dict, n: int, combos: list, grading: tuple | None, out_v: np.ndarray,
+                   out_l: np.ndarray, gu: np.ndarray, state: tuple, render: bool | str,
+                   message: np.ndarray, action: np.ndarray) -> None:
+    """Render the messages per group of caps whose value and limit come from the same method: each
+    cap's message uses the quantities of that method. ``state``: (g, fail, missing, not_app, sev)."""
+    g, g_fail, g_missing, not_app, sev = state
     if grading is not None:
         reported = grading[-1]
         groups = [(ci, reported == ci) for ci in np.unique(reported).tolist()]
@@ -332,8 +365,11 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
         menv["utilisation"] = gu
         menv["unit"] = rule.unit
         _render_group(rule, menv, in_group, g, g_fail, g_missing, not_app, sev, render, message, action)
-    message[not_app] = f"Not applicable: {rule.not_applicable}."
-    miss_rows = np.flatnonzero(g_missing & ~not_app)
+
+
+def _missing_messages(rule: Rule, env: dict, miss_rows: np.ndarray, message: np.ndarray,
+                      action: np.ndarray) -> None:
+    """The rows whose inputs are missing: which inputs, in plain words, and what to give."""
     if miss_rows.size:
         inputs = sorted(rule.names | {n_ for c in rule.checks if c.applies for n_ in c.applies.names})
         arrays = {nm: np.asarray(env[nm]) for nm in inputs if isinstance(env.get(nm), np.ndarray)}
@@ -347,20 +383,6 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
             verb = "are" if plural else "is"
             message[idx] = f"Cannot be verified: {what} {verb} not given (or cannot be worked out from the schedule)."
             action[idx] = f"Give {what} so that the check can be made."
-    noted = np.flatnonzero(notes != "")
-    if noted.size:
-        _put(message, noted, [f"{m} {t}".strip() for m, t in zip(message[noted].tolist(), notes[noted].tolist())])
-    variants = None
-    outcome = None
-    if grading is not None:
-        variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
-        outcome = _variant_outcome(rule, grading, variants, scale)
-    res = RuleResult(rule, sev, *_figures(rule, out_v, out_l, gu), message, action, variants, code,
-                     outcome=outcome)
-    if outcome is not None and rule.cases == "sls":
-        # a serviceability result without figures (not applicable, or its inputs missing) is not split
-        outcome.shown &= ~(np.isnan(res.value) & np.isnan(res.limit))
-    return res
 
 
 def _variant_outcome(rule: Rule, grading: tuple, variants: dict, scale: float) -> VariantOutcome:
