@@ -217,14 +217,44 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     out = [f'<section class="cap" id="{anchor}" data-cap="{escape(mark, quote=True)}">']
     out.append(f"<h2>Cap {escape(mark)} {_sev(worst) if worst else ''}</h2>")
     out.append('<div class="cap-body">')
-    out.append('<figure class="sketch">')
+    out.extend(_cap_sketch(review, mark, info, rows))
+    out.extend(_cap_facts(info))
+    out.append("<h3>Results</h3>")
+    out.extend(_cap_results(mark, rows, by_key))
+    from checker.remedy import remedy_line
+
+    if remedy_line(review, mark):
+        out.append(f'<p class="remedy"><strong>Would pass with:</strong> {escape(remedy_line(review, mark))}</p>')
+    if changes:
+        from checker.revision import change_text
+
+        out.append("<h3>Inputs changed since the previous revision</h3><ul class=\"changes\">")
+        for ch in changes:
+            out.append(f"<li>{escape(change_text(ch))}</li>")
+        out.append("</ul>")
+    out.extend(_cap_carried(carried))
+    out.append("<h3>Working</h3>")
+    out.extend(_cap_working(review, mark, rows))
+    caution = SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report.")
+    out.append(f'<p class="caution small">{escape(caution)}</p>')
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _cap_sketch(review: "Review", mark: str, info: dict[str, Any], rows: list[dict[str, Any]]) -> list[str]:
+    """The plan sketch of one cap with its caption."""
     xy = review.pile_xy.get(mark) if review.pile_xy else None
-    out.append(plan_svg(geometry_from_row(mark, info, xy), rows))
-    out.append(
+    return [
+        '<figure class="sketch">',
+        plan_svg(geometry_from_row(mark, info, xy), rows),
         "<figcaption>Plan, drawn to scale from the submitted geometry; dimensions in mm; x along L, "
-        f"y along W. {_highlight_caption(rows)}</figcaption>"
-    )
-    out.append("</figure>")
+        f"y along W. {_highlight_caption(rows)}</figcaption>",
+        "</figure>",
+    ]
+
+
+def _cap_facts(info: dict[str, Any]) -> list[str]:
+    """The table of the cap's submitted figures beside the sketch; closes the cap body."""
     facts = [
         ("Piles", _fmt(info.get("piles"))
          + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
@@ -240,91 +270,89 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     src = describe_source(source_of(info)) if info else ""
     if src:
         facts.append(("Schedule", escape(src)))
-    out.append('<div class="facts"><table>')
+    out = ['<div class="facts"><table>']
     for k, v in facts:
         out.append(f"<tr><td>{escape(k)}</td><td>{v}</td></tr>")
     out.append("</table></div></div>")
+    return out
 
-    out.append("<h3>Results</h3>")
-    if rows:
-        out.append('<table class="findings"><thead><tr><th>No.</th><th>Check</th><th>Severity</th>'
-                   "<th>Found</th><th>Clause</th><th>Action required</th><th>Status</th></tr></thead><tbody>")
-        for r in rows:
-            sev = str(r["severity"])
-            key = comment_key(mark, str(r["rule"]))
-            cm = by_key.get(key)
-            cls = "passed" if sev == "ok" else (cm.status if cm else "")
-            found = found_text(str(r.get("message") or ""), r.get("value"), r.get("limit"),
-                               str(r.get("unit") or ""), r.get("utilisation"))
-            action = str(r.get("action") or "")
-            action = "" if action == "nan" else action
-            status = escape(cm.status) if cm else ""
-            if cm and cm.note:
-                status += f'<br><small>{escape(cm.note)}</small>'
-            if cm and cm.response:
-                status += f'<br><small class="response"><b>Designer:</b> {escape(cm.response)}</small>'
-            if cm and cm.reply:
-                status += f'<br><small class="reply"><b>Checker:</b> {escape(cm.reply)}</small>'
-            out.append(
-                f'<tr class="{cls}" data-rule="{escape(str(r["rule"]), quote=True)}">'
-                f'<td class="num">{cm.no if cm else ""}</td>'
-                f"<td>{escape(check_text(str(r['rule']), str(r.get('title') or '')))}</td>"
-                f'<td class="sev sev-{escape(sev)}">{escape(sev)}</td>'
-                f"<td>{escape(found)}</td><td>{escape(str(r.get('clause') or ''))}</td>"
-                f"<td>{escape(action)}</td><td>{status}</td></tr>"
-            )
-        out.append("</tbody></table>")
-    else:
-        out.append("<p>No results for this cap.</p>")
-    from checker.remedy import remedy_line
 
-    if remedy_line(review, mark):
-        out.append(f'<p class="remedy"><strong>Would pass with:</strong> {escape(remedy_line(review, mark))}</p>')
-    if changes:
-        from checker.revision import change_text
+def _cap_results(mark: str, rows: list[dict[str, Any]], by_key: dict[str, Comment]) -> list[str]:
+    """The table of one cap's results, each with its comment's number and status."""
+    if not rows:
+        return ["<p>No results for this cap.</p>"]
+    out = ['<table class="findings"><thead><tr><th>No.</th><th>Check</th><th>Severity</th>'
+           "<th>Found</th><th>Clause</th><th>Action required</th><th>Status</th></tr></thead><tbody>"]
+    for r in rows:
+        out.append(_result_row(r, by_key.get(comment_key(mark, str(r["rule"])))))
+    out.append("</tbody></table>")
+    return out
 
-        out.append("<h3>Inputs changed since the previous revision</h3><ul class=\"changes\">")
-        for ch in changes:
-            out.append(f"<li>{escape(change_text(ch))}</li>")
-        out.append("</ul>")
-    # comments carried from a previous revision whose finding is no longer reported
-    if carried:
-        out.append("<h3>Comments carried from the previous revision</h3>")
-        out.append('<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
-                   "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>")
-        for c in sorted(carried, key=lambda c: c.no):
-            out.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.check)}</td>'
-                       f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td>"
-                       f"<td>{escape(c.response)}</td><td>{escape(c.reply)}</td></tr>")
-        out.append("</tbody></table>")
 
-    out.append("<h3>Working</h3>")
+def _result_row(r: dict[str, Any], cm: Comment | None) -> str:
+    """One row of the results table."""
+    sev = str(r["severity"])
+    cls = "passed" if sev == "ok" else (cm.status if cm else "")
+    found = found_text(str(r.get("message") or ""), r.get("value"), r.get("limit"),
+                       str(r.get("unit") or ""), r.get("utilisation"))
+    action = str(r.get("action") or "")
+    action = "" if action == "nan" else action
+    status = escape(cm.status) if cm else ""
+    if cm and cm.note:
+        status += f'<br><small>{escape(cm.note)}</small>'
+    if cm and cm.response:
+        status += f'<br><small class="response"><b>Designer:</b> {escape(cm.response)}</small>'
+    if cm and cm.reply:
+        status += f'<br><small class="reply"><b>Checker:</b> {escape(cm.reply)}</small>'
+    return (
+        f'<tr class="{cls}" data-rule="{escape(str(r["rule"]), quote=True)}">'
+        f'<td class="num">{cm.no if cm else ""}</td>'
+        f"<td>{escape(check_text(str(r['rule']), str(r.get('title') or '')))}</td>"
+        f'<td class="sev sev-{escape(sev)}">{escape(sev)}</td>'
+        f"<td>{escape(found)}</td><td>{escape(str(r.get('clause') or ''))}</td>"
+        f"<td>{escape(action)}</td><td>{status}</td></tr>"
+    )
+
+
+def _cap_carried(carried: list[Comment]) -> list[str]:
+    """Comments carried from a previous revision whose finding is no longer reported."""
+    if not carried:
+        return []
+    out = ["<h3>Comments carried from the previous revision</h3>",
+           '<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
+           "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>"]
+    for c in sorted(carried, key=lambda c: c.no):
+        out.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.check)}</td>'
+                   f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td>"
+                   f"<td>{escape(c.response)}</td><td>{escape(c.reply)}</td></tr>")
+    out.append("</tbody></table>")
+    return out
+
+
+def _cap_working(review: "Review", mark: str, rows: list[dict[str, Any]]) -> list[str]:
+    """The working of one cap grouped by check; a failure to produce it is shown, not hidden."""
     try:
         lines = list(review.working(mark))
     except Exception as exc:  # the report is still written; the failure is shown, not hidden
-        out.append(f"<p>Working not available for this cap ({escape(type(exc).__name__)}: {escape(str(exc))}).</p>")
-        lines = None
-    if lines is not None:
-        if not lines:
-            out.append("<p>No working lines recorded for this cap.</p>")
-        from checker.report.terminal import not_applicable
+        return [f"<p>Working not available for this cap ({escape(type(exc).__name__)}: {escape(str(exc))}).</p>"]
+    out = []
+    if not lines:
+        out.append("<p>No working lines recorded for this cap.</p>")
+    from checker.report.terminal import not_applicable
 
-        na = {str(r["rule"]) for r in rows if not_applicable(r.get("message"))}
-        groups: dict[str, list[str]] = {}
-        for ln in lines:
-            rule = str(getattr(ln, "rule", "") or "")
-            text = str(getattr(ln, "text", ln))
-            if rule in na and rule in groups and not text.lstrip().startswith("->"):
-                continue   # a check that does not apply: one line giving the reason
-            groups.setdefault(rule, []).append(text)
-        for rule, texts in groups.items():
-            if rule:
-                out.append(f'<div class="work-rule">{escape(rule)}</div>')
-            out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
-    caution = SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report.")
-    out.append(f'<p class="caution small">{escape(caution)}</p>')
-    out.append("</section>")
-    return "\n".join(out)
+    na = {str(r["rule"]) for r in rows if not_applicable(r.get("message"))}
+    groups: dict[str, list[str]] = {}
+    for ln in lines:
+        rule = str(getattr(ln, "rule", "") or "")
+        text = str(getattr(ln, "text", ln))
+        if rule in na and rule in groups and not text.lstrip().startswith("->"):
+            continue   # a check that does not apply: one line giving the reason
+        groups.setdefault(rule, []).append(text)
+    for rule, texts in groups.items():
+        if rule:
+            out.append(f'<div class="work-rule">{escape(rule)}</div>')
+        out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
+    return out
 
 
 def _is_num(v: Any) -> bool:
