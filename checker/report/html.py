@@ -366,8 +366,6 @@ def _is_num(v: Any) -> bool:
 def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                 revision: "RevisionResult | None" = None) -> str:
     f = review.findings
-    counts = count_by_severity(f) if len(f) else {s: 0 for s in SEVERITY_ORDER if s != "ok"}
-    n_ok = int((f["severity"] == "ok").sum()) if len(f) else 0
     worst = worst_by_cap(f.assign(cap=f["cap"].astype(str))).to_dict() if len(f) else {}
     marks = _cap_order(review)
     by_key = {c.key: c for c in comments if c.key}
@@ -383,36 +381,60 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     for c in comments:
         if c.key and c.state != "present":
             carried_by_cap.setdefault(c.cap, []).append(c)
-    rank = SEVERITY_RANK
-    if len(marks) > HTML_MAX_CAP_SECTIONS:
-        order = sorted(range(len(marks)), key=lambda i: (rank.get(worst.get(marks[i], "ok"), 9), i))
-        keep = set(sorted(order[:HTML_MAX_CAP_SECTIONS]))
-        detailed = [m for i, m in enumerate(marks) if i in keep]
-    else:
-        detailed = marks
+    detailed = _detailed_marks(marks, worst)
     anchors = _Anchors()
     title = f"Pile cap check report: {meta.get('submission', '')}"
 
     h = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
          '<meta name="viewport" content="width=device-width, initial-scale=1">',
          f"<title>{escape(title)}</title>", f"<style>{_css()}</style></head><body>"]
-    h.append('<header class="report-head">')
-    h.append("<h1>Pile cap check report</h1>")
-    h.append(f'<p class="caution" role="note"><strong>Caution.</strong> {escape(CAUTION)}<br>'
-             f"{escape(NOT_A_SAFETY_CLAIM)}</p>")
-    h.append('<dl class="meta">')
+    h.extend(_report_head(meta))
+    h.extend(_summary_section(review, comments, revision, len(marks)))
+    h.extend(_caps_table(marks, detailed, anchors, infos, rows_by_cap, worst))
+    for m in detailed:
+        h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
+                              infos.get(m, {}), by_key, carried_by_cap.get(m, []), changes_by_cap.get(m)))
+    h.extend(_untied_comments(comments, set(marks)))
+    h.extend(_rejected_rows(review))
+    h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
+    h.append("</body></html>")
+    return "\n".join(h)
+
+
+def _detailed_marks(marks: list[str], worst: dict[str, str]) -> list[str]:
+    """The caps given a full section: all of them, or the worst HTML_MAX_CAP_SECTIONS in schedule order."""
+    if len(marks) <= HTML_MAX_CAP_SECTIONS:
+        return marks
+    rank = SEVERITY_RANK
+    order = sorted(range(len(marks)), key=lambda i: (rank.get(worst.get(marks[i], "ok"), 9), i))
+    keep = set(sorted(order[:HTML_MAX_CAP_SECTIONS]))
+    return [m for i, m in enumerate(marks) if i in keep]
+
+
+def _report_head(meta: dict[str, Any]) -> list[str]:
+    """The report's header: title, caution and the submission's particulars."""
+    h = ['<header class="report-head">', "<h1>Pile cap check report</h1>",
+         f'<p class="caution" role="note"><strong>Caution.</strong> {escape(CAUTION)}<br>'
+         f"{escape(NOT_A_SAFETY_CLAIM)}</p>", '<dl class="meta">']
     for label, key in (("Project", "project"), ("Submission", "submission"), ("Revision", "revision"),
                        ("Date", "date"), ("Checker", "checker"), ("Profile", "profile"),
                        ("Rule set", "rule_set")):
         h.append(f"<dt>{label}</dt><dd>{escape(str(meta.get(key, '') or '–'))}</dd>")
     h.append("</dl></header>")
+    return h
 
-    h.append('<section class="summary"><h2>Summary</h2><div class="chips">')
+
+def _summary_section(review: "Review", comments: list[Comment], revision: "RevisionResult | None",
+                     n_caps: int) -> list[str]:
+    """The summary: counts by severity and by comment status, the revision cycle, notes and legend."""
+    f = review.findings
+    counts = count_by_severity(f) if len(f) else {s: 0 for s in SEVERITY_ORDER if s != "ok"}
+    n_ok = int((f["severity"] == "ok").sum()) if len(f) else 0
+    h = ['<section class="summary"><h2>Summary</h2><div class="chips">']
     for s in SEVERITY_ORDER:
         n = counts.get(s, 0) if s != "ok" else n_ok
         h.append(f'<div class="chip sev-{s}" data-severity="{s}"><b>{n}</b>{escape(s)}</div>')
     h.append("</div><div class=\"chips\">")
-    n_caps = len(marks)
     for label, n in (("rows read", review.rows_read), ("caps checked", n_caps),
                      ("rows rejected", len(review.rejected or []))):
         h.append(f'<div class="chip plain"><b>{n}</b>{label}</div>')
@@ -421,30 +443,41 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
         h.append(f'<div class="chip plain"><b>{by_status.get(st, 0)}</b>comments {st}</div>')
     h.append("</div>")
     if revision is not None:
-        h.append(f"<p><strong>Revision cycle:</strong> {escape(revision.summary())} "
-                 f"(previous sheet {escape(Path(revision.previous.path).name)}).</p>")
-        from checker.revision import change_text
-
-        if not revision.inputs_recorded:
-            h.append('<p class="note">Inputs of the previous revision not recorded: the changes between '
-                     "revisions cannot be listed.</p>")
-        elif revision.changes:
-            h.append('<h3>Inputs changed since the previous revision</h3><table class="changes"><thead><tr>'
-                     "<th>Cap</th><th>Change</th></tr></thead><tbody>")
-            for ch in revision.changes:
-                h.append(f"<tr><td>{escape(str(ch['cap']))}</td><td>{escape(change_text(ch))}</td></tr>")
-            h.append("</tbody></table>")
+        h.extend(_revision_summary(revision))
     for note in review.notes or []:
         h.append(f"<p class=\"note\">{escape(str(note))}</p>")
     h.append("<h3>Legend</h3><table class=\"legend\"><tbody>")
     for s in SEVERITY_ORDER:
         h.append(f"<tr><td class=\"sev sev-{s}\">{s}</td><td>{escape(Severity(s).meaning)}</td></tr>")
     h.append("</tbody></table></section>")
+    return h
 
-    h.append('<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'
-             "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
-             + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
-             + "</tr></thead><tbody>")
+
+def _revision_summary(revision: "RevisionResult") -> list[str]:
+    """The revision cycle's summary line and the table of inputs changed since the previous revision."""
+    h = [f"<p><strong>Revision cycle:</strong> {escape(revision.summary())} "
+         f"(previous sheet {escape(Path(revision.previous.path).name)}).</p>"]
+    from checker.revision import change_text
+
+    if not revision.inputs_recorded:
+        h.append('<p class="note">Inputs of the previous revision not recorded: the changes between '
+                 "revisions cannot be listed.</p>")
+    elif revision.changes:
+        h.append('<h3>Inputs changed since the previous revision</h3><table class="changes"><thead><tr>'
+                 "<th>Cap</th><th>Change</th></tr></thead><tbody>")
+        for ch in revision.changes:
+            h.append(f"<tr><td>{escape(str(ch['cap']))}</td><td>{escape(change_text(ch))}</td></tr>")
+        h.append("</tbody></table>")
+    return h
+
+
+def _caps_table(marks: list[str], detailed: list[str], anchors: "_Anchors", infos: dict[str, dict[str, Any]],
+                rows_by_cap: dict[str, list[dict[str, Any]]], worst: dict[str, str]) -> list[str]:
+    """The table of every cap, linking to the caps given a full section."""
+    h = ['<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'
+         "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
+         + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
+         + "</tr></thead><tbody>"]
     detailed_set = set(detailed)
     for m in marks:
         a = anchors(m)
@@ -469,43 +502,45 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                  f"{len(marks):,} caps, worst first; every cap is in the table above and every comment "
                  f"is on the comment sheet.</p>")
     h.append("</section>")
+    return h
 
-    for m in detailed:
-        h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
-                              infos.get(m, {}), by_key, carried_by_cap.get(m, []), changes_by_cap.get(m)))
 
-    mark_set = set(marks)
+def _untied_comments(comments: list[Comment], mark_set: set[str]) -> list[str]:
+    """Comments on caps no longer in the schedule and rows added to the sheet by hand."""
     gone = [c for c in comments if c.key and c.cap not in mark_set]
     manual = [c for c in comments if not c.key]
-    if gone or manual:
-        h.append('<section class="carried-only"><h2>Comments not tied to a cap in this submission</h2>'
-                 "<p>Carried from the previous comment sheet: comments on caps no longer in the schedule, "
-                 "and rows added to the sheet by hand.</p>"
-                 '<table><thead><tr><th>No.</th><th>Cap</th><th>Check</th><th>Severity</th><th>Status</th>'
-                 "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>")
-        for c in sorted(gone + manual, key=lambda c: c.no):
-            sev = escape(c.severity)
-            h.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.cap)}</td>'
-                     f"<td>{escape(c.check)}</td><td class=\"sev sev-{sev}\">{sev}</td>"
-                     f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td>"
-                     f"<td>{escape(c.reply)}</td></tr>")
-        h.append("</tbody></table></section>")
+    if not (gone or manual):
+        return []
+    h = ['<section class="carried-only"><h2>Comments not tied to a cap in this submission</h2>'
+         "<p>Carried from the previous comment sheet: comments on caps no longer in the schedule, "
+         "and rows added to the sheet by hand.</p>"
+         '<table><thead><tr><th>No.</th><th>Cap</th><th>Check</th><th>Severity</th><th>Status</th>'
+         "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>"]
+    for c in sorted(gone + manual, key=lambda c: c.no):
+        sev = escape(c.severity)
+        h.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.cap)}</td>'
+                 f"<td>{escape(c.check)}</td><td class=\"sev sev-{sev}\">{sev}</td>"
+                 f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td>"
+                 f"<td>{escape(c.reply)}</td></tr>")
+    h.append("</tbody></table></section>")
+    return h
 
-    if review.rejected:
-        h.append('<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
-                 "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
-                 "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>")
-        for rej in review.rejected:
-            src = rej.source or {}
-            errs = "<br>".join(escape(str(e)) for e in rej.errors)
-            h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
-                     f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
-                     f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
-        h.append("</tbody></table></section>")
 
-    h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
-    h.append("</body></html>")
-    return "\n".join(h)
+def _rejected_rows(review: "Review") -> list[str]:
+    """The rows of the schedule that could not be read."""
+    if not review.rejected:
+        return []
+    h = ['<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
+         "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
+         "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>"]
+    for rej in review.rejected:
+        src = rej.source or {}
+        errs = "<br>".join(escape(str(e)) for e in rej.errors)
+        h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
+                 f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
+                 f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
+    h.append("</tbody></table></section>")
+    return h
 
 
 def write_html(review: "Review", path: str | Path, comments: list[Comment], meta: dict[str, Any],
