@@ -879,18 +879,7 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
         raise ValueError(f"closing policy {policy!r}: use one of {', '.join(CLOSE_POLICIES)}")
     label = next_revision(previous.revision)
     n = _REV_TOKEN          # notes are written with placeholders, then rendered (see relabel)
-    frame = review.findings
-    rows = comment_records(frame)
-    current = {comment_key(str(r["cap"]), str(r["rule"])): r for r in rows}
-    all_results: dict[str, dict[str, Any]] = {}
-    if frame is not None and len(frame):
-        for r in records(frame):
-            all_results[comment_key(str(r["cap"]), str(r["rule"]))] = r
-    caps_now: set[str] = set()
-    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
-        caps_now |= {str(m) for m in review.caps["mark"]}
-    if frame is not None and len(frame):
-        caps_now |= {str(m) for m in frame["cap"]}
+    current, all_results, caps_now = _results_now(review)
 
     warnings = list(previous.warnings)
     counts = {k: 0 for k in COUNT_NAMES}
@@ -910,57 +899,17 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
                         f"before capcheck recorded them); changes between revisions not listed")
     changed_caps = {c["cap"] for c in changes if c["field"] != "cap"}
 
-    def util_of(r: dict[str, Any] | None) -> float | None:
-        return _float_or_none(r.get("utilisation")) if r else None
-
     ordered_prev = sorted(previous.comments.values(), key=lambda p: (p.no or 10**9, p.row))
     for p in ordered_prev:
-        key = p.key
-        cap = p.cap or split_key(key)[0]
-        rule = p.rule or split_key(key)[1]
-        e = CarriedComment(key=key, no=0, status=p.status, response=p.response, outcome="",
-                           note="", state="present", previous=p, reply=p.reply, extras=dict(p.extras))
-        was = now = ""
-        if key in current:
-            f = current[key]
-            sev, util = str(f["severity"]), util_of(f)
-            if p.status == "closed":
-                worse = _is_worse(sev, util, p.basis_severity, p.basis_utilisation)
-                was = f"{p.basis_severity or 'not reported'}{_fmt_u(p.basis_utilisation)}"
-                now = f"{sev}{_fmt_u(util)}"
-            else:
-                worse = _is_worse(sev, util, p.tool_severity, p.tool_utilisation)
-            evidence = "worse" if worse else "reported"
-        elif cap in caps_now and key in all_results:
-            evidence = "met"
-            e.state = "gone"
-        elif cap in caps_now:
-            evidence = "no-result"
-            e.state = "not-rechecked"
-        else:
-            evidence = "cap-removed"
-            e.state = "cap-removed"
-        e.status, e.outcome, note = transition(p.status, evidence, policy)
-        e.note = note.format(n=n, p=_PREV_TOKEN, cap=cap, rule=rule, was=was, now=now)
-        if e.status in ("closed", MET):
-            if evidence == "met":
-                met = all_results[key]
-                e.basis_severity, e.basis_utilisation = str(met["severity"]), util_of(met)
-            else:
-                e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-        elif e.outcome == "not-rechecked":
-            e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-        if p.status == "closed" and e.status == "closed" and cap in changed_caps:
-            e.second_look = True
+        e = _carry_one(p, current, all_results, caps_now, changed_caps, policy)
+        if e.second_look:
             counts["second_look"] += 1
-            e.note = (f"{e.note}; " if e.note else "") + (
-                f"inputs of cap {cap} changed since revision {_PREV_TOKEN} while closed: take a second look")
         if p.no is not None and p.no not in used:
             e.no = p.no
             used.add(p.no)
         else:
             if p.no is not None:
-                warnings.append(f"{previous.path}: comment number {p.no} used twice; key {key} renumbered")
+                warnings.append(f"{previous.path}: comment number {p.no} used twice; key {p.key} renumbered")
             pending_numbers.append(e)
         entries.append(e)
 
@@ -993,3 +942,70 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
         changes=changes,
         inputs_recorded=inputs_recorded,
     )
+
+
+def _results_now(review: "Review") -> tuple[dict[str, dict[str, Any]], dict[str, dict[str, Any]], set[str]]:
+    """This revision's results: (the reported findings by comment key, every result by comment key,
+    the marks of the caps checked)."""
+    frame = review.findings
+    rows = comment_records(frame)
+    current = {comment_key(str(r["cap"]), str(r["rule"])): r for r in rows}
+    all_results: dict[str, dict[str, Any]] = {}
+    if frame is not None and len(frame):
+        for r in records(frame):
+            all_results[comment_key(str(r["cap"]), str(r["rule"]))] = r
+    caps_now: set[str] = set()
+    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
+        caps_now |= {str(m) for m in review.caps["mark"]}
+    if frame is not None and len(frame):
+        caps_now |= {str(m) for m in frame["cap"]}
+    return current, all_results, caps_now
+
+
+def _util_of(r: dict[str, Any] | None) -> float | None:
+    return _float_or_none(r.get("utilisation")) if r else None
+
+
+def _carry_one(p: PreviousComment, current: dict[str, dict[str, Any]], all_results: dict[str, dict[str, Any]],
+               caps_now: set[str], changed_caps: set[str], policy: str) -> CarriedComment:
+    """One previous comment carried to this revision: its new status, note and basis (numbered later)."""
+    key = p.key
+    cap = p.cap or split_key(key)[0]
+    rule = p.rule or split_key(key)[1]
+    e = CarriedComment(key=key, no=0, status=p.status, response=p.response, outcome="",
+                       note="", state="present", previous=p, reply=p.reply, extras=dict(p.extras))
+    was = now = ""
+    if key in current:
+        f = current[key]
+        sev, util = str(f["severity"]), _util_of(f)
+        if p.status == "closed":
+            worse = _is_worse(sev, util, p.basis_severity, p.basis_utilisation)
+            was = f"{p.basis_severity or 'not reported'}{_fmt_u(p.basis_utilisation)}"
+            now = f"{sev}{_fmt_u(util)}"
+        else:
+            worse = _is_worse(sev, util, p.tool_severity, p.tool_utilisation)
+        evidence = "worse" if worse else "reported"
+    elif cap in caps_now and key in all_results:
+        evidence = "met"
+        e.state = "gone"
+    elif cap in caps_now:
+        evidence = "no-result"
+        e.state = "not-rechecked"
+    else:
+        evidence = "cap-removed"
+        e.state = "cap-removed"
+    e.status, e.outcome, note = transition(p.status, evidence, policy)
+    e.note = note.format(n=_REV_TOKEN, p=_PREV_TOKEN, cap=cap, rule=rule, was=was, now=now)
+    if e.status in ("closed", MET):
+        if evidence == "met":
+            met = all_results[key]
+            e.basis_severity, e.basis_utilisation = str(met["severity"]), _util_of(met)
+        else:
+            e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
+    elif e.outcome == "not-rechecked":
+        e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
+    if p.status == "closed" and e.status == "closed" and cap in changed_caps:
+        e.second_look = True
+        e.note = (f"{e.note}; " if e.note else "") + (
+            f"inputs of cap {cap} changed since revision {_PREV_TOKEN} while closed: take a second look")
+    return e
