@@ -99,7 +99,7 @@ def check_schedule(schedule, ruleset, submission: str, *, messages: str = "all",
 
 def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all") -> Review:
     from checker.ruleset.derive import derive
-    from checker.ruleset.evaluate import evaluate, numeric_params, working_lines, working_many
+    from checker.ruleset.evaluate import evaluate, numeric_params, working_lines
 
     caps = schedule.caps.reset_index(drop=True)
     params = dict(ruleset.profile.params)
@@ -113,12 +113,7 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
         findings = evaluate(ruleset, env, caps, render=True if messages == "all" else "issues", outcomes=outcomes)
 
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
-    pile_xy: dict[str, np.ndarray] = {}
-    if len(caps):
-        X, Y, mask = derived.X, derived.Y, derived.mask
-        for i, m in enumerate(marks.tolist()):
-            sel = mask[i]
-            pile_xy[m] = np.column_stack([X[i][sel], Y[i][sel]])
+    pile_xy = _pile_xy(marks, derived) if len(caps) else {}
 
     applied = list(getattr(schedule, "applied", []) or [])
     row_of = {m: i for i, m in reversed(list(enumerate(marks.tolist())))}
@@ -145,23 +140,7 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
                 out.extend(WorkingLine(line.rule, f"  input: {t}") for t in given)
         return out
 
-    def many(wanted: list[str]) -> dict[str, dict[str, list[str]]]:
-        rows = [row_of[m] for m in dict.fromkeys(str(m) for m in wanted) if m in row_of]
-        cols = working_many(ruleset, env, np.array(rows, dtype=np.int64))
-        out = {marks[i]: {rid: [t.strip() for t in per_cap[k]] for rid, per_cap in cols.items()}
-               for k, i in enumerate(rows)}
-        for i in rows:                      # the project-file values under each check's heading
-            given = applied[i] if i < len(applied) else []
-            if given:
-                for lines in out[marks[i]].values():
-                    lines[1:1] = [f"input: {t}" for t in given]
-        f = findings
-        fmarks = f["cap"].astype(str).tolist()
-        for m, r, sev, msg in zip(fmarks, f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
-            cap_lines = out.get(m, {}).get(r)
-            if cap_lines is not None:
-                cap_lines.append(f"  -> {sev}: {msg}".strip())
-        return out
+    many = _many_working(ruleset, env, findings, marks, applied, row_of)
 
     return Review(
         findings=findings,
@@ -184,6 +163,42 @@ def _check_schedule(schedule, ruleset, submission: str, *, messages: str = "all"
         _working=working,
         _working_many=many,
     )
+
+
+def _pile_xy(marks: np.ndarray, derived) -> dict[str, np.ndarray]:
+    """The plan coordinates of each cap's piles, by mark, for the sketches."""
+    X, Y, mask = derived.X, derived.Y, derived.mask
+    pile_xy: dict[str, np.ndarray] = {}
+    for i, m in enumerate(marks.tolist()):
+        sel = mask[i]
+        pile_xy[m] = np.column_stack([X[i][sel], Y[i][sel]])
+    return pile_xy
+
+
+def _many_working(ruleset, env: dict[str, Any], findings: pd.DataFrame, marks: np.ndarray,
+                  applied: list, row_of: dict[str, int]):
+    """Review.working_many for one checked schedule: every check's working of the wanted caps at once."""
+    from checker.ruleset.evaluate import working_many
+
+    def many(wanted: list[str]) -> dict[str, dict[str, list[str]]]:
+        rows = [row_of[m] for m in dict.fromkeys(str(m) for m in wanted) if m in row_of]
+        cols = working_many(ruleset, env, np.array(rows, dtype=np.int64))
+        out = {marks[i]: {rid: [t.strip() for t in per_cap[k]] for rid, per_cap in cols.items()}
+               for k, i in enumerate(rows)}
+        for i in rows:                      # the project-file values under each check's heading
+            given = applied[i] if i < len(applied) else []
+            if given:
+                for lines in out[marks[i]].values():
+                    lines[1:1] = [f"input: {t}" for t in given]
+        f = findings
+        fmarks = f["cap"].astype(str).tolist()
+        for m, r, sev, msg in zip(fmarks, f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
+            cap_lines = out.get(m, {}).get(r)
+            if cap_lines is not None:
+                cap_lines.append(f"  -> {sev}: {msg}".strip())
+        return out
+
+    return many
 
 
 def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params: dict, messages: str) -> Review:

@@ -278,6 +278,34 @@ def search(caps: pd.DataFrame, findings: pd.DataFrame, ruleset, params: dict, *,
     return res
 
 
+def _bar_candidates(cur: dict[str, dict[str, np.ndarray]], cover_g: np.ndarray, G: int, dg: float):
+    """The candidate counts of each layer per group, as (group, count, diameter, sort key) sorted by
+    group: every count from 2 to the most that fit, after the scheduled arrangement (key -1)."""
+    from checker.calcs.detailing import min_clear_spacing
+
+    cands = {}
+    for k in ("x", "y"):
+        c = cur[k]
+        clear = min_clear_spacing(c["phi"], dg=dg)
+        nmax = np.floor((c["width"] - 2 * cover_g - c["phi"]) / (c["phi"] + clear) + 1e-9) + 1
+        nmax = np.where(np.isfinite(nmax), np.clip(nmax, 2, 400), 2).astype(np.int64)
+        cnt = np.where(c["need"], np.where(np.isfinite(c["phi"]), nmax - 1, 0), 1)
+        grp = np.repeat(np.arange(G), cnt)
+        off = np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt)
+        n = np.where(c["need"][grp], 2 + off, c["n0"][grp]).astype(float)
+        ph = c["phi"][grp]
+        # a layer that needs a change also keeps its scheduled arrangement as the first candidate
+        # (the least change: a layer whose own checks it meets stays as scheduled)
+        first = np.flatnonzero(c["need"])
+        grp = np.concatenate([first, grp])
+        n = np.concatenate([c["n0"][first], n])
+        ph = np.concatenate([c["phi0"][first], ph])
+        key = np.concatenate([np.full(first.size, -1.0), n[first.size:]])
+        o = np.argsort(grp, kind="stable")
+        cands[k] = (grp[o], n[o], ph[o], key[o])
+    return cands
+
+
 class _Search:
     def __init__(self, eng: _Engine, caps: pd.DataFrame, fail_idx: np.ndarray, settings: dict):
         self.eng = eng
@@ -421,47 +449,13 @@ class _Search:
         """The layer-by-layer least-count search over base rows ``B`` (caps ``blocal``). ``needs``: (nB, 2)
         whether each layer needs a change (a layer that does not stays as scheduled at j = 0).
         Returns per (base row, j) None, or (base row, j, [(n, phi, changed) for x, y], worst utilisation)."""
-        from checker.calcs.detailing import bar_count_from_centres, min_clear_spacing
-
         nB = len(B)
-        dg = float(self.eng.params.get("dg", 20.0))
         cover = B["cover"].to_numpy(float)
         G = nB * len(js)
         gb = np.repeat(np.arange(nB), len(js))              # base row of each group (base row, j)
         gj = np.tile(np.array(js), nB)
-        cur = {}
-        for k, width_col in (("x", "cap_width"), ("y", "cap_length")):
-            width = B[width_col].to_numpy(float)
-            phi0 = B[f"phi_{k}"].to_numpy(float)
-            n0 = B[f"n{k}"].to_numpy(float)
-            n0 = np.where(np.isnan(n0), bar_count_from_centres(width, cover, phi0, B[f"s{k}"].to_numpy(float)), n0)
-            dia = np.full(G, np.nan)
-            for j in js:
-                sel = gj == j
-                dia[sel] = self._dias(phi0[gb[sel]], j)
-            need = needs[gb, 0 if k == "x" else 1]
-            cur[k] = {"need": need, "n0": n0[gb], "phi0": phi0[gb], "width": width[gb],
-                      "phi": np.where(need, dia, phi0[gb]), "n": np.where(need, np.nan, n0[gb])}
-        cands = {}
-        for k in ("x", "y"):
-            c = cur[k]
-            clear = min_clear_spacing(c["phi"], dg=dg)
-            nmax = np.floor((c["width"] - 2 * cover[gb] - c["phi"]) / (c["phi"] + clear) + 1e-9) + 1
-            nmax = np.where(np.isfinite(nmax), np.clip(nmax, 2, 400), 2).astype(np.int64)
-            cnt = np.where(c["need"], np.where(np.isfinite(c["phi"]), nmax - 1, 0), 1)
-            grp = np.repeat(np.arange(G), cnt)
-            off = np.arange(cnt.sum()) - np.repeat(np.cumsum(cnt) - cnt, cnt)
-            n = np.where(c["need"][grp], 2 + off, c["n0"][grp]).astype(float)
-            ph = c["phi"][grp]
-            # a layer that needs a change also keeps its scheduled arrangement as the first candidate
-            # (the least change: a layer whose own checks it meets stays as scheduled)
-            first = np.flatnonzero(c["need"])
-            grp = np.concatenate([first, grp])
-            n = np.concatenate([c["n0"][first], n])
-            ph = np.concatenate([c["phi0"][first], ph])
-            key = np.concatenate([np.full(first.size, -1.0), n[first.size:]])
-            o = np.argsort(grp, kind="stable")
-            cands[k] = (grp[o], n[o], ph[o], key[o])
+        cur = self._bar_layers(B, needs, js, gb, gj, cover)
+        cands = _bar_candidates(cur, cover[gb], G, float(self.eng.params.get("dg", 20.0)))
         ok = np.zeros(G, bool)
         worst = np.full(G, np.nan)
         own = {k: np.array([i.endswith("-" + k) for i in self.eng.ids]) for k in ("x", "y")}
@@ -511,6 +505,28 @@ class _Search:
                 vals.append((nn, ph, not (nn == c["n0"][g] and ph == c["phi0"][g])))
             out.append((int(gb[g]), int(gj[g]), vals, _f(worst[g])))
         return out
+
+    def _bar_layers(self, B: pd.DataFrame, needs: np.ndarray, js: tuple[int, ...], gb: np.ndarray,
+                    gj: np.ndarray, cover: np.ndarray) -> dict[str, dict[str, np.ndarray]]:
+        """Each layer's state per group (base row, j): whether it needs a change, its scheduled count and
+        diameter, the width it spans, and the diameter tried (the count found so far: NaN while searched)."""
+        from checker.calcs.detailing import bar_count_from_centres
+
+        G = gb.size
+        cur = {}
+        for k, width_col in (("x", "cap_width"), ("y", "cap_length")):
+            width = B[width_col].to_numpy(float)
+            phi0 = B[f"phi_{k}"].to_numpy(float)
+            n0 = B[f"n{k}"].to_numpy(float)
+            n0 = np.where(np.isnan(n0), bar_count_from_centres(width, cover, phi0, B[f"s{k}"].to_numpy(float)), n0)
+            dia = np.full(G, np.nan)
+            for j in js:
+                sel = gj == j
+                dia[sel] = self._dias(phi0[gb[sel]], j)
+            need = needs[gb, 0 if k == "x" else 1]
+            cur[k] = {"need": need, "n0": n0[gb], "phi0": phi0[gb], "width": width[gb],
+                      "phi": np.where(need, dia, phi0[gb]), "n": np.where(need, np.nan, n0[gb])}
+        return cur
 
     def _needs(self, bad: np.ndarray) -> np.ndarray:
         """(rows, 2): whether the x / y layer needs a change, from the rules each row fails."""

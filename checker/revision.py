@@ -497,139 +497,36 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
         recorded = _read_columns(wb)
         headings = [_text(v).strip() for v in next(
             ws.iter_rows(min_row=header_row, max_row=header_row, values_only=True), ())]
-        cols = dict(cols)
-        known_idx = set(cols.values())
-        # a heading of ours that a person renamed: found between the neighbours it was written
-        # between (the hidden record of the columns), by the words it shares with its old heading
-        extra_headings = {_norm(h) for h, f in recorded if f == "extra"}
-        free = [i for i, h in enumerate(headings)
-                if i not in known_idx and h and _norm(h) not in extra_headings]
-        rec_fields = [f for _, f in recorded if f != "extra"]
-        rec_heading = {f: h for h, f in recorded if f != "extra"}
-        for k, fld in enumerate(rec_fields):
-            if fld in cols or not free:
-                continue
-            left = next((cols[g] for g in reversed(rec_fields[:k]) if g in cols), -1)
-            right = next((cols[g] for g in rec_fields[k + 1:] if g in cols), 10**6)
-            cands = [i for i in free if left < i < right]
-            scored = sorted(((len(_words(headings[i]) & _words(rec_heading[fld])), -i) for i in cands),
-                            reverse=True)
-            pick = (-scored[0][1] if scored and scored[0][0] > 0
-                    else (cands[0] if len(cands) == 1 else None))
-            if pick is None:
-                continue
-            cols[fld] = pick
-            known_idx.add(pick)
-            free.remove(pick)
-            warnings.append(f"{path}, sheet '{ws.title}': column '{headings[pick]}' read as "
-                            f"'{rec_heading[fld]}' (the heading it was written with)")
-        field_at = {i: name for name, i in cols.items()}
-
-        def cell(row: tuple, name: str) -> Any:
-            i = cols.get(name)
-            return row[i] if i is not None and i < len(row) else None
-
+        cols = _match_renamed_columns(dict(cols), headings, recorded, f"{path}, sheet '{ws.title}'", warnings)
+        rows = list(ws.iter_rows(min_row=header_row + 1, values_only=True))
+        extra_idx, layout = _sheet_layout(headings, rows, {i: name for name, i in cols.items()}, recorded)
+        if any(isinstance(v, str) and v.startswith("=") for row in rows for v in row):
+            rows = _with_saved_values(path, ws.title, header_row, rows)
         comments: dict[str, PreviousComment] = {}
         extra: list[PreviousComment] = []
-        rows = list(ws.iter_rows(min_row=header_row + 1, values_only=True))
-        width = max([len(headings)] + [len(r) for r in rows])
-        extra_idx: dict[int, str] = {}
-        layout: list[tuple[str, str]] = []
-        for i in range(width):
-            h = headings[i] if i < len(headings) else ""
-            if i in field_at:
-                layout.append((h, field_at[i]))
-                continue
-            if not h and not any(i < len(r) and r[i] not in (None, "") for r in rows):
-                continue
-            if not h:
-                from openpyxl.utils import get_column_letter
-
-                h = (recorded[i][0] if i < len(recorded) and recorded[i][1] == "extra" and recorded[i][0]
-                     else f"(column {get_column_letter(i + 1)})")
-            while h in extra_idx.values() or any(h == lh for lh, _ in layout):
-                h += " (2)"
-            extra_idx[i] = h
-            layout.append((h, "extra"))
-        if any(isinstance(v, str) and v.startswith("=") for row in rows for v in row):
-            # Something a person typed may be a formula: take the value a spreadsheet program
-            # saved with it, and where none was saved (openpyxl, some tools) keep the formula text
-            # rather than lose it.
-            wb_values = openpyxl.load_workbook(path, data_only=True, read_only=True)
-            try:
-                values = list(wb_values[ws.title].iter_rows(min_row=header_row + 1, values_only=True))
-            finally:
-                wb_values.close()
-            rows = [
-                tuple(v if (i >= len(rv) or rv[i] is None) else rv[i] for i, v in enumerate(row))
-                for row, rv in zip(rows, values)
-            ]
         for r_idx, row in enumerate(rows, start=header_row + 1):
             if not any(v not in (None, "") for v in row):
                 continue
             where = f"{path}, sheet '{ws.title}', row {r_idx}"
-            key = _text(cell(row, "key")).strip()
-            found = _text(cell(row, "found"))
-            status_raw = cell(row, "status")
-            status = _normalise_status(status_raw, where, warnings)
-            p = PreviousComment(
-                key=key,
-                no=_int_or_none(cell(row, "no")),
-                cap=_text(cell(row, "cap")).strip(),
-                check=_text(cell(row, "check")),
-                clause=_text(cell(row, "clause")),
-                found=found,
-                severity=_norm(cell(row, "severity")),
-                action=_text(cell(row, "action")),
-                source=_text(cell(row, "source")),
-                response=_text(cell(row, "response")),
-                status=status,
-                row=r_idx,
-                reply=_text(cell(row, "reply")),
-                extras={h: row[i] for i, h in extra_idx.items() if i < len(row) and row[i] not in (None, "")},
-            )
-            if not key:
+            p = _row_comment(row, r_idx, cols, extra_idx, where, warnings)
+            if not p.key:
                 # A row a person added by hand (or whose key was cleared): keep it whole.
                 if any(_text(v).strip() for v in row):
                     extra.append(p)
                 continue
-            cap_k, rule_k = split_key(key, data)
+            cap_k, rule_k = split_key(p.key, data)
             p.cap = p.cap or cap_k
             p.rule = rule_k
-            _fill_from_data(p, data.get(key, {}), found)
-            if key in comments:
-                first = comments[key]
+            _fill_from_data(p, data.get(p.key, {}), p.found)
+            if p.key in comments:
+                first = comments[p.key]
                 warnings.append(
-                    f"{where}: key {key} appears again (first on row {first.row}); responses merged"
+                    f"{where}: key {p.key} appears again (first on row {first.row}); responses merged"
                 )
-                if p.response.strip() and p.response not in first.response:
-                    first.response = (first.response + "\n" + p.response).strip("\n")
-                if p.reply.strip() and p.reply not in first.reply:
-                    first.reply = (first.reply + "\n" + p.reply).strip("\n")
-                for h, v in p.extras.items():
-                    if h not in first.extras:
-                        first.extras[h] = v
-                    elif _text(v) not in _text(first.extras[h]):
-                        first.extras[h] = f"{_text(first.extras[h])}\n{_text(v)}"
+                _merge_duplicate(first, p)
                 continue
-            comments[key] = p
-        # a comment row a person deleted: carried from the hidden record, with a note
-        for key, d in data.items():
-            if key in comments:
-                continue
-            cap_k, rule_k = split_key(key, data)
-            p = PreviousComment(key=key, no=_int_or_none(d.get("no")), cap=cap_k, rule=rule_k,
-                                check=rule_k, severity=_norm(d.get("severity")),
-                                status=_norm(d.get("status_written")) or "open", row=10**9)
-            if p.status not in STATUSES:
-                p.status = "open"
-            _fill_from_data(p, d, "")
-            p.found = p.message
-            warnings.append(f"{path}: the row of comment {p.no or ''} ({key}) was deleted from the sheet; "
-                            f"carried from the hidden record with status '{p.status}'")
-            comments[key] = p
-        columns = layout
-        inputs = _read_inputs(wb)
+            comments[p.key] = p
+        _carry_deleted_rows(data, comments, path, warnings)
         return PreviousSheet(
             path=str(path),
             revision=revision,
@@ -638,11 +535,141 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
             warnings=warnings,
             project=_read_cover_value(wb, "project"),
             submission=_read_cover_value(wb, "submission"),
-            columns=columns,
-            inputs=inputs,
+            columns=layout,
+            inputs=_read_inputs(wb),
         )
     finally:
         wb.close()
+
+
+def _match_renamed_columns(cols: dict[str, int], headings: list[str], recorded: list[tuple[str, str]],
+                           where: str, warnings: list[str]) -> dict[str, int]:
+    """A heading of ours that a person renamed: found between the neighbours it was written
+    between (the hidden record of the columns), by the words it shares with its old heading."""
+    known_idx = set(cols.values())
+    extra_headings = {_norm(h) for h, f in recorded if f == "extra"}
+    free = [i for i, h in enumerate(headings)
+            if i not in known_idx and h and _norm(h) not in extra_headings]
+    rec_fields = [f for _, f in recorded if f != "extra"]
+    rec_heading = {f: h for h, f in recorded if f != "extra"}
+    for k, fld in enumerate(rec_fields):
+        if fld in cols or not free:
+            continue
+        left = next((cols[g] for g in reversed(rec_fields[:k]) if g in cols), -1)
+        right = next((cols[g] for g in rec_fields[k + 1:] if g in cols), 10**6)
+        cands = [i for i in free if left < i < right]
+        scored = sorted(((len(_words(headings[i]) & _words(rec_heading[fld])), -i) for i in cands),
+                        reverse=True)
+        pick = (-scored[0][1] if scored and scored[0][0] > 0
+                else (cands[0] if len(cands) == 1 else None))
+        if pick is None:
+            continue
+        cols[fld] = pick
+        known_idx.add(pick)
+        free.remove(pick)
+        warnings.append(f"{where}: column '{headings[pick]}' read as "
+                        f"'{rec_heading[fld]}' (the heading it was written with)")
+    return cols
+
+
+def _sheet_layout(headings: list[str], rows: list[tuple], field_at: dict[int, str],
+                  recorded: list[tuple[str, str]]) -> tuple[dict[int, str], list[tuple[str, str]]]:
+    """The columns of the sheet as found: (index -> heading of each column of a person's own,
+    [(heading, field or "extra")] in sheet order)."""
+    width = max([len(headings)] + [len(r) for r in rows])
+    extra_idx: dict[int, str] = {}
+    layout: list[tuple[str, str]] = []
+    for i in range(width):
+        h = headings[i] if i < len(headings) else ""
+        if i in field_at:
+            layout.append((h, field_at[i]))
+            continue
+        if not h and not any(i < len(r) and r[i] not in (None, "") for r in rows):
+            continue
+        if not h:
+            from openpyxl.utils import get_column_letter
+
+            h = (recorded[i][0] if i < len(recorded) and recorded[i][1] == "extra" and recorded[i][0]
+                 else f"(column {get_column_letter(i + 1)})")
+        while h in extra_idx.values() or any(h == lh for lh, _ in layout):
+            h += " (2)"
+        extra_idx[i] = h
+        layout.append((h, "extra"))
+    return extra_idx, layout
+
+
+def _with_saved_values(path: Path, title: str, header_row: int, rows: list[tuple]) -> list[tuple]:
+    """Something a person typed may be a formula: take the value a spreadsheet program
+    saved with it, and where none was saved (openpyxl, some tools) keep the formula text
+    rather than lose it."""
+    import openpyxl
+
+    wb_values = openpyxl.load_workbook(path, data_only=True, read_only=True)
+    try:
+        values = list(wb_values[title].iter_rows(min_row=header_row + 1, values_only=True))
+    finally:
+        wb_values.close()
+    return [
+        tuple(v if (i >= len(rv) or rv[i] is None) else rv[i] for i, v in enumerate(row))
+        for row, rv in zip(rows, values)
+    ]
+
+
+def _row_comment(row: tuple, r_idx: int, cols: dict[str, int], extra_idx: dict[int, str], where: str,
+                 warnings: list[str]) -> PreviousComment:
+    """One row of the comments sheet as it reads, before the hidden record fills it in."""
+    def cell(name: str) -> Any:
+        i = cols.get(name)
+        return row[i] if i is not None and i < len(row) else None
+
+    return PreviousComment(
+        key=_text(cell("key")).strip(),
+        no=_int_or_none(cell("no")),
+        cap=_text(cell("cap")).strip(),
+        check=_text(cell("check")),
+        clause=_text(cell("clause")),
+        found=_text(cell("found")),
+        severity=_norm(cell("severity")),
+        action=_text(cell("action")),
+        source=_text(cell("source")),
+        response=_text(cell("response")),
+        status=_normalise_status(cell("status"), where, warnings),
+        row=r_idx,
+        reply=_text(cell("reply")),
+        extras={h: row[i] for i, h in extra_idx.items() if i < len(row) and row[i] not in (None, "")},
+    )
+
+
+def _merge_duplicate(first: PreviousComment, p: PreviousComment) -> None:
+    """A key that appears again: its response, reply and own columns merged into the first row's."""
+    if p.response.strip() and p.response not in first.response:
+        first.response = (first.response + "\n" + p.response).strip("\n")
+    if p.reply.strip() and p.reply not in first.reply:
+        first.reply = (first.reply + "\n" + p.reply).strip("\n")
+    for h, v in p.extras.items():
+        if h not in first.extras:
+            first.extras[h] = v
+        elif _text(v) not in _text(first.extras[h]):
+            first.extras[h] = f"{_text(first.extras[h])}\n{_text(v)}"
+
+
+def _carry_deleted_rows(data: dict[str, dict[str, Any]], comments: dict[str, PreviousComment], path: Path,
+                        warnings: list[str]) -> None:
+    """A comment row a person deleted: carried from the hidden record, with a note."""
+    for key, d in data.items():
+        if key in comments:
+            continue
+        cap_k, rule_k = split_key(key, data)
+        p = PreviousComment(key=key, no=_int_or_none(d.get("no")), cap=cap_k, rule=rule_k,
+                            check=rule_k, severity=_norm(d.get("severity")),
+                            status=_norm(d.get("status_written")) or "open", row=10**9)
+        if p.status not in STATUSES:
+            p.status = "open"
+        _fill_from_data(p, d, "")
+        p.found = p.message
+        warnings.append(f"{path}: the row of comment {p.no or ''} ({key}) was deleted from the sheet; "
+                        f"carried from the hidden record with status '{p.status}'")
+        comments[key] = p
 
 
 def _fill_from_data(p: PreviousComment, d: dict[str, Any], found: str) -> None:
@@ -852,18 +879,7 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
         raise ValueError(f"closing policy {policy!r}: use one of {', '.join(CLOSE_POLICIES)}")
     label = next_revision(previous.revision)
     n = _REV_TOKEN          # notes are written with placeholders, then rendered (see relabel)
-    frame = review.findings
-    rows = comment_records(frame)
-    current = {comment_key(str(r["cap"]), str(r["rule"])): r for r in rows}
-    all_results: dict[str, dict[str, Any]] = {}
-    if frame is not None and len(frame):
-        for r in records(frame):
-            all_results[comment_key(str(r["cap"]), str(r["rule"]))] = r
-    caps_now: set[str] = set()
-    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
-        caps_now |= {str(m) for m in review.caps["mark"]}
-    if frame is not None and len(frame):
-        caps_now |= {str(m) for m in frame["cap"]}
+    current, all_results, caps_now = _results_now(review)
 
     warnings = list(previous.warnings)
     counts = {k: 0 for k in COUNT_NAMES}
@@ -883,57 +899,17 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
                         f"before capcheck recorded them); changes between revisions not listed")
     changed_caps = {c["cap"] for c in changes if c["field"] != "cap"}
 
-    def util_of(r: dict[str, Any] | None) -> float | None:
-        return _float_or_none(r.get("utilisation")) if r else None
-
     ordered_prev = sorted(previous.comments.values(), key=lambda p: (p.no or 10**9, p.row))
     for p in ordered_prev:
-        key = p.key
-        cap = p.cap or split_key(key)[0]
-        rule = p.rule or split_key(key)[1]
-        e = CarriedComment(key=key, no=0, status=p.status, response=p.response, outcome="",
-                           note="", state="present", previous=p, reply=p.reply, extras=dict(p.extras))
-        was = now = ""
-        if key in current:
-            f = current[key]
-            sev, util = str(f["severity"]), util_of(f)
-            if p.status == "closed":
-                worse = _is_worse(sev, util, p.basis_severity, p.basis_utilisation)
-                was = f"{p.basis_severity or 'not reported'}{_fmt_u(p.basis_utilisation)}"
-                now = f"{sev}{_fmt_u(util)}"
-            else:
-                worse = _is_worse(sev, util, p.tool_severity, p.tool_utilisation)
-            evidence = "worse" if worse else "reported"
-        elif cap in caps_now and key in all_results:
-            evidence = "met"
-            e.state = "gone"
-        elif cap in caps_now:
-            evidence = "no-result"
-            e.state = "not-rechecked"
-        else:
-            evidence = "cap-removed"
-            e.state = "cap-removed"
-        e.status, e.outcome, note = transition(p.status, evidence, policy)
-        e.note = note.format(n=n, p=_PREV_TOKEN, cap=cap, rule=rule, was=was, now=now)
-        if e.status in ("closed", MET):
-            if evidence == "met":
-                met = all_results[key]
-                e.basis_severity, e.basis_utilisation = str(met["severity"]), util_of(met)
-            else:
-                e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-        elif e.outcome == "not-rechecked":
-            e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
-        if p.status == "closed" and e.status == "closed" and cap in changed_caps:
-            e.second_look = True
+        e = _carry_one(p, current, all_results, caps_now, changed_caps, policy)
+        if e.second_look:
             counts["second_look"] += 1
-            e.note = (f"{e.note}; " if e.note else "") + (
-                f"inputs of cap {cap} changed since revision {_PREV_TOKEN} while closed: take a second look")
         if p.no is not None and p.no not in used:
             e.no = p.no
             used.add(p.no)
         else:
             if p.no is not None:
-                warnings.append(f"{previous.path}: comment number {p.no} used twice; key {key} renumbered")
+                warnings.append(f"{previous.path}: comment number {p.no} used twice; key {p.key} renumbered")
             pending_numbers.append(e)
         entries.append(e)
 
@@ -966,3 +942,70 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
         changes=changes,
         inputs_recorded=inputs_recorded,
     )
+
+
+def _results_now(review: "Review") -> tuple[dict[str, dict[str, Any]], dict[str, dict[str, Any]], set[str]]:
+    """This revision's results: (the reported findings by comment key, every result by comment key,
+    the marks of the caps checked)."""
+    frame = review.findings
+    rows = comment_records(frame)
+    current = {comment_key(str(r["cap"]), str(r["rule"])): r for r in rows}
+    all_results: dict[str, dict[str, Any]] = {}
+    if frame is not None and len(frame):
+        for r in records(frame):
+            all_results[comment_key(str(r["cap"]), str(r["rule"]))] = r
+    caps_now: set[str] = set()
+    if review.caps is not None and "mark" in getattr(review.caps, "columns", ()):
+        caps_now |= {str(m) for m in review.caps["mark"]}
+    if frame is not None and len(frame):
+        caps_now |= {str(m) for m in frame["cap"]}
+    return current, all_results, caps_now
+
+
+def _util_of(r: dict[str, Any] | None) -> float | None:
+    return _float_or_none(r.get("utilisation")) if r else None
+
+
+def _carry_one(p: PreviousComment, current: dict[str, dict[str, Any]], all_results: dict[str, dict[str, Any]],
+               caps_now: set[str], changed_caps: set[str], policy: str) -> CarriedComment:
+    """One previous comment carried to this revision: its new status, note and basis (numbered later)."""
+    key = p.key
+    cap = p.cap or split_key(key)[0]
+    rule = p.rule or split_key(key)[1]
+    e = CarriedComment(key=key, no=0, status=p.status, response=p.response, outcome="",
+                       note="", state="present", previous=p, reply=p.reply, extras=dict(p.extras))
+    was = now = ""
+    if key in current:
+        f = current[key]
+        sev, util = str(f["severity"]), _util_of(f)
+        if p.status == "closed":
+            worse = _is_worse(sev, util, p.basis_severity, p.basis_utilisation)
+            was = f"{p.basis_severity or 'not reported'}{_fmt_u(p.basis_utilisation)}"
+            now = f"{sev}{_fmt_u(util)}"
+        else:
+            worse = _is_worse(sev, util, p.tool_severity, p.tool_utilisation)
+        evidence = "worse" if worse else "reported"
+    elif cap in caps_now and key in all_results:
+        evidence = "met"
+        e.state = "gone"
+    elif cap in caps_now:
+        evidence = "no-result"
+        e.state = "not-rechecked"
+    else:
+        evidence = "cap-removed"
+        e.state = "cap-removed"
+    e.status, e.outcome, note = transition(p.status, evidence, policy)
+    e.note = note.format(n=_REV_TOKEN, p=_PREV_TOKEN, cap=cap, rule=rule, was=was, now=now)
+    if e.status in ("closed", MET):
+        if evidence == "met":
+            met = all_results[key]
+            e.basis_severity, e.basis_utilisation = str(met["severity"]), _util_of(met)
+        else:
+            e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
+    elif e.outcome == "not-rechecked":
+        e.basis_severity, e.basis_utilisation = p.basis_severity, p.basis_utilisation
+    if p.status == "closed" and e.status == "closed" and cap in changed_caps:
+        e.second_look = True
+        e.note = (f"{e.note}; " if e.note else "") + (
+            f"inputs of cap {cap} changed since revision {_PREV_TOKEN} while closed: take a second look")
+    return e

@@ -217,14 +217,44 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     out = [f'<section class="cap" id="{anchor}" data-cap="{escape(mark, quote=True)}">']
     out.append(f"<h2>Cap {escape(mark)} {_sev(worst) if worst else ''}</h2>")
     out.append('<div class="cap-body">')
-    out.append('<figure class="sketch">')
+    out.extend(_cap_sketch(review, mark, info, rows))
+    out.extend(_cap_facts(info))
+    out.append("<h3>Results</h3>")
+    out.extend(_cap_results(mark, rows, by_key))
+    from checker.remedy import remedy_line
+
+    if remedy_line(review, mark):
+        out.append(f'<p class="remedy"><strong>Would pass with:</strong> {escape(remedy_line(review, mark))}</p>')
+    if changes:
+        from checker.revision import change_text
+
+        out.append("<h3>Inputs changed since the previous revision</h3><ul class=\"changes\">")
+        for ch in changes:
+            out.append(f"<li>{escape(change_text(ch))}</li>")
+        out.append("</ul>")
+    out.extend(_cap_carried(carried))
+    out.append("<h3>Working</h3>")
+    out.extend(_cap_working(review, mark, rows))
+    caution = SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report.")
+    out.append(f'<p class="caution small">{escape(caution)}</p>')
+    out.append("</section>")
+    return "\n".join(out)
+
+
+def _cap_sketch(review: "Review", mark: str, info: dict[str, Any], rows: list[dict[str, Any]]) -> list[str]:
+    """The plan sketch of one cap with its caption."""
     xy = review.pile_xy.get(mark) if review.pile_xy else None
-    out.append(plan_svg(geometry_from_row(mark, info, xy), rows))
-    out.append(
+    return [
+        '<figure class="sketch">',
+        plan_svg(geometry_from_row(mark, info, xy), rows),
         "<figcaption>Plan, drawn to scale from the submitted geometry; dimensions in mm; x along L, "
-        f"y along W. {_highlight_caption(rows)}</figcaption>"
-    )
-    out.append("</figure>")
+        f"y along W. {_highlight_caption(rows)}</figcaption>",
+        "</figure>",
+    ]
+
+
+def _cap_facts(info: dict[str, Any]) -> list[str]:
+    """The table of the cap's submitted figures beside the sketch; closes the cap body."""
     facts = [
         ("Piles", _fmt(info.get("piles"))
          + (f" × Ø{_fmt(info.get('pile_dia'))}" if info.get("pile_dia") is not None else "")),
@@ -240,91 +270,89 @@ def _cap_section(review: "Review", mark: str, anchor: str, worst: str, rows: lis
     src = describe_source(source_of(info)) if info else ""
     if src:
         facts.append(("Schedule", escape(src)))
-    out.append('<div class="facts"><table>')
+    out = ['<div class="facts"><table>']
     for k, v in facts:
         out.append(f"<tr><td>{escape(k)}</td><td>{v}</td></tr>")
     out.append("</table></div></div>")
+    return out
 
-    out.append("<h3>Results</h3>")
-    if rows:
-        out.append('<table class="findings"><thead><tr><th>No.</th><th>Check</th><th>Severity</th>'
-                   "<th>Found</th><th>Clause</th><th>Action required</th><th>Status</th></tr></thead><tbody>")
-        for r in rows:
-            sev = str(r["severity"])
-            key = comment_key(mark, str(r["rule"]))
-            cm = by_key.get(key)
-            cls = "passed" if sev == "ok" else (cm.status if cm else "")
-            found = found_text(str(r.get("message") or ""), r.get("value"), r.get("limit"),
-                               str(r.get("unit") or ""), r.get("utilisation"))
-            action = str(r.get("action") or "")
-            action = "" if action == "nan" else action
-            status = escape(cm.status) if cm else ""
-            if cm and cm.note:
-                status += f'<br><small>{escape(cm.note)}</small>'
-            if cm and cm.response:
-                status += f'<br><small class="response"><b>Designer:</b> {escape(cm.response)}</small>'
-            if cm and cm.reply:
-                status += f'<br><small class="reply"><b>Checker:</b> {escape(cm.reply)}</small>'
-            out.append(
-                f'<tr class="{cls}" data-rule="{escape(str(r["rule"]), quote=True)}">'
-                f'<td class="num">{cm.no if cm else ""}</td>'
-                f"<td>{escape(check_text(str(r['rule']), str(r.get('title') or '')))}</td>"
-                f'<td class="sev sev-{escape(sev)}">{escape(sev)}</td>'
-                f"<td>{escape(found)}</td><td>{escape(str(r.get('clause') or ''))}</td>"
-                f"<td>{escape(action)}</td><td>{status}</td></tr>"
-            )
-        out.append("</tbody></table>")
-    else:
-        out.append("<p>No results for this cap.</p>")
-    from checker.remedy import remedy_line
 
-    if remedy_line(review, mark):
-        out.append(f'<p class="remedy"><strong>Would pass with:</strong> {escape(remedy_line(review, mark))}</p>')
-    if changes:
-        from checker.revision import change_text
+def _cap_results(mark: str, rows: list[dict[str, Any]], by_key: dict[str, Comment]) -> list[str]:
+    """The table of one cap's results, each with its comment's number and status."""
+    if not rows:
+        return ["<p>No results for this cap.</p>"]
+    out = ['<table class="findings"><thead><tr><th>No.</th><th>Check</th><th>Severity</th>'
+           "<th>Found</th><th>Clause</th><th>Action required</th><th>Status</th></tr></thead><tbody>"]
+    for r in rows:
+        out.append(_result_row(r, by_key.get(comment_key(mark, str(r["rule"])))))
+    out.append("</tbody></table>")
+    return out
 
-        out.append("<h3>Inputs changed since the previous revision</h3><ul class=\"changes\">")
-        for ch in changes:
-            out.append(f"<li>{escape(change_text(ch))}</li>")
-        out.append("</ul>")
-    # comments carried from a previous revision whose finding is no longer reported
-    if carried:
-        out.append("<h3>Comments carried from the previous revision</h3>")
-        out.append('<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
-                   "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>")
-        for c in sorted(carried, key=lambda c: c.no):
-            out.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.check)}</td>'
-                       f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td>"
-                       f"<td>{escape(c.response)}</td><td>{escape(c.reply)}</td></tr>")
-        out.append("</tbody></table>")
 
-    out.append("<h3>Working</h3>")
+def _result_row(r: dict[str, Any], cm: Comment | None) -> str:
+    """One row of the results table."""
+    sev = str(r["severity"])
+    cls = "passed" if sev == "ok" else (cm.status if cm else "")
+    found = found_text(str(r.get("message") or ""), r.get("value"), r.get("limit"),
+                       str(r.get("unit") or ""), r.get("utilisation"))
+    action = str(r.get("action") or "")
+    action = "" if action == "nan" else action
+    status = escape(cm.status) if cm else ""
+    if cm and cm.note:
+        status += f'<br><small>{escape(cm.note)}</small>'
+    if cm and cm.response:
+        status += f'<br><small class="response"><b>Designer:</b> {escape(cm.response)}</small>'
+    if cm and cm.reply:
+        status += f'<br><small class="reply"><b>Checker:</b> {escape(cm.reply)}</small>'
+    return (
+        f'<tr class="{cls}" data-rule="{escape(str(r["rule"]), quote=True)}">'
+        f'<td class="num">{cm.no if cm else ""}</td>'
+        f"<td>{escape(check_text(str(r['rule']), str(r.get('title') or '')))}</td>"
+        f'<td class="sev sev-{escape(sev)}">{escape(sev)}</td>'
+        f"<td>{escape(found)}</td><td>{escape(str(r.get('clause') or ''))}</td>"
+        f"<td>{escape(action)}</td><td>{status}</td></tr>"
+    )
+
+
+def _cap_carried(carried: list[Comment]) -> list[str]:
+    """Comments carried from a previous revision whose finding is no longer reported."""
+    if not carried:
+        return []
+    out = ["<h3>Comments carried from the previous revision</h3>",
+           '<table class="carried"><thead><tr><th>No.</th><th>Check</th><th>Status</th>'
+           "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>"]
+    for c in sorted(carried, key=lambda c: c.no):
+        out.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.check)}</td>'
+                   f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td>"
+                   f"<td>{escape(c.response)}</td><td>{escape(c.reply)}</td></tr>")
+    out.append("</tbody></table>")
+    return out
+
+
+def _cap_working(review: "Review", mark: str, rows: list[dict[str, Any]]) -> list[str]:
+    """The working of one cap grouped by check; a failure to produce it is shown, not hidden."""
     try:
         lines = list(review.working(mark))
     except Exception as exc:  # the report is still written; the failure is shown, not hidden
-        out.append(f"<p>Working not available for this cap ({escape(type(exc).__name__)}: {escape(str(exc))}).</p>")
-        lines = None
-    if lines is not None:
-        if not lines:
-            out.append("<p>No working lines recorded for this cap.</p>")
-        from checker.report.terminal import not_applicable
+        return [f"<p>Working not available for this cap ({escape(type(exc).__name__)}: {escape(str(exc))}).</p>"]
+    out = []
+    if not lines:
+        out.append("<p>No working lines recorded for this cap.</p>")
+    from checker.report.terminal import not_applicable
 
-        na = {str(r["rule"]) for r in rows if not_applicable(r.get("message"))}
-        groups: dict[str, list[str]] = {}
-        for ln in lines:
-            rule = str(getattr(ln, "rule", "") or "")
-            text = str(getattr(ln, "text", ln))
-            if rule in na and rule in groups and not text.lstrip().startswith("->"):
-                continue   # a check that does not apply: one line giving the reason
-            groups.setdefault(rule, []).append(text)
-        for rule, texts in groups.items():
-            if rule:
-                out.append(f'<div class="work-rule">{escape(rule)}</div>')
-            out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
-    caution = SHORT_CAUTION.replace(" Full caution on the Cover sheet.", " Full caution at the top of this report.")
-    out.append(f'<p class="caution small">{escape(caution)}</p>')
-    out.append("</section>")
-    return "\n".join(out)
+    na = {str(r["rule"]) for r in rows if not_applicable(r.get("message"))}
+    groups: dict[str, list[str]] = {}
+    for ln in lines:
+        rule = str(getattr(ln, "rule", "") or "")
+        text = str(getattr(ln, "text", ln))
+        if rule in na and rule in groups and not text.lstrip().startswith("->"):
+            continue   # a check that does not apply: one line giving the reason
+        groups.setdefault(rule, []).append(text)
+    for rule, texts in groups.items():
+        if rule:
+            out.append(f'<div class="work-rule">{escape(rule)}</div>')
+        out.append(f'<pre class="work">{escape(chr(10).join(texts))}</pre>')
+    return out
 
 
 def _is_num(v: Any) -> bool:
@@ -338,8 +366,6 @@ def _is_num(v: Any) -> bool:
 def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                 revision: "RevisionResult | None" = None) -> str:
     f = review.findings
-    counts = count_by_severity(f) if len(f) else {s: 0 for s in SEVERITY_ORDER if s != "ok"}
-    n_ok = int((f["severity"] == "ok").sum()) if len(f) else 0
     worst = worst_by_cap(f.assign(cap=f["cap"].astype(str))).to_dict() if len(f) else {}
     marks = _cap_order(review)
     by_key = {c.key: c for c in comments if c.key}
@@ -355,36 +381,60 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     for c in comments:
         if c.key and c.state != "present":
             carried_by_cap.setdefault(c.cap, []).append(c)
-    rank = SEVERITY_RANK
-    if len(marks) > HTML_MAX_CAP_SECTIONS:
-        order = sorted(range(len(marks)), key=lambda i: (rank.get(worst.get(marks[i], "ok"), 9), i))
-        keep = set(sorted(order[:HTML_MAX_CAP_SECTIONS]))
-        detailed = [m for i, m in enumerate(marks) if i in keep]
-    else:
-        detailed = marks
+    detailed = _detailed_marks(marks, worst)
     anchors = _Anchors()
     title = f"Pile cap check report: {meta.get('submission', '')}"
 
     h = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
          '<meta name="viewport" content="width=device-width, initial-scale=1">',
          f"<title>{escape(title)}</title>", f"<style>{_css()}</style></head><body>"]
-    h.append('<header class="report-head">')
-    h.append("<h1>Pile cap check report</h1>")
-    h.append(f'<p class="caution" role="note"><strong>Caution.</strong> {escape(CAUTION)}<br>'
-             f"{escape(NOT_A_SAFETY_CLAIM)}</p>")
-    h.append('<dl class="meta">')
+    h.extend(_report_head(meta))
+    h.extend(_summary_section(review, comments, revision, len(marks)))
+    h.extend(_caps_table(marks, detailed, anchors, infos, rows_by_cap, worst))
+    for m in detailed:
+        h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
+                              infos.get(m, {}), by_key, carried_by_cap.get(m, []), changes_by_cap.get(m)))
+    h.extend(_untied_comments(comments, set(marks)))
+    h.extend(_rejected_rows(review))
+    h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
+    h.append("</body></html>")
+    return "\n".join(h)
+
+
+def _detailed_marks(marks: list[str], worst: dict[str, str]) -> list[str]:
+    """The caps given a full section: all of them, or the worst HTML_MAX_CAP_SECTIONS in schedule order."""
+    if len(marks) <= HTML_MAX_CAP_SECTIONS:
+        return marks
+    rank = SEVERITY_RANK
+    order = sorted(range(len(marks)), key=lambda i: (rank.get(worst.get(marks[i], "ok"), 9), i))
+    keep = set(sorted(order[:HTML_MAX_CAP_SECTIONS]))
+    return [m for i, m in enumerate(marks) if i in keep]
+
+
+def _report_head(meta: dict[str, Any]) -> list[str]:
+    """The report's header: title, caution and the submission's particulars."""
+    h = ['<header class="report-head">', "<h1>Pile cap check report</h1>",
+         f'<p class="caution" role="note"><strong>Caution.</strong> {escape(CAUTION)}<br>'
+         f"{escape(NOT_A_SAFETY_CLAIM)}</p>", '<dl class="meta">']
     for label, key in (("Project", "project"), ("Submission", "submission"), ("Revision", "revision"),
                        ("Date", "date"), ("Checker", "checker"), ("Profile", "profile"),
                        ("Rule set", "rule_set")):
         h.append(f"<dt>{label}</dt><dd>{escape(str(meta.get(key, '') or '–'))}</dd>")
     h.append("</dl></header>")
+    return h
 
-    h.append('<section class="summary"><h2>Summary</h2><div class="chips">')
+
+def _summary_section(review: "Review", comments: list[Comment], revision: "RevisionResult | None",
+                     n_caps: int) -> list[str]:
+    """The summary: counts by severity and by comment status, the revision cycle, notes and legend."""
+    f = review.findings
+    counts = count_by_severity(f) if len(f) else {s: 0 for s in SEVERITY_ORDER if s != "ok"}
+    n_ok = int((f["severity"] == "ok").sum()) if len(f) else 0
+    h = ['<section class="summary"><h2>Summary</h2><div class="chips">']
     for s in SEVERITY_ORDER:
         n = counts.get(s, 0) if s != "ok" else n_ok
         h.append(f'<div class="chip sev-{s}" data-severity="{s}"><b>{n}</b>{escape(s)}</div>')
     h.append("</div><div class=\"chips\">")
-    n_caps = len(marks)
     for label, n in (("rows read", review.rows_read), ("caps checked", n_caps),
                      ("rows rejected", len(review.rejected or []))):
         h.append(f'<div class="chip plain"><b>{n}</b>{label}</div>')
@@ -393,30 +443,41 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
         h.append(f'<div class="chip plain"><b>{by_status.get(st, 0)}</b>comments {st}</div>')
     h.append("</div>")
     if revision is not None:
-        h.append(f"<p><strong>Revision cycle:</strong> {escape(revision.summary())} "
-                 f"(previous sheet {escape(Path(revision.previous.path).name)}).</p>")
-        from checker.revision import change_text
-
-        if not revision.inputs_recorded:
-            h.append('<p class="note">Inputs of the previous revision not recorded: the changes between '
-                     "revisions cannot be listed.</p>")
-        elif revision.changes:
-            h.append('<h3>Inputs changed since the previous revision</h3><table class="changes"><thead><tr>'
-                     "<th>Cap</th><th>Change</th></tr></thead><tbody>")
-            for ch in revision.changes:
-                h.append(f"<tr><td>{escape(str(ch['cap']))}</td><td>{escape(change_text(ch))}</td></tr>")
-            h.append("</tbody></table>")
+        h.extend(_revision_summary(revision))
     for note in review.notes or []:
         h.append(f"<p class=\"note\">{escape(str(note))}</p>")
     h.append("<h3>Legend</h3><table class=\"legend\"><tbody>")
     for s in SEVERITY_ORDER:
         h.append(f"<tr><td class=\"sev sev-{s}\">{s}</td><td>{escape(Severity(s).meaning)}</td></tr>")
     h.append("</tbody></table></section>")
+    return h
 
-    h.append('<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'
-             "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
-             + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
-             + "</tr></thead><tbody>")
+
+def _revision_summary(revision: "RevisionResult") -> list[str]:
+    """The revision cycle's summary line and the table of inputs changed since the previous revision."""
+    h = [f"<p><strong>Revision cycle:</strong> {escape(revision.summary())} "
+         f"(previous sheet {escape(Path(revision.previous.path).name)}).</p>"]
+    from checker.revision import change_text
+
+    if not revision.inputs_recorded:
+        h.append('<p class="note">Inputs of the previous revision not recorded: the changes between '
+                 "revisions cannot be listed.</p>")
+    elif revision.changes:
+        h.append('<h3>Inputs changed since the previous revision</h3><table class="changes"><thead><tr>'
+                 "<th>Cap</th><th>Change</th></tr></thead><tbody>")
+        for ch in revision.changes:
+            h.append(f"<tr><td>{escape(str(ch['cap']))}</td><td>{escape(change_text(ch))}</td></tr>")
+        h.append("</tbody></table>")
+    return h
+
+
+def _caps_table(marks: list[str], detailed: list[str], anchors: "_Anchors", infos: dict[str, dict[str, Any]],
+                rows_by_cap: dict[str, list[dict[str, Any]]], worst: dict[str, str]) -> list[str]:
+    """The table of every cap, linking to the caps given a full section."""
+    h = ['<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'
+         "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
+         + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
+         + "</tr></thead><tbody>"]
     detailed_set = set(detailed)
     for m in marks:
         a = anchors(m)
@@ -441,43 +502,45 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
                  f"{len(marks):,} caps, worst first; every cap is in the table above and every comment "
                  f"is on the comment sheet.</p>")
     h.append("</section>")
+    return h
 
-    for m in detailed:
-        h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
-                              infos.get(m, {}), by_key, carried_by_cap.get(m, []), changes_by_cap.get(m)))
 
-    mark_set = set(marks)
+def _untied_comments(comments: list[Comment], mark_set: set[str]) -> list[str]:
+    """Comments on caps no longer in the schedule and rows added to the sheet by hand."""
     gone = [c for c in comments if c.key and c.cap not in mark_set]
     manual = [c for c in comments if not c.key]
-    if gone or manual:
-        h.append('<section class="carried-only"><h2>Comments not tied to a cap in this submission</h2>'
-                 "<p>Carried from the previous comment sheet: comments on caps no longer in the schedule, "
-                 "and rows added to the sheet by hand.</p>"
-                 '<table><thead><tr><th>No.</th><th>Cap</th><th>Check</th><th>Severity</th><th>Status</th>'
-                 "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>")
-        for c in sorted(gone + manual, key=lambda c: c.no):
-            sev = escape(c.severity)
-            h.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.cap)}</td>'
-                     f"<td>{escape(c.check)}</td><td class=\"sev sev-{sev}\">{sev}</td>"
-                     f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td>"
-                     f"<td>{escape(c.reply)}</td></tr>")
-        h.append("</tbody></table></section>")
+    if not (gone or manual):
+        return []
+    h = ['<section class="carried-only"><h2>Comments not tied to a cap in this submission</h2>'
+         "<p>Carried from the previous comment sheet: comments on caps no longer in the schedule, "
+         "and rows added to the sheet by hand.</p>"
+         '<table><thead><tr><th>No.</th><th>Cap</th><th>Check</th><th>Severity</th><th>Status</th>'
+         "<th>Note</th><th>Designer response</th><th>Checker reply</th></tr></thead><tbody>"]
+    for c in sorted(gone + manual, key=lambda c: c.no):
+        sev = escape(c.severity)
+        h.append(f'<tr class="{escape(c.status)}"><td class="num">{c.no}</td><td>{escape(c.cap)}</td>'
+                 f"<td>{escape(c.check)}</td><td class=\"sev sev-{sev}\">{sev}</td>"
+                 f"<td>{escape(c.status)}</td><td>{escape(c.note)}</td><td>{escape(c.response)}</td>"
+                 f"<td>{escape(c.reply)}</td></tr>")
+    h.append("</tbody></table></section>")
+    return h
 
-    if review.rejected:
-        h.append('<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
-                 "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
-                 "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>")
-        for rej in review.rejected:
-            src = rej.source or {}
-            errs = "<br>".join(escape(str(e)) for e in rej.errors)
-            h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
-                     f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
-                     f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
-        h.append("</tbody></table></section>")
 
-    h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
-    h.append("</body></html>")
-    return "\n".join(h)
+def _rejected_rows(review: "Review") -> list[str]:
+    """The rows of the schedule that could not be read."""
+    if not review.rejected:
+        return []
+    h = ['<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
+         "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
+         "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>"]
+    for rej in review.rejected:
+        src = rej.source or {}
+        errs = "<br>".join(escape(str(e)) for e in rej.errors)
+        h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
+                 f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
+                 f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
+    h.append("</tbody></table></section>")
+    return h
 
 
 def write_html(review: "Review", path: str | Path, comments: list[Comment], meta: dict[str, Any],

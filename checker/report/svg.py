@@ -280,6 +280,28 @@ def _num(v: Any) -> float | None:
     return f if math.isfinite(f) else None
 
 
+class _Targets:
+    """Which findings point at which drawn elements, and the colour each element is drawn in."""
+
+    def __init__(self, findings: list[dict[str, Any]]) -> None:
+        self.by_target: dict[str, list[dict[str, Any]]] = {}
+        for r in findings:
+            if str(r["severity"]) == "ok":
+                continue
+            for t in targets_of(str(r["rule"])):
+                self.by_target.setdefault(t, []).append(r)
+
+    def worst(self, target: str) -> dict[str, Any] | None:
+        return _worst(self.by_target.get(target, []))
+
+    def colour_of(self, target: str) -> str | None:
+        w = self.worst(target)
+        return "#" + Severity(str(w["severity"])).fill if w and str(w["severity"]) in SEVERITY_RANK else None
+
+    def rules_of(self, target: str) -> str:
+        return " ".join(sorted({str(r["rule"]) for r in self.by_target.get(target, [])}))
+
+
 def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 460) -> str:
     """The sketch for one cap. ``findings`` are that cap's findings rows (any severity)."""
     mark = g.mark
@@ -313,175 +335,32 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
     margin_t, margin_b = fs * 3.6, fs * 6.2 + (fs * 2.4 if spacing_side == "below" else 0.0)
     vb = (-half_l - margin_l, -half_w - margin_t, 2 * half_l + margin_l + margin_r,
           2 * half_w + margin_t + margin_b)
-
-    # which findings point at which elements
-    bad = [r for r in findings if str(r["severity"]) != "ok"]
-    by_target: dict[str, list[dict[str, Any]]] = {}
-    for r in bad:
-        for t in targets_of(str(r["rule"])):
-            by_target.setdefault(t, []).append(r)
-
-    def colour_of(target: str) -> str | None:
-        w = _worst(by_target.get(target, []))
-        return "#" + Severity(str(w["severity"])).fill if w and str(w["severity"]) in SEVERITY_RANK else None
-
-    def rules_of(target: str) -> str:
-        return " ".join(sorted({str(r["rule"]) for r in by_target.get(target, [])}))
+    tg = _Targets(findings)
 
     # --- cap outline
     if have_outline:
         cv.add(f'<rect {_attrs(class_="cap-outline", x=-g.length / 2, y=-g.width / 2, width=g.length, height=g.width, fill=CAP_FILL, stroke=INK, stroke_width=cv.sw * 1.6)}/>')
-
-    # --- struts (plan projection, column centre to pile centres)
-    strut_c = colour_of("struts")
-    for i, (x, y) in enumerate(P):
-        if strut_c:
-            cv.add(f'<line {_attrs(class_="strut hl", x1=0.0, y1=0.0, x2=x, y2=y, stroke=strut_c, stroke_width=cv.hw * 0.8)} data-rule="{escape(rules_of("struts"))}"/>')
-        else:
-            cv.add(f'<line {_attrs(class_="strut", x1=0.0, y1=0.0, x2=x, y2=y, stroke=FAINT, stroke_width=cv.sw * 0.7)} stroke-dasharray="{fs * 0.4:.1f} {fs * 0.3:.1f}"/>')
-
-    # --- column
-    col_c = colour_of("column")
-    if _ok(g.column_x):
-        cy = g.column_y if _ok(g.column_y) else g.column_x
-        stroke = col_c or INK
-        sw = cv.hw if col_c else cv.sw * 1.2
-        extra = f' data-rule="{escape(rules_of("column"))}"' if col_c else ""
-        cls = "column hl" if col_c else "column"
-        if g.column_round:
-            cv.add(f'<circle {_attrs(class_=cls, cx=0.0, cy=0.0, r=g.column_x / 2, fill=COLUMN_FILL, stroke=stroke, stroke_width=sw)}{extra}/>')
-        else:
-            cv.add(f'<rect {_attrs(class_=cls, x=-g.column_x / 2, y=-cy / 2, width=g.column_x, height=cy, fill=COLUMN_FILL, stroke=stroke, stroke_width=sw)}{extra}/>')
-            # hatch cross to read as a column in section
-            cv.add(f'<path {_attrs(d=f"M{-g.column_x / 2:.1f},{-cy / 2:.1f} L{g.column_x / 2:.1f},{cy / 2:.1f} M{-g.column_x / 2:.1f},{cy / 2:.1f} L{g.column_x / 2:.1f},{-cy / 2:.1f}", stroke=FAINT, stroke_width=cv.sw * 0.6, fill="none")}/>')
+    _draw_struts(cv, P, tg)
+    _draw_column(cv, g, tg)
 
     # --- edge and spacing geometry
-    edges = _edge_distances(g)
-    edge_hl_piles: set[int] = set()
-    outside: set[int] = {i for (face, _c, i, _s) in edges if face < -1e-6}
-    edge_finding = _worst(by_target.get("edge", []))
-    edge_c = colour_of("edge")
-    edge_dim = None
-    if edges:
-        use_centre = False
-        fv = _num(edge_finding.get("value")) if edge_finding else None
-        min_face = min(e[0] for e in edges)
-        min_ctr = min(e[1] for e in edges)
-        if fv is not None and abs(fv - min_ctr) < abs(fv - min_face):
-            use_centre = True
-        idx = 1 if use_centre else 0
-        emin = min(e[idx] for e in edges)
-        nearest = [e for e in edges if e[idx] <= emin + 1.0]
-        edge_hl_piles = {e[2] for e in nearest}
-        pref = {"left": 0, "bottom": 1, "top": 2, "right": 3}
-        e0 = min(nearest, key=lambda e: (pref[e[3]], e[2]))
-        edge_dim = (e0, use_centre, fv)
-
-    spacing_c = colour_of("spacing")
-    spacing_hl: set[int] = set(pair[:2]) if (pair and spacing_c) else set()
-
-    pile_c = colour_of("piles")
-    outside_c = colour_of("outside") or ("#" + Severity.UNSAFE.fill if outside else None)
-
-    # --- piles
-    for i, (x, y) in enumerate(P):
-        stroke, sw, cls, rule_attr = INK, cv.sw * 1.3, ["pile"], []
-        for cond, colour, name, target in (
-            (i in outside, outside_c, "outside", "outside"),
-            (edge_c is not None and i in edge_hl_piles, edge_c, "edge-hl", "edge"),
-            (i in spacing_hl, spacing_c, "spacing-hl", "spacing"),
-            (pile_c is not None, pile_c, "pile-hl", "piles"),
-        ):
-            if cond and colour:
-                if stroke == INK:
-                    stroke, sw = colour, cv.hw
-                cls.append(name)
-                rule_attr.append(rules_of(target) or name)
-        if len(cls) > 1:
-            cls.append("hl")
-        r = pile_r if pile_r > 0 else extent * 0.03
-        data = f' data-rule="{escape(" ".join(rule_attr))}"' if rule_attr else ""
-        cv.add(f'<circle {_attrs(class_=" ".join(cls), cx=x, cy=y, r=r, fill=PILE_FILL, stroke=stroke, stroke_width=sw)} data-pile="P{i + 1}"{data}/>')
-        cv.text(x, y, f"P{i + 1}", cls="pile-label", colour=INK, size=fs * 0.85)
-
-    # --- spacing dimension (closest pair), offset away from the cap centre; a pair parallel to
-    # an axis is dimensioned outside the outline with extension lines, like the overall sizes
+    edge_hl_piles, outside, edge_dim = _edge_layout(g, tg)
+    spacing_hl: set[int] = set(pair[:2]) if (pair and tg.colour_of("spacing")) else set()
+    _draw_piles(cv, P, pile_r, extent, tg, outside, edge_hl_piles, spacing_hl)
     if pair:
-        i, j, d = pair
-        (x1, y1), (x2, y2) = P[i], P[j]
-        nx, ny, flipped, axis, off = sp_layout
-        sf = _worst(by_target.get("spacing", []))
-        sv = _num(sf.get("value")) if sf else None
-        label = f"s = {_mm(sv if sv is not None else d)}"
-        a, b = (x1 + nx * off, y1 + ny * off), (x2 + nx * off, y2 + ny * off)
-        colour = spacing_c or INK
-        if axis and have_outline:
-            for (px, py), (qx, qy) in (((x1, y1), a), ((x2, y2), b)):
-                cv.add(f'<line {_attrs(class_="ext", x1=px + nx * pile_r, y1=py + ny * pile_r, x2=qx + nx * fs * 0.3, y2=qy + ny * fs * 0.3, stroke=FAINT, stroke_width=cv.sw * 0.6)}/>')
-        cv.dim(a, b, label, colour=colour, width=cv.hw * 0.6 if spacing_c else None,
-               cls="dim spacing" + (" hl" if spacing_c else ""),
-               data=rules_of("spacing") if spacing_c else None, label_side=-1.0 if flipped else 1.0)
-
-    # --- edge dimension (nearest pile face, or centre, to the cap edge); its figure is written
-    # outside the outline so that a short dimension stays legible
+        _draw_spacing_dim(cv, P, pair, sp_layout, g, pile_r, have_outline, tg)
     if edge_dim:
-        (face, ctr, i, side), use_centre, fv = edge_dim
-        x, y = P[i]
-        r = 0.0 if use_centre else pile_r
-        hl, hw = g.length / 2, g.width / 2
-        gap = fs * 0.35
-        if side == "left":
-            p, q = (-hl, y), (x - r, y)
-            at = (min(-hl, x - r) - gap, y, "end")
-        elif side == "right":
-            p, q = (x + r, y), (hl, y)
-            at = (max(hl, x + r) + gap, y - fs * 0.8, "start")
-        elif side == "bottom":   # plan bottom = svg +y
-            p, q = (x, y + r), (x, hw)
-            at = (x, max(hw, y + r) + fs * 0.75, "middle")
-        else:
-            p, q = (x, -hw), (x, y - r)
-            at = (x, min(-hw, y - r) - fs * 0.75, "middle")
-        geom = ctr if use_centre else face
-        label = f"e = {_mm(fv if (fv is not None and edge_c) else geom)}"
-        cv.dim(p, q, label, colour=edge_c or INK, width=cv.hw * 0.6 if edge_c else None,
-               cls="dim edge" + (" hl" if edge_c else ""), data=rules_of("edge") if edge_c else None,
-               label_at=at)
+        _draw_edge_dim(cv, P, g, pile_r, edge_dim, tg)
 
     # --- overall dimensions (moved out when the spacing dimension took that side)
     if have_outline:
-        yb = half_w + fs * 1.6 + (fs * 2.4 if spacing_side == "below" else 0.0)
-        xr = half_l + fs * 1.6 + (fs * 2.4 if spacing_side == "right" else 0.0)
-        for (px, py), (qx, qy) in (((-g.length / 2, g.width / 2), (-g.length / 2, yb)),
-                                   ((g.length / 2, g.width / 2), (g.length / 2, yb)),
-                                   ((g.length / 2, -g.width / 2), (xr, -g.width / 2)),
-                                   ((g.length / 2, g.width / 2), (xr, g.width / 2))):
-            if abs(qx - px) + abs(qy - py) > fs * 1.7:
-                cv.add(f'<line {_attrs(class_="ext", x1=px, y1=py, x2=qx, y2=qy, stroke=FAINT, stroke_width=cv.sw * 0.6)}/>')
-        cv.dim((-g.length / 2, yb), (g.length / 2, yb), f"L = {_mm(g.length)}",
-               cls="dim overall", label_side=1.0)
-        cv.dim((xr, -g.width / 2), (xr, g.width / 2), f"W = {_mm(g.width)}",
-               cls="dim overall", label_side=-1.0)
+        _draw_overall_dims(cv, g, half_l, half_w, spacing_side)
 
     if len(piles) == 0 and _ok(g.n_piles):
         cv.text(0.0, -half_w * 0.55 if have_outline else 0.0,
                 f"{format_number(g.n_piles)} pile(s): positions not available", cls="note",
                 colour="#" + Severity.UNSAFE.fill, size=fs * 0.9)
-
-    # --- scale bar and axes
-    bar = _nice_length(extent / 4)
-    x0 = -half_l
-    y0 = half_w + fs * 4.3 + (fs * 2.4 if spacing_side == "below" else 0.0)
-    cv.add(f'<g class="scale-bar"><rect {_attrs(x=x0, y=y0 - fs * 0.25, width=bar / 2, height=fs * 0.5, fill=INK)}/>'
-           f'<rect {_attrs(x=x0 + bar / 2, y=y0 - fs * 0.25, width=bar / 2, height=fs * 0.5, fill="#FFFFFF", stroke=INK, stroke_width=cv.sw)}/></g>')
-    cv.text(x0 + bar + fs * 0.4, y0, f"{format_number(bar)} mm", anchor="start", size=fs * 0.85)
-    ax = half_l + fs * 0.2
-    ay = y0
-    a = fs * 1.6
-    cv.add(f'<g class="axes"><line {_attrs(x1=ax - a, y1=ay, x2=ax, y2=ay, stroke=INK, stroke_width=cv.sw)}/>'
-           f'<line {_attrs(x1=ax - a, y1=ay, x2=ax - a, y2=ay - a, stroke=INK, stroke_width=cv.sw)}/></g>')
-    cv.text(ax + fs * 0.5, ay, "x", size=fs * 0.85)
-    cv.text(ax - a, ay - a - fs * 0.55, "y", size=fs * 0.85)
+    _draw_scale_and_axes(cv, extent, half_l, half_w, spacing_side)
 
     n = len(piles)
     desc = (f"Plan of cap {mark}: "
@@ -499,6 +378,176 @@ def plan_svg(g: CapGeometry, findings: list[dict[str, Any]], *, width_px: int = 
         + "".join(cv.items)
         + "</svg>"
     )
+
+
+def _draw_struts(cv: _Canvas, P: list[tuple[float, float]], tg: _Targets) -> None:
+    """The struts in plan projection, column centre to pile centres."""
+    fs = cv.fs
+    strut_c = tg.colour_of("struts")
+    for i, (x, y) in enumerate(P):
+        if strut_c:
+            cv.add(f'<line {_attrs(class_="strut hl", x1=0.0, y1=0.0, x2=x, y2=y, stroke=strut_c, stroke_width=cv.hw * 0.8)} data-rule="{escape(tg.rules_of("struts"))}"/>')
+        else:
+            cv.add(f'<line {_attrs(class_="strut", x1=0.0, y1=0.0, x2=x, y2=y, stroke=FAINT, stroke_width=cv.sw * 0.7)} stroke-dasharray="{fs * 0.4:.1f} {fs * 0.3:.1f}"/>')
+
+
+def _draw_column(cv: _Canvas, g: CapGeometry, tg: _Targets) -> None:
+    """The column, round or rectangular (with a hatch cross)."""
+    col_c = tg.colour_of("column")
+    if not _ok(g.column_x):
+        return
+    cy = g.column_y if _ok(g.column_y) else g.column_x
+    stroke = col_c or INK
+    sw = cv.hw if col_c else cv.sw * 1.2
+    extra = f' data-rule="{escape(tg.rules_of("column"))}"' if col_c else ""
+    cls = "column hl" if col_c else "column"
+    if g.column_round:
+        cv.add(f'<circle {_attrs(class_=cls, cx=0.0, cy=0.0, r=g.column_x / 2, fill=COLUMN_FILL, stroke=stroke, stroke_width=sw)}{extra}/>')
+    else:
+        cv.add(f'<rect {_attrs(class_=cls, x=-g.column_x / 2, y=-cy / 2, width=g.column_x, height=cy, fill=COLUMN_FILL, stroke=stroke, stroke_width=sw)}{extra}/>')
+        # hatch cross to read as a column in section
+        cv.add(f'<path {_attrs(d=f"M{-g.column_x / 2:.1f},{-cy / 2:.1f} L{g.column_x / 2:.1f},{cy / 2:.1f} M{-g.column_x / 2:.1f},{cy / 2:.1f} L{g.column_x / 2:.1f},{-cy / 2:.1f}", stroke=FAINT, stroke_width=cv.sw * 0.6, fill="none")}/>')
+
+
+def _edge_layout(g: CapGeometry, tg: _Targets):
+    """(the piles nearest the edge, the piles outside the cap, the edge dimension to draw or None):
+    measured to the pile face, or to its centre when the finding's figure is the centre distance."""
+    edges = _edge_distances(g)
+    edge_hl_piles: set[int] = set()
+    outside: set[int] = {i for (face, _c, i, _s) in edges if face < -1e-6}
+    edge_finding = tg.worst("edge")
+    edge_dim = None
+    if edges:
+        use_centre = False
+        fv = _num(edge_finding.get("value")) if edge_finding else None
+        min_face = min(e[0] for e in edges)
+        min_ctr = min(e[1] for e in edges)
+        if fv is not None and abs(fv - min_ctr) < abs(fv - min_face):
+            use_centre = True
+        idx = 1 if use_centre else 0
+        emin = min(e[idx] for e in edges)
+        nearest = [e for e in edges if e[idx] <= emin + 1.0]
+        edge_hl_piles = {e[2] for e in nearest}
+        pref = {"left": 0, "bottom": 1, "top": 2, "right": 3}
+        e0 = min(nearest, key=lambda e: (pref[e[3]], e[2]))
+        edge_dim = (e0, use_centre, fv)
+    return edge_hl_piles, outside, edge_dim
+
+
+def _draw_piles(cv: _Canvas, P: list[tuple[float, float]], pile_r: float, extent: float, tg: _Targets,
+                outside: set[int], edge_hl_piles: set[int], spacing_hl: set[int]) -> None:
+    """The piles, each drawn in the colour of the worst finding that points at it, and labelled."""
+    fs = cv.fs
+    edge_c = tg.colour_of("edge")
+    spacing_c = tg.colour_of("spacing")
+    pile_c = tg.colour_of("piles")
+    outside_c = tg.colour_of("outside") or ("#" + Severity.UNSAFE.fill if outside else None)
+    for i, (x, y) in enumerate(P):
+        stroke, sw, cls, rule_attr = INK, cv.sw * 1.3, ["pile"], []
+        for cond, colour, name, target in (
+            (i in outside, outside_c, "outside", "outside"),
+            (edge_c is not None and i in edge_hl_piles, edge_c, "edge-hl", "edge"),
+            (i in spacing_hl, spacing_c, "spacing-hl", "spacing"),
+            (pile_c is not None, pile_c, "pile-hl", "piles"),
+        ):
+            if cond and colour:
+                if stroke == INK:
+                    stroke, sw = colour, cv.hw
+                cls.append(name)
+                rule_attr.append(tg.rules_of(target) or name)
+        if len(cls) > 1:
+            cls.append("hl")
+        r = pile_r if pile_r > 0 else extent * 0.03
+        data = f' data-rule="{escape(" ".join(rule_attr))}"' if rule_attr else ""
+        cv.add(f'<circle {_attrs(class_=" ".join(cls), cx=x, cy=y, r=r, fill=PILE_FILL, stroke=stroke, stroke_width=sw)} data-pile="P{i + 1}"{data}/>')
+        cv.text(x, y, f"P{i + 1}", cls="pile-label", colour=INK, size=fs * 0.85)
+
+
+def _draw_spacing_dim(cv: _Canvas, P: list[tuple[float, float]], pair, sp_layout, g: CapGeometry,
+                      pile_r: float, have_outline: bool, tg: _Targets) -> None:
+    """The spacing dimension (closest pair), offset away from the cap centre; a pair parallel to
+    an axis is dimensioned outside the outline with extension lines, like the overall sizes."""
+    fs = cv.fs
+    spacing_c = tg.colour_of("spacing")
+    i, j, d = pair
+    (x1, y1), (x2, y2) = P[i], P[j]
+    nx, ny, flipped, axis, off = sp_layout
+    sf = tg.worst("spacing")
+    sv = _num(sf.get("value")) if sf else None
+    label = f"s = {_mm(sv if sv is not None else d)}"
+    a, b = (x1 + nx * off, y1 + ny * off), (x2 + nx * off, y2 + ny * off)
+    colour = spacing_c or INK
+    if axis and have_outline:
+        for (px, py), (qx, qy) in (((x1, y1), a), ((x2, y2), b)):
+            cv.add(f'<line {_attrs(class_="ext", x1=px + nx * pile_r, y1=py + ny * pile_r, x2=qx + nx * fs * 0.3, y2=qy + ny * fs * 0.3, stroke=FAINT, stroke_width=cv.sw * 0.6)}/>')
+    cv.dim(a, b, label, colour=colour, width=cv.hw * 0.6 if spacing_c else None,
+           cls="dim spacing" + (" hl" if spacing_c else ""),
+           data=tg.rules_of("spacing") if spacing_c else None, label_side=-1.0 if flipped else 1.0)
+
+
+def _draw_edge_dim(cv: _Canvas, P: list[tuple[float, float]], g: CapGeometry, pile_r: float, edge_dim,
+                   tg: _Targets) -> None:
+    """The edge dimension (nearest pile face, or centre, to the cap edge); its figure is written
+    outside the outline so that a short dimension stays legible."""
+    fs = cv.fs
+    edge_c = tg.colour_of("edge")
+    (face, ctr, i, side), use_centre, fv = edge_dim
+    x, y = P[i]
+    r = 0.0 if use_centre else pile_r
+    hl, hw = g.length / 2, g.width / 2
+    gap = fs * 0.35
+    if side == "left":
+        p, q = (-hl, y), (x - r, y)
+        at = (min(-hl, x - r) - gap, y, "end")
+    elif side == "right":
+        p, q = (x + r, y), (hl, y)
+        at = (max(hl, x + r) + gap, y - fs * 0.8, "start")
+    elif side == "bottom":   # plan bottom = svg +y
+        p, q = (x, y + r), (x, hw)
+        at = (x, max(hw, y + r) + fs * 0.75, "middle")
+    else:
+        p, q = (x, -hw), (x, y - r)
+        at = (x, min(-hw, y - r) - fs * 0.75, "middle")
+    geom = ctr if use_centre else face
+    label = f"e = {_mm(fv if (fv is not None and edge_c) else geom)}"
+    cv.dim(p, q, label, colour=edge_c or INK, width=cv.hw * 0.6 if edge_c else None,
+           cls="dim edge" + (" hl" if edge_c else ""), data=tg.rules_of("edge") if edge_c else None,
+           label_at=at)
+
+
+def _draw_overall_dims(cv: _Canvas, g: CapGeometry, half_l: float, half_w: float, spacing_side: str) -> None:
+    """The overall length and width, moved out when the spacing dimension took that side."""
+    fs = cv.fs
+    yb = half_w + fs * 1.6 + (fs * 2.4 if spacing_side == "below" else 0.0)
+    xr = half_l + fs * 1.6 + (fs * 2.4 if spacing_side == "right" else 0.0)
+    for (px, py), (qx, qy) in (((-g.length / 2, g.width / 2), (-g.length / 2, yb)),
+                               ((g.length / 2, g.width / 2), (g.length / 2, yb)),
+                               ((g.length / 2, -g.width / 2), (xr, -g.width / 2)),
+                               ((g.length / 2, g.width / 2), (xr, g.width / 2))):
+        if abs(qx - px) + abs(qy - py) > fs * 1.7:
+            cv.add(f'<line {_attrs(class_="ext", x1=px, y1=py, x2=qx, y2=qy, stroke=FAINT, stroke_width=cv.sw * 0.6)}/>')
+    cv.dim((-g.length / 2, yb), (g.length / 2, yb), f"L = {_mm(g.length)}",
+           cls="dim overall", label_side=1.0)
+    cv.dim((xr, -g.width / 2), (xr, g.width / 2), f"W = {_mm(g.width)}",
+           cls="dim overall", label_side=-1.0)
+
+
+def _draw_scale_and_axes(cv: _Canvas, extent: float, half_l: float, half_w: float, spacing_side: str) -> None:
+    """The scale bar and the x, y axes below the plan."""
+    fs = cv.fs
+    bar = _nice_length(extent / 4)
+    x0 = -half_l
+    y0 = half_w + fs * 4.3 + (fs * 2.4 if spacing_side == "below" else 0.0)
+    cv.add(f'<g class="scale-bar"><rect {_attrs(x=x0, y=y0 - fs * 0.25, width=bar / 2, height=fs * 0.5, fill=INK)}/>'
+           f'<rect {_attrs(x=x0 + bar / 2, y=y0 - fs * 0.25, width=bar / 2, height=fs * 0.5, fill="#FFFFFF", stroke=INK, stroke_width=cv.sw)}/></g>')
+    cv.text(x0 + bar + fs * 0.4, y0, f"{format_number(bar)} mm", anchor="start", size=fs * 0.85)
+    ax = half_l + fs * 0.2
+    ay = y0
+    a = fs * 1.6
+    cv.add(f'<g class="axes"><line {_attrs(x1=ax - a, y1=ay, x2=ax, y2=ay, stroke=INK, stroke_width=cv.sw)}/>'
+           f'<line {_attrs(x1=ax - a, y1=ay, x2=ax - a, y2=ay - a, stroke=INK, stroke_width=cv.sw)}/></g>')
+    cv.text(ax + fs * 0.5, ay, "x", size=fs * 0.85)
+    cv.text(ax - a, ay - a - fs * 0.55, "y", size=fs * 0.85)
 
 
 def cap_sketch(review: "Review", mark: str, findings: list[dict[str, Any]] | None = None,
