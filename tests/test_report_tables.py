@@ -62,3 +62,16 @@ def test_markdown_without_comments(tmp_path):
     (path,) = write_outputs(rv, [tmp_path / "c.md"], meta=META)
     text = path.read_text(encoding="utf-8")
     assert "No comments" in text and CAUTION in text
+
+
+def test_markdown_body_escaped_in_one_pass_matches_cell_by_cell():
+    """The body is escaped at once (writer speed, issue 14); each cell must come out as escaping it alone
+    would, and a control character typed in a cell must not shift the columns."""
+    from checker.report.tables import _md_escape, _md_table_body
+    rows = [["1", "PC1", "a|b", "x\r\ny", None, "<&>", "back\\slash"],
+            ["2", "PC2", "nul\x00here", "soh\x01here", "", "plain", "z"]]
+    lines = _md_table_body(rows).split("\n")
+    assert len(lines) == 2
+    assert lines[0] == "| " + " | ".join(_md_escape(v) for v in rows[0]) + " |"
+    cells = lines[1].replace("\\|", "").split(" | ")
+    assert len(cells) == 7 and "nulhere" in lines[1] and "sohhere" in lines[1]

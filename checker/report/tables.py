@@ -88,10 +88,26 @@ def comments_markdown(comments: list[Comment], meta: dict[str, Any] | None = Non
         return "\n".join(lines)
     lines.append("| " + " | ".join(COMMENT_HEADINGS) + " |")
     lines.append("|" + "|".join("---:" if h == "No." else "---" for h in COMMENT_HEADINGS) + "|")
-    for c in comments:
-        lines.append("| " + " | ".join(_md_escape(v) for v in c.cells()) + " |")
+    lines.append(_md_table_body([c.cells() for c in comments]))
     lines.append("")
     return "\n".join(lines)
+
+
+_CELL, _ROW = "\x00", "\x01"   # separators while the body is escaped in one pass
+_NO_SEPARATORS = str.maketrans("", "", _CELL + _ROW)
+
+
+def _md_table_body(rows: list[list[Any]]) -> str:
+    """The table rows, each cell escaped as :func:`_md_escape` escapes it, but the whole body at once:
+    the cells are joined with NUL and the rows with SOH, the body escaped with a handful of
+    ``str.replace`` calls, then the separators become ``" | "`` and line breaks (a cell's own line
+    breaks are ``<br>`` by then). A cell that itself holds NUL or SOH loses them (they are not text)."""
+    texts = [[_cell_text(v) for v in cells] for cells in rows]
+    body = _ROW.join(_CELL.join(cells) for cells in texts)
+    expected = sum(len(cells) - 1 for cells in texts) + max(len(texts) - 1, 0)
+    if body.count(_CELL) + body.count(_ROW) != expected:   # a control character typed in a cell
+        body = _ROW.join(_CELL.join(t.translate(_NO_SEPARATORS) for t in cells) for cells in texts)
+    return "| " + _md_escape(body).replace(_CELL, " | ").replace(_ROW, " |\n| ") + " |"
 
 
 def write_csv(path: str | Path, comments: list[Comment], *, force: bool = False) -> Path:
