@@ -219,3 +219,36 @@ def test_missing_mapping_file(tmp_path):
 def test_group_heading_over_short_sub_headings(heading, field):
     """A group heading 'Cap size (mm)' over L / W / D columns, joined as a PDF table gives it."""
     assert match_heading(heading)[0] == field
+
+
+@pytest.mark.parametrize("heading, field", [
+    ("Pile spacin", "pile_spacing"),        # cut where the cell ended
+    ("Pile centr", "pile_spacing"),
+    ("Pile capac", "pile_capacity"),
+    ("Pile embedm", "embedment"),
+    ("Exposure cla", "exposure"),
+])
+def test_a_heading_cut_off_at_its_last_word_is_read_with_a_note(heading, field):
+    """A column too narrow for its heading (a workbook printed to PDF) cuts the last word short; the one
+    completion that makes a known heading is taken, and the note says so (issue 11, no silent loss)."""
+    report = match_headings(["Mark", heading])
+    assert report.by_field[field].how == "heading cut off"
+    assert any("looks cut off" in n and heading in n for n in report.notes)
+
+
+@pytest.mark.parametrize("heading", [
+    "Bottom bars",            # whole words, x or y not said: never guessed
+    "Pile sp (mm)",           # a unit follows: the last word is whole, not cut
+    "Pile ca",                # two letters: too short to complete
+    "Remar",                  # no completion makes a known heading
+])
+def test_a_heading_is_not_completed_when_unsure(heading):
+    report = match_headings(["Mark", heading])
+    assert set(report.by_field) == {"mark"} and report.unmapped == [heading]
+
+
+def test_cut_off_completion_is_never_used_to_find_the_heading_row():
+    """count_known (which row is the heading row) reads cells without completing them: a data cell
+    such as 'Pile capac' must not make a row of figures look like headings."""
+    assert match_heading("Pile capac")[0] is None
+    assert match_heading("Pile capac", cut_off=True)[0] == "pile_capacity"

@@ -492,9 +492,46 @@ def _element_first(heading: str, unit: str | None) -> tuple[str | None, str, str
     return name, "element named first", unit or runit
 
 
+#: every word of the known headings, the word rules and the spellings unified (:func:`_cut_off`)
+_KNOWN_WORDS: frozenset[str] = frozenset(
+    w for texts in (*_ALIAS_TEXT.values(), *_COORD_ALIAS_TEXT.values(), _SYNONYMS)
+    for t in texts for w in _SPLIT_RE.split(clean_text(t).lower()) if w
+) | frozenset(w for r in WORD_RULES for w in r.needs | r.may)
+#: the shortest cut-off word completed (two letters complete too many words)
+CUT_OFF_MIN_LETTERS = 3
+
+
+def _cut_off(heading: str, vocabulary: str) -> tuple[str | None, str]:
+    """A heading whose last word was cut off where the cell or the page column ended ('Pile spacin',
+    'Pile capac'): the field when exactly one completion of that word from the known vocabulary makes
+    a known heading, with the note that says so; else (None, ''). Not tried when the heading has a unit
+    (the unit stands after the last word, so that word is whole)."""
+    text = clean_text(heading).lower()
+    if heading_key(text)[1] is not None:
+        return None, ""
+    parts = [w for w in _SPLIT_RE.split(text) if w]
+    last = parts[-1] if parts else ""
+    if len(last) < CUT_OFF_MIN_LETTERS or last in _KNOWN_WORDS or not last.isalpha():
+        return None, ""
+    head = text[:text.rindex(last)]
+    found: dict[str, str] = {}
+    for word in sorted(w for w in _KNOWN_WORDS if w.startswith(last)):
+        name, _ = _classify(heading_key(head + word)[0], vocabulary)
+        if name is not None:
+            found.setdefault(name, word)
+    if len(found) != 1:
+        return None, ""
+    ((name, word),) = found.items()
+    return name, (f"heading {heading!r} is read as {name}: its last word looks cut off ({last!r} taken as "
+                  f"{word!r}); check the column, or map the heading in a mapping file")
+
+
 def match_heading(heading: str, vocabulary: str = "schedule",
-                  mapping: HeadingMap | None = None) -> tuple[str | None, str | None, float, str, str]:
-    """One heading -> (field or None, unit display or None, scale, how, problem note or '')."""
+                  mapping: HeadingMap | None = None,
+                  cut_off: bool = False) -> tuple[str | None, str | None, float, str, str]:
+    """One heading -> (field or None, unit display or None, scale, how, problem note or '').
+    ``cut_off``: also read a heading whose last word was cut short (:func:`_cut_off`); only for the
+    headings of a table already found, never to find the heading row among data cells."""
     fields = VOCABULARIES[vocabulary]
     words, unit = heading_key(str(heading))
     how = ""
@@ -510,6 +547,10 @@ def match_heading(heading: str, vocabulary: str = "schedule",
         name, how = _classify(words, vocabulary)
     if name is None and vocabulary == "schedule":
         name, how, unit = _element_first(str(heading), unit)
+    cut_note = ""
+    if name is None and cut_off:
+        name, cut_note = _cut_off(str(heading), vocabulary)
+        how = "heading cut off" if name is not None else how
     if name is None:
         if "sls" in words:
             return None, None, 1.0, "", (f"heading {heading!r} looks like a serviceability value; capcheck "
@@ -541,7 +582,7 @@ def match_heading(heading: str, vocabulary: str = "schedule",
                                          f"{name} (a {kind}); not used")
         scale = factor if ukind == kind else 1.0
         shown = UNIT_NAMES[unit]
-    return name, shown, scale, how, note
+    return name, shown, scale, how, "; ".join(n for n in (cut_note, note) if n)
 
 
 def match_headings(headings: Sequence[Any], mapping: Any = None, vocabulary: str = "schedule") -> HeadingReport:
@@ -556,7 +597,7 @@ def match_headings(headings: Sequence[Any], mapping: Any = None, vocabulary: str
         text = "" if h is None else str(h)
         if not clean_text(text):
             continue
-        name, unit, scale, how, problem = match_heading(text, vocabulary, hmap)
+        name, unit, scale, how, problem = match_heading(text, vocabulary, hmap, cut_off=True)
         if problem:
             notes.append(problem)
         if how.startswith("ignored"):
