@@ -144,19 +144,20 @@ def build_parser() -> argparse.ArgumentParser:
 def _progress(args, console_err: Console):
     if getattr(args, "quiet", False) or not sys.stdout.isatty() or not str(args.file).lower().endswith(".pdf"):
         return None, None
-    from rich.progress import BarColumn, Progress, TextColumn
+    from rich.progress import BarColumn, Progress, TaskID, TextColumn
 
     prog = Progress(TextColumn("reading PDF"), BarColumn(), TextColumn("{task.completed}/{task.total} pages"),
                     console=console_err, transient=True)
-    task = {"id": None}
+    task: TaskID | None = None
 
     def cb(done: int, total: int) -> None:
+        nonlocal task
         if total <= 3:
             return
-        if task["id"] is None:
+        if task is None:
             prog.start()
-            task["id"] = prog.add_task("pdf", total=total)
-        prog.update(task["id"], completed=done)
+            task = prog.add_task("pdf", total=total)
+        prog.update(task, completed=done)
 
     return cb, prog
 
@@ -223,7 +224,8 @@ def _close_policy(args, review=None) -> str:
             raise _UsageError(f"--close {given}: use one of {', '.join(CLOSE_POLICIES)}")
         return v
     data = _project(args)
-    value = data.get("close", (data.get("revision") if isinstance(data.get("revision"), dict) else {}).get("close"))
+    section = data.get("revision")
+    value = data.get("close", (section if isinstance(section, dict) else {}).get("close"))
     if value is None:
         return "auto"
     v = str(value).strip().lower()

@@ -15,8 +15,12 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
+from numpy.typing import NDArray
 
 from checker.calcs import reactions as rea
+from checker.calcs._typing import Floats, Real
+
+Mask = NDArray[np.bool_]     # real piles (n, m)
 
 MIN_WIDTH = 6
 
@@ -56,7 +60,7 @@ class PileGroup:
         return cls(X, Y, mask, rea.group_terms(X, Y, mask))
 
 
-def standard_layout(piles, spacing):
+def standard_layout(piles: Real, spacing: Real) -> tuple[Floats, Floats]:
     """Pile centres of the standard layouts 1 to 6 (product brief), vectorised over caps.
 
     Args:
@@ -78,7 +82,7 @@ def standard_layout(piles, spacing):
     return np.asfortranarray(_UNIT_X[k] * s), np.asfortranarray(_UNIT_Y[k] * s)
 
 
-def pile_arrays(caps: pd.DataFrame, coords: pd.DataFrame | None = None):
+def pile_arrays(caps: pd.DataFrame, coords: pd.DataFrame | None = None) -> tuple[Floats, Floats, Mask]:
     """Pile coordinate arrays for a schedule: standard layouts, or explicit coordinates.
 
     Caps whose mark appears in ``coords`` (columns ``mark, x, y`` in mm relative to the column
@@ -129,13 +133,13 @@ def _col(df: pd.DataFrame, name: str, n: int) -> np.ndarray:
     return pd.to_numeric(df[name], errors="coerce").to_numpy(dtype=float)
 
 
-def n_piles(mask):
+def n_piles(mask: Mask) -> Floats:
     """Number of real piles per cap [count] (NaN where there are none)."""
     k = mask.sum(axis=1).astype(float)
     return np.where(k > 0, k, np.nan)
 
 
-def effective_depth_x(h, cover, phi_x):
+def effective_depth_x(h: Real, cover: Real, phi_x: Real) -> Floats:
     """Effective depth of the lowest layer (bars along x): d_x = h − cover − φx/2 (brief).
 
     Args:
@@ -149,7 +153,7 @@ def effective_depth_x(h, cover, phi_x):
     return np.asarray(h, dtype=float) - cover - 0.5 * np.asarray(phi_x, dtype=float)
 
 
-def effective_depth_y(h, cover, phi_x, phi_y):
+def effective_depth_y(h: Real, cover: Real, phi_x: Real, phi_y: Real) -> Floats:
     """Effective depth of the second layer (bars along y): d_y = h − cover − φx − φy/2 (brief).
 
     Args:
@@ -164,11 +168,11 @@ def effective_depth_y(h, cover, phi_x, phi_y):
     return np.asarray(h, dtype=float) - cover - phi_x - 0.5 * np.asarray(phi_y, dtype=float)
 
 
-def _nan_if_inf(a):
+def _nan_if_inf(a: Real) -> Floats:
     return np.where(np.isfinite(a), a, np.nan)
 
 
-def pair_distances(X, Y, mask):
+def pair_distances(X: Floats, Y: Floats, mask: Mask) -> Floats:
     """Centre-to-centre distances of all pile pairs i < j, shape (n, m(m−1)/2); NaN where either
     pile is missing [mm]."""
     i, j = np.triu_indices(X.shape[1], 1)
@@ -176,7 +180,7 @@ def pair_distances(X, Y, mask):
     return np.where(mask[:, i] & mask[:, j], d, np.nan)
 
 
-def spacing_min(X, Y, mask):
+def spacing_min(X: Floats, Y: Floats, mask: Mask) -> Floats:
     """Least centre-to-centre spacing over all pile pairs [mm] (NaN for a single pile)."""
     i, j = np.triu_indices(X.shape[1], 1)
     dx = X[:, i] - X[:, j]
@@ -185,7 +189,7 @@ def spacing_min(X, Y, mask):
     return np.sqrt(_nan_if_inf(np.min(d2, axis=1, initial=np.inf)))
 
 
-def edge_distances(X, Y, mask, cap_length, cap_width, pile_dia):
+def edge_distances(X: Floats, Y: Floats, mask: Mask, cap_length: Real, cap_width: Real, pile_dia: Real) -> Floats:
     """Clear distance from each pile face to the nearest edge of a rectangular cap L × W centred
     on the column: min(L/2 − |x|, W/2 − |y|) − φ/2, negative where the pile sticks out [mm].
 
@@ -206,13 +210,13 @@ def edge_distances(X, Y, mask, cap_length, cap_width, pile_dia):
     return np.where(mask, e, np.nan)
 
 
-def edge_min(X, Y, mask, cap_length, cap_width, pile_dia):
+def edge_min(X: Floats, Y: Floats, mask: Mask, cap_length: Real, cap_width: Real, pile_dia: Real) -> Floats:
     """Least clear distance from a pile face to the cap edge over the piles [mm]."""
     e = edge_distances(X, Y, mask, cap_length, cap_width, pile_dia)
     return _nan_if_inf(np.min(np.where(np.isnan(e), np.inf, e), axis=1))
 
 
-def plan_overhang(X, Y, mask, cap_length, cap_width, pile_dia):
+def plan_overhang(X: Floats, Y: Floats, mask: Mask, cap_length: Real, cap_width: Real, pile_dia: Real) -> Floats:
     """How far any part of a pile lies outside the cap outline in plan, ≥ 0 [mm].
 
     The pile's outer face is measured (a pile whose centre is inside but whose face is outside
@@ -221,12 +225,13 @@ def plan_overhang(X, Y, mask, cap_length, cap_width, pile_dia):
     return np.where(np.isnan(e), np.nan, np.maximum(-e, 0.0))
 
 
-def radial_distances(X, Y, mask):
+def radial_distances(X: Floats, Y: Floats, mask: Mask) -> Floats:
     """Distance from the column centre to each pile centre, (n, m), NaN for missing piles [mm]."""
     return np.where(mask, np.hypot(X, Y), np.nan)
 
 
-def column_face_distances(X, Y, mask, column_x, column_y, column_round=False):
+def column_face_distances(X: Floats, Y: Floats, mask: Mask, column_x: Real, column_y: Real,
+                          column_round: Real = False) -> Floats:
     """Distance from the column face to each pile centre, 0 for a centre under the column [mm].
 
     Rectangle cx × cy (centred): the Euclidean distance to the rectangle, which is the distance
@@ -250,11 +255,11 @@ def column_face_distances(X, Y, mask, column_x, column_y, column_round=False):
     return np.where(mask, np.where(rnd, circ, rect), np.nan)
 
 
-def row_max(a, mask):
+def row_max(a: Floats, mask: Mask) -> Floats:
     """Row-wise maximum over real piles, NaN where a cap has none."""
     return _nan_if_inf(np.max(np.where(mask & ~np.isnan(a), a, -np.inf), axis=1))
 
 
-def row_min(a, mask):
+def row_min(a: Floats, mask: Mask) -> Floats:
     """Row-wise minimum over real piles, NaN where a cap has none."""
     return _nan_if_inf(np.min(np.where(mask & ~np.isnan(a), a, np.inf), axis=1))

@@ -379,9 +379,9 @@ def _read_revision(wb) -> Label | None:
                 if n is not None:
                     return n
     if DATA_SHEET in wb.sheetnames:
-        row = next(wb[DATA_SHEET].iter_rows(min_row=1, max_row=1, values_only=True), ())
-        if len(row) >= 3 and row[0] == DATA_MARKER:
-            return _label(row[2])
+        first: tuple[Any, ...] = next(wb[DATA_SHEET].iter_rows(min_row=1, max_row=1, values_only=True), ())
+        if len(first) >= 3 and first[0] == DATA_MARKER:
+            return _label(first[2])
     return None
 
 
@@ -841,7 +841,9 @@ def input_changes(before: dict[str, dict[str, tuple[Any, str]]],
                 continue
             if av is not None and bv is not None and _same(av, bv):
                 continue
-            out.append({"cap": cap, "field": name, "unit": (b or a)[1], "old": av, "new": bv})
+            held = b or a
+            assert held is not None             # one of the two has a value (the test above)
+            out.append({"cap": cap, "field": name, "unit": held[1], "old": av, "new": bv})
     for cap in before:
         if cap not in after:
             out.append({"cap": cap, "field": "cap", "unit": "", "old": "present", "new": "removed"})

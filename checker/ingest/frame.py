@@ -267,7 +267,7 @@ class _Unique:
     def error_rows(self) -> tuple[np.ndarray, list[str]]:
         bad_u = np.fromiter((e is not None for e in self.errs), bool, len(self.errs))
         rows = np.flatnonzero(bad_u[self.codes])
-        return rows, [self.errs[c] for c in self.codes[rows]]  # type: ignore[misc]
+        return rows, [self.errs[c] for c in self.codes[rows]]
 
 
 def _map_unique(col: pd.Series, fn: Callable[[Any], Any], width: int) -> _Unique:
@@ -857,7 +857,7 @@ def _apply_coords(out: dict[str, np.ndarray], coords: pd.DataFrame, problems: di
     """Explicit groups: piles from the count of positions; pile_spacing (if blank) the least c/c."""
     marks = pd.Series(out["mark"], dtype=object)
     groups = {m: g[["x", "y"]].to_numpy(float) for m, g in coords.groupby("mark", sort=False)}
-    pos = {}
+    pos: dict[Any, list[int]] = {}
     for i, m in enumerate(marks.tolist()):
         if m in groups or m in problems:
             pos.setdefault(m, []).append(i)
@@ -984,7 +984,7 @@ def build_frame(tables: RawTable | Sequence[RawTable], *, mapping: Any = None,
     return _frame_result(j, rows, frame, per_row, reports, notes, problems, load_marks, defaults)
 
 
-def _parse_tables(tables: Sequence[RawTable], hmap: HeadingMap, cells: Sequence[pd.DataFrame] | None,
+def _parse_tables(tables: Sequence[RawTable], hmap: HeadingMap | None, cells: Sequence[pd.DataFrame] | None,
                   defaults: Defaults | None
                   ) -> tuple[list[HeadingReport], list[str], list[_Parsed], list[pd.DataFrame]]:
     """Match the headings of each table and parse its cells; the notes, and each row's provenance."""
@@ -1046,8 +1046,8 @@ def _join(parts: list[_Parsed], prov: list[pd.DataFrame]) -> _Joined:
             errors.add(fld, rows + offset, msgs)
         for k, v in p.labels.items():
             labels.setdefault(k, v)
-        for k, v in p.units.items():
-            units.setdefault(k, v)
+        for k, unit in p.units.items():
+            units.setdefault(k, unit)
         for rows, text in p.applied:
             for r in (rows + offset).tolist():
                 applied_rows.setdefault(r, []).append(text)
@@ -1149,9 +1149,9 @@ def _rejections(j: _Joined, c: _CaseRows, vmsgs: dict[Any, list[str]]) -> dict[i
         fld, rows, msgs = fe.field, fe.rows, fe.messages
         for r, msg in zip(rows.tolist(), msgs):
             per_row.setdefault(r, []).append((fld, msg))
-    for r, msgs in vmsgs.items():
+    for r, vlist in vmsgs.items():
         have = {f for f, _ in per_row.get(r, [])}
-        for msg in msgs:
+        for msg in vlist:
             fld, _, rest = msg.partition(":")
             if fld in have or any(s in have for s in DERIVED_FROM.get(fld, ())):
                 continue
@@ -1310,8 +1310,7 @@ def attach_loads(res: FrameResult, loads: LoadsTable) -> None:
         errors.add("case", rows, msgs)
     per_row: dict[int, list[str]] = {}
     for fe in errors.items:
-        _fld, rows, msgs = fe.field, fe.rows, fe.messages
-        for r, msg in zip(rows.tolist(), msgs):
+        for r, msg in zip(fe.rows.tolist(), fe.messages):
             per_row.setdefault(r, []).append(msg)
     bad = np.zeros(n, bool)
     bad[list(per_row)] = True
@@ -1435,14 +1434,19 @@ _BOUND_OK = {"mx_ed", "my_ed", "stated_pile_load", "stated_tie_x", "stated_tie_y
              "embedment"}
 
 
+def _plausible_text(f: str, value: float, unit: tuple[str, str, float]) -> str | None:
+    """The plausibility message of ``value`` of field ``f`` read in ``unit`` (kind, spelling, factor)."""
+    kind, spelling, factor = unit
+    return plausible_problem(f, kind, value, spelling, factor)
+
+
 def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[str, str]],
                   units_at: Callable[[int], dict[str, tuple[str, str, float]]], errors: _Errors) -> None:
     """Figures outside their plausible range (:mod:`checker.ingest.plausible`), a column larger than
     the cap, and a bar count that does not fit the cap at the least clear spacing, as row errors."""
     have: dict[str, set[int]] = {}
     for fe in errors.items:
-        fld, rows, _ = fe.field, fe.rows, fe.messages
-        have.setdefault(fld, set()).update(rows.tolist())
+        have.setdefault(fe.field, set()).update(fe.rows.tolist())
     for f in PLAUSIBLE:
         v = out.get(f)
         if v is None:
@@ -1457,8 +1461,7 @@ def _plausibility(out: dict[str, np.ndarray], labels_at: Callable[[int], dict[st
         rows = [r for r in np.flatnonzero(bad).tolist() if r not in have.get(f, ()) and f in units_at(r)]
         if not rows:
             continue
-        errors.add(f, rows, [f"{labels_at(r).get(f, f)}: "
-                             f"{plausible_problem(f, *units_at(r)[f][:1], float(v[r]), *units_at(r)[f][1:])}"
+        errors.add(f, rows, [f"{labels_at(r).get(f, f)}: {_plausible_text(f, float(v[r]), units_at(r)[f])}"
                              for r in rows])
         have.setdefault(f, set()).update(rows)
         out[f][rows] = np.nan            # not judged again by the model's cross-field checks

@@ -34,7 +34,7 @@ import logging
 import os
 import re
 from dataclasses import dataclass, field
-from typing import Callable
+from typing import Callable, Sequence
 
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf_model import Layout, PageTable
@@ -121,12 +121,14 @@ class _Assembly:
                 self.tables.append(current)
                 self.started[id(current)] = page_no
                 self.struck[id(current)] = []
+            # a page without a heading row is read only after a table (``prev``): ``current`` is set
+            assert current is not None
             width = len(current.headings)
             if pt.headings is not None and pt.head_tops and pt.rows:
                 self.left, self.left_at = pt, len(current.rows)
             else:
                 self.left = None
-            current.rows.extend(r + [""] * (width - len(r)) for r in pt.rows)
+            current.rows.extend(_padded(r, width) for r in pt.rows)
             current.pages.extend([page_no] * len(pt.rows))
             current.row_numbers.extend(pt.row_numbers)
             self.struck[id(current)].extend(pt.struck if len(pt.struck) == len(pt.rows)
@@ -247,12 +249,19 @@ def _no_table(name: str, pages_with_text: int, failed: list[int], kinds: dict[st
         + (" Notes: " + "; ".join(notes[:5]) if notes else ""))
 
 
+def _padded(row: Sequence[object], width: int) -> list[object]:
+    """``row`` with blank cells added up to ``width``."""
+    return [*row, *[""] * (width - len(row))]
+
+
 def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: list[str],
                struck: list[tuple[int, int]]) -> None:
     """The columns of ``strip`` (a page printed to the right of the table's first page) joined onto
     the rows they share heights with (and their struck-through cells counted with the row's)."""
     first_page = table.pages[at] if at < len(table.pages) else page_no
-    table.headings.extend(strip.headings)
+    headings = strip.headings
+    assert headings is not None         # a strip printed to the right is read with its heading row
+    table.headings.extend(headings)
     width = len(table.headings)
     for k, row in enumerate(table.rows):
         if len(row) < width:
@@ -265,8 +274,8 @@ def _add_strip(table: RawTable, strip: PageTable, at: int, page_no: int, notes: 
                 c, d = strip.struck[k]
                 struck[at + k] = (a + c, b + d)
     notes.extend(strip.notes)
-    notes.append(f"page {page_no}: the columns {', '.join(repr(h) for h in strip.headings[:4])}"
-                 f"{' ...' if len(strip.headings) > 4 else ''} printed to the right of page "
+    notes.append(f"page {page_no}: the columns {', '.join(repr(h) for h in headings[:4])}"
+                 f"{' ...' if len(headings) > 4 else ''} printed to the right of page "
                  f"{first_page}; read with its rows (same heights)")
 
 

@@ -16,7 +16,7 @@ import datetime as _dt
 import io
 import tomllib
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, Sequence
 
 from checker.report.writefile import next_free_name, write_atomic
 
@@ -148,7 +148,7 @@ def _target(path: Path, force: bool) -> Path:
     return path if force else next_free_name(path)
 
 
-def write_outputs(review: "Review", paths: list[str | Path], *, force: bool = False,
+def write_outputs(review: "Review", paths: Sequence[str | Path], *, force: bool = False,
                   meta: dict | None = None, previous: "RevisionResult | None" = None) -> list[Path]:
     """Write each requested output (format from the extension) and return the paths written.
 

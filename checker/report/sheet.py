@@ -193,7 +193,7 @@ def _put(ws, row: int, col: int, value: Any, fmt=None) -> None:
     elif isinstance(value, (int, float)):
         ws.write_number(r, c, value, fmt)
     elif isinstance(value, (_dt.date, _dt.datetime)):
-        if fmt is not None and getattr(fmt, "num_format", 0):   # a date typed by a person stays a date
+        if fmt is not None and getattr(fmt, "num_format", None):   # a date typed by a person stays a date
             when = value if isinstance(value, _dt.datetime) else _dt.datetime.combine(value, _dt.time())
             ws.write_datetime(r, c, when, fmt)
         else:
@@ -482,7 +482,7 @@ def _all_checks_rows(ws, fmts: _Formats, frame, ncols: int) -> None:
     caps = [str(c) for c in col("cap")]
     rules = [str(r) for r in col("rule")]
     titles = text(col("title"))
-    checks = {}
+    checks: dict[tuple[str, str], str] = {}
     sevs = [str(s) for s in col("severity")]
     clauses, units, messages = text(col("clause")), text(col("unit")), text(col("message"))
     actions = [a if a != "nan" else "" for a in text(col("action"))]
@@ -564,8 +564,8 @@ def _columns_sheet(ws, layout: list[tuple[str, str]]) -> None:
     for col, v in enumerate(("column", "heading", "field"), start=1):
         _put(ws, 2, col, v)
     for i, (h, f) in enumerate(layout, start=1):
-        for col, v in enumerate((i, h, f), start=1):
-            _put(ws, i + 2, col, v)
+        for col, cell in enumerate((i, h, f), start=1):
+            _put(ws, i + 2, col, cell)
 
 
 def _inputs_sheet(ws, review: "Review") -> None:
@@ -610,8 +610,9 @@ def write_workbook(target, review: "Review", comments: list[Comment], meta: dict
     _inputs_sheet(wb.add_worksheet(INPUTS_SHEET), review)
     _lists_sheet(wb.add_worksheet(LISTS_SHEET))
     comments_ws.activate()  # open on the comments
-    props = {"title": f"Check comments: {meta.get('submission', '')}", "subject": "capcheck comment sheet",
-             "keywords": DATA_MARKER, "author": "capcheck"}
+    props: dict[str, str | _dt.datetime] = {
+        "title": f"Check comments: {meta.get('submission', '')}", "subject": "capcheck comment sheet",
+        "keywords": DATA_MARKER, "author": "capcheck"}
     created = meta.get("date")
     if isinstance(created, str):
         try:

@@ -253,7 +253,7 @@ def _spacing_layout(P: list[tuple[float, float]], pair: tuple[int, int, float], 
 
 def _edge_distances(g: CapGeometry) -> list[tuple[float, float, int, str]]:
     """(face distance, centre distance, pile index, side) for every pile and side."""
-    out = []
+    out: list[tuple[float, float, int, str]] = []
     if not (_ok(g.length) and _ok(g.width)) or len(g.piles) == 0:
         return out
     r = g.pile_dia / 2 if _ok(g.pile_dia) else 0.0
@@ -424,9 +424,9 @@ def _edge_layout(g: CapGeometry, tg: _Targets):
         min_ctr = min(e[1] for e in edges)
         if fv is not None and abs(fv - min_ctr) < abs(fv - min_face):
             use_centre = True
-        idx = 1 if use_centre else 0
-        emin = min(e[idx] for e in edges)
-        nearest = [e for e in edges if e[idx] <= emin + 1.0]
+        dist = [e[1] if use_centre else e[0] for e in edges]
+        emin = min(dist)
+        nearest = [e for e, d in zip(edges, dist) if d <= emin + 1.0]
         edge_hl_piles = {e[2] for e in nearest}
         pref = {"left": 0, "bottom": 1, "top": 2, "right": 3}
         e0 = min(nearest, key=lambda e: (pref[e[3]], e[2]))

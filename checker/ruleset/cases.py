@@ -23,16 +23,17 @@ contiguous rows of each cap.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any, cast
+from typing import Any, Mapping, cast
 
 import numpy as np
 import pandas as pd
 
-from checker.findings import SEVERITY_ORDER, SEVERITY_RANK
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK, WorkingLine
 from checker.ruleset.catalogue import LOAD_INDEPENDENT, QUANTITIES
 from checker.ruleset.evaluate import (
     SLS_MISSING_ACTION,
     SLS_MISSING_MESSAGE,
+    Bools,
     RuleResult,
     VariantOutcome,
     _put,
@@ -40,6 +41,8 @@ from checker.ruleset.evaluate import (
     evaluate_rule,
     sls_on_uls,
 )
+from checker.ruleset.expr import Env
+from checker.ruleset.loader import Rule, RuleSet
 from checker.units import FROM_INTERNAL, TO_INTERNAL
 
 _RANK = SEVERITY_RANK
@@ -91,10 +94,10 @@ def expand(caps: pd.DataFrame, cases: pd.DataFrame) -> Expanded:
     return Expanded(frame, cap, starts, counts, name, kind, basis.astype(object))
 
 
-class _Rows(dict):
+class _Rows(dict[str, Any]):
     """The environment of the expanded frame restricted to some rows (one per cap), sliced lazily."""
 
-    def __init__(self, base: dict, idx: np.ndarray, n_base: int):
+    def __init__(self, base: Env, idx: np.ndarray, n_base: int):
         super().__init__()
         self._base, self._idx, self._n = base, idx, n_base
 
@@ -103,17 +106,17 @@ class _Rows(dict):
             return v[self._idx]
         return v
 
-    def __getitem__(self, k):
+    def __getitem__(self, k: str) -> Any:
         if dict.__contains__(self, k):
             return dict.__getitem__(self, k)
         v = self._take(k, self._base[k])
         dict.__setitem__(self, k, v)
         return v
 
-    def __contains__(self, k):
+    def __contains__(self, k: object) -> bool:
         return dict.__contains__(self, k) or k in self._base
 
-    def get(self, k, default=None):
+    def get(self, k: str, default: Any = None) -> Any:
         try:
             return self[k]
         except KeyError:
@@ -123,7 +126,7 @@ class _Rows(dict):
 class _Envelope(_Rows):
     """Per cap, the largest value of each load-dependent quantity over its ULS cases."""
 
-    def __init__(self, base: dict, ex: Expanded):
+    def __init__(self, base: Env, ex: Expanded):
         super().__init__(base, ex.starts, ex.cap.size)
         self._uls = ex.kind == "ULS"
         self._starts = ex.starts
@@ -137,7 +140,7 @@ class _Envelope(_Rows):
         return np.fmax.reduceat(np.where(self._uls, v, np.nan), self._starts)
 
 
-def rule_names(rule) -> set[str]:
+def rule_names(rule: Rule) -> set[str]:
     names = set(rule.names)
     if rule.applies is not None:
         names |= rule.applies.names
@@ -151,7 +154,7 @@ def rule_names(rule) -> set[str]:
     return names
 
 
-def case_mode(rule) -> str | None:
+def case_mode(rule: Rule) -> str | None:
     """How a rule runs over the load cases: None (load-independent), 'uls', 'capacity-basis', 'envelope'."""
     if rule.cases is not None:
         return rule.cases
@@ -159,23 +162,23 @@ def case_mode(rule) -> str | None:
     return "uls" if dependent else None
 
 
-def _eligible(mode: str, ex: Expanded, env: dict) -> np.ndarray:
+def _eligible(mode: str, ex: Expanded, env: Env) -> Bools:
     """The rows (cases) a rule of this mode is checked on."""
     if mode == "uls":
-        return ex.kind == "ULS"
+        return cast(Bools, ex.kind == "ULS")
     if mode == "sls":
         # a cap's SLS cases; where it has none, its ULS cases if the profile sets qp_ratio
         has_sls = np.logical_or.reduceat(ex.kind == "SLS", ex.starts)[ex.cap] if ex.cap.size else np.zeros(0, bool)
         ratio = float(env.get("qp_ratio", np.nan))
-        return (ex.kind == "SLS") | ((ex.kind == "ULS") & ~has_sls & np.isfinite(ratio))
-    return ex.kind == ex.basis
+        return cast(Bools, (ex.kind == "SLS") | ((ex.kind == "ULS") & ~has_sls & np.isfinite(ratio)))
+    return cast(Bools, ex.kind == ex.basis)
 
 
 def _kn(x: float) -> str:
     return f"{x / TO_INTERNAL['kN']:.0f}"
 
 
-def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params: dict, *,
+def evaluate_cases(ruleset: RuleSet, env: Env, ex: Expanded, caps: pd.DataFrame, params: Mapping[str, float | str], *,
                    render: bool | str = True, outcomes: dict[str, VariantOutcome] | None = None,
                    ) -> tuple[pd.DataFrame, dict[str, np.ndarray]]:
     """Every rule over the expanded frame -> (findings, rule id -> governing row of each cap).
@@ -217,7 +220,7 @@ def evaluate_cases(ruleset, env: dict, ex: Expanded, caps: pd.DataFrame, params:
             # does not apply to the cap stays not applicable (unless the cap has no loads at all)
             on_uls = ~np.logical_or.reduceat(ex.kind == "SLS", ex.starts)
             loads = ex.kind[gov] != ""
-            whats = {}
+            whats: dict[int, str] = {}
             for c in np.flatnonzero(on_uls).tolist():
                 given = sorted(set(ex.kind[ex.starts[c]:ex.starts[c] + ex.counts[c]].tolist()) - {""})
                 whats[c] = f" (only {' and '.join(given)} loads are given)" if given else " (no loads are given)"
@@ -246,8 +249,8 @@ def evaluate_empty() -> pd.DataFrame:
     return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
 
 
-def _no_case(rule, mode: str, res: RuleResult, none: np.ndarray, ex: Expanded, env: dict,
-             case: np.ndarray, render) -> None:
+def _no_case(rule: Rule, mode: str, res: RuleResult, none: Bools, ex: Expanded, env: Env,
+             case: np.ndarray, render: bool | str) -> None:
     """Caps with no case the rule can use: a query that says why (and, for the pile capacity, what
     the loads given imply on the other basis)."""
     idx = np.flatnonzero(none)
@@ -317,34 +320,33 @@ def _no_case(rule, mode: str, res: RuleResult, none: np.ndarray, ex: Expanded, e
              "Give the ULS loads of this cap.", render)
 
 
-def _set(res: RuleResult, c: int, msg: str, act: str, render) -> None:
+def _set(res: RuleResult, c: int, msg: str, act: str, render: bool | str) -> None:
     if render:
         res.message[c] = msg
         res.action[c] = act
 
 
-def case_working(ruleset, env: dict, ex: Expanded, ci: int, findings_for_cap: pd.DataFrame, params: dict):
+def case_working(ruleset: RuleSet, env: Env, ex: Expanded, ci: int, findings_for_cap: pd.DataFrame,
+                 params: Mapping[str, float | str]) -> list[WorkingLine]:
     """The working of one cap (row ``ci`` of caps): each load-independent rule once, each
     load-dependent rule for every load case with its figures and verdict, then the governing verdict."""
-    from checker.findings import WorkingLine
-
     start, count = int(ex.starts[ci]), int(ex.counts[ci])
     rows = np.arange(start, start + count)
     N = ex.cap.size
     verdicts = {row["rule"]: row for row in findings_for_cap.to_dict("records")}
 
-    def scalar(i: int) -> dict:
+    def scalar(i: int) -> dict[str, Any]:
         return {k: (v[i] if isinstance(v, np.ndarray) and v.ndim == 1 and v.shape[0] == N else v)
                 for k, v in env.items()}
 
     first = scalar(start)
     per_case = [scalar(int(i)) for i in rows]
-    lines = []
+    lines: list[WorkingLine] = []
     for rule in ruleset.rules:
         mode = case_mode(rule)
         lines.append(WorkingLine(rule.id, f"{rule.title} [{rule.clause}]"))
         if mode is None or mode == "envelope" or count == 1 and not ex.name[start]:
-            env_one = first if mode != "envelope" else _Envelope(env, ex)
+            env_one: Env = first if mode != "envelope" else _Envelope(env, ex)
             if mode == "envelope":
                 env_one = {k: (env_one[k][ci] if isinstance(env_one.get(k), np.ndarray) and
                                np.ndim(cast(np.ndarray, env_one.get(k))) == 1 else env_one.get(k))

@@ -29,9 +29,11 @@ row forces), ``tie_cut_x/y`` (tension across the column centreline), ``tie_side_
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Mapping, TypeAlias, cast
 
 import numpy as np
 import pandas as pd
+from numpy.typing import NDArray
 
 from checker import geometry as geo
 from checker.calcs import anchorage as anc
@@ -43,7 +45,13 @@ from checker.calcs import reactions as rea
 from checker.calcs import shear as shr
 from checker.calcs import splitting as spl
 from checker.calcs import strut_tie as st
+from checker.calcs._typing import Floats, Real
 from checker.model import FYK_DEFAULT, INPUT_QUANTITIES
+
+Quantities: TypeAlias = dict[str, Floats]
+"""Quantity name -> (n,) float array (or, for the per-pile arrays, (n, m))."""
+Params: TypeAlias = Mapping[str, float | str]
+"""The resolved profile parameters: a number, or one of the parameter's declared words."""
 
 #: The designer's figures compared by ``stated_diff``, in the order of ``stated_diff_what``.
 STATED_ITEMS: tuple[str, ...] = (
@@ -61,11 +69,11 @@ class Derived:
     face to pile centre [mm]). ``text``: per-cap strings (``stated_diff_what``).
     """
 
-    q: dict[str, np.ndarray]
+    q: Quantities
     X: np.ndarray
     Y: np.ndarray
     mask: np.ndarray
-    piles: dict[str, np.ndarray] = field(default_factory=dict)
+    piles: Quantities = field(default_factory=dict)
     text: dict[str, np.ndarray] = field(default_factory=dict)
 
     def frame(self) -> pd.DataFrame:
@@ -76,7 +84,7 @@ class Derived:
 def _num(caps: pd.DataFrame, name: str, n: int) -> np.ndarray:
     if name not in caps.columns:
         return np.full(n, np.nan)
-    return pd.to_numeric(caps[name], errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+    return cast(Floats, pd.to_numeric(caps[name], errors="coerce").to_numpy(dtype=float, na_value=np.nan))
 
 
 def _text(caps: pd.DataFrame, name: str, n: int) -> pd.Series:
@@ -88,13 +96,13 @@ def _text(caps: pd.DataFrame, name: str, n: int) -> pd.Series:
     return pd.Series(clean[codes], dtype=object)  # code −1 (missing) picks the trailing ''
 
 
-def _contains(s: pd.Series, *words: str) -> np.ndarray:
+def _contains(s: pd.Series, *words: str) -> NDArray[np.bool_]:
     codes, uniq = pd.factorize(s)
     hit = np.array([any(w in str(u) for w in words) for u in uniq] + [False], dtype=bool)
-    return hit[codes]
+    return cast(NDArray[np.bool_], hit[codes])
 
 
-def _flag(b) -> np.ndarray:
+def _flag(b: Real) -> Floats:
     return np.asarray(b, dtype=bool).astype(float)
 
 
@@ -103,7 +111,7 @@ class MissingParameter(KeyError):
     of parameter values; there are no defaults here)."""
 
 
-def _pget(params: dict, name: str):
+def _pget(params: Params, name: str) -> float | str:
     try:
         return params[name]
     except KeyError:
@@ -148,7 +156,7 @@ class Inputs:
 
 
 def derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.ndarray,
-                  p: dict) -> Derived:
+                  p: Params) -> Derived:
     """derive() with the pile arrays already built (F-ordered (n, m) arrays).
 
     Each section below reads the inputs, the pile group, the profile parameters and the
@@ -157,8 +165,8 @@ def derive_arrays(caps: pd.DataFrame, X: np.ndarray, Y: np.ndarray, mask: np.nda
     """
     inp = _inputs(caps)
     g = geo.PileGroup.of(X, Y, mask)
-    q: dict[str, np.ndarray] = {}
-    piles: dict[str, np.ndarray] = {}
+    q: Quantities = {}
+    piles: Quantities = {}
     _geometry(q, piles, inp, g)
     _materials(q, inp, p)
     _reactions(q, piles, inp, g, p)
@@ -205,7 +213,7 @@ def _inputs(caps: pd.DataFrame) -> Inputs:
                   bent=_contains(ends, "bent", "hook"), ends_known=(ends != "").to_numpy(dtype=bool))
 
 
-def _geometry(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup) -> None:
+def _geometry(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup) -> None:
     """Pile count, effective depths, spacing, edge distances, radial and column-face distances."""
     f, X, Y, mask = inp.f, g.X, g.Y, g.mask
     L, W, phi_p = f["cap_length"], f["cap_width"], f["pile_dia"]
@@ -224,7 +232,7 @@ def _geometry(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup) -> None:
     )
 
 
-def _materials(q: dict, inp: Inputs, p: dict) -> None:
+def _materials(q: Quantities, inp: Inputs, p: Params) -> None:
     """Design strengths of concrete and steel (EN 1992-1-1 3.1, 3.2)."""
     fck = inp.f["fck"]
     gamma_c = float(_pget(p, "gamma_c"))
@@ -242,7 +250,7 @@ def _materials(q: dict, inp: Inputs, p: dict) -> None:
     )
 
 
-def _reactions(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _reactions(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Self-weight and pile reactions, nominal and with the positional tolerance."""
     f, X, Y, mask = inp.f, g.X, g.Y, g.mask
     N, mx, my = f["n_ed"], f["mx_ed"], f["my_ed"]
@@ -266,7 +274,7 @@ def _reactions(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> 
              r_nom_min=geo.row_min(R, mask), r_tol_max=r_tol_max, r_tol_min=r_tol_min)
 
 
-def _reinforcement(q: dict, inp: Inputs, p: dict) -> None:
+def _reinforcement(q: Quantities, inp: Inputs, p: Params) -> None:
     """Bars, areas, centres and clear spacings, minimum and maximum steel, cover."""
     f, n = inp.f, inp.n
     L, W, h, cover = f["cap_length"], f["cap_width"], f["cap_depth"], f["cover"]
@@ -297,7 +305,7 @@ def _reinforcement(q: dict, inp: Inputs, p: dict) -> None:
     q["as_min_y_dist"] = np.where(q["n_piles"] == 2, det.distribution_steel(as_x), q["as_min_y"])
 
 
-def _ties(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _ties(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Strut-and-tie: the tie rows and the tension across the column centreline, each direction.
 
     Each direction: its tie rows against the steel counted for them, and the tension across the
@@ -338,14 +346,14 @@ def _ties(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
                                    np.fmin(q["tie_full_x"], q["tie_full_y"]))
 
 
-def _three_pile_side_ties(q: dict, piles: dict, g: geo.PileGroup) -> None:
+def _three_pile_side_ties(q: Quantities, piles: Quantities, g: geo.PileGroup) -> None:
     """Three-pile caps: the ties along the triangle's sides, for the working only (a detail with
     bars along the sides); the orthogonal mesh is checked on its own two directions."""
     q["tie_side_3"] = st.three_pile_side_tie(g.X, g.Y, piles["Hx"], piles["Hy"], g.mask, q["n_piles"])
     q["as_req_side_3"] = st.tie_steel_required(q["tie_side_3"], q["fyd"])
 
 
-def _nodes(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _nodes(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Strut angles and the stresses and limits of the column and pile nodes (6.5.4)."""
     f, mask, R, npile = inp.f, g.mask, piles["R"], q["n_piles"]
     cx, cy, h, fcd, nu_p = f["column_x"], f["column_y"], f["cap_depth"], q["fcd"], q["nu_prime"]
@@ -387,7 +395,7 @@ def _nodes(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None
     )
 
 
-def _beam_shear(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _beam_shear(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Beam shear at the critical sections of each direction (6.2.2), with both av definitions."""
     f, R, mask = inp.f, piles["R"], g.mask
     av_mode = str(_pget(p, "shear_av"))
@@ -422,7 +430,7 @@ def _beam_shear(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) ->
 
 
 def _punching_scan(inp: Inputs, g: geo.PileGroup, R_col: np.ndarray, d_mean: np.ndarray,
-                   vrdc2: np.ndarray) -> tuple[dict, dict]:
+                   vrdc2: np.ndarray) -> tuple[dict[str, Floats], dict[str, Floats]]:
     """The governing control perimeter within 2d, concentric (beta = 1) and with the moments.
 
     Returns (scan, scan_c): with the moment transfer of Eq. (6.51) on caps with a moment, and the
@@ -445,7 +453,7 @@ def _punching_scan(inp: Inputs, g: geo.PileGroup, R_col: np.ndarray, d_mean: np.
     return scan, scan_c
 
 
-def _punching(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _punching(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Punching at the column face and the control perimeters within 2d (6.4).
 
     Every perimeter within 2d (6.4.4(2), reference decision 13): the pile reactions deducted in
@@ -490,7 +498,7 @@ def _punching(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> N
     )
 
 
-def _pile_punching(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _pile_punching(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Piles near the cap edge punching upward (issue 15, item 4).
 
     The perimeter at 2d round each pile whose face is within 2d of a cap edge, Figure 6.15 form
@@ -520,7 +528,7 @@ def _pile_punching(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict)
     )
 
 
-def _anchorage(q: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _anchorage(q: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Bond strength and the required and available anchorage lengths of the ties (8.4)."""
     f = inp.f
     eta1, alpha_ct = float(_pget(p, "eta1")), float(_pget(p, "alpha_ct"))
@@ -551,7 +559,7 @@ def _anchorage(q: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
         q[f"lbd_{k}_{'formula' if values == 'formula' else 'table'}"] = q[f"lbd_{k}"]
 
 
-def _bending(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> None:
+def _bending(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Bending theory, an accepted method of the tie-steel checks (tie-method = bending).
 
     The cap as a wide beam at the column face (or bending_section_inset × the column width inside
@@ -575,7 +583,7 @@ def _bending(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup, p: dict) -> No
         q[f"as_tie_{k}_bend"] = np.where(has, q[f"as_layer_counted_{k}"], np.nan)
 
 
-def _single_pile(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup) -> None:
+def _single_pile(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup) -> None:
     """Single-pile caps: splitting tie and pile-head bearing (issue 15, item 3).
 
     EN 1992-1-1:2004 6.5.3(3), Figure 6.25, Eq. (6.58)/(6.59): the column load spreads out from the
@@ -622,7 +630,7 @@ def _single_pile(q: dict, piles: dict, inp: Inputs, g: geo.PileGroup) -> None:
     q["pile_bearing_limit"] = np.where(single, st.partially_loaded_limit(q["fcd"], pla_pile), np.nan)
 
 
-def _stated_figures(q: dict, inp: Inputs) -> np.ndarray:
+def _stated_figures(q: Quantities, inp: Inputs) -> np.ndarray:
     """The designer's figures against the re-check: ``stated_diff`` and the figure that differs most.
 
     A schedule's single "d" is compared with the mean of the two layers' effective depths (they
@@ -645,7 +653,7 @@ def _stated_figures(q: dict, inp: Inputs) -> np.ndarray:
     return np.where(any_d, np.asarray(STATED_ITEMS, dtype=object)[worst], "")  # text, not a quantity
 
 
-def _crack_quantities(caps: pd.DataFrame, q: dict, f: dict, p: dict, n: int) -> dict[str, np.ndarray]:
+def _crack_quantities(caps: pd.DataFrame, q: Quantities, f: Quantities, p: Params, n: int) -> Quantities:
     """Crack control of the bottom steel (EN 1992-1-1:2004 7.3): the quantities of crack-x/crack-y.
 
     Per layer k (x: the lowest, cover c; y: the second, cover c + phi_x): sigma_sls_k = T/As of the

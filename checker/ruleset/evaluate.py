@@ -12,29 +12,38 @@ from __future__ import annotations
 import operator
 import re
 from dataclasses import dataclass
-from typing import Any, cast
+from typing import Any, Mapping, NamedTuple, Sequence, TypeAlias, cast
 
 import numpy as np
 import pandas as pd
+from numpy.typing import NDArray
 
+from checker.calcs._typing import Floats, Real
 from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER, SEVERITY_RANK, WorkingLine
 from checker.ruleset.catalogue import OUTPUT_SCALE, plain_words
-from checker.ruleset.loader import Rule, RuleSet
+from checker.ruleset.expr import Env
+from checker.ruleset.loader import CompiledVariant, Rule, RuleSet
 
 _RANK = SEVERITY_RANK
 _SEV_OBJ = np.array(SEVERITY_ORDER, dtype=object)
 _CMP = {">=": operator.ge, ">": operator.gt, "<=": operator.le, "<": operator.lt}
 REL_TOL = 1e-9  # a value equal to its limit to this relative tolerance meets a >= or <= rule
 
+Bools: TypeAlias = NDArray[np.bool_]
+Combo: TypeAlias = tuple[CompiledVariant, ...]
+"""One accepted method of each family of a rule's variants (the defaults first)."""
+Variants: TypeAlias = dict[str, np.ndarray]
+"""The spread of a result over the accepted methods: one array per cap for each of VARIANT_COLUMNS."""
 
-def _as_array(x, n: int) -> np.ndarray:
+
+def _as_array(x: Real, n: int) -> Floats:
     a = np.asarray(x, dtype=float)
     if a.ndim == 0:
         return np.full(n, float(a))
     return a
 
 
-def _as_bool(x, n: int) -> np.ndarray:
+def _as_bool(x: Real, n: int) -> Bools:
     a = np.asarray(x)
     if a.dtype != bool:
         a = np.nan_to_num(a.astype(float), nan=0.0) != 0.0
@@ -43,7 +52,7 @@ def _as_bool(x, n: int) -> np.ndarray:
     return a
 
 
-def utilisation(value: np.ndarray, limit: np.ndarray, compare: str) -> np.ndarray:
+def utilisation(value: np.ndarray, limit: np.ndarray, compare: str) -> Floats:
     """Demand over capacity: value/limit for a maximum (<=), limit/value for a minimum (>=)."""
     with np.errstate(all="ignore"):
         if compare in ("<=", "<"):
@@ -53,14 +62,14 @@ def utilisation(value: np.ndarray, limit: np.ndarray, compare: str) -> np.ndarra
     return np.where(np.isnan(value) | np.isnan(limit), np.nan, u)
 
 
-def meets(value: np.ndarray, limit: np.ndarray, compare: str) -> np.ndarray:
+def meets(value: np.ndarray, limit: np.ndarray, compare: str) -> Bools:
     with np.errstate(all="ignore"):
         slack = REL_TOL * np.maximum(np.abs(limit), 1e-12)
         if compare == ">=":
-            return value >= limit - slack
+            return cast(Bools, value >= limit - slack)
         if compare == "<=":
-            return value <= limit + slack
-        return _CMP[compare](value, limit)
+            return cast(Bools, value <= limit + slack)
+        return cast(Bools, _CMP[compare](value, limit))
 
 
 @dataclass
@@ -72,7 +81,7 @@ class RuleResult:
     util: np.ndarray
     message: np.ndarray    # object array of str
     action: np.ndarray     # object array of str
-    variants: dict | None  # the spread over the accepted methods (VARIANT_COLUMNS arrays), or None
+    variants: Variants | None  # the spread over the accepted methods (VARIANT_COLUMNS arrays), or None
     code: np.ndarray       # severity rank per cap (index into SEVERITY_ORDER)
     case: np.ndarray | None = None  # the governing load case per cap (object: str or None), issue 11
     outcome: VariantOutcome | None = None  # each accepted method's figures (rules with variants)
@@ -145,7 +154,24 @@ class _Outcome:
     mixed: np.ndarray | None = None   # some accepted methods fail, others pass (a query)
 
 
-def _governing(rule: Rule, env, n: int) -> _Outcome:
+class _Grading(NamedTuple):
+    """A rule with several accepted method combinations, as :func:`_graded` graded it: per
+    combination (rows) and cap (columns) whether it fails, was evaluated and is allowed by the
+    schedule's stated method; per cap the counts, whether a method is stated, and the combination
+    reported."""
+
+    combos: list[Combo]
+    outs: list[_Outcome]
+    fails: Bools
+    evaluated: Bools
+    n_fail: np.ndarray
+    n_eval: np.ndarray
+    stated_any: Bools
+    allowed: Bools
+    reported: np.ndarray
+
+
+def _governing(rule: Rule, env: Env, n: int) -> _Outcome:
     applies = _as_bool(rule.applies(env), n) if rule.applies is not None else np.ones(n, bool)
     k = len(rule.checks)
     V = np.empty((k, n))
@@ -172,46 +198,46 @@ def _governing(rule: Rule, env, n: int) -> _Outcome:
                     missing[g, cols], cast(np.ndarray, USE.any(axis=0)))
 
 
-class _Layer(dict):
+class _Layer(dict[str, Any]):
     """Values set here on top of a base environment, which is read through, never copied."""
 
-    def __init__(self, base):
+    def __init__(self, base: Env):
         super().__init__()
         self._base = base
 
-    def __getitem__(self, k):
+    def __getitem__(self, k: str) -> Any:
         if dict.__contains__(self, k):
             return dict.__getitem__(self, k)
         return self._base[k]
 
-    def __contains__(self, k):
+    def __contains__(self, k: object) -> bool:
         return dict.__contains__(self, k) or k in self._base
 
-    def get(self, k, default=None):
+    def get(self, k: str, default: Any = None) -> Any:
         if dict.__contains__(self, k):
             return dict.__getitem__(self, k)
         return self._base.get(k, default)
 
 
-class _Overlay(dict):
+class _Overlay(dict[str, Any]):
     """The environment with some quantities replaced by a variant's own (no copy of the arrays)."""
 
-    def __init__(self, base, use):
+    def __init__(self, base: Env, use: Sequence[tuple[str, str]]):
         super().__init__()
         self._base = base
         self._use = dict(use)
 
-    def __getitem__(self, k):
+    def __getitem__(self, k: str) -> Any:
         return self._base[self._use.get(k, k)]
 
-    def __contains__(self, k):
-        return self._use.get(k, k) in self._base
+    def __contains__(self, k: object) -> bool:
+        return (self._use.get(k, k) if isinstance(k, str) else k) in self._base
 
-    def get(self, k, default=None):
+    def get(self, k: str, default: Any = None) -> Any:
         return self._base.get(self._use.get(k, k), default)
 
 
-def variant_combos(rule: Rule) -> list[tuple]:
+def variant_combos(rule: Rule) -> list[Combo]:
     """Every combination of one variant per family, the defaults (first of each family) first."""
     from itertools import product
 
@@ -220,14 +246,14 @@ def variant_combos(rule: Rule) -> list[tuple]:
     return list(product(*per)) if per else []
 
 
-def stated_methods(text_values, rule: Rule) -> dict[str, np.ndarray]:
+def stated_methods(text_values: Sequence[object] | np.ndarray, rule: Rule) -> dict[str, np.ndarray]:
     """Per family, the variant name the schedule's ``method`` text states ('' if none)."""
     texts = np.asarray(text_values, dtype=object)
     out: dict[str, np.ndarray] = {}
     uniq = {t for t in texts.tolist() if isinstance(t, str) and t.strip()}
     for fam in rule.families:
         names = [v.name for v in rule.variants if v.family == fam]
-        lookup = {}
+        lookup: dict[str, str] = {}
         for t in uniq:
             # whole words only ("end-bearing piles" does not state the bearing node method);
             # "column width" written with a space reads as "column-width"
@@ -246,7 +272,8 @@ def numeric_params(params: dict[str, Any]) -> dict[str, float]:
     return {k: float(v) for k, v in params.items() if not isinstance(v, str)}
 
 
-def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, methods=None) -> RuleResult:
+def evaluate_rule(rule: Rule, env: Env, n: int, *, render: bool | str = True,
+                  methods: np.ndarray | None = None) -> RuleResult:
     """One rule over all caps, graded over its accepted method variants.
 
     ``render``: True renders every message; "issues" only those of results that are not ``ok``
@@ -254,7 +281,7 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
     schedule's stated-method texts per cap (the ``method`` column), or None.
     """
     combos = variant_combos(rule)
-    grading = None
+    grading: _Grading | None = None
     if len(combos) <= 1:
         use = [(a, b) for v in (combos[0] if combos else ()) for a, b in v.use]
         out = _governing(rule, _Overlay(env, use) if use else env, n)
@@ -296,8 +323,8 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
     noted = np.flatnonzero(notes != "")
     if noted.size:
         _put(message, noted, [f"{m} {t}".strip() for m, t in zip(message[noted].tolist(), notes[noted].tolist())])
-    variants = None
-    outcome = None
+    variants: Variants | None = None
+    outcome: VariantOutcome | None = None
     if grading is not None:
         variants = _grade_notes(rule, grading, not_app, message, action, scale, render)
         outcome = _variant_outcome(rule, grading, variants, scale)
@@ -309,7 +336,8 @@ def evaluate_rule(rule: Rule, env: dict, n: int, *, render: bool | str = True, m
     return res
 
 
-def _graded(rule: Rule, env: dict, n: int, combos: list, methods) -> tuple[_Outcome, tuple]:
+def _graded(rule: Rule, env: Env, n: int, combos: list[Combo],
+            methods: np.ndarray | None) -> tuple[_Outcome, _Grading]:
     """A rule with several accepted method combinations: each combination's outcome, the one reported
     per cap (the first the schedule's stated method allows), and the grading kept for the notes.
     Some but not all accepted methods failing is a query, not a verdict."""
@@ -327,14 +355,17 @@ def _graded(rule: Rule, env: dict, n: int, combos: list, methods) -> tuple[_Outc
     first_allowed = np.argmax(allowed, axis=0)
     pick = np.stack([o.value for o in outs])  # shape (combos, n)
     cols = np.arange(n)
-    sel = lambda attr: np.stack([getattr(o, attr) for o in outs])[first_allowed, cols]  # noqa: E731
+
+    def sel(attr: str) -> np.ndarray:
+        return cast(np.ndarray, np.stack([getattr(o, attr) for o in outs])[first_allowed, cols])
+
     out = _Outcome(outs[0].applies, sel("g"), pick[first_allowed, cols], sel("limit"), sel("util"),
                    sel("fail"), sel("missing"), outs[0].any_use)
     fails = np.stack([o.fail for o in outs]) & allowed
     evaluated = np.stack([~o.missing for o in outs]) & allowed
     n_fail = fails.sum(axis=0)
     n_eval = evaluated.sum(axis=0)
-    grading = (combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, first_allowed)
+    grading = _Grading(combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, first_allowed)
     # some but not all accepted methods fail: a query, not a verdict
     mixed = (n_fail > 0) & (n_fail < n_eval)
     all_fail = (n_fail > 0) & (n_fail == n_eval)
@@ -343,16 +374,17 @@ def _graded(rule: Rule, env: dict, n: int, combos: list, methods) -> tuple[_Outc
     return out, grading
 
 
-def _render_groups(rule: Rule, env: dict, n: int, combos: list, grading: tuple | None, out_v: np.ndarray,
-                   out_l: np.ndarray, gu: np.ndarray, state: tuple, render: bool | str,
+def _render_groups(rule: Rule, env: Env, n: int, combos: list[Combo], grading: _Grading | None,
+                   out_v: np.ndarray, out_l: np.ndarray, gu: np.ndarray,
+                   state: tuple[np.ndarray, Bools, Bools, Bools, np.ndarray], render: bool | str,
                    message: np.ndarray, action: np.ndarray) -> None:
     """Render the messages per group of caps whose value and limit come from the same method: each
     cap's message uses the quantities of that method. ``state``: (g, fail, missing, not_app, sev)."""
     g, g_fail, g_missing, not_app, sev = state
     if grading is not None:
-        reported = grading[-1]
+        reported = grading.reported
         groups = [(ci, reported == ci) for ci in np.unique(reported).tolist()]
-        uses = [[(a, b) for v in c for a, b in v.use] for c in grading[0]]
+        uses = [[(a, b) for v in c for a, b in v.use] for c in grading.combos]
     else:
         groups = [(0, np.ones(n, bool))]
         uses = [[(a, b) for v in (combos[0] if combos else ()) for a, b in v.use]]
@@ -367,7 +399,7 @@ def _render_groups(rule: Rule, env: dict, n: int, combos: list, grading: tuple |
         _render_group(rule, menv, in_group, g, g_fail, g_missing, not_app, sev, render, message, action)
 
 
-def _missing_messages(rule: Rule, env: dict, miss_rows: np.ndarray, message: np.ndarray,
+def _missing_messages(rule: Rule, env: Env, miss_rows: np.ndarray, message: np.ndarray,
                       action: np.ndarray) -> None:
     """The rows whose inputs are missing: which inputs, in plain words, and what to give."""
     if miss_rows.size:
@@ -385,7 +417,7 @@ def _missing_messages(rule: Rule, env: dict, miss_rows: np.ndarray, message: np.
             action[idx] = f"Give {what} so that the check can be made."
 
 
-def _variant_outcome(rule: Rule, grading: tuple, variants: dict, scale: float) -> VariantOutcome:
+def _variant_outcome(rule: Rule, grading: _Grading, variants: Variants, scale: float) -> VariantOutcome:
     """Each combination's governing figures and verdict per cap, kept as the findings are made."""
     combos, outs, _fails, _evaluated, _nf, _ne, _st, allowed, _rep = grading
     live = np.not_equal(variants["variants_accepted"], None)  # type: ignore[call-overload]  # the stubs refuse None
@@ -408,7 +440,9 @@ def _figures(rule: Rule, value: np.ndarray, limit: np.ndarray,
     return value, limit, util
 
 
-def _render_group(rule, menv, in_group, g, g_fail, g_missing, not_app, sev, render, message, action):
+def _render_group(rule: Rule, menv: _Layer, in_group: Bools, g: np.ndarray, g_fail: Bools, g_missing: Bools,
+                  not_app: Bools, sev: np.ndarray, render: bool | str, message: np.ndarray,
+                  action: np.ndarray) -> None:
     for j, c in enumerate(rule.checks):
         rows = np.flatnonzero(in_group & (g == j) & ~not_app & ~g_missing)
         if rows.size == 0:
@@ -433,14 +467,15 @@ def _put(target: np.ndarray, rows: np.ndarray, texts: list[str]) -> None:
         target[rows] = vals
 
 
-def _combo_name(c) -> str:
+def _combo_name(c: Combo) -> str:
     return " + ".join(v.name for v in c)
 
 
 VARIANT_COLUMNS = ("variant_lo", "util_lo", "variant_hi", "util_hi", "variants_accepted", "variants_failing")
 
 
-def _grade_notes(rule, grading, not_app, message, action, scale, render):
+def _grade_notes(rule: Rule, grading: _Grading, not_app: Bools, message: np.ndarray, action: np.ndarray,
+                 scale: float, render: bool | str) -> Variants:
     """Per cap: the spread over the accepted methods (vectorised columns), and, for the few caps
     where some accepted method fails, the sentence the comment carries."""
     combos, outs, fails, evaluated, n_fail, n_eval, stated_any, allowed, _reported = grading
@@ -452,13 +487,15 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
     n = U.shape[1]
     cols = np.arange(n)
     live = ~not_app & (n_eval > 0)
-    out = {
-        "variant_lo": np.where(live, names[lo_i], None),
+    # the stubs refuse None as a choice of np.where (an object array of None), or read it as the
+    # one-argument form (a tuple)
+    out: Variants = {
+        "variant_lo": cast(np.ndarray, np.where(live, names[lo_i], None)),
         "util_lo": np.where(live, U[lo_i, cols], np.nan),
-        "variant_hi": np.where(live, names[hi_i], None),
+        "variant_hi": cast(np.ndarray, np.where(live, names[hi_i], None)),
         "util_hi": np.where(live, U[hi_i, cols], np.nan),
-        "variants_accepted": np.where(live, "; ".join(names.tolist()), None).astype(object),
-        "variants_failing": np.where(live, "", None).astype(object),
+        "variants_accepted": np.where(live, "; ".join(names.tolist()), None).astype(object),  # type: ignore[call-overload]
+        "variants_failing": np.where(live, "", None).astype(object),  # type: ignore[call-overload]
     }
     # the few caps where a method fails or the schedule states one: one text per distinct pattern
     special = np.flatnonzero(live & ((n_fail > 0) | stated_any))
@@ -470,7 +507,7 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
     a_code = (allowed[:, special] * weights).sum(axis=0)
     patterns = np.stack([f_code, e_code, a_code, stated_any[special].astype(np.int64)], axis=1)
     uniq, inv = np.unique(patterns, axis=0, return_inverse=True)
-    texts = []
+    texts: list[tuple[str, str, str, str]] = []
     for fc, ec, ac, st in uniq.tolist():
         fl = [bool(fc >> c & 1) for c in range(len(combos))]
         ev = [bool(ec >> c & 1) for c in range(len(combos))]
@@ -488,8 +525,8 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
             note += f" Graded against the method stated in the schedule ({accepted})."
         texts.append(("; ".join(failing), accepted, note, act))
     for i, u in zip(special.tolist(), inv.ravel().tolist()):
-        failing, accepted, note, act = texts[u]
-        out["variants_failing"][i] = failing
+        failing_text, accepted, note, act = texts[u]
+        out["variants_failing"][i] = failing_text
         out["variants_accepted"][i] = accepted
         if render and note:
             message[i] += note
@@ -498,7 +535,8 @@ def _grade_notes(rule, grading, not_app, message, action, scale, render):
     return out
 
 
-def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
+def _split_by_family(rule: Rule, combos: list[Combo], fail_col: Sequence[bool],
+                     eval_col: Sequence[bool]) -> tuple[str, str]:
     """Name the methods a verdict turns on: the family whose variant alone decides it, if one does
     ("fails under strut-face; passes under bearing"), else every combination."""
     fam = rule.families
@@ -514,7 +552,7 @@ def _split_by_family(rule, combos, fail_col, eval_col) -> tuple[str, str]:
     return ", ".join(failing), ", ".join(passing)
 
 
-def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | str = True,
+def evaluate(ruleset: RuleSet, env: Env, caps: pd.DataFrame, *, render: bool | str = True,
              outcomes: dict[str, VariantOutcome] | None = None) -> pd.DataFrame:
     """All rules over all caps -> the findings frame (FINDING_COLUMNS), sorted. ``outcomes``, if
     given, receives each rule with variants' :class:`VariantOutcome` (rendered runs only)."""
@@ -522,7 +560,7 @@ def evaluate(ruleset: RuleSet, env: dict, caps: pd.DataFrame, *, render: bool | 
     if n == 0:
         return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
     methods = caps["method"].to_numpy(dtype=object) if "method" in caps else None
-    results = []
+    results: list[RuleResult] = []
     for r in ruleset.rules:
         res = evaluate_rule(r, env, n, methods=methods, render=render)
         if r.cases == "sls":  # one ULS case per cap here: no SLS case
@@ -539,7 +577,8 @@ SLS_MISSING_ACTION = ("Give the SLS (quasi-permanent) loads of this cap, or set 
                       "(quasi-permanent over ULS load).")
 
 
-def sls_on_uls(rule: Rule, res: RuleResult, env, rows: np.ndarray, render, whats=None) -> np.ndarray:
+def sls_on_uls(rule: Rule, res: RuleResult, env: Env, rows: Bools, render: bool | str,
+               whats: Mapping[int, str] | None = None) -> np.ndarray:
     """A serviceability rule (``cases = "sls"``) evaluated on the ULS case of caps that have no SLS
     case (``rows``): where the profile sets ``qp_ratio`` the quantities already carry the ratio, and
     the message says so; otherwise a ``query`` asking for the SLS loads. A rule that does not apply to
@@ -589,12 +628,12 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
     order = np.lexsort((np.repeat(rule_rank, n), np.tile(cap_rank, k), sev_rank))
     rule_codes = np.repeat(np.arange(k), n)[order]
 
-    def per_rule(values) -> pd.Categorical:
+    def per_rule(values: Sequence[object]) -> pd.Categorical:
         # text that is constant per rule: categorical codes, not 2.5 million string objects
         cats, inv = np.unique(np.array(values, dtype=object), return_inverse=True)
         return pd.Categorical.from_codes(inv[rule_codes], categories=cats)
 
-    def src(col):
+    def src(col: str) -> np.ndarray | pd.Categorical:
         if col not in caps:
             return np.full(n * k, None, dtype=object)
         vals = caps[col].to_numpy(dtype=object)
@@ -603,7 +642,7 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
             return pd.Categorical.from_codes(np.tile(codes, k)[order], categories=pd.Index(uniq, dtype=object))
         return np.tile(vals, k)[order]
 
-    cols = {
+    cols: dict[str, np.ndarray | pd.Categorical] = {
         "cap": np.tile(marks, k)[order],
         "rule": per_rule(ids),
         "title": per_rule([r.rule.title for r in results]),
@@ -634,21 +673,22 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
     return pd.DataFrame(cols)
 
 
-def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.DataFrame | None = None):
+def working_lines(ruleset: RuleSet, env: Env, i: int,
+                  findings_for_cap: pd.DataFrame | None = None) -> list[WorkingLine]:
     """The calculation trace of cap row ``i``: per rule its clause, the formula lines with the
     values substituted, and the verdict."""
-    scalar_env = {}
+    scalar_env: dict[str, Any] = {}
     for k, v in env.items():
         if isinstance(v, np.ndarray) and v.ndim == 1:
             scalar_env[k] = v[i]
         else:
             scalar_env[k] = v
-    verdicts = {}
+    verdicts: dict[str, dict[str, Any]] = {}
     if findings_for_cap is not None and len(findings_for_cap):
         f = findings_for_cap
         for rid, sev, msg in zip(f["rule"].tolist(), f["severity"].tolist(), f["message"].tolist()):
             verdicts[rid] = {"severity": sev, "message": msg}
-    lines = []
+    lines: list[WorkingLine] = []
     for rule in ruleset.rules:
         lines.append(WorkingLine(rule.id, f"{rule.title} [{rule.clause}]"))
         for t in rule.working:
@@ -659,7 +699,7 @@ def working_lines(ruleset: RuleSet, env: dict, i: int, findings_for_cap: pd.Data
     return lines
 
 
-def working_many(ruleset: RuleSet, env: dict, index: np.ndarray) -> dict[str, list[list[str]]]:
+def working_many(ruleset: RuleSet, env: Env, index: np.ndarray) -> dict[str, list[list[str]]]:
     """The formula lines of :func:`working_lines` for the cap rows ``index`` at once, per rule:
     ``{rule id: [the heading, then each working template's line, for every row of index]}``
     (without the verdict line, which the caller takes from its findings row). Each template is

@@ -14,9 +14,12 @@ import ast
 import operator
 import warnings
 from dataclasses import dataclass
-from typing import Any, Callable, Mapping
+from typing import Any, Callable, Mapping, Sequence, TypeAlias, cast
 
 import numpy as np
+from numpy.typing import NDArray
+
+from checker.calcs._typing import Real
 
 MAX_LENGTH = 400          # characters
 MAX_DEPTH = 24            # nesting of the syntax tree
@@ -24,20 +27,27 @@ MAX_NODES = 200
 MAX_CONST_EXPONENT = 16.0  # a constant exponent larger than this is refused (e.g. 9**9**9)
 
 
+Env: TypeAlias = Mapping[str, Any]
+"""What an expression reads its names from: quantities (arrays per cap), parameters (numbers) and,
+for the templates, a few texts."""
+Compiled: TypeAlias = Callable[[Env], Real]
+"""A compiled node: a function of the environment giving a number or an array per cap."""
+
+
 class ExprError(ValueError):
     """An expression is not allowed or not well formed; the message says why."""
 
 
-def _num(x):
+def _num(x: Real | np.bool_) -> Real:
     """Truth values as 1.0 / 0.0, so that arithmetic on a comparison is defined (``-(a < b)``)."""
     return np.asarray(x, dtype=float) if np.ndim(x) else float(x)
 
 
-def _where(cond, a, b):
+def _where(cond: Real, a: Real, b: Real) -> NDArray[Any]:
     return np.where(np.asarray(cond, dtype=bool), a, b)
 
 
-FUNCTIONS: dict[str, tuple[Callable, int, int]] = {
+FUNCTIONS: dict[str, tuple[Callable[..., Real], int, int]] = {
     # name: (implementation, min args, max args)
     "min": (lambda *a: _reduce(np.fmin, a), 1, 8),
     "max": (lambda *a: _reduce(np.fmax, a), 1, 8),
@@ -53,7 +63,7 @@ FUNCTIONS: dict[str, tuple[Callable, int, int]] = {
 """Trigonometric functions work in degrees, the unit of angles in the rule files."""
 
 
-def _reduce(fn, args):
+def _reduce(fn: Callable[[Real, Real], Real], args: Sequence[Real]) -> Real:
     out = args[0]
     for a in args[1:]:
         out = fn(out, a)
@@ -83,9 +93,9 @@ class Expression:
 
     text: str
     names: frozenset[str]
-    _fn: Callable[[Mapping[str, object]], object]
+    _fn: Compiled
 
-    def __call__(self, env: Mapping[str, object]):
+    def __call__(self, env: Env) -> Real:
         with np.errstate(all="ignore"):
             return self._fn(env)
 
@@ -123,7 +133,7 @@ def compile_expression(text: str, known: set[str] | frozenset[str] | None = None
     return Expression(src, frozenset(names), fn)
 
 
-def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
+def _compile(node: ast.AST, names: set[str], count: list[int], depth: int) -> Compiled:
     """Compile one node of a rule expression to a function of ``env``, refusing anything outside
     the allowed subset as it goes (``names`` collects the names read, ``count`` the nodes seen).
 
@@ -153,9 +163,9 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
             raise ExprError(f"'{name}' is a function and must be called")
         names.add(name)
 
-        def load(env, _n=name):
+        def load(env: Env, _n: str = name) -> Real:
             try:
-                return env[_n]
+                return cast(Real, env[_n])
             except KeyError:
                 raise ExprError(f"unknown name: {_n}") from None
 
@@ -190,7 +200,7 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
         parts = [_compile(v, names, count, d) for v in node.values]
         combine = np.logical_and if isinstance(node.op, ast.And) else np.logical_or
 
-        def boolop(env):
+        def boolop(env: Env) -> Real:
             out = parts[0](env)
             for p in parts[1:]:
                 out = combine(out, p(env))
@@ -201,12 +211,12 @@ def _compile(node: ast.AST, names: set[str], count: list[int], depth: int):
     if isinstance(node, ast.Compare):
         if len(node.ops) != 1:
             raise ExprError("chained comparisons are not allowed; write 'a < b and b < c'")
-        op = _CMPOPS.get(type(node.ops[0]))
-        if op is None:
+        cmp = _CMPOPS.get(type(node.ops[0]))
+        if cmp is None:
             raise ExprError(f"the comparison {type(node.ops[0]).__name__} is not allowed")
         left = _compile(node.left, names, count, d)
         right = _compile(node.comparators[0], names, count, d)
-        return lambda env: _num(op(left(env), right(env)))
+        return lambda env: _num(cmp(left(env), right(env)))
 
     if isinstance(node, ast.Call):
         if not isinstance(node.func, ast.Name):

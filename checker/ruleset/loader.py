@@ -13,6 +13,7 @@ import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from pydantic import ValidationError
 
@@ -132,7 +133,7 @@ _QUOTED = re.compile(r'"(?:[^"\\\n]|\\.)*"' + r"|'[^'\n]*'")
 MAX_KEY = 1_000  # characters of a key or table header; tomllib's time grows with the square of a dotted key's depth
 
 
-def _read_toml(path: Path) -> dict:
+def _read_toml(path: Path) -> dict[str, Any]:
     """Read a rule or profile file: a regular file, at most MAX_RULE_FILE_BYTES, no key or table name
     longer than MAX_KEY, valid UTF-8 TOML. Anything else is refused with the file and the reason."""
     import stat
@@ -179,7 +180,7 @@ def _pydantic_reason(exc: ValidationError) -> str:
     return "; ".join(parts)
 
 
-def _rule_id_at(raw: dict, loc: tuple) -> str:
+def _rule_id_at(raw: dict[str, Any], loc: tuple[int | str, ...]) -> str:
     try:
         if loc and loc[0] == "rule" and isinstance(loc[1], int):
             rid = raw["rule"][loc[1]].get("id")

@@ -10,10 +10,11 @@ from __future__ import annotations
 
 import string
 from dataclasses import dataclass
-from typing import cast
+from typing import Any, cast
 
 import numpy as np
 
+from checker.ruleset.expr import Env
 from checker.units import FROM_INTERNAL
 
 #: the output units a template may name -> multiplier from the internal unit
@@ -42,7 +43,7 @@ class Template:
     def names(self) -> set[str]:
         return {p.name for p in self.parts if isinstance(p, Field)}
 
-    def render_one(self, env: dict) -> str:
+    def render_one(self, env: Env) -> str:
         out = []
         for p in self.parts:
             if isinstance(p, str):
@@ -51,7 +52,7 @@ class Template:
                 out.append(_fmt(env.get(p.name), p))
         return "".join(out)
 
-    def render_many(self, env: dict, index: np.ndarray) -> list[str]:
+    def render_many(self, env: Env, index: np.ndarray) -> list[str]:
         """Render for the rows ``index`` of the column arrays in ``env``."""
         n = len(index)
         if n == 0:
@@ -94,7 +95,7 @@ def _fmt_num(x: float, spec: str) -> str:
         return f"{x:g}"
 
 
-def _fmt(v, p: Field) -> str:
+def _fmt(v: Any, p: Field) -> str:
     if v is None:
         return "n/a"
     if isinstance(v, np.ndarray):
