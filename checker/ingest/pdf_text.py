@@ -12,6 +12,8 @@ import re
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Sequence, cast
 
+from checker.ingest.headings import match_heading
+
 # --------------------------------------------------------------------------------------------
 # Glyphs, words and lines
 # --------------------------------------------------------------------------------------------
@@ -395,32 +397,14 @@ def _keyword_heading(text: str) -> bool:
 
 
 def heading_matcher() -> Callable[[str], bool]:
-    """``text -> bool``: does this cell look like a schedule heading?
-
-    Uses ``checker.ingest.headings.match_heading`` when that module exists (imported lazily, any
-    failure falls back quietly), together with a small keyword list of our own.
-    """
-    external = None
-    try:  # pragma: no cover - depends on the heading mapper being present
-        from checker.ingest.headings import match_heading as external  # type: ignore
-    except Exception:
-        external = None
+    """``text -> bool``: does this cell look like a schedule heading? A short keyword list of our own,
+    then :func:`checker.ingest.headings.match_heading` (a cell that maps to a schedule field)."""
 
     def is_heading(text: str) -> bool:
         t = normalise_cell(text)
         if not t or len(t) > 60 or looks_like_value(t):
             return False
-        if _keyword_heading(t):
-            return True
-        if external is not None:
-            try:
-                res = external(t)
-            except Exception:
-                return False
-            if isinstance(res, tuple):
-                return bool(res and res[0])
-            return bool(res)
-        return False
+        return _keyword_heading(t) or match_heading(t)[0] is not None
 
     return is_heading
 
