@@ -32,26 +32,14 @@ from checker.units import FROM_INTERNAL, KIND_OF_UNIT
 #: from memory of BS 8666:2005 Table 1 - confirm against a licensed copy).
 STANDARD_BAR_SIZES: tuple[int, ...] = (6, 8, 10, 12, 16, 20, 25, 32, 40, 50)
 
-#: Concrete strength classes: name -> (fck [MPa], fck,cube [MPa]).
+#: Concrete strength classes: name -> (fck [MPa], fck,cube [MPa]), the two figures of the name C{fck}/{fck,cube}.
 #: EN 1992-1-1:2004 Table 3.1 (C12/15 ... C90/105) plus the UK classes C28/35 and C32/40 of
 #: BS 8500-1 (see reference/ec2-pile-caps.md, section 3).
 CONCRETE_CLASSES: dict[str, tuple[float, float]] = {
-    "C12/15": (12, 15),
-    "C16/20": (16, 20),
-    "C20/25": (20, 25),
-    "C25/30": (25, 30),
-    "C28/35": (28, 35),
-    "C30/37": (30, 37),
-    "C32/40": (32, 40),
-    "C35/45": (35, 45),
-    "C40/50": (40, 50),
-    "C45/55": (45, 55),
-    "C50/60": (50, 60),
-    "C55/67": (55, 67),
-    "C60/75": (60, 75),
-    "C70/85": (70, 85),
-    "C80/95": (80, 95),
-    "C90/105": (90, 105),
+    name: (int(name[1:].partition("/")[0]), int(name.partition("/")[2])) for name in (
+        "C12/15", "C16/20", "C20/25", "C25/30", "C28/35", "C30/37", "C32/40", "C35/45", "C40/50", "C45/55",
+        "C50/60", "C55/67", "C60/75", "C70/85", "C80/95", "C90/105",
+    )
 }
 
 BAR_ENDS: tuple[str, ...] = ("", "straight", "bent", "hooked")
