@@ -18,41 +18,33 @@ class Severity(str, Enum):
     label, colours and meaning. The findings frame keeps the plain strings (``Severity.X.value``) for
     the JSON and the sheet; every rank map is :data:`SEVERITY_RANK`, built from this enum."""
 
-    UNSAFE = "unsafe"
-    NON_COMPLIANT = "non-compliant"
-    QUERY = "query"
-    ADVISORY = "advisory"
-    OK = "ok"
+    label: str          # the terminal badge text
+    style: str          # the terminal (rich) style
+    fill: str           # fill colour (hex RGB) in the sheet, the HTML report and the sketches
+    text_colour: str    # text colour (hex RGB) on the fill
+    meaning: str        # what the severity means, in the words of this project (legends)
+
+    def __new__(cls, value: str, *look: str) -> "Severity":
+        """A member from its row below (``Severity(text)`` itself looks a member up by its value)."""
+        member = str.__new__(cls, value)
+        member._value_ = value
+        member.label, member.style, member.fill, member.text_colour, member.meaning = look
+        return member
+
+    # value, label, terminal style, fill, text colour, meaning. The colours are this project's own: a
+    # warm scale from brick red (strength check not met) to pale green (met), readable printed in greyscale.
+    UNSAFE = ("unsafe", "UNSAFE", "bold white on red3", "B3261E", "FFFFFF", "a strength check is not met")
+    NON_COMPLIANT = ("non-compliant", "NON-COMPLIANT", "bold dark_orange", "F4A259", "1F1F1F",
+                     "a detailing rule is breached")
+    QUERY = ("query", "QUERY", "bold magenta", "F6D55C", "1F1F1F",
+             "cannot be verified from the submission, or the designer's figure disagrees with the re-check")
+    ADVISORY = ("advisory", "ADVISORY", "cyan", "A8D5E2", "1F1F1F", "good practice, for the designer's consideration")
+    OK = ("ok", "ok", "green", "C5E1A5", "1F1F1F", "the listed check was met on the figures submitted")
 
     @property
     def rank(self) -> int:
         """0 for the worst."""
         return SEVERITY_RANK[self.value]
-
-    @property
-    def label(self) -> str:
-        """The terminal badge text."""
-        return _LOOK[self.value][0]
-
-    @property
-    def style(self) -> str:
-        """The terminal (rich) style."""
-        return _LOOK[self.value][1]
-
-    @property
-    def fill(self) -> str:
-        """Fill colour (hex RGB) in the sheet, the HTML report and the sketches."""
-        return _LOOK[self.value][2]
-
-    @property
-    def text_colour(self) -> str:
-        """Text colour (hex RGB) on :attr:`fill`."""
-        return _LOOK[self.value][3]
-
-    @property
-    def meaning(self) -> str:
-        """What the severity means, in the words of this project (legends)."""
-        return _LOOK[self.value][4]
 
     @classmethod
     def parse(cls, text: str) -> "Severity":
@@ -63,17 +55,6 @@ class Severity(str, Enum):
                 f"unknown severity {text!r}; expected one of {', '.join(SEVERITY_ORDER)}"
             ) from None
 
-
-# label, terminal style, fill, text colour, meaning. The colours are this project's own: a warm
-# scale from brick red (strength check not met) to pale green (met), readable printed in greyscale.
-_LOOK: dict[str, tuple[str, str, str, str, str]] = {
-    "unsafe": ("UNSAFE", "bold white on red3", "B3261E", "FFFFFF", "a strength check is not met"),
-    "non-compliant": ("NON-COMPLIANT", "bold dark_orange", "F4A259", "1F1F1F", "a detailing rule is breached"),
-    "query": ("QUERY", "bold magenta", "F6D55C", "1F1F1F",
-              "cannot be verified from the submission, or the designer's figure disagrees with the re-check"),
-    "advisory": ("ADVISORY", "cyan", "A8D5E2", "1F1F1F", "good practice, for the designer's consideration"),
-    "ok": ("ok", "green", "C5E1A5", "1F1F1F", "the listed check was met on the figures submitted"),
-}
 
 SEVERITY_ORDER: tuple[str, ...] = tuple(s.value for s in Severity)
 #: severity text -> rank (0 = worst); the one rank map

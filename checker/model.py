@@ -32,26 +32,14 @@ from checker.units import FROM_INTERNAL, KIND_OF_UNIT
 #: from memory of BS 8666:2005 Table 1 - confirm against a licensed copy).
 STANDARD_BAR_SIZES: tuple[int, ...] = (6, 8, 10, 12, 16, 20, 25, 32, 40, 50)
 
-#: Concrete strength classes: name -> (fck [MPa], fck,cube [MPa]).
+#: Concrete strength classes: name -> (fck [MPa], fck,cube [MPa]), the two figures of the name C{fck}/{fck,cube}.
 #: EN 1992-1-1:2004 Table 3.1 (C12/15 ... C90/105) plus the UK classes C28/35 and C32/40 of
 #: BS 8500-1 (see reference/ec2-pile-caps.md, section 3).
 CONCRETE_CLASSES: dict[str, tuple[float, float]] = {
-    "C12/15": (12, 15),
-    "C16/20": (16, 20),
-    "C20/25": (20, 25),
-    "C25/30": (25, 30),
-    "C28/35": (28, 35),
-    "C30/37": (30, 37),
-    "C32/40": (32, 40),
-    "C35/45": (35, 45),
-    "C40/50": (40, 50),
-    "C45/55": (45, 55),
-    "C50/60": (50, 60),
-    "C55/67": (55, 67),
-    "C60/75": (60, 75),
-    "C70/85": (70, 85),
-    "C80/95": (80, 95),
-    "C90/105": (90, 105),
+    name: (int(name[1:].partition("/")[0]), int(name.partition("/")[2])) for name in (
+        "C12/15", "C16/20", "C20/25", "C25/30", "C28/35", "C30/37", "C32/40", "C35/45", "C40/50", "C45/55",
+        "C50/60", "C55/67", "C60/75", "C70/85", "C80/95", "C90/105",
+    )
 }
 
 BAR_ENDS: tuple[str, ...] = ("", "straight", "bent", "hooked")
@@ -184,6 +172,19 @@ CROSS_CHECKS: tuple[CrossCheck, ...] = (
 # --------------------------------------------------------------------------------------------
 
 _OptF = typing.Optional[float]
+#: a diameter of the standard bar sizes
+_BarSize = typing.Annotated[float, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))]
+
+
+def _bars(a: str, layer: str) -> Any:
+    """The field of the bottom bars spanning along ``a``, as written."""
+    return _f(doc=f"bottom bars spanning along {a} ({layer}), as written", heading="bars", min_length=1)
+
+
+def _of_bars(a: str, what: str, default: Any = ..., *, meaning: str = "", **kw: Any) -> Any:
+    """A field of a figure of the bars along ``a``, read through their notation (no heading of its own)."""
+    return _f(default, doc=f"{what} of bars_{a}", meaning=meaning or f"{what} of the bars along {a}", heading=None,
+              **kw)
 
 
 class CapRecord(BaseModel):
@@ -213,18 +214,14 @@ class CapRecord(BaseModel):
     cover: float = _f(unit="mm", doc="nominal cover, soffit to the lowest bars (also side cover)",
                       meaning="nominal cover to the lowest bars", gt=0)
     exposure: str = _f("", doc="exposure class, e.g. XC2")
-    bars_x: str = _f(doc="bottom bars spanning along x (lowest layer), as written", heading="bars", min_length=1)
-    nx: int = _f(unit="count", doc="number of bars_x", meaning="number of bars along x", heading=None, ge=1)
-    phi_x: typing.Annotated[float, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
-        unit="mm", doc="diameter of bars_x", meaning="diameter of the bars along x", heading=None)
-    sx: _OptF = _f(None, unit="mm", doc="stated centres of bars_x", meaning="stated centres of the bars along x",
-                   heading=None, gt=0)
-    bars_y: str = _f(doc="bottom bars spanning along y (second layer), as written", heading="bars", min_length=1)
-    ny: int = _f(unit="count", doc="number of bars_y", meaning="number of bars along y", heading=None, ge=1)
-    phi_y: typing.Annotated[float, OneOf(tuple(float(d) for d in STANDARD_BAR_SIZES))] = _f(
-        unit="mm", doc="diameter of bars_y", meaning="diameter of the bars along y", heading=None)
-    sy: _OptF = _f(None, unit="mm", doc="stated centres of bars_y", meaning="stated centres of the bars along y",
-                   heading=None, gt=0)
+    bars_x: str = _bars("x", "lowest layer")
+    nx: int = _of_bars("x", "number", unit="count", meaning="number of bars along x", ge=1)
+    phi_x: _BarSize = _of_bars("x", "diameter", unit="mm")
+    sx: _OptF = _of_bars("x", "stated centres", None, unit="mm", gt=0)
+    bars_y: str = _bars("y", "second layer")
+    ny: int = _of_bars("y", "number", unit="count", meaning="number of bars along y", ge=1)
+    phi_y: _BarSize = _of_bars("y", "diameter", unit="mm")
+    sy: _OptF = _of_bars("y", "stated centres", None, unit="mm", gt=0)
     # single-pile caps (issue 15, item 3): closed horizontal links carrying the splitting tie
     links: str = _f("", doc="horizontal links (splitting steel) of a single-pile cap, as written; '' if not stated",
                     heading="bars")

@@ -728,46 +728,41 @@ def _fmt_u(u: float | None) -> str:
 # revision, {p} the previous one, {cap}, {rule}, {was}, {now}.
 EVIDENCE: tuple[str, ...] = ("reported", "worse", "met", "no-result", "cap-removed")
 Transition = tuple[str, str, str]   # (new status, outcome, note format)
+# the rows several previous statuses share
+_NOW_MET_AUTO: Transition = ("closed", "closed", "closed in revision {n}: check now met")
+_NOW_MET_CHECKER: Transition = (MET, "met", "met in revision {n}: for the checker to close")
+_FAILS_AGAIN: Transition = ("open", "reopened", "reopened in revision {n}: the check fails again")
+_BACK_AND_FAILS: Transition = (
+    "open", "reopened", "reopened in revision {n}: cap {cap} is back in the schedule and the check fails")
+_CAP_REMOVED: Transition = (
+    "superseded", "superseded", "superseded in revision {n}: cap {cap} no longer in the schedule")
+_NOT_RECHECKED = "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"
 TRANSITIONS: dict[tuple[str, str, str | None], Transition] = {
     ("open", "reported", None): ("open", "still-open", ""),
     ("open", "worse", None): ("open", "still-open", "still open in revision {n}; worse than revision {p}"),
-    ("open", "met", "auto"): ("closed", "closed", "closed in revision {n}: check now met"),
-    ("open", "met", "checker"): (MET, "met", "met in revision {n}: for the checker to close"),
-    ("open", "no-result", None): (
-        "open", "not-rechecked",
-        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
-    ("open", "cap-removed", None): (
-        "superseded", "superseded", "superseded in revision {n}: cap {cap} no longer in the schedule"),
-    (MET, "reported", None): ("open", "reopened", "reopened in revision {n}: the check fails again"),
-    (MET, "worse", None): ("open", "reopened", "reopened in revision {n}: the check fails again"),
+    ("open", "met", "auto"): _NOW_MET_AUTO,
+    ("open", "met", "checker"): _NOW_MET_CHECKER,
+    ("open", "cap-removed", None): _CAP_REMOVED,
+    (MET, "reported", None): _FAILS_AGAIN,
+    (MET, "worse", None): _FAILS_AGAIN,
     (MET, "met", "auto"): ("closed", "closed", "closed in revision {n}: check met"),
     (MET, "met", "checker"): (MET, "stays-met", "met; for the checker to close (still met in revision {n})"),
-    (MET, "no-result", None): (
-        MET, "not-rechecked",
-        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
-    (MET, "cap-removed", None): (
-        "superseded", "superseded", "superseded in revision {n}: cap {cap} no longer in the schedule"),
+    (MET, "cap-removed", None): _CAP_REMOVED,
     ("closed", "reported", None): (
         "closed", "stays-closed", "closed by the checker; still reported in revision {n}, not worse"),
     ("closed", "worse", None): (
         "open", "reopened", "reopened in revision {n}: finding worse than when closed (was {was}, now {now})"),
     ("closed", "met", None): ("closed", "stays-closed", "closed; check met in revision {n}"),
-    ("closed", "no-result", None): (
-        "closed", "not-rechecked",
-        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
     ("closed", "cap-removed", None): (
         "closed", "stays-closed", "closed; cap {cap} no longer in the schedule in revision {n}"),
-    ("superseded", "reported", None): (
-        "open", "reopened", "reopened in revision {n}: cap {cap} is back in the schedule and the check fails"),
-    ("superseded", "worse", None): (
-        "open", "reopened", "reopened in revision {n}: cap {cap} is back in the schedule and the check fails"),
-    ("superseded", "met", "auto"): ("closed", "closed", "closed in revision {n}: check now met"),
-    ("superseded", "met", "checker"): (MET, "met", "met in revision {n}: for the checker to close"),
-    ("superseded", "no-result", None): (
-        "superseded", "not-rechecked",
-        "not re-checked in revision {n} (no result for {rule} on cap {cap}); status left as it was"),
+    ("superseded", "reported", None): _BACK_AND_FAILS,
+    ("superseded", "worse", None): _BACK_AND_FAILS,
+    ("superseded", "met", "auto"): _NOW_MET_AUTO,
+    ("superseded", "met", "checker"): _NOW_MET_CHECKER,
     ("superseded", "cap-removed", None): (
         "superseded", "stays-superseded", "superseded; cap {cap} not in the schedule in revision {n}"),
+    # no result for the key: whatever the status was, it is left as it was
+    **{(s, "no-result", None): (s, "not-rechecked", _NOT_RECHECKED) for s in ("open", MET, "closed", "superseded")},
 }
 
 

@@ -206,6 +206,49 @@ def signed_distance_to_column(
     return cast(Floats, out)
 
 
+class _PerimeterArcs(TypedDict):
+    """:func:`_perimeter_arcs`: the inputs as arrays and the quarter arcs of the control perimeter."""
+
+    a: Floats
+    cx: Floats
+    cy: Floats
+    rnd: NDArray[np.bool_]
+    hx: Floats
+    hy: Floats
+    ex: Floats
+    ey: Floats
+    rho: Floats
+    t1: Floats
+    t2: Floats
+
+
+def _perimeter_arcs(
+    a: Real, column_x: Real, column_y: Real, column_round: Real, cap_length: Real, cap_width: Real,
+) -> _PerimeterArcs:
+    """The quarter arcs of the control perimeter at a from the column face, cut by the cap plan.
+
+    Arc centre (hx, hy): the column corner (rectangle) or the column centre (circle, (0, 0)); ex, ey
+    its distances to the cap edges; ρ the radius; a quarter arc is kept over t1 ≤ θ ≤ t2 (θ from
+    the x axis; t2 = t1 where none of it lies inside the cap). Shared by
+    :func:`control_perimeter_length` and :func:`perimeter_w`; arguments as there.
+    """
+    a = np.asarray(a, dtype=float)
+    cx = np.asarray(column_x, dtype=float)
+    cy = np.asarray(column_y, dtype=float)
+    rnd = np.asarray(column_round, dtype=bool)
+    hx = np.where(rnd, 0.0, 0.5 * cx)
+    hy = np.where(rnd, 0.0, 0.5 * cy)
+    ex = 0.5 * np.asarray(cap_length, dtype=float) - hx
+    ey = 0.5 * np.asarray(cap_width, dtype=float) - hy
+    rho = np.where(rnd, 0.5 * cx + a, a)
+    safe = np.where(rho > 0, rho, 1.0)
+    with np.errstate(invalid="ignore"):
+        t1 = np.arccos(np.clip(ex / safe, -1.0, 1.0))
+        t2 = np.arcsin(np.clip(ey / safe, -1.0, 1.0))
+    return _PerimeterArcs(a=a, cx=cx, cy=cy, rnd=rnd, hx=hx, hy=hy, ex=ex, ey=ey, rho=rho, t1=t1,
+                          t2=np.maximum(t2, t1))
+
+
 def control_perimeter_length(
     a: Real, column_x: Real, column_y: Real, column_round: Real, cap_length: Real, cap_width: Real,
 ) -> Floats:
@@ -228,21 +271,9 @@ def control_perimeter_length(
     Returns:
         u(a) [mm]
     """
-    a = np.asarray(a, dtype=float)
-    cx = np.asarray(column_x, dtype=float)
-    cy = np.asarray(column_y, dtype=float)
-    rnd = np.asarray(column_round, dtype=bool)
-    hl = 0.5 * np.asarray(cap_length, dtype=float)
-    hw = 0.5 * np.asarray(cap_width, dtype=float)
-    # arc centre: the column corner (rectangle) or the column centre (circle)
-    ex = np.where(rnd, hl, hl - 0.5 * cx)
-    ey = np.where(rnd, hw, hw - 0.5 * cy)
-    rho = np.where(rnd, 0.5 * cx + a, a)
-    safe = np.where(rho > 0, rho, 1.0)
-    with np.errstate(invalid="ignore"):
-        ang = (np.arcsin(np.clip(ey / safe, -1.0, 1.0))
-               - np.arccos(np.clip(ex / safe, -1.0, 1.0)))
-    arcs = 4.0 * rho * np.maximum(ang, 0.0)
+    g = _perimeter_arcs(a, column_x, column_y, column_round, cap_length, cap_width)
+    a, cx, cy, rnd, ex, ey = g["a"], g["cx"], g["cy"], g["rnd"], g["ex"], g["ey"]
+    arcs = 4.0 * g["rho"] * (g["t2"] - g["t1"])
     sides = np.where(rnd, 0.0, 2.0 * cx * (a <= ey) + 2.0 * cy * (a <= ex))
     return cast(Floats, sides + arcs)
 
@@ -595,29 +626,15 @@ def perimeter_w(
     ρ hy (θ2 − θ1) + ρ² (cos θ1 − cos θ2) to W_y; a straight side counts while it is inside.
 
     Args:
-        a: distance of the perimeter from the column face [mm]
-        column_x, column_y: column size (circle: both D) [mm]
-        column_round: True for a circular column [-]
-        cap_length, cap_width: cap plan L (along x) and W (along y) [mm]
+        a, column_x, column_y, column_round, cap_length, cap_width: as in :func:`control_perimeter_length`
+            (a, column_x, column_y, cap_length, cap_width [mm]; column_round [-])
 
     Returns:
         (W_x, W_y): W for an eccentricity along x (moment My) and along y (moment Mx) [mm²]
     """
-    a = np.asarray(a, dtype=float)
-    cx = np.asarray(column_x, dtype=float)
-    cy = np.asarray(column_y, dtype=float)
-    rnd = np.asarray(column_round, dtype=bool)
-    hl = 0.5 * np.asarray(cap_length, dtype=float)
-    hw = 0.5 * np.asarray(cap_width, dtype=float)
-    hx = np.where(rnd, 0.0, 0.5 * cx)
-    hy = np.where(rnd, 0.0, 0.5 * cy)
-    ex, ey = hl - hx, hw - hy
-    rho = np.where(rnd, 0.5 * cx + a, a)
-    safe = np.where(rho > 0, rho, 1.0)
-    with np.errstate(invalid="ignore"):
-        t1 = np.arccos(np.clip(ex / safe, -1.0, 1.0))
-        t2 = np.arcsin(np.clip(ey / safe, -1.0, 1.0))
-    t2 = np.maximum(t2, t1)
+    g = _perimeter_arcs(a, column_x, column_y, column_round, cap_length, cap_width)
+    a, cx, cy, rnd, ex, ey = g["a"], g["cx"], g["cy"], g["rnd"], g["ex"], g["ey"]
+    hx, hy, rho, t1, t2 = g["hx"], g["hy"], g["rho"], g["t1"], g["t2"]
     span = t2 - t1
     arc_x = 4.0 * (rho * hx * span + rho * rho * (np.sin(t2) - np.sin(t1)))
     arc_y = 4.0 * (rho * hy * span + rho * rho * (np.cos(t1) - np.cos(t2)))

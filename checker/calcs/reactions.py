@@ -142,10 +142,8 @@ def tolerance_swing(
     responses (see :func:`tolerance_reactions`) [CP].
 
     Args:
-        X, Y: pile centres (n, m) [mm]
-        mask: real piles (n, m) [-]
-        n_ed: vertical load at the column centre (n,) [N]
-        mx_ed, my_ed: applied moments (n,) [N·mm]
+        X, Y, mask, n_ed, mx_ed, my_ed: the pile group and its loads, as in :func:`pile_reactions`
+            (X, Y [mm]; mask [-]; n_ed [N]; mx_ed, my_ed [N·mm])
         tolerance: positional tolerance e [mm]
         per_axis: True for the (±e, ±e) shift [-]
         terms: :func:`group_terms` of the group when already computed [mm²]
@@ -185,12 +183,8 @@ def tolerance_reactions(
     cannot resist is dropped.
 
     Args:
-        X, Y: pile centres (n, m) [mm]
-        mask: real piles (n, m) [-]
-        n_ed: vertical load at the column centre (n,) [N]
-        mx_ed, my_ed: applied moments (n,) [N·mm]
-        tolerance: positional tolerance e [mm]
-        per_axis: True for the (±e, ±e) shift [-]
+        X, Y, mask, n_ed, mx_ed, my_ed, tolerance, per_axis: as in :func:`tolerance_swing`
+            (X, Y [mm]; mask [-]; n_ed [N]; mx_ed, my_ed [N·mm]; tolerance [mm]; per_axis [-])
 
     Returns:
         (R_max, R_min): extreme reactions over the piles and the shifts, (n,) each [N]
@@ -211,11 +205,8 @@ def tolerance_direction(
     :func:`tolerance_reactions`) [D]; 0 where the reaction does not depend on the shift.
 
     Args:
-        X, Y: pile centres (n, m) [mm]
-        mask: real piles (n, m) [-]
-        n_ed: vertical load at the column centre (n,) [N]
-        mx_ed, my_ed: applied moments (n,) [N·mm]
-        tolerance: positional tolerance e [mm]
+        X, Y, mask, n_ed, mx_ed, my_ed, tolerance: as in :func:`tolerance_swing`
+            (X, Y [mm]; mask [-]; n_ed [N]; mx_ed, my_ed [N·mm]; tolerance [mm])
 
     Returns:
         angle of the shift from the x axis, anticlockwise (n,) [degrees]

@@ -110,11 +110,8 @@ def v_rdc(fck: Real, d: Real, rho: Real, gamma_c: Real = 1.5, crd_c_factor: Real
     [V: S1].
 
     Args:
-        fck: characteristic cylinder strength [MPa]
-        d: effective depth [mm]
-        rho: ρl ≤ 0.02 [-]
-        gamma_c: partial factor for concrete, recommended 1.5 [-]
-        crd_c_factor: the 0.18 in CRd,c = 0.18/γc (recommended) [-]
+        fck, d, rho, gamma_c, crd_c_factor: as in :func:`v_rdc_calc`
+            (fck [MPa]; d [mm]; rho, gamma_c, crd_c_factor [-])
 
     Returns:
         vRd,c [MPa]

@@ -270,14 +270,9 @@ def tie_layer_check(
     layer condition gives x: N s/(6d) and y: N s/(3√3 d) [D].
 
     Args:
-        H: horizontal node forces along the tie direction (n, m) [N]
         coord: pile coordinates along the tie direction (n, m) [mm]
-        row_coord: pile coordinates across the bars (n, m) [mm]
-        mask: real piles (n, m) [-]
-        as_total: area of the whole layer (n,) [mm²]
-        fyd: design yield strength (n,) [MPa]
-        pile_dia, width, cover: as :func:`tie_band_steel` (n,) [mm]
-        tol: merge tolerance for pile lines [mm]
+        H, row_coord, mask, as_total, fyd, pile_dia, width, cover, tol: as in :func:`tie_rows_check`
+            (H [N]; row_coord, pile_dia, width, cover, tol [mm]; mask [-]; as_total [mm²]; fyd [MPa])
 
     Returns:
         the :func:`tie_rows_check` dict for the governing condition, with ``cut`` the tension

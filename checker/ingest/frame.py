@@ -1019,6 +1019,20 @@ def _parse_tables(tables: Sequence[RawTable], hmap: HeadingMap | None, cells: Se
     return reports, notes, parts, prov
 
 
+def _join_errors(parts: list[_Parsed]) -> tuple[_Errors, dict[str, str]]:
+    """The parts' field errors (rows offset to the joined table) and their labels (the first wins)."""
+    errors = _Errors()
+    labels: dict[str, str] = {}
+    offset = 0
+    for p in parts:
+        for fe in p.errors.items:
+            errors.add(fe.field, fe.rows + offset, fe.messages)
+        for k, v in p.labels.items():
+            labels.setdefault(k, v)
+        offset += p.n
+    return errors, labels
+
+
 def _join(parts: list[_Parsed], prov: list[pd.DataFrame]) -> _Joined:
     """Concatenate the parsed tables: values, errors (rows offset), labels and units (first wins)."""
     n_total = sum(p.n for p in parts)
@@ -1033,21 +1047,15 @@ def _join(parts: list[_Parsed], prov: list[pd.DataFrame]) -> _Joined:
             else:
                 arrays.append(np.full(p.n, "", dtype=object))
         out[f] = np.concatenate(arrays) if arrays else np.empty(0)
-    errors = _Errors()
-    labels: dict[str, str] = {}
+    errors, labels = _join_errors(parts)
     units: dict[str, tuple[str, str, float]] = {}
     given: dict[str, np.ndarray] = {}
     has_col: dict[str, np.ndarray] = {}
     applied_rows: dict[int, list[str]] = {}
     offset = 0
     for p in parts:
-        for fe in p.errors.items:
-            fld, rows, msgs = fe.field, fe.rows, fe.messages
-            errors.add(fld, rows + offset, msgs)
-        for k, v in p.labels.items():
-            labels.setdefault(k, v)
-        for k, unit in p.units.items():
-            units.setdefault(k, unit)
+        for k, v in p.units.items():
+            units.setdefault(k, v)
         for rows, text in p.applied:
             for r in (rows + offset).tolist():
                 applied_rows.setdefault(r, []).append(text)
@@ -1244,17 +1252,8 @@ def read_loads(tables: Sequence[RawTable], *, mapping: Any = None) -> LoadsTable
                                   "src_row": np.array(list(t.row_numbers), dtype=object)}))
     out = {f: np.concatenate([p.values.get(f, p_out_default(f, p.n)) for p in parts])
            for f in ("mark", "case", "case_kind", "n_ed", "mx_ed", "my_ed", "n_sls", "mx_sls", "my_sls")}
-    errors = _Errors()
-    labels: dict[str, str] = {}
-    off = 0
-    for p in parts:
-        for fe in p.errors.items:
-            fld, rows, msgs = fe.field, fe.rows, fe.messages
-            errors.add(fld, rows + off, msgs)
-        for k, v in p.labels.items():
-            labels.setdefault(k, v)
-        off += p.n
-    return LoadsTable(out, pd.concat(prov, ignore_index=True), errors, labels, off, reports)
+    errors, labels = _join_errors(parts)
+    return LoadsTable(out, pd.concat(prov, ignore_index=True), errors, labels, sum(p.n for p in parts), reports)
 
 
 def p_out_default(f: str, n: int) -> np.ndarray:

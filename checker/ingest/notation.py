@@ -181,6 +181,17 @@ def _finite(v: float, original: Any) -> float:
     return v
 
 
+def _number_cell(cell: Any) -> float:
+    """A cell read as a number (:func:`is_real_number`) as a float; refused: too large, or NaN (empty)."""
+    try:
+        v = float(cell)
+    except (OverflowError, ValueError):
+        raise NotationError(f"{_quote(cell)} is too large a number") from None
+    if math.isnan(v):
+        raise NotationError("empty cell")
+    return v
+
+
 # --------------------------------------------------------------------------------------------
 # Units and numbers
 # --------------------------------------------------------------------------------------------
@@ -248,13 +259,7 @@ def parse_quantity(text: Any) -> Quantity:
     if isinstance(text, bool):
         raise NotationError(f"{_quote(text)} is not a number")
     if is_real_number(text):
-        try:
-            v = float(text)
-        except (OverflowError, ValueError):
-            raise NotationError(f"{_quote(text)} is too large a number") from None
-        if math.isnan(v):
-            raise NotationError("empty cell")
-        return Quantity(_finite(v, text), None)
+        return Quantity(_finite(_number_cell(text), text), None)
     s = _cell_text(text, "a number")
     if not s:
         raise NotationError("empty cell")
@@ -443,12 +448,7 @@ def parse_column(text: Any, scale: float = 1.0) -> ColumnSize:
     ``600`` or ``600 sq`` (square), ``D600``, ``Ø600``, ``600 dia`` (circular). Lengths in mm unless
     the cell says ``m``/``cm``, or the heading's unit factor ``scale`` applies."""
     if is_real_number(text):
-        try:
-            v = float(text)
-        except (OverflowError, ValueError):
-            raise NotationError(f"{_quote(text)} is too large a number") from None
-        if math.isnan(v):
-            raise NotationError("empty cell")
+        v = _number_cell(text)
         if not math.isfinite(v):
             raise NotationError(f"{_quote(text)} is not a finite number")
         if v <= 0:

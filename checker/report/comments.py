@@ -43,6 +43,8 @@ from checker.revision import (  # noqa: F401
     MET,
     REJECTED_SHEET,
     STATUSES,
+    CarriedComment,
+    PreviousComment,
     RevisionResult,
     split_key,
 )
@@ -333,6 +335,27 @@ def build_comments(review: "Review", revision: "RevisionResult | None" = None) -
     return attach_remedies(review, _build_comments(review, revision))
 
 
+#: The fields a comment keeps, as they were, from its row on the previous sheet.
+_KEPT_FIELDS: tuple[str, ...] = ("cap", "rule", "check", "clause", "found", "severity", "action", "source",
+                                 "utilisation", "message")
+
+
+def _kept(prev: PreviousComment) -> dict[str, Any]:
+    return {f: getattr(prev, f) for f in _KEPT_FIELDS}
+
+
+def _comment_without_finding(key: str, entry: CarriedComment) -> Comment:
+    """A carried comment whose finding this review does not report: its previous row as it was (a key
+    with no previous row: the cap and rule of the key)."""
+    prev = entry.previous
+    if prev is None:
+        cap, rule = split_key(key)
+        return Comment(no=entry.no, key=key, cap=cap, rule=rule, check=key, clause="", found="", severity="",
+                       action="", source="", state=entry.state)
+    return Comment(no=entry.no, key=key, state=entry.state, tool_severity=prev.tool_severity,
+                   tool_utilisation=prev.tool_utilisation, **_kept(prev))
+
+
 def _build_comments(review: "Review", revision: "RevisionResult | None" = None) -> list[Comment]:
     rows = comment_findings(review)
     if revision is None:
@@ -342,27 +365,10 @@ def _build_comments(review: "Review", revision: "RevisionResult | None" = None) 
     all_results = {comment_key(str(r["cap"]), str(r["rule"])): r for r in _records(review.findings)}
     out: list[Comment] = []
     for key, entry in revision.entries.items():
-        prev = entry.previous
         if key in current:
             c = _comment_from_finding(current[key], entry.no)
         else:
-            c = Comment(
-                no=entry.no,
-                key=key,
-                cap=prev.cap if prev else split_key(key)[0],
-                rule=prev.rule if prev else split_key(key)[1],
-                check=prev.check if prev else key,
-                clause=prev.clause if prev else "",
-                found=prev.found if prev else "",
-                severity=prev.severity if prev else "",
-                action=prev.action if prev else "",
-                source=prev.source if prev else "",
-                utilisation=prev.utilisation if prev else None,
-                message=prev.message if prev else "",
-                state=entry.state,
-                tool_severity=prev.tool_severity if prev else "",
-                tool_utilisation=prev.tool_utilisation if prev else None,
-            )
+            c = _comment_without_finding(key, entry)
             met = all_results.get(key)
             if entry.state == "gone" and met is not None:
                 c.tool_severity = str(met["severity"])
@@ -385,27 +391,9 @@ def _build_comments(review: "Review", revision: "RevisionResult | None" = None) 
         out.append(c)
     for prev in revision.extra:
         out.append(
-            Comment(
-                no=prev.no if prev.no is not None else 0,
-                key="",
-                cap=prev.cap,
-                rule=prev.rule,
-                check=prev.check,
-                clause=prev.clause,
-                found=prev.found,
-                severity=prev.severity,
-                action=prev.action,
-                source=prev.source,
-                response=prev.response,
-                status=prev.status or "open",
-                note="",
-                outcome="manual",
-                utilisation=prev.utilisation,
-                message=prev.message,
-                state="manual",
-                reply=prev.reply,
-                extras=dict(prev.extras),
-            )
+            Comment(no=prev.no if prev.no is not None else 0, key="", response=prev.response,
+                    status=prev.status or "open", note="", outcome="manual", state="manual", reply=prev.reply,
+                    extras=dict(prev.extras), **_kept(prev))
         )
     out.sort(key=lambda c: (c.no if c.no else 10**9))
     return out

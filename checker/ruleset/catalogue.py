@@ -202,55 +202,39 @@ DERIVED: dict[str, tuple[str, str]] = {
     "fck_shear": ("MPa", "fck used in vRd,c and vmin (UK NA: at most C50/60)"),
     "fck_bond": ("MPa", "fck at which fctd is taken for bond (at most C60/75, 8.4.2(2))"),
     "fctd_bond": ("MPa", "design tensile strength used for bond"),
-    # crack control of the bottom steel (EN 1992-1-1:2004 7.3), crack-x / crack-y
+    # crack control of the bottom steel (EN 1992-1-1:2004 7.3), crack-x / crack-y: the layer terms below
     "wmax": ("mm", "limiting crack width of the exposure class, Table 7.1N (UK NA Table NA.4)"),
     "alpha_e": ("", "modular ratio Es/Ecm, 7.3.4(2)"),
     "fct_eff": ("MPa", "tensile strength when cracking is expected, fctm, 7.3.2(2)"),
-    "sigma_sls_x": ("MPa", "stress in the x bars (the lowest layer) under the case's loads, T/As counted (tie "
-                           "check's truss)"),
-    "sigma_qp_x": ("MPa", "stress in the x bars (the lowest layer) under the quasi-permanent load (SLS case, "
-                          "or qp_ratio x ULS)"),
-    "crack_phi_factor_x": ("", "phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), x bars (the "
-                               "lowest layer)"),
-    "crack_phi_star_x": ("mm", "bar diameter read against Table 7.2N, phi/(phi_s/phi*_s), x bars (the lowest layer)"),
-    "crack_sigma_phi_x": ("MPa", "largest steel stress at which the x bars (the lowest layer) meet Table 7.2N"),
-    "crack_sigma_s_x": ("MPa", "largest steel stress at which the centres of the x bars (the lowest layer) "
-                               "meet Table 7.3N"),
-    "crack_limit_x": ("MPa", "largest steel stress at which Table 7.2N or Table 7.3N is met, x bars (the "
-                             "lowest layer)"),
-    "x_cr_x": ("mm", "neutral axis depth of the cracked section, x bars (the lowest layer)"),
-    "hc_ef_x": ("mm", "hc,ef = min(2.5(h - d), (h - x)/3, h/2), 7.3.2(3), x bars (the lowest layer)"),
-    "rho_p_eff_x": ("", "rho_p,eff = As/(b hc,ef), Eq. (7.10), x bars (the lowest layer)"),
-    "crack_c_x": ("mm", "cover to the x bars (the lowest layer)"),
-    "crack_close_x": ("mm", "5(c + phi/2): the largest centres for Eq. (7.11), x bars (the lowest layer)"),
-    "sr_max_x": ("mm", "maximum crack spacing, Eq. (7.11) or (7.14), x bars (the lowest layer)"),
-    "crack_limit_calc_x": ("MPa", "largest steel stress at which the calculated wk meets wmax, x bars (the "
-                                  "lowest layer)"),
-    "eps_crack_x": ("", "eps_sm - eps_cm at the quasi-permanent stress, Eq. (7.9), x bars (the lowest layer)"),
-    "wk_x": ("mm", "calculated crack width at the quasi-permanent stress, Eq. (7.8), x bars (the lowest layer)"),
-    "sigma_sls_y": ("MPa", "stress in the y bars (the second layer) under the case's loads, T/As counted (tie "
-                           "check's truss)"),
-    "sigma_qp_y": ("MPa", "stress in the y bars (the second layer) under the quasi-permanent load (SLS case, "
-                          "or qp_ratio x ULS)"),
-    "crack_phi_factor_y": ("", "phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), y bars (the "
-                               "second layer)"),
-    "crack_phi_star_y": ("mm", "bar diameter read against Table 7.2N, phi/(phi_s/phi*_s), y bars (the second layer)"),
-    "crack_sigma_phi_y": ("MPa", "largest steel stress at which the y bars (the second layer) meet Table 7.2N"),
-    "crack_sigma_s_y": ("MPa", "largest steel stress at which the centres of the y bars (the second layer) "
-                               "meet Table 7.3N"),
-    "crack_limit_y": ("MPa", "largest steel stress at which Table 7.2N or Table 7.3N is met, y bars (the "
-                             "second layer)"),
-    "x_cr_y": ("mm", "neutral axis depth of the cracked section, y bars (the second layer)"),
-    "hc_ef_y": ("mm", "hc,ef = min(2.5(h - d), (h - x)/3, h/2), 7.3.2(3), y bars (the second layer)"),
-    "rho_p_eff_y": ("", "rho_p,eff = As/(b hc,ef), Eq. (7.10), y bars (the second layer)"),
-    "crack_c_y": ("mm", "cover to the y bars (the second layer)"),
-    "crack_close_y": ("mm", "5(c + phi/2): the largest centres for Eq. (7.11), y bars (the second layer)"),
-    "sr_max_y": ("mm", "maximum crack spacing, Eq. (7.11) or (7.14), y bars (the second layer)"),
-    "crack_limit_calc_y": ("MPa", "largest steel stress at which the calculated wk meets wmax, y bars (the "
-                                  "second layer)"),
-    "eps_crack_y": ("", "eps_sm - eps_cm at the quasi-permanent stress, Eq. (7.9), y bars (the second layer)"),
-    "wk_y": ("mm", "calculated crack width at the quasi-permanent stress, Eq. (7.8), y bars (the second layer)"),
 }
+
+
+def _crack_layer(a: str, layer: str) -> dict[str, tuple[str, str]]:
+    """The crack-control quantities of one bottom layer: ``a`` its axis, ``layer`` which layer it is."""
+    bars = f"{a} bars ({layer})"
+    terms = [
+        ("sigma_sls", "MPa", f"stress in the {bars} under the case's loads, T/As counted (tie check's truss)"),
+        ("sigma_qp", "MPa", f"stress in the {bars} under the quasi-permanent load (SLS case, or qp_ratio x ULS)"),
+        ("crack_phi_factor", "", f"phi_s/phi*_s of Eq. (7.6N), (fct,eff/2.9) kc hcr/(2(h - d)), {bars}"),
+        ("crack_phi_star", "mm", f"bar diameter read against Table 7.2N, phi/(phi_s/phi*_s), {bars}"),
+        ("crack_sigma_phi", "MPa", f"largest steel stress at which the {bars} meet Table 7.2N"),
+        ("crack_sigma_s", "MPa", f"largest steel stress at which the centres of the {bars} meet Table 7.3N"),
+        ("crack_limit", "MPa", f"largest steel stress at which Table 7.2N or Table 7.3N is met, {bars}"),
+        ("x_cr", "mm", f"neutral axis depth of the cracked section, {bars}"),
+        ("hc_ef", "mm", f"hc,ef = min(2.5(h - d), (h - x)/3, h/2), 7.3.2(3), {bars}"),
+        ("rho_p_eff", "", f"rho_p,eff = As/(b hc,ef), Eq. (7.10), {bars}"),
+        ("crack_c", "mm", f"cover to the {bars}"),
+        ("crack_close", "mm", f"5(c + phi/2): the largest centres for Eq. (7.11), {bars}"),
+        ("sr_max", "mm", f"maximum crack spacing, Eq. (7.11) or (7.14), {bars}"),
+        ("crack_limit_calc", "MPa", f"largest steel stress at which the calculated wk meets wmax, {bars}"),
+        ("eps_crack", "", f"eps_sm - eps_cm at the quasi-permanent stress, Eq. (7.9), {bars}"),
+        ("wk", "mm", f"calculated crack width at the quasi-permanent stress, Eq. (7.8), {bars}"),
+    ]
+    return {f"{name}_{a}": (unit, meaning) for name, unit, meaning in terms}
+
+
+DERIVED.update(_crack_layer("x", "the lowest layer"))
+DERIVED.update(_crack_layer("y", "the second layer"))
 
 # single-pile caps (issue 15, item 3): the splitting tie under the column and the pile-head bearing
 DERIVED.update({

@@ -305,6 +305,20 @@ def _reinforcement(q: Quantities, inp: Inputs, p: Params) -> None:
     q["as_min_y_dist"] = np.where(q["n_piles"] == 2, det.distribution_steel(as_x), q["as_min_y"])
 
 
+def _axis_terms(k: str, result: Mapping[str, object], terms: tuple[tuple[str, str], ...]) -> Quantities:
+    """The quantities ``{name}_{k}`` of one direction ``k``, from ``result`` by the (name, key) pairs of ``terms``."""
+    return {f"{name}_{k}": cast(Floats, result[key]) for name, key in terms}
+
+
+#: One direction's tie-check quantities, in the order of q: (name without the _x/_y, key of the
+#: :class:`~checker.calcs.strut_tie.TieLayer`, or as_req_cut: the steel for the tension across the centreline).
+_TIE_TERMS: tuple[tuple[str, str], ...] = (
+    ("util_tie", "util"), ("tie_rows", "rows"), ("tie_total", "t_total"), ("tie_cut", "cut"),
+    ("as_req_cut", "as_req_cut"), ("tie_by_layer", "by_layer"), ("util_rows", "util_rows"),
+    ("util_cut", "util_cut"), ("tie_shared", "shared"), ("tie_full", "full"), ("as_layer_counted", "as_layer_counted"),
+)
+
+
 def _ties(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Strut-and-tie: the tie rows and the tension across the column centreline, each direction.
 
@@ -331,17 +345,7 @@ def _ties(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Pa
             q[f"as_tie_{k}{sfx}"] = t["as_prov"]
             if sfx:
                 continue
-            q[f"util_tie_{k}"] = t["util"]
-            q[f"tie_rows_{k}"] = t["rows"]
-            q[f"tie_total_{k}"] = t["t_total"]
-            q[f"tie_cut_{k}"] = t["cut"]
-            q[f"as_req_cut_{k}"] = st.tie_steel_required(t["cut"], fyd)
-            q[f"tie_by_layer_{k}"] = t["by_layer"]
-            q[f"util_rows_{k}"] = t["util_rows"]
-            q[f"util_cut_{k}"] = t["util_cut"]
-            q[f"tie_shared_{k}"] = t["shared"]
-            q[f"tie_full_{k}"] = t["full"]
-            q[f"as_layer_counted_{k}"] = t["as_layer_counted"]
+            q.update(_axis_terms(k, {**t, "as_req_cut": st.tie_steel_required(t["cut"], fyd)}, _TIE_TERMS))
     q["tie_full_width"] = np.where(np.isnan(q["tie_full_x"]) & np.isnan(q["tie_full_y"]), np.nan,
                                    np.fmin(q["tie_full_x"], q["tie_full_y"]))
 
@@ -395,6 +399,14 @@ def _nodes(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: P
     )
 
 
+#: One direction's beam-shear quantities, in the order of q: (name without the _x/_y, key of the
+#: :class:`~checker.calcs.shear.BeamShear` of the governing section).
+_SHEAR_TERMS: tuple[tuple[str, str], ...] = (
+    ("ved", "ved"), ("vrd", "vrd"), ("util_shear", "util"), ("av", "av"), ("av_geom", "av_geom"),
+    ("beta", "beta"), ("b_enh", "b_enh"), ("ved_max", "ved_max"),
+)
+
+
 def _beam_shear(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup, p: Params) -> None:
     """Beam shear at the critical sections of each direction (6.2.2), with both av definitions."""
     f, R, mask = inp.f, piles["R"], g.mask
@@ -412,14 +424,7 @@ def _beam_shear(q: Quantities, piles: Quantities, inp: Inputs, g: geo.PileGroup,
         q[f"rho_{k}"] = rho
         q[f"k_{k}"] = shr.k_size(d)
         q[f"vrdc_{k}"] = vrdc
-        q[f"ved_{k}"] = s["ved"]
-        q[f"vrd_{k}"] = s["vrd"]
-        q[f"util_shear_{k}"] = s["util"]
-        q[f"av_{k}"] = s["av"]
-        q[f"av_geom_{k}"] = s["av_geom"]
-        q[f"beta_{k}"] = s["beta"]
-        q[f"b_enh_{k}"] = s["b_enh"]
-        q[f"ved_max_{k}"] = s["ved_max"]
+        q.update(_axis_terms(k, s, _SHEAR_TERMS))
         q[f"vrd_max_{k}"] = np.where(np.isnan(s["ved_max"]), np.nan, vmax)
         # method variant: the other definition of av (reference decision 7)
         other = "clear" if av_mode != "clear" else "inside-pile"

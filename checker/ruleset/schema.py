@@ -33,9 +33,9 @@ anchorage becomes a query when the bar shape was not stated.
 from __future__ import annotations
 
 import re
-from typing import Literal
+from typing import Annotated, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, field_validator
+from pydantic import AfterValidator, BaseModel, ConfigDict, Field, field_validator
 
 from checker.findings import COMMENT_SEVERITIES
 
@@ -43,6 +43,16 @@ RULE_ID = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 Compare = Literal[">=", ">", "<=", "<"]
 Kind = Literal["quantity", "condition"]
 UNITS = ("mm", "mm²", "kN", "kNm", "MPa", "degrees", "%", "count", "")
+
+
+def _known_severity(v: str) -> str:
+    if v not in COMMENT_SEVERITIES:
+        raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
+    return v
+
+
+#: the severity of a rule or an override: any but ``ok``
+RuleSeverity = Annotated[str, AfterValidator(_known_severity)]
 
 
 class _Strict(BaseModel):
@@ -61,15 +71,8 @@ class CheckSpec(_Strict):
 
 class OverrideSpec(_Strict):
     when: str
-    severity: str
+    severity: RuleSeverity
     note: str = ""
-
-    @field_validator("severity")
-    @classmethod
-    def _sev(cls, v: str) -> str:
-        if v not in COMMENT_SEVERITIES:
-            raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
-        return v
 
 
 class VariantSpec(_Strict):
@@ -97,7 +100,7 @@ class RuleSpec(_Strict):
     id: str
     title: str = Field(min_length=1, max_length=120)
     clause: str = Field(min_length=1, max_length=200)
-    severity: str
+    severity: RuleSeverity
     unit: str = ""
     kind: Kind = "quantity"
     group: str = ""
@@ -125,13 +128,6 @@ class RuleSpec(_Strict):
     def _id(cls, v: str) -> str:
         if not RULE_ID.match(v) or len(v) > 40:
             raise ValueError("a rule id is lower-case words joined by '-', e.g. 'pile-spacing'")
-        return v
-
-    @field_validator("severity")
-    @classmethod
-    def _severity(cls, v: str) -> str:
-        if v not in COMMENT_SEVERITIES:
-            raise ValueError(f"severity must be one of {', '.join(COMMENT_SEVERITIES)}")
         return v
 
     @field_validator("unit")

@@ -29,6 +29,9 @@ class TemplateError(ValueError):
 
 @dataclass(frozen=True)
 class Field:
+    """A placeholder ``{name|unit:spec}``: the quantity's name, the multiplier from its internal unit
+    to the unit named (1.0 where none is named) and the format spec ('' renders as ``g``)."""
+
     name: str
     scale: float
     spec: str
@@ -36,6 +39,8 @@ class Field:
 
 @dataclass(frozen=True)
 class Template:
+    """A parsed template: its text and its parts in order, literal text and :class:`Field` placeholders."""
+
     text: str
     parts: tuple[str | Field, ...]
 
