@@ -3,9 +3,8 @@
 :class:`FieldError` is one field's problem over some rows of a table (collected column-wise while a
 frame is built); :class:`RejectedRow` a schedule or loads row that was not checked, with all its
 reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row).
-They are frozen; ``to_dict()`` gives the dictionaries of the JSON output and the sheets, unchanged.
-``record["errors"]`` and ``record.get("mark")`` read the same keys as ``to_dict()`` (a read-only
-view, for code written against the dictionaries).
+They are frozen and read by attribute (``row.errors``, ``row.mark``); ``to_dict()`` gives the
+dictionaries of the JSON output and the sheets, unchanged.
 """
 
 from __future__ import annotations
@@ -19,17 +18,6 @@ import numpy as np
 def _compact(text: Any) -> str:
     """A mark as compared: case and spaces ignored (``'pc 1'`` is ``'PC1'``)."""
     return "".join(str(text or "").split()).casefold()
-
-
-class _DictView:
-    def to_dict(self) -> dict[str, Any]:
-        raise NotImplementedError
-
-    def __getitem__(self, key: str) -> Any:
-        return self.to_dict()[key]
-
-    def get(self, key: str, default: Any = None) -> Any:
-        return self.to_dict().get(key, default)
 
 
 @dataclass(frozen=True)
@@ -47,7 +35,7 @@ class FieldError:
 
 
 @dataclass(frozen=True)
-class RejectedRow(_DictView):
+class RejectedRow:
     """A row not checked: where it is (file, sheet, page, row), its mark when read, every reason."""
 
     source: dict[str, Any]
@@ -63,7 +51,7 @@ class RejectedRow(_DictView):
 
 
 @dataclass(frozen=True)
-class SkippedRow(_DictView):
+class SkippedRow:
     """A row not read as a cap, with the reason and its first cell text ('' when none)."""
 
     source: dict[str, Any]
