@@ -2,7 +2,9 @@
 
 :class:`FieldError` is one field's problem over some rows of a table (collected column-wise while a
 frame is built); :class:`RejectedRow` a schedule or loads row that was not checked, with all its
-reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row).
+reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row);
+:class:`TableProblem` a problem of a whole table (a required field that no column gives), said once at
+its heading row.
 They are frozen and read by attribute (``row.errors``, ``row.mark``); ``to_dict()`` gives the
 dictionaries of the JSON output and the sheets, unchanged.
 """
@@ -60,3 +62,14 @@ class SkippedRow:
 
     def to_dict(self) -> dict[str, Any]:
         return {"source": self.source, "reason": self.reason, **({"text": self.text} if self.text else {})}
+
+
+@dataclass(frozen=True)
+class TableProblem:
+    """A problem of a whole table, at its heading row (file, sheet, page, row), with every reason."""
+
+    source: dict[str, Any]
+    errors: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"source": self.source, "errors": list(self.errors)}

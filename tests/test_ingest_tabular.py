@@ -270,8 +270,8 @@ def test_required_field_without_a_column(tmp_path):
              head="Mark,Piles,Pile dia,Spacing,L,W,Depth,Btm cvr,Column,NEd,Concrete,Bars X,Bars Y\n")
     assert s.rejected[0].errors == ("cover: not given (the table has no column for it; see the table's problem)",)
     (problem,) = s.problems                              # said once, at the table, with the hint
-    assert problem["source"]["row"] == 1 and problem["errors"][0].startswith("no column maps to cover")
-    assert "'Btm cvr'" in problem["errors"][0] and '"Btm cvr" = "cover"' in problem["errors"][0]
+    assert problem.source["row"] == 1 and problem.errors[0].startswith("no column maps to cover")
+    assert "'Btm cvr'" in problem.errors[0] and '"Btm cvr" = "cover"' in problem.errors[0]
 
 
 def test_size_and_separate_dimensions(tmp_path):

@@ -100,9 +100,9 @@ def test_a_column_missing_from_the_whole_table_is_reported_once_with_the_hint(tm
                  + "\n", encoding="utf-8")
     s = read_schedule(p)
     (prob,) = s.problems
-    assert prob["source"] == {"file": str(p), "sheet": None, "page": None, "row": 1}
-    assert "no column maps to cover" in prob["errors"][0]
-    assert '"Cvr to btm" = "cover"' in prob["errors"][0]
+    assert prob.source == {"file": str(p), "sheet": None, "page": None, "row": 1}
+    assert "no column maps to cover" in prob.errors[0]
+    assert '"Cvr to btm" = "cover"' in prob.errors[0]
     # each row says only that its table has no such column (a row-level reason stays per row)
     assert all(r.errors == ("cover: not given (the table has no column for it; see the table's problem)",)
                for r in s.rejected)
