@@ -2,7 +2,9 @@
 
 :class:`FieldError` is one field's problem over some rows of a table (collected column-wise while a
 frame is built); :class:`RejectedRow` a schedule or loads row that was not checked, with all its
-reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row);
+reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row), and
+:class:`SkippedRawRow` the same row as the table reader keeps it (``RawTable.skipped``: page and row
+number only; the table knows its file and sheet);
 :class:`TableProblem` a problem of a whole table (a required field that no column gives), said once at
 its heading row.
 They are frozen and read by attribute (``row.errors``, ``row.mark``); ``to_dict()`` gives the
@@ -62,6 +64,21 @@ class SkippedRow:
 
     def to_dict(self) -> dict[str, Any]:
         return {"source": self.source, "reason": self.reason, **({"text": self.text} if self.text else {})}
+
+
+@dataclass(frozen=True)
+class SkippedRawRow:
+    """A row of a table as read, not taken as a cap: its page (PDF, else None), its number as the user
+    sees it, the reason and the text of its first cell ('' when none)."""
+
+    page: int | None
+    row: int
+    reason: str
+    text: str = ""
+
+    def located(self, file: str, sheet: str | None) -> SkippedRow:
+        """The row as the review reports it, in the table's file and sheet."""
+        return SkippedRow({"file": file, "sheet": sheet, "page": self.page, "row": self.row}, self.reason, self.text)
 
 
 @dataclass(frozen=True)

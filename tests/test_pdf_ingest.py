@@ -19,6 +19,7 @@ from hypothesis import strategies as st
 
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf import read_pdf_tables
+from checker.records import SkippedRawRow
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE_CSV = ROOT / "sample_submissions" / "harbourside-rev-A.csv"
@@ -499,7 +500,7 @@ def test_struck_rows_are_skipped_and_struck_cells_noted(tmp_path, rules):
     assert len(tables) == 1
     t = tables[0]
     assert [r[0] for r in t.rows] == ["PC1", "PC3", "PC4"]
-    assert t.skipped == [(1, 2, "struck through (read as deleted)", "PC2")]
+    assert t.skipped == [SkippedRawRow(1, 2, "struck through (read as deleted)", "PC2")]
     assert "page 1, row 2 skipped: struck through (read as deleted) ('PC2')" in notes
     # a struck remark: the row is read as written, with a note; an underline is no strike
     assert "page 1, row 3: 1 cell(s) struck through; read as written" in notes

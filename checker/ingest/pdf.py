@@ -33,7 +33,7 @@ import io
 import logging
 import os
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Callable
 
 from checker.ingest.errors import IngestError
@@ -297,7 +297,7 @@ def _sort_rows(table: RawTable, notes: list[str], struck: list[tuple[int, int]] 
         table.rows, index, mapped_cols=mapped, pages=table.pages,
         head_rows=[list(table.headings)], skip_rows=skip)
     numbers = [table.row_numbers[k] for k in at]
-    skipped = [(page, table.row_numbers[k], reason, first) for page, k, reason, first in skipped]
+    skipped = [replace(k, row=table.row_numbers[k.row]) for k in skipped]
     pages = [table.pages[k] for k in kept]
     if struck is not None and len(struck) == len(table.rows):
         for k in kept:
@@ -305,8 +305,8 @@ def _sort_rows(table: RawTable, notes: list[str], struck: list[tuple[int, int]] 
             if n:
                 notes.append(f"page {table.pages[k]}, row {table.row_numbers[k]}: {n} cell(s) struck "
                              f"through; read as written")
-    for page, number, reason, first in skipped:
-        notes.append(f"page {page}, row {number} skipped: {reason}" + (f" ({first!r})" if first else ""))
+    for k in skipped:
+        notes.append(f"page {k.page}, row {k.row} skipped: {k.reason}" + (f" ({k.text!r})" if k.text else ""))
     if end is not None:
         rest = len(table.rows) - end - 1
         first = next((str(c) for c in table.rows[end] if str(c).strip()), "")

@@ -149,8 +149,7 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
                       defaults=defaults)
     if parsed_loads is not None:
         attach_loads(res, parsed_loads)
-    skipped = [SkippedRow({"file": t.file, "sheet": t.sheet, "page": page, "row": row}, reason, text or "")
-               for t in schedule_tables for page, row, reason, text in t.skipped]
+    skipped = [k.located(t.file, t.sheet) for t in schedule_tables for k in t.skipped]
     matches: list[HeadingMatch] = []
     seen: set[tuple] = set()
     unmapped: list[str] = []
