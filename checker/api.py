@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from checker.findings import WorkingLine  # the trace line type is the findings model's (re-exported)
-from checker.records import RejectedRow, SkippedRow
+from checker.records import RejectedRow, SkippedRow, TableProblem
 
 
 @dataclass
@@ -34,7 +34,7 @@ class Review:
     cases: pd.DataFrame | None = None      # one row per (cap, load case) read, or None (one ULS case per cap)
     case_rows: int = 0                     # rows read that only add a load case to a cap counted earlier
     skipped: list[SkippedRow] = field(default_factory=list)    # source, reason, text
-    table_problems: list[dict[str, Any]] = field(default_factory=list)  # [{"source": {...}, "errors": [...]}]
+    table_problems: list[TableProblem] = field(default_factory=list)  # source (heading row), errors
     unused_headings: list[str] = field(default_factory=list)       # headings of the schedule not read
     remedy: Any = None                     # checker.remedy.RemedyResult: what would pass (issue 16), or None
     variants: dict[str, Any] = field(default_factory=dict)  # rule id -> ruleset.evaluate.VariantOutcome

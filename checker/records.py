@@ -2,10 +2,13 @@
 
 :class:`FieldError` is one field's problem over some rows of a table (collected column-wise while a
 frame is built); :class:`RejectedRow` a schedule or loads row that was not checked, with all its
-reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row).
-They are frozen; ``to_dict()`` gives the dictionaries of the JSON output and the sheets, unchanged.
-``record["errors"]`` and ``record.get("mark")`` read the same keys as ``to_dict()`` (a read-only
-view, for code written against the dictionaries).
+reasons; :class:`SkippedRow` a row not read as a cap (a repeated heading, a note, a hidden row), and
+:class:`SkippedRawRow` the same row as the table reader keeps it (``RawTable.skipped``: page and row
+number only; the table knows its file and sheet);
+:class:`TableProblem` a problem of a whole table (a required field that no column gives), said once at
+its heading row.
+They are frozen and read by attribute (``row.errors``, ``row.mark``); ``to_dict()`` gives the
+dictionaries of the JSON output and the sheets, unchanged.
 """
 
 from __future__ import annotations
@@ -19,17 +22,6 @@ import numpy as np
 def _compact(text: Any) -> str:
     """A mark as compared: case and spaces ignored (``'pc 1'`` is ``'PC1'``)."""
     return "".join(str(text or "").split()).casefold()
-
-
-class _DictView:
-    def to_dict(self) -> dict[str, Any]:
-        raise NotImplementedError
-
-    def __getitem__(self, key: str) -> Any:
-        return self.to_dict()[key]
-
-    def get(self, key: str, default: Any = None) -> Any:
-        return self.to_dict().get(key, default)
 
 
 @dataclass(frozen=True)
@@ -47,7 +39,7 @@ class FieldError:
 
 
 @dataclass(frozen=True)
-class RejectedRow(_DictView):
+class RejectedRow:
     """A row not checked: where it is (file, sheet, page, row), its mark when read, every reason."""
 
     source: dict[str, Any]
@@ -63,7 +55,7 @@ class RejectedRow(_DictView):
 
 
 @dataclass(frozen=True)
-class SkippedRow(_DictView):
+class SkippedRow:
     """A row not read as a cap, with the reason and its first cell text ('' when none)."""
 
     source: dict[str, Any]
@@ -72,3 +64,29 @@ class SkippedRow(_DictView):
 
     def to_dict(self) -> dict[str, Any]:
         return {"source": self.source, "reason": self.reason, **({"text": self.text} if self.text else {})}
+
+
+@dataclass(frozen=True)
+class SkippedRawRow:
+    """A row of a table as read, not taken as a cap: its page (PDF, else None), its number as the user
+    sees it, the reason and the text of its first cell ('' when none)."""
+
+    page: int | None
+    row: int
+    reason: str
+    text: str = ""
+
+    def located(self, file: str, sheet: str | None) -> SkippedRow:
+        """The row as the review reports it, in the table's file and sheet."""
+        return SkippedRow({"file": file, "sheet": sheet, "page": self.page, "row": self.row}, self.reason, self.text)
+
+
+@dataclass(frozen=True)
+class TableProblem:
+    """A problem of a whole table, at its heading row (file, sheet, page, row), with every reason."""
+
+    source: dict[str, Any]
+    errors: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"source": self.source, "errors": list(self.errors)}

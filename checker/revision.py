@@ -31,6 +31,7 @@ from typing import TYPE_CHECKING, Any
 
 from checker.findings import comment_key, comment_records, records, severity_rank
 from checker.ingest.errors import IngestError
+from checker.model import FIELDS
 from checker.units import TO_INTERNAL
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -53,17 +54,26 @@ INPUTS_SHEET = "capcheck-inputs"     # hidden: the schedule inputs of every cap,
 INPUTS_MARKER = "capcheck.inputs/1"
 LISTS_SHEET = "capcheck-lists"       # hidden: the statuses of the drop-down (one contains a comma)
 CHANGES_SHEET = "Changes"
+#: Schedule fields (a heading of their own) not compared between revisions: the mark is the key; fck,
+#: the capacity basis and the stated effective depth have not been compared so far (kept out, so the
+#: inputs sheet and the changes listed stay as they were).
+_NOT_COMPARED = frozenset({"mark", "fck", "capacity_basis", "stated_d"})
+
+
+def _input_fields() -> tuple[tuple[str, str, float], ...]:
+    """The fields of the catalogue (``model.FIELDS``) read from a heading of their own, in its order, but
+    :data:`_NOT_COMPARED`; the column's size is one input, ``column`` (from column_x, _y and _round)."""
+    out: list[tuple[str, str, float]] = []
+    for name, spec in FIELDS.items():
+        if spec.heading is None or name in _NOT_COMPARED or name == "column_y":
+            continue
+        unit = "" if spec.show_unit == "count" else spec.show_unit
+        out.append(("column" if name == "column_x" else name, unit, TO_INTERNAL.get(unit, 1.0)))
+    return tuple(out)
+
+
 # The schedule inputs compared between revisions: field, unit shown, divisor from the internal unit.
-INPUT_FIELDS: tuple[tuple[str, str, float], ...] = tuple((name, unit, TO_INTERNAL.get(unit, 1.0)) for name, unit in (
-    ("piles", ""), ("pile_dia", "mm"), ("pile_spacing", "mm"),
-    ("cap_length", "mm"), ("cap_width", "mm"), ("cap_depth", "mm"),
-    ("column", "mm"), ("n_ed", "kN"), ("mx_ed", "kNm"), ("my_ed", "kNm"),
-    ("concrete", ""), ("fyk", "MPa"), ("cover", "mm"), ("exposure", ""),
-    ("bars_x", ""), ("bars_y", ""), ("links", ""), ("embedment", "mm"),
-    ("pile_capacity", "kN"), ("stated_pile_load", "kN"), ("stated_tie_x", "kN"),
-    ("stated_tie_y", "kN"), ("stated_as_x", "mm²"), ("stated_as_y", "mm²"),
-    ("pile_type", ""), ("bar_ends", ""), ("method", ""),
-))
+INPUT_FIELDS: tuple[tuple[str, str, float], ...] = _input_fields()
 DATA_COLUMNS: tuple[str, ...] = (
     "key",
     "no",

@@ -10,6 +10,7 @@ from checker.ingest.frame import CASE_FIELDS
 from checker.ingest.headings import LOAD_FIELDS, SCHEDULE_FIELDS
 from checker.model import FIELDS, FRAME_COLUMNS, FYK_DEFAULT, HEADING_FIELDS, INPUT_QUANTITIES, CapRecord
 from checker.report.preview import PREVIEW_FIELDS
+from checker.revision import INPUT_FIELDS
 from checker.ruleset import catalogue, derive, templates
 
 #: ingest fields that are not frame columns: combined forms the frame builder splits
@@ -45,6 +46,19 @@ def test_preview_units_are_the_catalogues():
     for name, unit, scale in PREVIEW_FIELDS:
         spec = FIELDS[name]
         assert (unit, scale) == (spec.show_unit if spec.show_unit != "count" else "", spec.show_scale), name
+
+
+def test_revision_inputs_are_the_catalogues_heading_fields_with_its_units():
+    # the fields compared between revisions, in the order of the comment sheet's inputs (unchanged)
+    assert [name for name, _, _ in INPUT_FIELDS] == [
+        "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth", "column", "n_ed", "mx_ed",
+        "my_ed", "concrete", "fyk", "cover", "exposure", "bars_x", "bars_y", "links", "embedment", "pile_capacity",
+        "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "pile_type", "bar_ends",
+        "method"]
+    for name, unit, div in INPUT_FIELDS:
+        spec = FIELDS["column_x" if name == "column" else name]
+        assert unit == (spec.show_unit if spec.show_unit != "count" else ""), name
+        assert div == units.TO_INTERNAL.get(unit, 1.0) and div * spec.show_scale == 1.0, name
 
 
 def test_test_helpers_use_the_frame_columns():

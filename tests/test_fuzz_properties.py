@@ -382,9 +382,9 @@ def mutated_schedule(draw):
 def _check_schedule_accounting(sched, n_rows):
     assert sched.rows_read == n_rows == len(sched.caps) + len(sched.rejected)
     for rej in sched.rejected:
-        assert isinstance(rej["source"]["row"], int) and 2 <= rej["source"]["row"] <= n_rows + 1
-        assert rej["errors"], rej
-        for msg in rej["errors"]:
+        assert isinstance(rej.source["row"], int) and 2 <= rej.source["row"] <= n_rows + 1
+        assert rej.errors, rej
+        for msg in rej.errors:
             m = FIELD_OF_MESSAGE.match(msg)
             assert m and m.group(1) in KNOWN_FIELDS, f"an error must start with the field it is about: {msg!r}"
 
@@ -414,7 +414,7 @@ def test_mutated_schedules_give_values_or_named_rejections_and_never_raise(data,
         v = caps[f].to_numpy(dtype=float)
         assert not np.isinf(v).any(), f
     # a required field left blank by a mutation never yields a cap
-    rejected_rows = {r["source"]["row"] for r in sched.rejected}
+    rejected_rows = {r.source["row"] for r in sched.rejected}
     for i, flds in mutated.items():
         for f in flds & set(REQUIRED):
             cell = rows[i][f]

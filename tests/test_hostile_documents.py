@@ -419,7 +419,7 @@ def test_csv_dialects_read_as_the_utf8_file(tmp_path, reference, dialect):
     assert [m.heading for m in s.matches] == [m.heading for m in reference.matches]
     cols = [c for c in reference.caps.columns if c != "src_file"]
     assert s.caps[cols].equals(reference.caps[cols]), dialect
-    assert [r["errors"] for r in s.rejected] == [r["errors"] for r in reference.rejected]
+    assert [r.errors for r in s.rejected] == [r.errors for r in reference.rejected]
     if dialect in ("cp1252", "utf-16-le-no-bom"):
         assert any(("cp1252" in n) or ("UTF-16-LE" in n) for n in s.notes), s.notes
 
@@ -500,7 +500,7 @@ def test_coordinates_with_thousands_of_positions_for_one_cap(tmp_path):
     with bounded(5.0, mib=200):
         s = read_schedule(sched, coords=coords)
     assert list(s.caps["mark"]) == ["PC2"]
-    (err,) = s.rejected[0]["errors"]
+    (err,) = s.rejected[0].errors
     assert err.startswith("piles") and "20,000 positions" in err
 
 
@@ -511,9 +511,9 @@ def test_long_cells(tmp_path):
                  ",".join([long_mark] + list(map(str, ROW[1:]))) + "\n")
     s = read_schedule(p)
     assert len(s.caps) == 1 and len(s.rejected) == 1
-    (err,) = s.rejected[0]["errors"]
+    (err,) = s.rejected[0].errors
     assert err.startswith("mark (column 'Mark')") and f"limit of {limits.MAX_CELL_CHARS:,}" in err
-    assert s.rejected[0]["source"]["row"] == 3
+    assert s.rejected[0].source["row"] == 3
     p.write_text(",".join(HEAD) + "\n" + ",".join(["x" * 200_000] + list(map(str, ROW[1:]))) + "\n")
     assert "holds more than" in refusal(p)
 

@@ -89,16 +89,16 @@ def test_csv_schedule_with_title_units_spacers_and_notes():
 
 def test_broken_rows_are_rejected_with_every_reason_and_their_row():
     s = read_schedule(SCHEDULE_A)
-    by_row = {r["source"]["row"]: r for r in s.rejected}
+    by_row = {r.source["row"]: r for r in s.rejected}
     assert sorted(by_row) == [7, 9, 11]
-    assert by_row[7]["source"] == {"file": str(SCHEDULE_A), "sheet": None, "page": None, "row": 7}
-    (e7,) = by_row[7]["errors"]
+    assert by_row[7].source == {"file": str(SCHEDULE_A), "sheet": None, "page": None, "row": 7}
+    (e7,) = by_row[7].errors
     assert e7.startswith("bars_x (column 'Bottom bars X'): '2 layers 8H20'") and "out of scope" in e7
-    e9 = by_row[9]["errors"]
+    e9 = by_row[9].errors
     assert any(e.startswith("concrete (column 'Concrete'): 'C33/41'") for e in e9)
     assert any(e.startswith("bars_y (column 'Bottom bars Y'): '8H11'") for e in e9)
     assert len(e9) == 2
-    e11 = by_row[11]["errors"]
+    e11 = by_row[11].errors
     assert any("'PC1' repeats the mark of row 5" in e for e in e11)
     assert any(e == "n_ed (column 'NEd (kN)'): -4500 kN must be greater than 0" for e in e11)
 
@@ -112,10 +112,10 @@ def test_csv_and_xlsx_give_identical_frames(tmp_path):
     assert 'sheet "Notes" skipped: no schedule headings' in b.notes
     pd.testing.assert_frame_equal(a.caps.drop(columns=PROVENANCE), b.caps.drop(columns=PROVENANCE))
     assert list(b.caps["src_sheet"]) == ["Caps"] * 3 and list(b.caps["src_row"]) == [5, 6, 10]
-    assert [r["source"]["row"] for r in b.rejected] == [7, 9, 11]
+    assert [r.source["row"] for r in b.rejected] == [7, 9, 11]
     # the same reasons; the workbook names the sheet where the repeated mark first appears
-    assert [r["errors"] for r in a.rejected] == [
-        [e.replace('sheet "Caps", ', "") for e in r["errors"]] for r in b.rejected]
+    assert [r.errors for r in a.rejected] == [
+        tuple(e.replace('sheet "Caps", ', "") for e in r.errors) for r in b.rejected]
 
 
 def test_schedule_from_frame_matches_the_file():
@@ -227,7 +227,7 @@ def test_coordinates_file_and_a_piles_mismatch(tmp_path):
                  "PC9,3,600,3000 x 3600 x 1200,600,5000,C32/40,75,12H25,12H25\n", encoding="utf-8")
     s = read_schedule(p, coords=DATA / "coords_a.csv")
     assert s.caps.empty
-    (err,) = s.rejected[0]["errors"]
+    (err,) = s.rejected[0].errors
     assert err == "piles (column 'Piles'): 3 but the pile coordinates give 4 positions for 'PC9'"
 
 
@@ -238,7 +238,7 @@ def test_bad_coordinate_rows_reject_their_cap(tmp_path):
     p.write_text("Mark,Piles,Pile dia,Size,Column,NEd,Concrete,Cover,Bars X,Bars Y\n"
                  "PC9,,600,3000 x 3600 x 1200,600,5000,C32/40,75,12H25,12H25\n", encoding="utf-8")
     s = read_schedule(p, coords=c)
-    assert s.caps.empty and "row 3: y (column 'y'): 'abc' is not a number" in s.rejected[0]["errors"][0]
+    assert s.caps.empty and "row 3: y (column 'y'): 'abc' is not a number" in s.rejected[0].errors[0]
 
 
 # ---------------------------------------------------------------------------------------------
@@ -258,7 +258,7 @@ def _one(tmp_path, line: str, head: str = HEAD) -> Schedule:
 
 def test_all_reasons_of_a_row(tmp_path):
     s = _one(tmp_path, "PC1,four,600,1800,2700,2700,,,6OOx600,4500,C32/40,75,12H25,12H25,")
-    errs = s.rejected[0]["errors"]
+    errs = s.rejected[0].errors
     assert "piles (column 'Piles'): 'four' is not a number" in errs
     assert any(e.startswith("column (column 'Column'): '6OOx600'") for e in errs)
     assert "cap_depth (column 'Depth'): missing" in errs
@@ -268,18 +268,18 @@ def test_all_reasons_of_a_row(tmp_path):
 def test_required_field_without_a_column(tmp_path):
     s = _one(tmp_path, "PC1,4,600,1800,2700,2700,1200,,600,4500,C32/40,12H25,12H25",
              head="Mark,Piles,Pile dia,Spacing,L,W,Depth,Btm cvr,Column,NEd,Concrete,Bars X,Bars Y\n")
-    assert s.rejected[0]["errors"] == ["cover: not given (the table has no column for it; see the table's problem)"]
+    assert s.rejected[0].errors == ("cover: not given (the table has no column for it; see the table's problem)",)
     (problem,) = s.problems                              # said once, at the table, with the hint
-    assert problem["source"]["row"] == 1 and problem["errors"][0].startswith("no column maps to cover")
-    assert "'Btm cvr'" in problem["errors"][0] and '"Btm cvr" = "cover"' in problem["errors"][0]
+    assert problem.source["row"] == 1 and problem.errors[0].startswith("no column maps to cover")
+    assert "'Btm cvr'" in problem.errors[0] and '"Btm cvr" = "cover"' in problem.errors[0]
 
 
 def test_size_and_separate_dimensions(tmp_path):
     ok = _one(tmp_path, "PC1,4,600,1800,,,,2700 x 2700 x 1200,600,4500,C32/40,75,12H25,12H25,B500B")
     assert ok.rejected == [] and ok.caps["cap_depth"].iat[0] == 1200 and ok.caps["fyk"].iat[0] == 500
     bad = _one(tmp_path, "PC1,4,600,1800,2800,,,2700 x 2700 x 1200,600,4500,C32/40,75,12H25,12H25,")
-    assert bad.rejected[0]["errors"] == [
-        "cap_length (column 'L'): 2800 mm disagrees with 2700 mm in size (column 'Size')"]
+    assert bad.rejected[0].errors == (
+        "cap_length (column 'L'): 2800 mm disagrees with 2700 mm in size (column 'Size')",)
 
 
 def test_spacing_form_derives_bar_count(tmp_path):
@@ -292,13 +292,13 @@ def test_spacing_form_derives_bar_count(tmp_path):
 def test_derived_field_errors_quote_the_cell(tmp_path):
     # a 310 mm wide cap cannot take one H25 inside 150 mm covers: floor((310 - 300 - 25)/150) + 1 = 0
     s = _one(tmp_path, "PC1,4,600,1800,2700,310,1200,,300,4500,C32/40,150,H25@150,12H25,")
-    errs = s.rejected[0]["errors"]
+    errs = s.rejected[0].errors
     assert "nx (from 'H25@150' in column 'Bars X'): 0 must be at least 1" in errs, errs
 
 
 def test_spacing_required_for_two_or_more_piles(tmp_path):
     s = _one(tmp_path, "PC1,2,600,,2700,900,1000,,600,2500,C32/40,75,6H25,H16@200,")
-    assert s.rejected[0]["errors"] == ["pile_spacing (column 'Spacing'): missing; required for 2 piles"]
+    assert s.rejected[0].errors == ("pile_spacing (column 'Spacing'): missing; required for 2 piles",)
 
 
 def test_placeholders_are_blank(tmp_path):
@@ -339,7 +339,7 @@ def test_pdf_is_read_through_the_pdf_module(monkeypatch, tmp_path):
     assert calls == {"path": str(pdf), "strategy": "ruled", "max_pages": 5}
     check_counts(s)
     assert list(s.caps["src_page"]) == [2, 2] and list(s.caps["src_row"]) == [1, 2]
-    assert s.rejected[0]["source"] == {"file": str(pdf), "sheet": None, "page": 3, "row": 1}
+    assert s.rejected[0].source == {"file": str(pdf), "sheet": None, "page": 3, "row": 1}
     assert "page 1 skipped" in s.notes
 
 
@@ -440,14 +440,14 @@ BASE_ROW = "PC1,4,600,1800,2700,2700,1200,600,4500,C32/40,75,12H25,12H25"
 
 def test_a_bad_dimension_is_reported_once(tmp_path):
     s = _one(tmp_path, BASE_ROW.replace("2700,2700", "abc,2700"), head=BASE_HEAD + "\n")
-    assert s.rejected[0]["errors"] == ["cap_length (column 'L'): 'abc' is not a number"]
+    assert s.rejected[0].errors == ("cap_length (column 'L'): 'abc' is not a number",)
 
 
 def test_no_column_for_the_dimensions(tmp_path):
     head = "Mark,Piles,Pile dia,Spacing,Column,NEd,Concrete,Cover,Bars X,Bars Y\n"
     s = _one(tmp_path, "PC1,4,600,1800,600,4500,C32/40,75,12H25,12H25", head=head)
-    assert [e.split(":")[0] for e in s.rejected[0]["errors"]] == ["cap_length", "cap_width", "cap_depth"]
-    assert all("not given" in e for e in s.rejected[0]["errors"])
+    assert [e.split(":")[0] for e in s.rejected[0].errors] == ["cap_length", "cap_width", "cap_depth"]
+    assert all("not given" in e for e in s.rejected[0].errors)
 
 
 def test_fck_column_instead_of_a_class_and_separate_column_sizes(tmp_path):
@@ -456,7 +456,7 @@ def test_fck_column_instead_of_a_class_and_separate_column_sizes(tmp_path):
     cap = s.caps.iloc[0]
     assert (cap.concrete, cap.fck, cap.column_x, cap.column_y, cap.bar_ends) == ("C32/40", 32, 600, 400, "bent")
     bad = _one(tmp_path, "PC1,4,600,1800,2700x2700x1200,600,400,4500,33,75,12H25,12H25,wiggly", head=head)
-    errs = bad.rejected[0]["errors"]
+    errs = bad.rejected[0].errors
     assert "fck (column 'fck'): 33 MPa is not the cylinder strength of a known class" in errs[1]
     assert errs[0].startswith("bar_ends (column 'Bar ends'): 'wiggly' is not a bar end detail")
 

@@ -263,7 +263,7 @@ def test_repeated_marks_without_a_case_column_are_still_rejected(tmp_path):
         "D1,3,600,1800,2700 x 3000 x 1100,500x500,2000,,C32/40,75,11H25,11H25,bent,75,1400\n")
     s = read_schedule(write(tmp_path, "dup.csv", text))
     assert len(s.caps) == 1 and s.cases is None
-    assert "repeats the mark of row 2" in s.rejected[0]["errors"][0]
+    assert "repeats the mark of row 2" in s.rejected[0].errors[0]
 
 
 def test_a_case_row_needs_a_name_and_loads(tmp_path):
@@ -271,7 +271,7 @@ def test_a_case_row_needs_a_name_and_loads(tmp_path):
         "E1,,3,600,1800,2700 x 3000 x 1100,500x500,3000,,C32/40,75,11H25,11H25,bent,75,1400\n"
         "E1,,,,,,,2400,600,,,,,,,\n"
         "E1,third,,,,,,,,,,,,,,\n")))
-    errs = {r["source"]["row"]: " ".join(r["errors"]) for r in s.rejected}
+    errs = {r.source["row"]: " ".join(r.errors) for r in s.rejected}
     assert "each further row needs its own load case name" in errs[3]
     assert "case 'third' of mark 'E1' has no loads" in errs[4]
     assert len(s.caps) == 1 and s.rows_read == len(s.caps) + len(s.rejected) + s.case_rows

@@ -19,6 +19,7 @@ from hypothesis import strategies as st
 
 from checker.ingest.errors import IngestError
 from checker.ingest.pdf import read_pdf_tables
+from checker.records import SkippedRawRow
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE_CSV = ROOT / "sample_submissions" / "harbourside-rev-A.csv"
@@ -326,8 +327,8 @@ def test_check_on_the_sample_pdf_equals_check_on_the_csv(tmp_path):
         assert a.equals(b), style
         assert from_pdf.rows_read == from_csv.rows_read
         assert from_pdf.findings["src_page"].notna().all()
-        assert [r["errors"] for r in from_pdf.rejected] == [r["errors"] for r in from_csv.rejected]
-        assert all(r["source"]["page"] == 1 for r in from_pdf.rejected)
+        assert [r.errors for r in from_pdf.rejected] == [r.errors for r in from_csv.rejected]
+        assert all(r.source["page"] == 1 for r in from_pdf.rejected)
 
 
 def test_reads_without_the_heading_mapper(rl_case, monkeypatch):
@@ -381,17 +382,17 @@ def test_regression_workbook_as_pdf(tmp_path):
     # every printed row accounted for: checked, rejected with its mark, or skipped with its reason
     assert s.rows_read == len(s.caps) + len(s.rejected) + len(s.skipped)
     caps = set(s.caps["mark"])
-    rejected = {r["mark"] for r in s.rejected}
-    skipped = {k["text"]: k["reason"] for k in s.skipped}
+    rejected = {r.mark for r in s.rejected}
+    skipped = {k.text: k.reason for k in s.skipped}
     assert not (caps & rejected)
     printed = {"PC1", "PC2", "PC3", "PC5", "PC6", "PC7", "PC10", "PC11", "PC12"}   # PC4 is hidden
     assert caps | rejected | {t for t in skipped if t.startswith("PC")} == printed
     assert caps == {"PC1", "PC2", "PC3", "PC6"}
     # the struck-through row: skipped as deleted with its page and row, as the workbook reader does
     assert skipped["PC5"] == "struck through (read as deleted)"
-    pc5 = next(k for k in s.skipped if k["text"] == "PC5")
-    assert (pc5["source"]["page"], pc5["source"]["row"]) == (1, 6)
-    assert {k["reason"] for k in x.skipped if k["text"] == "PC5"} == {skipped["PC5"]}
+    pc5 = next(k for k in s.skipped if k.text == "PC5")
+    assert (pc5.source["page"], pc5.source["row"]) == (1, 6)
+    assert {k.reason for k in x.skipped if k.text == "PC5"} == {skipped["PC5"]}
     assert not any("struck" in n and "read as written" in n for n in s.notes)
     # the multi-row headings joined as in the workbook, the strips joined: the same figures
     px, pp = x.caps.set_index("mark"), s.caps.set_index("mark")
@@ -411,15 +412,15 @@ def test_regression_workbook_as_pdf(tmp_path):
     assert any("the table ends at 'TOTAL PILE'" in n for n in s.notes)
     assert any("printed to the right of page 1" in n for n in s.notes)
     # rejected rows carry their marks and reasons
-    by = {r["mark"]: r for r in s.rejected}
-    assert by["PC7"]["errors"] == ["cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
-                                   "200 to 5,000 mm; did you mean m?"]
-    assert by["PC7"]["source"] == {"file": str(pdf), "sheet": None, "page": 1, "row": 8}
+    by = {r.mark: r for r in s.rejected}
+    assert by["PC7"].errors == ("cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
+                                   "200 to 5,000 mm; did you mean m?",)
+    assert by["PC7"].source == {"file": str(pdf), "sheet": None, "page": 1, "row": 8}
     cut = {"PC10": "2700 x 270", "PC11": "2700 x 900", "PC12": "1500 x 150"}
     for mark in ("PC10", "PC11", "PC12"):
-        assert by[mark]["source"]["page"] == 4
-        assert by[mark]["errors"][0].startswith(f"cap_length (column 'Pile cap L mm'): '{cut[mark]}':"), mark
-        row = by[mark]["source"]["row"]
+        assert by[mark].source["page"] == 4
+        assert by[mark].errors[0].startswith(f"cap_length (column 'Pile cap L mm'): '{cut[mark]}':"), mark
+        row = by[mark].source["row"]
         assert any(n.startswith(f"page 4, row {row}: '{cut[mark]}' was cut where it meets the 'Cap colum mm' "
                                 f"column") for n in s.notes), mark
     assert not any("runs across" in n and "page 4" in n for n in s.notes)
@@ -499,12 +500,12 @@ def test_struck_rows_are_skipped_and_struck_cells_noted(tmp_path, rules):
     assert len(tables) == 1
     t = tables[0]
     assert [r[0] for r in t.rows] == ["PC1", "PC3", "PC4"]
-    assert t.skipped == [(1, 2, "struck through (read as deleted)", "PC2")]
+    assert t.skipped == [SkippedRawRow(1, 2, "struck through (read as deleted)", "PC2")]
     assert "page 1, row 2 skipped: struck through (read as deleted) ('PC2')" in notes
     # a struck remark: the row is read as written, with a note; an underline is no strike
     assert "page 1, row 3: 1 cell(s) struck through; read as written" in notes
     assert not any("row 4" in n and "struck" in n for n in notes)
     assert [r[5] for r in t.rows] == ["", "was PC3A", "check"]
     s = read_schedule(pdf)
-    assert {k["text"]: k["reason"] for k in s.skipped} == {"PC2": "struck through (read as deleted)"}
-    assert [k["source"]["row"] for k in s.skipped] == [2]
+    assert {k.text: k.reason for k in s.skipped} == {"PC2": "struck through (read as deleted)"}
+    assert [k.source["row"] for k in s.skipped] == [2]

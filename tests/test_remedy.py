@@ -183,7 +183,7 @@ def test_no_proposal_has_a_new_failing_rule(seed):
     rows = _random_caps(24, seed)
     # the generator can draw a bar count that does not fit the cap; ingest rejects such rows
     # (plausibility), so only the rows it reads are searched
-    refused = {r.get("mark") for r in schedule_from_frame(pd.DataFrame(rows)).rejected}
+    refused = {r.mark for r in schedule_from_frame(pd.DataFrame(rows)).rejected}
     rows = [r for r in rows if r["mark"] not in refused]
     rv = run(*rows)
     base = {m: dict(zip(g["rule"], g["severity"])) for m, g in rv.findings.groupby("cap")}

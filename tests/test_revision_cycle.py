@@ -552,6 +552,19 @@ def test_rejected_and_skipped_rows_are_typed_records_with_the_json_dicts():
     assert all(isinstance(r, SkippedRow) for r in s.skipped)
 
 
+def test_table_problems_and_the_readers_skipped_rows_are_typed_records():
+    from checker.records import SkippedRawRow, SkippedRow, TableProblem
+
+    src = {"file": "a.csv", "sheet": None, "page": None, "row": 1}
+    assert TableProblem(src, ("no column maps to cover",)).to_dict() == {"source": src,
+                                                                           "errors": ["no column maps to cover"]}
+    raw = SkippedRawRow(2, 7, "the heading row repeated", "Mark")
+    assert raw.located("a.pdf", None) == SkippedRow({"file": "a.pdf", "sheet": None, "page": 2, "row": 7},
+                                                    "the heading row repeated", "Mark")
+    assert SkippedRawRow(None, 3, "a section label").located("a.csv", "S").to_dict() == {
+        "source": {"file": "a.csv", "sheet": "S", "page": None, "row": 3}, "reason": "a section label"}
+
+
 def test_explain_matches_marks_ignoring_case_and_spaces(capsys):
     assert main(["explain", str(REV_A), "--cap", " pc14 "]) == 0
     captured = capsys.readouterr()

@@ -63,7 +63,7 @@ def test_a_spacing_of_0_is_still_refused_for_two_or_more_piles(piles):
     s = schedule_from_frame(frame(row(Piles=piles, Spacing=0)))
     assert len(s.rejected) == 1
     assert any(e.startswith("pile_spacing (column 'Spacing'): 0 mm must be greater than 0")
-               for e in s.rejected[0]["errors"])
+               for e in s.rejected[0].errors)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -73,7 +73,7 @@ def test_a_spacing_of_0_is_still_refused_for_two_or_more_piles(piles):
 def test_a_rejected_row_carries_its_mark_everywhere(findings_json):
     df = frame(row(), row(Mark="PX2", **{"Pile dia": "six hundred"}), row(Mark=None, Depth="abc"))
     rv = checker.review(df)
-    assert [r.get("mark") for r in rv.rejected] == ["PX2", None]
+    assert [r.mark for r in rv.rejected] == ["PX2", ""]
     doc = findings_json(json.loads(json.dumps(to_document(rv))))
     assert doc["rejected"][0]["mark"] == "PX2" and "mark" not in doc["rejected"][1]
     assert doc["summary"]["rows_read"] == doc["summary"]["caps_checked"] + doc["summary"]["rows_rejected"] \
@@ -100,11 +100,11 @@ def test_a_column_missing_from_the_whole_table_is_reported_once_with_the_hint(tm
                  + "\n", encoding="utf-8")
     s = read_schedule(p)
     (prob,) = s.problems
-    assert prob["source"] == {"file": str(p), "sheet": None, "page": None, "row": 1}
-    assert "no column maps to cover" in prob["errors"][0]
-    assert '"Cvr to btm" = "cover"' in prob["errors"][0]
+    assert prob.source == {"file": str(p), "sheet": None, "page": None, "row": 1}
+    assert "no column maps to cover" in prob.errors[0]
+    assert '"Cvr to btm" = "cover"' in prob.errors[0]
     # each row says only that its table has no such column (a row-level reason stays per row)
-    assert all(r["errors"] == ["cover: not given (the table has no column for it; see the table's problem)"]
+    assert all(r.errors == ("cover: not given (the table has no column for it; see the table's problem)",)
                for r in s.rejected)
     main(["check", str(p)])
     out = capsys.readouterr().out
@@ -161,7 +161,7 @@ def test_thousands_separators_in_a_consistent_load_column():
 ])
 def test_an_inconsistent_load_column_keeps_the_clear_refusal(cells):
     s = schedule_from_frame(frame(row(NEd=cells[0]), row(Mark="PX2", NEd=cells[1])))
-    msgs = [e for r in s.rejected for e in r["errors"]]
+    msgs = [e for r in s.rejected for e in r.errors]
     assert any("ambiguous" in e for e in msgs) or len(s.caps) < 2
     assert not any("thousands separator" in n for n in s.notes)
 
@@ -179,7 +179,7 @@ def test_section_labels_and_blank_rows_inside_the_table(tmp_path):
     s = read_schedule(p)
     accounted(s)
     assert list(s.caps["mark"]) == ["PX1", "PX2", "PX3"]
-    assert [(k["source"]["row"], k["text"]) for k in s.skipped] == [(2, "GRID A-C"), (5, "GRID D-F")]
+    assert [(k.source["row"], k.text) for k in s.skipped] == [(2, "GRID A-C"), (5, "GRID D-F")]
     assert any("blank row(s) inside the table skipped (row 4, 7)" in n for n in s.notes)
 
 
@@ -193,10 +193,10 @@ def test_a_formula_without_a_saved_value_is_named(tmp_path):
     wb.save(tmp_path / "f.xlsx")
     s = read_schedule(tmp_path / "f.xlsx")
     (rej,) = s.rejected
-    assert rej["mark"] == "PX2" and rej["errors"] == [
+    assert rej.mark == "PX2" and rej.errors == (
         "cap_depth (column 'Depth'): '=G2*1' is a formula saved without its calculated value (the workbook "
         "was written by a program that does not calculate); open it in a spreadsheet program, save it and "
-        "read it again"]
+        "read it again",)
 
 
 def test_the_designers_d_is_compared_with_the_re_checked_d():
@@ -216,8 +216,8 @@ def test_the_designers_d_is_compared_with_the_re_checked_d():
 
 def test_a_unit_slip_is_refused_with_the_range_and_the_hint():
     s = schedule_from_frame(frame(row(), head=[h if h != "Depth" else "Depth (m)" for h in HEAD]))
-    assert s.rejected[0]["errors"] == [
-        "cap_depth (column 'Depth (m)'): 1,200 m is outside the plausible range 200 to 5,000 mm; did you mean mm?"]
+    assert s.rejected[0].errors == (
+        "cap_depth (column 'Depth (m)'): 1,200 m is outside the plausible range 200 to 5,000 mm; did you mean mm?",)
     assert plausible_problem("cap_depth", "length", 1100e3, "m", 1000.0) == \
         "1,100 m is outside the plausible range 200 to 5,000 mm; did you mean mm?"
     assert plausible_problem("n_ed", "force", 4.5e3, "kN", 1e3).endswith("did you mean MN?")
@@ -226,11 +226,11 @@ def test_a_unit_slip_is_refused_with_the_range_and_the_hint():
 
 def test_the_column_within_the_cap_and_bars_that_fit():
     s = schedule_from_frame(frame(row(Column="3000x600"), row(Mark="PX2", **{"Bars X": "140H12"})))
-    by = {r["mark"]: r["errors"] for r in s.rejected}
-    assert by["PX1"] == ["column (column 'Column'): 3000 x 600 mm does not fit within the cap plan 2700 x 2700 mm "
-                         "(L x W)"]
-    assert by["PX2"] == ["bars_x (column 'Bars X'): 140 bars of 12 mm do not fit across the cap width of 2700 mm "
-                         "inside 75 mm covers at the least clear spacing of 20 mm (4460 mm needed, 2550 mm available)"]
+    by = {r.mark: r.errors for r in s.rejected}
+    assert by["PX1"] == ("column (column 'Column'): 3000 x 600 mm does not fit within the cap plan 2700 x 2700 mm "
+                         "(L x W)",)
+    assert by["PX2"] == ("bars_x (column 'Bars X'): 140 bars of 12 mm do not fit across the cap width of 2700 mm "
+                         "inside 75 mm covers at the least clear spacing of 20 mm (4460 mm needed, 2550 mm available)",)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -350,8 +350,8 @@ def test_regression_workbook_nothing_dropped_without_a_named_reason(tmp_path):
     s = read_schedule(consultant_workbook(tmp_path / "consultant.xlsx"))
     accounted(s)
     caps = set(s.caps["mark"])
-    rejected = {r["mark"] for r in s.rejected}
-    skipped_caps = {k["text"] for k in s.skipped if k["text"].startswith("PC")}
+    rejected = {r.mark for r in s.rejected}
+    skipped_caps = {k.text for k in s.skipped if k.text.startswith("PC")}
     # every cap written is checked, rejected with its mark, or skipped with its reason; none twice
     assert caps | rejected | skipped_caps == WRITTEN
     assert not (caps & rejected) and not (caps & skipped_caps) and not (rejected & skipped_caps)
@@ -370,18 +370,18 @@ def test_regression_workbook_nothing_dropped_without_a_named_reason(tmp_path):
     assert pc10.n_ed == 4.5e6 and pc10.phi_x == 12 and pc10.cap_depth == 1200
     assert np.isnan(s.caps.set_index("mark").loc["PC2"].pile_spacing)
     # the reasons
-    reasons = {k["text"]: k["reason"] for k in s.skipped}
+    reasons = {k.text: k.reason for k in s.skipped}
     assert reasons["GRID A"].startswith("a section label") and reasons["GRID D-F"].startswith("a section label")
     assert reasons["PC4"] == "hidden in the workbook" and reasons["PC5"] == "struck through (read as deleted)"
-    by = {r["mark"]: r for r in s.rejected}
-    assert "'=G15-100' is a formula saved without its calculated value" in by["PC6"]["errors"][0]
-    assert by["PC7"]["errors"] == ["cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
-                                   "200 to 5,000 mm; did you mean m?"]
-    assert by["PC11"]["errors"][0].startswith("pile_spacing (column 'Pile spacing (mm)'): 0 mm must be greater")
-    assert by["PC7"]["source"] == {"file": str(tmp_path / "consultant.xlsx"), "sheet": "Caps GL A-C", "page": None,
+    by = {r.mark: r for r in s.rejected}
+    assert "'=G15-100' is a formula saved without its calculated value" in by["PC6"].errors[0]
+    assert by["PC7"].errors == ("cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
+                                   "200 to 5,000 mm; did you mean m?",)
+    assert by["PC11"].errors[0].startswith("pile_spacing (column 'Pile spacing (mm)'): 0 mm must be greater")
+    assert by["PC7"].source == {"file": str(tmp_path / "consultant.xlsx"), "sheet": "Caps GL A-C", "page": None,
                                    "row": 16}
     # the table ended at the totals row: notes and the revision box are not caps
-    assert not any(k["source"]["row"] >= 17 for k in s.skipped if k["source"]["sheet"] == "Caps GL A-C")
+    assert not any(k.source["row"] >= 17 for k in s.skipped if k.source["sheet"] == "Caps GL A-C")
     assert "Remarks" in s.unmapped
 
 
@@ -422,5 +422,5 @@ def test_a_pdf_schedule_split_over_pages_gives_each_record_its_own_page_and_row(
     s = read_schedule(pdf)
     accounted(s)
     where = [(c.src_page, c.src_row) for c in s.caps.itertuples()] + \
-        [(r["source"]["page"], r["source"]["row"]) for r in s.rejected + s.skipped]
+        [(r.source["page"], r.source["row"]) for r in s.rejected + s.skipped]
     assert len(where) == len(set(where)) == s.rows_read

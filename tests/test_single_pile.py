@@ -151,7 +151,7 @@ def test_links_column_read_and_a_bad_cell_rejects_its_row():
     assert caps.loc["B", "n_links"] == 4.0 and caps.loc["B", "phi_links"] == 16.0
     assert caps.loc["C", "links"] == "" and np.isnan(caps.loc["C", "phi_links"])
     assert len(sched.rejected) == 1
-    err = sched.rejected[0]["errors"][0]
+    err = sched.rejected[0].errors[0]
     assert "Bursting links" in err and "H13@150" in err
 
 

@@ -52,7 +52,7 @@ from checker.ingest.plausible import inside as plausible_inside
 from checker.ingest.plausible import problem as plausible_problem
 from checker.ingest.raw import FormulaCell, RawTable
 from checker.model import FIELDS, FRAME_COLUMNS, FYK_DEFAULT, validate_frame
-from checker.records import FieldError, RejectedRow
+from checker.records import FieldError, RejectedRow, TableProblem
 from checker.units import TO_INTERNAL
 
 #: fields a schedule must give (pile_spacing only for 2 or more piles; the model checks that)
@@ -120,7 +120,7 @@ class FrameResult:
     case_rows: int = 0
     #: marks of the rejected rows (a loads table naming one is told so)
     rejected_marks: frozenset[str] = frozenset()
-    problems: list[dict] = field(default_factory=list)   # {"source": {... heading row}, "errors": [...]}
+    problems: list[TableProblem] = field(default_factory=list)   # of a whole table, at its heading row
     applied: list[list[str]] = field(default_factory=list)  # per cap: the project-file values applied
 
 
@@ -1177,8 +1177,8 @@ def _rejections(j: _Joined, c: _CaseRows, vmsgs: dict[Any, list[str]]) -> dict[i
 
 
 def _frame_result(j: _Joined, c: _CaseRows, frame: pd.DataFrame, per_row: dict[int, list[tuple[str, str]]],
-                  reports: list[HeadingReport], notes: list[str], problems: list[dict], load_marks: frozenset[str],
-                  defaults: Defaults | None) -> FrameResult:
+                  reports: list[HeadingReport], notes: list[str], problems: list[TableProblem],
+                  load_marks: frozenset[str], defaults: Defaults | None) -> FrameResult:
     """The kept caps, the rejected rows, the load cases and the notes of the project file's defaults."""
     n_total, has_col, provenance, cont = j.n_total, j.has_col, j.provenance, c.cont
     bad_rows = sorted(per_row)
@@ -1407,10 +1407,10 @@ def case_entries(out: dict[str, np.ndarray], rows: np.ndarray, cap: np.ndarray,
 
 
 def _table_problems(tables: Sequence[RawTable], parts: Sequence[_Parsed], given: dict[str, np.ndarray],
-                    reports: Sequence[HeadingReport]) -> list[dict]:
+                    reports: Sequence[HeadingReport]) -> list[TableProblem]:
     """A required field that no column of a table gives, reported once for the table (with the
     headings left unused, which a mapping file can map); its rows say only that the column is missing."""
-    out: list[dict] = []
+    out: list[TableProblem] = []
     offset = 0
     for table, part, report in zip(tables, parts, reports):
         lacking = [f for f in REQUIRED_SOURCES if f not in part.given and not given[f][offset:offset + part.n].all()]
@@ -1421,10 +1421,9 @@ def _table_problems(tables: Sequence[RawTable], parts: Sequence[_Parsed], given:
                     "no heading of the table is left unused; add the column, or map its heading in a mapping file "
                     "(--mapping FILE)")
             page = table.pages[0] if table.pages else None
-            out.append({"source": {"file": table.file, "sheet": table.sheet, "page": page,
-                                   "row": table.heading_row},
-                        "errors": [f"no column maps to {', '.join(lacking)}, so no row of this table can be checked "
-                                   f"({hint}; see capcheck columns)"]})
+            out.append(TableProblem({"file": table.file, "sheet": table.sheet, "page": page, "row": table.heading_row},
+                                    (f"no column maps to {', '.join(lacking)}, so no row of this table can be checked "
+                                     f"({hint}; see capcheck columns)",)))
         offset += part.n
     return out
 

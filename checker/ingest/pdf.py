@@ -33,7 +33,7 @@ import io
 import logging
 import os
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Callable, Sequence
 
 from checker.ingest.errors import IngestError
@@ -306,7 +306,7 @@ def _sort_rows(table: RawTable, notes: list[str], struck: list[tuple[int, int]] 
         table.rows, index, mapped_cols=mapped, pages=table.pages,
         head_rows=[list(table.headings)], skip_rows=skip)
     numbers = [table.row_numbers[k] for k in at]
-    skipped = [(page, table.row_numbers[k], reason, first) for page, k, reason, first in skipped]
+    skipped = [replace(k, row=table.row_numbers[k.row]) for k in skipped]
     pages = [table.pages[k] for k in kept]
     if struck is not None and len(struck) == len(table.rows):
         for k in kept:
@@ -314,8 +314,8 @@ def _sort_rows(table: RawTable, notes: list[str], struck: list[tuple[int, int]] 
             if n:
                 notes.append(f"page {table.pages[k]}, row {table.row_numbers[k]}: {n} cell(s) struck "
                              f"through; read as written")
-    for page, number, reason, first in skipped:
-        notes.append(f"page {page}, row {number} skipped: {reason}" + (f" ({first!r})" if first else ""))
+    for sk in skipped:
+        notes.append(f"page {sk.page}, row {sk.row} skipped: {sk.reason}" + (f" ({sk.text!r})" if sk.text else ""))
     if end is not None:
         rest = len(table.rows) - end - 1
         first = next((str(c) for c in table.rows[end] if str(c).strip()), "")

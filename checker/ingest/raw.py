@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from checker.records import SkippedRawRow
+
 
 class FormulaCell(str):
     """A spreadsheet cell holding a formula whose value was never calculated and saved (a workbook
@@ -19,9 +21,9 @@ class RawTable:
     rows: list[list[object]]
     pages: list[int | None] = field(default_factory=list)
     row_numbers: list[int] = field(default_factory=list)
-    #: rows of the table that were not read as caps, each with its reason:
-    #: (page or None, row number as the user sees it, reason, text of the row's first cell)
-    skipped: list[tuple[int | None, int, str, str]] = field(default_factory=list)
+    #: rows of the table that were not read as caps, each with its reason (page or None, row number as
+    #: the user sees it, reason, text of the row's first cell)
+    skipped: list[SkippedRawRow] = field(default_factory=list)
     #: the row number of the (last) heading row, for problems of the whole table
     heading_row: int | None = None
 

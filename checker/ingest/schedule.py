@@ -28,7 +28,7 @@ from checker.ingest.headings import (
 )
 from checker.ingest.raw import RawTable
 from checker.ingest.tabular import CSV_EXTENSIONS, MIN_KNOWN, XLSX_EXTENSIONS, read_csv, read_tabular
-from checker.records import RejectedRow, SkippedRow
+from checker.records import RejectedRow, SkippedRow, TableProblem
 
 
 @dataclass
@@ -48,7 +48,7 @@ class Schedule:
     case_rows: int = 0                  # rows read that only add a load case to a cap read earlier
 
     skipped: list[SkippedRow] = field(default_factory=list)    # source, reason, text
-    problems: list[dict] = field(default_factory=list)   # of a whole table: [{"source": {...}, "errors": [...]}]
+    problems: list[TableProblem] = field(default_factory=list)   # of a whole table: source, errors
     applied: list[list[str]] = field(default_factory=list)   # per cap: project-file values applied
 
 
@@ -149,8 +149,7 @@ def _assemble(tables: list[RawTable], notes: list[str], hmap: Any, coords: Any,
                       defaults=defaults)
     if parsed_loads is not None:
         attach_loads(res, parsed_loads)
-    skipped = [SkippedRow({"file": t.file, "sheet": t.sheet, "page": page, "row": row}, reason, text or "")
-               for t in schedule_tables for page, row, reason, text in t.skipped]
+    skipped = [k.located(t.file, t.sheet) for t in schedule_tables for k in t.skipped]
     matches: list[HeadingMatch] = []
     seen: set[tuple] = set()
     unmapped: list[str] = []

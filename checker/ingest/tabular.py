@@ -32,6 +32,7 @@ from checker.ingest.errors import IngestError
 from checker.ingest.headings import HeadingMap, count_known, match_heading, match_headings, resolve_mapping
 from checker.ingest.notation import clean_text, normalise_unit, parse_quantity
 from checker.ingest.raw import FormulaCell, RawTable
+from checker.records import SkippedRawRow
 
 CSV_EXTENSIONS = (".csv", ".txt", ".tsv")
 XLSX_EXTENSIONS = (".xlsx", ".xlsm")
@@ -251,8 +252,8 @@ def _one_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, fil
     if inside:
         shown = ", ".join(map(str, inside[:8])) + (" ..." if len(inside) > 8 else "")
         notes.append(f"{file}: {where}blank row(s) inside the table skipped (row {shown})")
-    for page, number, reason, first in skipped:
-        notes.append(f"{file}: {where}row {number} skipped: {reason}" + (f" ({first!r})" if first else ""))
+    for k in skipped:
+        notes.append(f"{file}: {where}row {k.row} skipped: {k.reason}" + (f" ({k.text!r})" if k.text else ""))
     # the table's width: the last column with a heading or a filled cell
     width = max([len(headings)] + list(map(len, data)))
     while width and not (width <= len(headings) and headings[width - 1]) and \
@@ -268,10 +269,9 @@ def _one_table(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, fil
 def sort_rows(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, start: int = 0,
               mapped_cols: set[int], head_rows: Sequence[list[Any]] = (), skip_rows: dict[int, str] | None = None,
               pages: Sequence[int | None] | None = None
-              ) -> tuple[list[list[Any]], list[int], list[tuple[int | None, int, str, str]], list[int], int | None,
-                         list[int]]:
+              ) -> tuple[list[list[Any]], list[int], list[SkippedRawRow], list[int], int | None, list[int]]:
     """The rows under a heading, from ``rows[start]``, sorted into caps and rows that are not caps (the
-    CSV/XLSX reader and the PDF reader share it): (data rows, their numbers, skipped rows as (page, number,
+    CSV/XLSX reader and the PDF reader share it): (data rows, their numbers, skipped rows (page, number,
     reason, first text), blank row numbers, index of the row that ended the table or None, indices of the
     data rows).
 
@@ -283,7 +283,7 @@ def sort_rows(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, star
     skip_rows = skip_rows or {}
     data: list[list[Any]] = []
     numbers: list[int] = []
-    skipped: list[tuple[int | None, int, str, str]] = []
+    skipped: list[SkippedRawRow] = []
     skipped_at: list[int] = []
     kept: list[int] = []
     blanks: list[int] = []
@@ -310,12 +310,13 @@ def sort_rows(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, star
             break
         reason = skip_rows.get(number)
         if reason is not None:
-            skipped.append((page, number, reason, first))
+            skipped.append(SkippedRawRow(page, number, reason, first))
         elif row in head_rows:
-            skipped.append((page, number, "the heading row repeated", first))
+            skipped.append(SkippedRawRow(page, number, "the heading row repeated", first))
         elif len(row) - _n_empty(row) <= 2 and not any(_is_figure(row[c]) for c in _filled(row)) and \
                 sum(1 for c in _filled(row) if c in mapped_cols) < 2:   # mark + case: a load-case row
-            skipped.append((page, number, "a section label or note (one or two text cells, no figures)", first))
+            skipped.append(SkippedRawRow(page, number, "a section label or note (one or two text cells, no figures)",
+                                         first))
         elif after_blank and sum(1 for c in _filled(row) if c in mapped_cols) < MIN_KNOWN:
             end = i                                   # after a blank row, something that is not a cap
             break
@@ -329,7 +330,7 @@ def sort_rows(rows: Sequence[Sequence[Any]], row_numbers: Sequence[int], *, star
         i += 1
     # text rows after the last cap are the notes under the table, not section labels
     last = kept[-1] if kept else -1
-    skipped = [t for t, at in zip(skipped, skipped_at) if at < last or not t[2].startswith("a section label")]
+    skipped = [k for k, at in zip(skipped, skipped_at) if at < last or not k.reason.startswith("a section label")]
     return data, numbers, skipped, blanks, end, kept
 
 

@@ -248,8 +248,7 @@ def _tail(review, revision=None) -> dict[str, Any]:
     doc: dict[str, Any] = {
         "rejected": [r.to_dict() for r in review.rejected],
         "skipped": [r.to_dict() for r in getattr(review, "skipped", None) or []],
-        "table_problems": [{"source": p["source"], "errors": list(p["errors"])}
-                           for p in getattr(review, "table_problems", None) or []],
+        "table_problems": [p.to_dict() for p in getattr(review, "table_problems", None) or []],
         "unused_headings": list(getattr(review, "unused_headings", None) or []),
         "notes": list(review.notes or []),
     }

@@ -89,8 +89,8 @@ def print_preview(args, out: Console, err: Console, defaults=None) -> int:
                 grid.add_row(f + (f" [{u}]" if u else ""), *[_cell(r.get(f), s) for r in head])
         out.print(grid)
     for p in sched.problems:
-        out.print(Text(f"\nTable problem ({describe_source(p['source'])}, heading row): ", style="bold red")
-                  + Text("; ".join(p["errors"])))
+        out.print(Text(f"\nTable problem ({describe_source(p.source)}, heading row): ", style="bold red")
+                  + Text("; ".join(p.errors)))
     if sched.rejected:
         out.print(Text(f"\n{len(sched.rejected)} row(s) cannot be read:", style="bold red"))
         for r in sched.rejected:

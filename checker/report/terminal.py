@@ -280,10 +280,10 @@ def print_findings(review, console: Console, *, show_ok: bool = False, listing: 
                                "(capcheck check ... > findings.txt); -o FILE.xlsx / .html / .csv "
                                "write the comments.", style="bold"))
     for p in getattr(review, "table_problems", None) or []:
-        where = describe_source(p["source"]) or "?"
-        head = f"\nTable problem, {p['source'].get('file') or ''} {where} (heading row): "
+        where = describe_source(p.source) or "?"
+        head = f"\nTable problem, {p.source.get('file') or ''} {where} (heading row): "
         console.print(Text(head, style="bold red")
-                      + Text("; ".join(p["errors"])))
+                      + Text("; ".join(p.errors)))
     if review.rejected:
         console.print(Text("\nRows not checked", style="bold red"))
         shown = review.rejected if view == "list" else review.rejected[:REJECTED_SHOWN]
