@@ -213,7 +213,7 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         env: dict[str, Any] = dict(derived.q)
         env.update(numeric_params(params))
         outcomes: dict[str, Any] = {}
-        findings, _gov = evaluate_cases(ruleset, env, ex, caps, params,
+        findings, _gov = evaluate_cases(ruleset, env, ex, caps,
                                         render=True if messages == "all" else "issues", outcomes=outcomes)
     marks = caps["mark"].astype(str).to_numpy() if len(caps) else np.array([], dtype=object)
     pile_xy: dict[str, np.ndarray] = {}
@@ -227,7 +227,7 @@ def _check_cases(schedule, ruleset, submission: str, caps: pd.DataFrame, params:
         if idx.size == 0:
             return []
         with np.errstate(all="ignore"):
-            return case_working(ruleset, env, ex, int(idx[0]), findings[findings["cap"] == str(mark)], params)
+            return case_working(ruleset, env, ex, int(idx[0]), findings[findings["cap"] == str(mark)])
 
     # quantities per cap: its first load case (the working shows every case); a quantity named only by
     # serviceability rules (cases = "sls": the crack checks' stresses and wk) at their governing case

@@ -346,16 +346,14 @@ def cmd_check(args, out: Console, err: Console) -> int:
 
 
 def cmd_explain(args, out: Console, err: Console) -> int:
+    from checker.records import same_mark
     from checker.report.terminal import print_working
 
     rv = _review(args, err)
     marks = rv.caps["mark"].astype(str).tolist()
     asked = args.cap
 
-    def same(m) -> bool:
-        return str(m or "").strip().casefold() == asked.strip().casefold()
-
-    cap = asked if asked in marks else next((m for m in marks if same(m)), None)
+    cap = asked if asked in marks else next((m for m in marks if same_mark(m, asked)), None)
     if cap is None:
         # the mark itself (case and spaces ignored), never a search of the error text: PC1 is not PC10
         rejected = [r for r in rv.rejected if r.is_mark(asked)]
@@ -374,7 +372,7 @@ def cmd_explain(args, out: Console, err: Console) -> int:
         return EXIT_UNREADABLE
     if cap != asked:
         err.print(Text(f"note: '{asked}' read as cap '{cap}' (marks are matched ignoring case and "
-                       f"surrounding spaces)", style="yellow"))
+                       f"spaces)", style="yellow"))
     print_working(rv, cap, out)
     from checker.remedy import explain_lines, remedy_line
 

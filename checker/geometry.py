@@ -52,7 +52,7 @@ class PileGroup:
     X: np.ndarray
     Y: np.ndarray
     mask: np.ndarray
-    terms: tuple
+    terms: rea.GroupTerms
 
     @classmethod
     def of(cls, X: np.ndarray, Y: np.ndarray, mask: np.ndarray) -> PileGroup:
@@ -130,7 +130,7 @@ def pile_arrays(caps: pd.DataFrame, coords: pd.DataFrame | None = None) -> tuple
 def _col(df: pd.DataFrame, name: str, n: int) -> np.ndarray:
     if name not in df.columns:
         return np.full(n, np.nan)
-    return pd.to_numeric(df[name], errors="coerce").to_numpy(dtype=float)
+    return np.asarray(pd.to_numeric(df[name], errors="coerce"), dtype=float)
 
 
 def n_piles(mask: Mask) -> Floats:

@@ -24,6 +24,12 @@ def _compact(text: Any) -> str:
     return "".join(str(text or "").split()).casefold()
 
 
+def same_mark(a: Any, b: Any) -> bool:
+    """True when two cap marks are the same but for case and spaces (``' pc 1'`` is ``'PC1'``, never
+    ``'PC10'``): how a mark asked for on the command line is found among checked and rejected caps."""
+    return bool(_compact(a)) and _compact(a) == _compact(b)
+
+
 @dataclass(frozen=True)
 class FieldError:
     """One field's problem over rows of a table: the row positions and one message per row."""
@@ -51,7 +57,7 @@ class RejectedRow:
 
     def is_mark(self, asked: str) -> bool:
         """True when this row's mark is ``asked``, exactly but for case and spaces (``PC1`` is not ``PC10``)."""
-        return bool(self.mark) and _compact(self.mark) == _compact(asked)
+        return same_mark(self.mark, asked)
 
 
 @dataclass(frozen=True)

@@ -206,7 +206,7 @@ class _Engine:
         d = derive_arrays(ex.frame, X, Y, M, dict(self.params))
         env = dict(d.q)
         env.update(numeric_params(self.params))
-        f, _gov = evaluate_cases(self.ruleset, env, ex, frame, self.params, render=False)
+        f, _gov = evaluate_cases(self.ruleset, env, ex, frame, render=False)
         r = pd.Index(self.ids).get_indexer(f["rule"].astype(str))
         c = f["cap"].astype(int).to_numpy()
         code[c, r] = f["severity"].map(_RANK).to_numpy(np.int8)

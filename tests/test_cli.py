@@ -214,3 +214,13 @@ def test_explain_golden(capsys):
     assert golden.exists(), (f"{golden} is missing; it is regenerated only on purpose: "
                              "CAPCHECK_REGEN_GOLDEN=1 pytest tests/test_cli.py -k golden")
     assert text == golden.read_text(encoding="utf-8")
+
+
+def test_explain_matches_a_checked_cap_as_it_matches_a_rejected_one(capsys):
+    """One mark comparison for both (case and every space ignored): ' p c 14' finds the checked PC14,
+    as ' pc15 ' finds the rejected PC15; PC1 never finds PC14 or PC10."""
+    from checker.records import same_mark
+    assert main(["explain", str(REV_A), "--cap", " p c 14"]) == EXIT_OK
+    captured = capsys.readouterr()
+    assert "read as cap 'PC14'" in captured.err and "PC14" in captured.out
+    assert same_mark("pc 1", "PC1") and not same_mark("PC1", "PC10") and not same_mark("", "")

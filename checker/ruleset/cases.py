@@ -23,7 +23,7 @@ contiguous rows of each cap.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any, Mapping, cast
+from typing import Any, cast
 
 import numpy as np
 import pandas as pd
@@ -178,7 +178,7 @@ def _kn(x: float) -> str:
     return f"{x / TO_INTERNAL['kN']:.0f}"
 
 
-def evaluate_cases(ruleset: RuleSet, env: Env, ex: Expanded, caps: pd.DataFrame, params: Mapping[str, float | str], *,
+def evaluate_cases(ruleset: RuleSet, env: Env, ex: Expanded, caps: pd.DataFrame, *,
                    render: bool | str = True, outcomes: dict[str, VariantOutcome] | None = None,
                    ) -> tuple[pd.DataFrame, dict[str, np.ndarray]]:
     """Every rule over the expanded frame -> (findings, rule id -> governing row of each cap).
@@ -326,8 +326,8 @@ def _set(res: RuleResult, c: int, msg: str, act: str, render: bool | str) -> Non
         res.action[c] = act
 
 
-def case_working(ruleset: RuleSet, env: Env, ex: Expanded, ci: int, findings_for_cap: pd.DataFrame,
-                 params: Mapping[str, float | str]) -> list[WorkingLine]:
+def case_working(ruleset: RuleSet, env: Env, ex: Expanded, ci: int,
+                 findings_for_cap: pd.DataFrame) -> list[WorkingLine]:
     """The working of one cap (row ``ci`` of caps): each load-independent rule once, each
     load-dependent rule for every load case with its figures and verdict, then the governing verdict."""
     start, count = int(ex.starts[ci]), int(ex.counts[ci])
