@@ -54,10 +54,14 @@ INPUTS_SHEET = "capcheck-inputs"     # hidden: the schedule inputs of every cap,
 INPUTS_MARKER = "capcheck.inputs/1"
 LISTS_SHEET = "capcheck-lists"       # hidden: the statuses of the drop-down (one contains a comma)
 CHANGES_SHEET = "Changes"
-#: Schedule fields (a heading of their own) not compared between revisions: the mark is the key; fck,
-#: the capacity basis and the stated effective depth have not been compared so far (kept out, so the
-#: inputs sheet and the changes listed stay as they were).
-_NOT_COMPARED = frozenset({"mark", "fck", "capacity_basis", "stated_d"})
+#: Schedule fields (a heading of their own) not compared between revisions: the mark is the key; fck
+#: follows the concrete class (a change shows there).
+_NOT_COMPARED = frozenset({"mark", "fck"})
+#: Compared since the sheet has recorded which fields it compares (``INPUTS_COMPARED`` in the hidden
+#: inputs sheet): a sheet without that record was written before, without these values, so they are
+#: not compared against it (else every cap would show them as added).
+_COMPARED_SINCE_RECORDED = frozenset({"capacity_basis", "stated_d"})
+INPUTS_COMPARED = "compared"   # B1 of the hidden inputs sheet; C1... the fields compared
 
 
 def _input_fields() -> tuple[tuple[str, str, float], ...]:
@@ -172,6 +176,8 @@ class PreviousSheet:
     columns: list[tuple[str, str]] = field(default_factory=list)
     # the schedule inputs per cap as recorded when the sheet was written (None: not recorded)
     inputs: dict[str, dict[str, tuple[Any, str]]] | None = None
+    #: the fields its inputs were recorded for (only these are compared with the new revision)
+    input_fields: frozenset[str] | None = None
 
 
 @dataclass
@@ -435,6 +441,16 @@ def _read_columns(wb) -> list[tuple[str, str]]:
     return [(_text(r[1]), _text(r[2]) or "extra") for r in rows if len(r) >= 3]
 
 
+def _read_input_fields(wb) -> frozenset[str]:
+    """The fields the previous sheet's inputs were recorded for (B1 ``compared``, C1...); a sheet written
+    before that record: every compared field but :data:`_COMPARED_SINCE_RECORDED`."""
+    if INPUTS_SHEET in wb.sheetnames:
+        first: tuple[Any, ...] = next(wb[INPUTS_SHEET].iter_rows(min_row=1, max_row=1, values_only=True), ())
+        if len(first) > 1 and first[1] == INPUTS_COMPARED:
+            return frozenset(_text(v) for v in first[2:] if _text(v))
+    return frozenset(name for name, _u, _d in INPUT_FIELDS) - _COMPARED_SINCE_RECORDED
+
+
 def _read_inputs(wb) -> dict[str, dict[str, tuple[Any, str]]] | None:
     rows = _marked_rows(wb, INPUTS_SHEET, INPUTS_MARKER)
     if rows is None:
@@ -547,6 +563,7 @@ def read_previous_sheet(path: str | Path) -> PreviousSheet:
             submission=_read_cover_value(wb, "submission"),
             columns=layout,
             inputs=_read_inputs(wb),
+            input_fields=_read_input_fields(wb),
         )
     finally:
         wb.close()
@@ -830,16 +847,19 @@ def _same(a: Any, b: Any) -> bool:
 
 
 def input_changes(before: dict[str, dict[str, tuple[Any, str]]],
-                  after: dict[str, dict[str, tuple[Any, str]]]) -> list[dict[str, Any]]:
+                  after: dict[str, dict[str, tuple[Any, str]]],
+                  recorded: frozenset[str] | None = None) -> list[dict[str, Any]]:
     """Every changed input, cap by cap (schedule order of ``after``, removed caps last):
-    {cap, field, unit, old, new}; a cap added or removed is one row with field "cap"."""
+    {cap, field, unit, old, new}; a cap added or removed is one row with field "cap". ``recorded``:
+    the fields ``before`` was recorded for (None: all of :data:`INPUT_FIELDS`)."""
     out: list[dict[str, Any]] = []
+    compared = [name for name, _u, _d in INPUT_FIELDS if recorded is None or name in recorded]
     for cap, now in after.items():
         was = before.get(cap)
         if was is None:
             out.append({"cap": cap, "field": "cap", "unit": "", "old": None, "new": "added"})
             continue
-        for name, _unit, _div in INPUT_FIELDS:
+        for name in compared:
             a, b = was.get(name), now.get(name)
             av, bv = (a[0] if a else None), (b[0] if b else None)
             if av is None and bv is None:
@@ -865,6 +885,7 @@ FIELD_WORDS: dict[str, str] = {
     "stated_pile_load": "designer's pile load", "stated_tie_x": "designer's tie x",
     "stated_tie_y": "designer's tie y", "stated_as_x": "designer's As x", "stated_as_y": "designer's As y",
     "pile_type": "pile type", "bar_ends": "bar ends", "method": "method",
+    "capacity_basis": "pile capacity basis", "stated_d": "designer's effective depth",
 }
 
 
@@ -900,7 +921,7 @@ def carry_over(review: "Review", previous: PreviousSheet, *, policy: str = "auto
     changes: list[dict[str, Any]] = []
     inputs_recorded = previous.inputs is not None
     if inputs_recorded:
-        changes = input_changes(previous.inputs or {}, cap_inputs(review.caps))
+        changes = input_changes(previous.inputs or {}, cap_inputs(review.caps), previous.input_fields)
     else:
         warnings.append(f"{previous.path}: inputs of the previous revision not recorded (a sheet written "
                         f"before capcheck recorded them); changes between revisions not listed")

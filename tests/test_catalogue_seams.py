@@ -49,12 +49,13 @@ def test_preview_units_are_the_catalogues():
 
 
 def test_revision_inputs_are_the_catalogues_heading_fields_with_its_units():
-    # the fields compared between revisions, in the order of the comment sheet's inputs (unchanged)
+    # the fields compared between revisions, in the catalogue's order; the capacity basis and the stated
+    # effective depth are compared since the sheet records which fields it compares
     assert [name for name, _, _ in INPUT_FIELDS] == [
         "piles", "pile_dia", "pile_spacing", "cap_length", "cap_width", "cap_depth", "column", "n_ed", "mx_ed",
         "my_ed", "concrete", "fyk", "cover", "exposure", "bars_x", "bars_y", "links", "embedment", "pile_capacity",
-        "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y", "pile_type", "bar_ends",
-        "method"]
+        "capacity_basis", "stated_pile_load", "stated_tie_x", "stated_tie_y", "stated_as_x", "stated_as_y",
+        "stated_d", "pile_type", "bar_ends", "method"]
     for name, unit, div in INPUT_FIELDS:
         spec = FIELDS["column_x" if name == "column" else name]
         assert unit == (spec.show_unit if spec.show_unit != "count" else ""), name

@@ -58,6 +58,8 @@ from checker.revision import (
     CHANGES_SHEET,
     COLUMNS_MARKER,
     COLUMNS_SHEET,
+    INPUT_FIELDS,
+    INPUTS_COMPARED,
     INPUTS_MARKER,
     INPUTS_SHEET,
     LISTS_SHEET,
@@ -571,6 +573,8 @@ def _columns_sheet(ws, layout: list[tuple[str, str]]) -> None:
 def _inputs_sheet(ws, review: "Review") -> None:
     ws.hide()
     _put(ws, 1, 1, INPUTS_MARKER)
+    for col, v in enumerate((INPUTS_COMPARED, *(name for name, _u, _d in INPUT_FIELDS)), start=2):
+        _put(ws, 1, col, v)
     for col, v in enumerate(("cap", "field", "value", "unit"), start=1):
         _put(ws, 2, col, v)
     r = 3
