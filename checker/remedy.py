@@ -683,7 +683,7 @@ def _bars_change(row, vals, j: int, short: bool = False) -> str:
 
 def remedy_line(review, mark: str) -> str:
     """The "would pass with" text of a cap ('' where the cap fails nothing or no search was made)."""
-    rr = getattr(review, "remedy", None)
+    rr = review.remedy
     if rr is None:
         return ""
     cr = rr.for_cap(mark)
@@ -695,7 +695,7 @@ def remedy_line(review, mark: str) -> str:
 
 
 def remedies_json(review) -> list[dict[str, Any]] | None:
-    rr = getattr(review, "remedy", None)
+    rr = review.remedy
     if rr is None:
         return None
     return [rr.caps[m].record() for m in sorted(rr.caps)]
@@ -704,7 +704,7 @@ def remedies_json(review) -> list[dict[str, Any]] | None:
 def explain_lines(review, mark: str) -> list[str]:
     """The search for one cap: each candidate tried and the rule that stopped it, consecutive
     candidates stopped by the same rule shown as one range."""
-    rr = getattr(review, "remedy", None)
+    rr = review.remedy
     if rr is None:
         return ["No search for a change was made (--no-remedy)."]
     cr = rr.for_cap(mark)
@@ -742,7 +742,7 @@ def explain_lines(review, mark: str) -> list[str]:
 
 def attach_remedies(review, comments: list) -> list:
     """Fill each unsafe or non-compliant comment's "Would pass with" cell with its cap's line."""
-    rr = getattr(review, "remedy", None)
+    rr = review.remedy
     if rr is None:
         return comments
     for c in comments:

@@ -94,11 +94,11 @@ def resolve_meta(review: "Review", meta: dict | None = None,
     given = {k: v for k, v in flatten_meta(dict(meta or {})).items() if v is not None}
     out: dict[str, Any] = {
         "project": "",
-        "submission": getattr(review, "submission", "") or "",
+        "submission": review.submission or "",
         "revision": previous.revision if previous is not None else 1,
         "date": _dt.date.today().isoformat(),
         "checker": "",
-        "profile": getattr(review, "profile_name", "") or "",
+        "profile": review.profile_name or "",
         "rule_set": applied_rules_text(review),
     }
     if previous is not None and not given.get("project") and previous.previous.project:
@@ -124,15 +124,15 @@ def applied_digest(review: "Review") -> str:
     import json
 
     h = hashlib.sha256()
-    files = sorted({str(getattr(r, "file", "") or "") for r in (getattr(review, "rules", None) or [])})
+    files = sorted({str(getattr(r, "file", "") or "") for r in review.rules})
     for f in files:
         try:
             data = Path(f).read_bytes() if f else b""
         except OSError:
             data = f.encode()
         h.update(hashlib.sha256(data).digest())
-    h.update(str(getattr(review, "profile_name", "") or "").encode())
-    params = getattr(review, "profile_params", None) or {}
+    h.update(str(review.profile_name or "").encode())
+    params = review.profile_params or {}
     h.update(json.dumps({str(k): str(v) for k, v in params.items()}, sort_keys=True).encode())
     return h.hexdigest()[:12]
 

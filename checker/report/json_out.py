@@ -204,7 +204,7 @@ def _head(review) -> dict[str, Any]:
             "rows_read": int(review.rows_read),
             "caps_checked": int(len(review.caps)),
             "rows_rejected": int(len(review.rejected)),
-            "rows_skipped": int(len(getattr(review, "skipped", None) or [])),
+            "rows_skipped": len(review.skipped),
             "findings": count_by_severity(f) if len(f) else {
                 "unsafe": 0, "non-compliant": 0, "query": 0, "advisory": 0},
             **(review.case_summary() if hasattr(review, "case_summary") else {}),
@@ -247,9 +247,9 @@ def _tail(review, revision=None) -> dict[str, Any]:
     """What follows the results: the rows not checked and why, the notes, and the remedies."""
     doc: dict[str, Any] = {
         "rejected": [r.to_dict() for r in review.rejected],
-        "skipped": [r.to_dict() for r in getattr(review, "skipped", None) or []],
-        "table_problems": [p.to_dict() for p in getattr(review, "table_problems", None) or []],
-        "unused_headings": list(getattr(review, "unused_headings", None) or []),
+        "skipped": [r.to_dict() for r in review.skipped],
+        "table_problems": [p.to_dict() for p in review.table_problems],
+        "unused_headings": list(review.unused_headings),
         "notes": list(review.notes or []),
     }
     from checker.remedy import remedies_json

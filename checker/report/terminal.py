@@ -236,7 +236,7 @@ def _header(review, console: Console) -> None:
             (f"{review.submission}", "bold cyan"),
             (f"  profile {review.profile_name}  ", "dim"),
             (f"{len(review.caps)} caps checked, {len(review.rejected)} rows rejected"
-             + (f", {len(review.skipped)} skipped" if getattr(review, "skipped", None) else "")
+             + (f", {len(review.skipped)} skipped" if review.skipped else "")
              + f" of {review.rows_read} read", ""),
         )
     )
@@ -279,7 +279,7 @@ def print_findings(review, console: Console, *, show_ok: bool = False, listing: 
                                "--full lists every cap, and so does writing to a file "
                                "(capcheck check ... > findings.txt); -o FILE.xlsx / .html / .csv "
                                "write the comments.", style="bold"))
-    for p in getattr(review, "table_problems", None) or []:
+    for p in review.table_problems:
         where = describe_source(p.source) or "?"
         head = f"\nTable problem, {p.source.get('file') or ''} {where} (heading row): "
         console.print(Text(head, style="bold red")
@@ -295,7 +295,7 @@ def print_findings(review, console: Console, *, show_ok: bool = False, listing: 
         if len(shown) < len(review.rejected):
             console.print(Text(f"  ... and {len(review.rejected) - len(shown):,} more rows not checked "
                                "(--full lists them all)", style="bold red"))
-    unused = getattr(review, "unused_headings", None) or []
+    unused = review.unused_headings
     if unused:
         console.print(Text("Headings not used: ", style="yellow") + Text(", ".join(repr(u) for u in unused)))
     for note in review.notes:

@@ -44,7 +44,7 @@ def variant_rows(review: Any, mark: str) -> list[VariantRow]:
     """Every accepted method combination of every variant-bearing rule of cap ``mark``.
 
     Rules that do not apply to the cap (e.g. y ties of a two-pile cap) are left out."""
-    outcomes = getattr(review, "variants", None) or {}
+    outcomes = review.variants
     if not outcomes or not len(review.caps):
         return []
     idx = np.flatnonzero(review.caps["mark"].astype(str).to_numpy() == str(mark))
