@@ -292,34 +292,7 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
                    fmts("plain:wrap:vcenter:italic:size=10:color=5A3E00:fill=" + CAUTION_FILL))
     ws.set_row(1, 64)
 
-    row = 4
-    n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
-        int(review.findings["cap"].nunique()) if len(review.findings) else 0)
-    fields = [
-        ("Project", meta.get("project", "")),
-        ("Submission", meta.get("submission", "")),
-        ("Revision", meta.get("revision", 1)),
-        ("Date", meta.get("date", "")),
-        ("Checker", meta.get("checker", "")),
-        ("Profile", meta.get("profile", "")),
-        ("Rule set", meta.get("rule_set", "")),
-        ("Rows read", review.rows_read),
-        ("Caps checked", n_caps),
-        ("Rows rejected", len(review.rejected or [])),
-    ]
-    if revision is not None:
-        fields.append(("Previous sheet", Path(revision.previous.path).name))
-        fields.append(("Revision summary", revision.summary()))
-    value_fmt = fmts("plain:left:top:wrap")
-    for label, value in fields:
-        _put(ws, row, 1, label, fmts("plain:bold:top"))
-        if isinstance(value, str) and len(value) > 14:
-            text = ILLEGAL_CHARACTERS_RE.sub("", value)
-            ws.merge_range(row - 1, 1, row - 1, 2, text, value_fmt)
-            _fit_row_height(ws, row, [value], [86])
-        else:
-            _put(ws, row, 2, value, value_fmt)
-        row += 1
+    row = _cover_facts(ws, fmts, _cover_fields(review, meta, revision), 4)
 
     row += 1
     _put(ws, row, 1, "Findings by severity", fmts("plain:bold:size=12"))
@@ -362,6 +335,43 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
         _fit_row_height(ws, row, [text], [80])
         row += 1
     _print_setup(ws, meta, False, landscape=False)
+
+
+def _cover_fields(review: "Review", meta: dict[str, Any], revision: "RevisionResult | None") -> list[tuple[str, Any]]:
+    """The Cover's facts (label, value): the submission, the rows read, checked and rejected."""
+    n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
+        int(review.findings["cap"].nunique()) if len(review.findings) else 0)
+    fields: list[tuple[str, Any]] = [
+        ("Project", meta.get("project", "")),
+        ("Submission", meta.get("submission", "")),
+        ("Revision", meta.get("revision", 1)),
+        ("Date", meta.get("date", "")),
+        ("Checker", meta.get("checker", "")),
+        ("Profile", meta.get("profile", "")),
+        ("Rule set", meta.get("rule_set", "")),
+        ("Rows read", review.rows_read),
+        ("Caps checked", n_caps),
+        ("Rows rejected", len(review.rejected or [])),
+    ]
+    if revision is not None:
+        fields.append(("Previous sheet", Path(revision.previous.path).name))
+        fields.append(("Revision summary", revision.summary()))
+    return fields
+
+
+def _cover_facts(ws, fmts: _Formats, fields: list[tuple[str, Any]], row: int) -> int:
+    """Write the Cover's facts from ``row`` (label in A, value in B, a long text over B:C); the next row."""
+    value_fmt = fmts("plain:left:top:wrap")
+    for label, value in fields:
+        _put(ws, row, 1, label, fmts("plain:bold:top"))
+        if isinstance(value, str) and len(value) > 14:
+            text = ILLEGAL_CHARACTERS_RE.sub("", value)
+            ws.merge_range(row - 1, 1, row - 1, 2, text, value_fmt)
+            _fit_row_height(ws, row, [value], [86])
+        else:
+            _put(ws, row, 2, value, value_fmt)
+        row += 1
+    return row
 
 
 def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str, Any],
