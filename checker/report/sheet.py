@@ -8,7 +8,9 @@ Sheets, in order:
 * ``Comments``: one numbered row per comment (never per passed check), the designer-response
   column left for the designer and a drop-down checker status;
 * ``All checks``: every result including the passed ones, for the record;
-* ``Rejected rows``: only when the schedule had rows that could not be read;
+* ``Rejected rows``: only when the schedule had rows that could not be read or a table problem (a
+  required field that no column of a table gives): the table problems first, labelled ``Table
+  problem`` in the Mark column and placed at the table's heading row, then the rows with every reason;
 * ``capcheck-data`` (hidden): the tool's own figures per key, read back by the next revision.
 
 Every visible sheet carries the caution: in its first row (repeated on every printed page) and in
@@ -27,7 +29,7 @@ import xlsxwriter
 
 from checker.caution import CAUTION
 from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, sort_findings
-from checker.records import RejectedRow
+from checker.records import RejectedRow, TableProblem
 from checker.report.comments import (
     ALL_CHECKS_SHEET,
     CAUTION_FILL,
@@ -93,6 +95,7 @@ ALL_CHECKS_WIDTHS = (10, 18, 26, 14, 16, 10, 10, 7, 11, 48, 36, 14, 10)
 
 REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Mark", "Reasons")
 REJECTED_WIDTHS = (30, 14, 7, 7, 12, 80)
+TABLE_PROBLEM_LABEL = "Table problem"   # the Mark cell of a table problem's row (Row: its heading row)
 
 ALL_CHECKS_MAX_ROWS = 100_000   # beyond this the sheet keeps the worst results and says so (XLSX
                                 # holds 1,048,576 rows; a sheet this long is a record, not a read)
@@ -338,7 +341,8 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
 
 
 def _cover_fields(review: "Review", meta: dict[str, Any], revision: "RevisionResult | None") -> list[tuple[str, Any]]:
-    """The Cover's facts (label, value): the submission, the rows read, checked and rejected."""
+    """The Cover's facts (label, value): the submission, the rows read, checked and rejected, the
+    table problems."""
     n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
         int(review.findings["cap"].nunique()) if len(review.findings) else 0)
     fields: list[tuple[str, Any]] = [
@@ -353,6 +357,9 @@ def _cover_fields(review: "Review", meta: dict[str, Any], revision: "RevisionRes
         ("Caps checked", n_caps),
         ("Rows rejected", len(review.rejected or [])),
     ]
+    if review.table_problems:
+        fields.append(("Table problems", f"{len(review.table_problems)}, listed first on the "
+                                         f"'{REJECTED_SHEET}' sheet"))
     if revision is not None:
         fields.append(("Previous sheet", Path(revision.previous.path).name))
         fields.append(("Revision summary", revision.summary()))
@@ -529,18 +536,23 @@ def _all_checks_rows(ws, fmts: _Formats, frame, ncols: int) -> None:
         r += 1
 
 
-def _rejected_sheet(ws, fmts: _Formats, rejected: list[RejectedRow], meta: dict[str, Any]) -> None:
+def _rejected_sheet(ws, fmts: _Formats, rejected: list[RejectedRow], meta: dict[str, Any],
+                    problems: list[TableProblem] | None = None) -> None:
+    """The rows not checked: first each table problem (at its heading row, labelled in the Mark column;
+    the rows of that table say "see the table's problem"), then every rejected row with its reasons."""
     _caution_row(ws, fmts, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
     _table_header(ws, fmts, REJECTED_HEADINGS, REJECTED_WIDTHS)
     row = FIRST_DATA_ROW
     body = fmts("body")
-    for rej in rejected:
-        src = rej.source or {}
-        errors = rej.errors
-        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), rej.mark,
+    label = fmts("body:bold:fill=" + CAUTION_FILL)
+    entries = [(p.source, TABLE_PROBLEM_LABEL, p.errors, label) for p in problems or []]
+    entries += [(rej.source, rej.mark, rej.errors, body) for rej in rejected]
+    for source, mark, errors, mark_fmt in entries:
+        src = source or {}
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), mark,
                   "\n".join(str(e) for e in errors)]
         for col, v in enumerate(values, start=1):
-            _put(ws, row, col, v, body)
+            _put(ws, row, col, v, mark_fmt if col == 5 else body)
         _fit_row_height(ws, row, values, REJECTED_WIDTHS)
         row += 1
     ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, len(REJECTED_HEADINGS) - 1)
@@ -613,8 +625,9 @@ def write_workbook(target, review: "Review", comments: list[Comment], meta: dict
     if revision is not None:
         _changes_sheet(wb.add_worksheet(CHANGES_SHEET), fmts, revision, comments, meta)
     _all_checks_sheet(wb.add_worksheet(ALL_CHECKS_SHEET), fmts, review, meta)
-    if review.rejected:
-        _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta)
+    if review.rejected or review.table_problems:
+        _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta,
+                        list(review.table_problems))
     _data_sheet(wb.add_worksheet(DATA_SHEET), comments, meta)
     _columns_sheet(wb.add_worksheet(COLUMNS_SHEET), layout)
     _inputs_sheet(wb.add_worksheet(INPUTS_SHEET), review)
