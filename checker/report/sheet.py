@@ -11,6 +11,8 @@ Sheets, in order:
 * ``Rejected rows``: only when the schedule had rows that could not be read or a table problem (a
   required field that no column of a table gives): the table problems first, labelled ``Table
   problem`` in the Mark column and placed at the table's heading row, then the rows with every reason;
+* ``Skipped rows``: only when rows were not read as caps (section labels, repeated headings, notes,
+  hidden or struck-through rows), each with its reason;
 * ``capcheck-data`` (hidden): the tool's own figures per key, read back by the next revision.
 
 Every visible sheet carries the caution: in its first row (repeated on every printed page) and in
@@ -29,7 +31,7 @@ import xlsxwriter
 
 from checker.caution import CAUTION
 from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, sort_findings
-from checker.records import RejectedRow, TableProblem
+from checker.records import RejectedRow, SkippedRow, TableProblem
 from checker.report.comments import (
     ALL_CHECKS_SHEET,
     CAUTION_FILL,
@@ -48,6 +50,7 @@ from checker.report.comments import (
     SEVERITY_MEANING,
     SEVERITY_TEXT,
     SHORT_CAUTION,
+    SKIPPED_SHEET,
     STATUS_MUTED,
     STATUSES,
     Comment,
@@ -96,6 +99,9 @@ ALL_CHECKS_WIDTHS = (10, 18, 26, 14, 16, 10, 10, 7, 11, 48, 36, 14, 10)
 REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Mark", "Reasons")
 REJECTED_WIDTHS = (30, 14, 7, 7, 12, 80)
 TABLE_PROBLEM_LABEL = "Table problem"   # the Mark cell of a table problem's row (Row: its heading row)
+
+SKIPPED_HEADINGS = ("File", "Sheet", "Page", "Row", "Text", "Reason")
+SKIPPED_WIDTHS = (30, 14, 7, 7, 24, 68)
 
 ALL_CHECKS_MAX_ROWS = 100_000   # beyond this the sheet keeps the worst results and says so (XLSX
                                 # holds 1,048,576 rows; a sheet this long is a record, not a read)
@@ -341,8 +347,8 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
 
 
 def _cover_fields(review: "Review", meta: dict[str, Any], revision: "RevisionResult | None") -> list[tuple[str, Any]]:
-    """The Cover's facts (label, value): the submission, the rows read, checked and rejected, the
-    table problems."""
+    """The Cover's facts (label, value): the submission, and where every row read went (checked,
+    rejected, skipped, adding a load case), the table problems and the headings not used."""
     n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
         int(review.findings["cap"].nunique()) if len(review.findings) else 0)
     fields: list[tuple[str, Any]] = [
@@ -356,10 +362,15 @@ def _cover_fields(review: "Review", meta: dict[str, Any], revision: "RevisionRes
         ("Rows read", review.rows_read),
         ("Caps checked", n_caps),
         ("Rows rejected", len(review.rejected or [])),
+        ("Rows skipped", len(review.skipped or [])),
     ]
+    if review.cases is not None:
+        fields.append(("Rows adding a load case", review.case_rows))
     if review.table_problems:
         fields.append(("Table problems", f"{len(review.table_problems)}, listed first on the "
                                          f"'{REJECTED_SHEET}' sheet"))
+    if review.unused_headings:
+        fields.append(("Headings not used", ", ".join(repr(str(h)) for h in review.unused_headings)))
     if revision is not None:
         fields.append(("Previous sheet", Path(revision.previous.path).name))
         fields.append(("Revision summary", revision.summary()))
@@ -559,6 +570,23 @@ def _rejected_sheet(ws, fmts: _Formats, rejected: list[RejectedRow], meta: dict[
     _print_setup(ws, meta, True)
 
 
+def _skipped_sheet(ws, fmts: _Formats, skipped: list[SkippedRow], meta: dict[str, Any]) -> None:
+    """The rows not read as caps, each with its reason (rows read = caps + rejected + skipped)."""
+    _caution_row(ws, fmts, len(SKIPPED_HEADINGS), SKIPPED_WIDTHS)
+    _table_header(ws, fmts, SKIPPED_HEADINGS, SKIPPED_WIDTHS)
+    row = FIRST_DATA_ROW
+    body = fmts("body")
+    for sk in skipped:
+        src = sk.source or {}
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), sk.text, sk.reason]
+        for col, v in enumerate(values, start=1):
+            _put(ws, row, col, v, body)
+        _fit_row_height(ws, row, values, SKIPPED_WIDTHS)
+        row += 1
+    ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, len(SKIPPED_HEADINGS) - 1)
+    _print_setup(ws, meta, True)
+
+
 def _data_sheet(ws, comments: list[Comment], meta: dict[str, Any]) -> None:
     ws.hide()
     for col, v in enumerate([DATA_MARKER, "revision", meta.get("revision", 1)], start=1):
@@ -628,6 +656,8 @@ def write_workbook(target, review: "Review", comments: list[Comment], meta: dict
     if review.rejected or review.table_problems:
         _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta,
                         list(review.table_problems))
+    if review.skipped:
+        _skipped_sheet(wb.add_worksheet(SKIPPED_SHEET), fmts, list(review.skipped), meta)
     _data_sheet(wb.add_worksheet(DATA_SHEET), comments, meta)
     _columns_sheet(wb.add_worksheet(COLUMNS_SHEET), layout)
     _inputs_sheet(wb.add_worksheet(INPUTS_SHEET), review)
