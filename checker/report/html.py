@@ -5,8 +5,9 @@ Contents: the caution, the submission facts, summary counts, the legend of sever
 table of caps with their worst severity, and per cap a plan sketch to scale (see
 :mod:`checker.report.svg`), that cap's results (comments first, with their comment numbers and
 statuses, then the passed checks) and the working lines of ``review.working(mark)``; finally the
-table problems (a required field that no column of a table gives, at the table's heading row) and
-the rejected rows with every reason, each only when there is one.
+rows read but not checked: the table problems (a required field that no column of a table gives,
+at the table's heading row), the rejected rows with every reason, and the rows skipped with their
+reason and the headings not used, each section only when it has something to show.
 """
 
 from __future__ import annotations
@@ -105,9 +106,10 @@ nav.toc a {{ text-decoration: none; }}
 @media print {{
   body {{ max-width: none; padding: 0; font-size: 9.5pt; }}
   * {{ -webkit-print-color-adjust: exact; print-color-adjust: exact; }}
-  section.cap, section.table-problems, section.rejected {{ break-before: page; page-break-before: always;
-    margin-top: 0; }}
-  section.table-problems + section.rejected {{ break-before: auto; page-break-before: auto; margin-top: 26px; }}
+  section.cap, section.table-problems, section.rejected, section.skipped {{ break-before: page;
+    page-break-before: always; margin-top: 0; }}
+  section.table-problems + section.rejected, section.rejected + section.skipped,
+  section.table-problems + section.skipped {{ break-before: auto; page-break-before: auto; margin-top: 26px; }}
   h2, h3 {{ break-after: avoid; page-break-after: avoid; }}
   figure.sketch, tr, pre.work {{ break-inside: avoid; page-break-inside: avoid; }}
   thead {{ display: table-header-group; }}
@@ -400,6 +402,7 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
     h.extend(_untied_comments(comments, set(marks)))
     h.extend(_table_problems(review))
     h.extend(_rejected_rows(review))
+    h.extend(_skipped_rows(review))
     h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
     h.append("</body></html>")
     return "\n".join(h)
@@ -457,9 +460,11 @@ def _summary_section(review: "Review", comments: list[Comment], revision: "Revis
 
 
 def _row_counts(review: "Review", n_caps: int) -> list[tuple[str, int]]:
-    """The rows read, checked and rejected; the table problems."""
+    """Where every row read went: checked, rejected, skipped (and adding a load case); the table problems."""
     counts = [("rows read", review.rows_read), ("caps checked", n_caps),
-              ("rows rejected", len(review.rejected or []))]
+              ("rows rejected", len(review.rejected or [])), ("rows skipped", len(review.skipped or []))]
+    if review.cases is not None:
+        counts.append(("rows adding a load case", review.case_rows))
     if review.table_problems:
         counts.append(("table problems", len(review.table_problems)))
     return counts
@@ -574,6 +579,28 @@ def _rejected_rows(review: "Review") -> list[str]:
         errs = "<br>".join(escape(str(e)) for e in rej.errors)
         h.append(f"<tr>{_source_cells(rej.source)}<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
     h.append("</tbody></table></section>")
+    return h
+
+
+def _skipped_rows(review: "Review") -> list[str]:
+    """The rows read but not taken as caps, each with its reason, and the headings not used."""
+    skipped, unused = review.skipped or [], review.unused_headings or []
+    if not (skipped or unused):
+        return []
+    title = "Skipped rows" + (" and headings not used" if unused else "") if skipped else "Headings not used"
+    h = [f'<section class="skipped"><h2>{title}</h2>']
+    if skipped:
+        h.append("<p>These rows were read but not taken as caps, each for the reason given.</p>"
+                 f"<table><thead><tr>{_SOURCE_HEADS}<th>Text</th><th>Reason</th></tr></thead><tbody>")
+        for sk in skipped:
+            h.append(f"<tr>{_source_cells(sk.source)}<td>{escape(sk.text)}</td><td>{escape(sk.reason)}</td></tr>")
+        h.append("</tbody></table>")
+    if unused:
+        h.append('<p class="unused-headings"><strong>Headings not used:</strong> '
+                 + ", ".join(escape(repr(str(u))) for u in unused)
+                 + ". No figure under them was read; a mapping file (--mapping FILE) can map a heading "
+                 "that should have been (see capcheck columns).</p>")
+    h.append("</section>")
     return h
 
 
