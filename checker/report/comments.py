@@ -42,6 +42,7 @@ from checker.revision import (  # noqa: F401
     DATA_SHEET,
     MET,
     REJECTED_SHEET,
+    SKIPPED_SHEET,
     STATUSES,
     CarriedComment,
     PreviousComment,

@@ -5,7 +5,9 @@ Contents: the caution, the submission facts, summary counts, the legend of sever
 table of caps with their worst severity, and per cap a plan sketch to scale (see
 :mod:`checker.report.svg`), that cap's results (comments first, with their comment numbers and
 statuses, then the passed checks) and the working lines of ``review.working(mark)``; finally the
-rejected rows, if any.
+rows read but not checked: the table problems (a required field that no column of a table gives,
+at the table's heading row), the rejected rows with every reason, and the rows skipped with their
+reason and the headings not used, each section only when it has something to show.
 """
 
 from __future__ import annotations
@@ -104,7 +106,10 @@ nav.toc a {{ text-decoration: none; }}
 @media print {{
   body {{ max-width: none; padding: 0; font-size: 9.5pt; }}
   * {{ -webkit-print-color-adjust: exact; print-color-adjust: exact; }}
-  section.cap, section.rejected {{ break-before: page; page-break-before: always; margin-top: 0; }}
+  section.cap, section.table-problems, section.rejected, section.skipped {{ break-before: page;
+    page-break-before: always; margin-top: 0; }}
+  section.table-problems + section.rejected, section.rejected + section.skipped,
+  section.table-problems + section.skipped {{ break-before: auto; page-break-before: auto; margin-top: 26px; }}
   h2, h3 {{ break-after: avoid; page-break-after: avoid; }}
   figure.sketch, tr, pre.work {{ break-inside: avoid; page-break-inside: avoid; }}
   thead {{ display: table-header-group; }}
@@ -395,7 +400,9 @@ def render_html(review: "Review", comments: list[Comment], meta: dict[str, Any],
         h.append(_cap_section(review, m, anchors(m), worst.get(m, ""), rows_by_cap.get(m, []),
                               infos.get(m, {}), by_key, carried_by_cap.get(m, []), changes_by_cap.get(m)))
     h.extend(_untied_comments(comments, set(marks)))
+    h.extend(_table_problems(review))
     h.extend(_rejected_rows(review))
+    h.extend(_skipped_rows(review))
     h.append(f'<footer><p class="caution"><strong>Caution.</strong> {escape(CAUTION)}</p></footer>')
     h.append("</body></html>")
     return "\n".join(h)
@@ -435,8 +442,7 @@ def _summary_section(review: "Review", comments: list[Comment], revision: "Revis
         n = counts.get(s, 0) if s != "ok" else n_ok
         h.append(f'<div class="chip sev-{s}" data-severity="{s}"><b>{n}</b>{escape(s)}</div>')
     h.append("</div><div class=\"chips\">")
-    for label, n in (("rows read", review.rows_read), ("caps checked", n_caps),
-                     ("rows rejected", len(review.rejected or []))):
+    for label, n in _row_counts(review, n_caps):
         h.append(f'<div class="chip plain"><b>{n}</b>{label}</div>')
     by_status = count_by_status(comments)
     for st in STATUSES:
@@ -451,6 +457,17 @@ def _summary_section(review: "Review", comments: list[Comment], revision: "Revis
         h.append(f"<tr><td class=\"sev sev-{s}\">{s}</td><td>{escape(Severity(s).meaning)}</td></tr>")
     h.append("</tbody></table></section>")
     return h
+
+
+def _row_counts(review: "Review", n_caps: int) -> list[tuple[str, int]]:
+    """Where every row read went: checked, rejected, skipped (and adding a load case); the table problems."""
+    counts = [("rows read", review.rows_read), ("caps checked", n_caps),
+              ("rows rejected", len(review.rejected or [])), ("rows skipped", len(review.skipped or []))]
+    if review.cases is not None:
+        counts.append(("rows adding a load case", review.case_rows))
+    if review.table_problems:
+        counts.append(("table problems", len(review.table_problems)))
+    return counts
 
 
 def _revision_summary(revision: "RevisionResult") -> list[str]:
@@ -526,20 +543,64 @@ def _untied_comments(comments: list[Comment], mark_set: set[str]) -> list[str]:
     return h
 
 
+def _source_cells(source: dict[str, Any] | None) -> str:
+    """The File, Sheet, Page and Row cells of a row of the schedule."""
+    src = source or {}
+    return "".join(f"<td>{escape(str(src.get(k) or ''))}</td>" for k in ("file", "sheet", "page", "row"))
+
+
+_SOURCE_HEADS = "<th>File</th><th>Sheet</th><th>Page</th><th>Row</th>"
+
+
+def _table_problems(review: "Review") -> list[str]:
+    """Problems of a whole table (a required field that no column gives), at the table's heading row."""
+    if not review.table_problems:
+        return []
+    intro = ("No row of a table named here can be checked until its problem is put right: its rows are "
+             "listed under Rejected rows, each saying \"see the table's problem\". The row given is the "
+             "table's heading row.")
+    h = [f'<section class="table-problems"><h2>Table problems</h2><p>{escape(intro)}</p>'
+         f"<table><thead><tr>{_SOURCE_HEADS}<th>Problem</th></tr></thead><tbody>"]
+    for p in review.table_problems:
+        errs = "<br>".join(escape(str(e)) for e in p.errors)
+        h.append(f'<tr class="table-problem">{_source_cells(p.source)}<td>{errs}</td></tr>')
+    h.append("</tbody></table></section>")
+    return h
+
+
 def _rejected_rows(review: "Review") -> list[str]:
     """The rows of the schedule that could not be read."""
     if not review.rejected:
         return []
     h = ['<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
-         "could not be read and were not checked.</p><table><thead><tr><th>File</th><th>Sheet</th>"
-         "<th>Page</th><th>Row</th><th>Mark</th><th>Reasons</th></tr></thead><tbody>"]
+         f"could not be read and were not checked.</p><table><thead><tr>{_SOURCE_HEADS}<th>Mark</th>"
+         "<th>Reasons</th></tr></thead><tbody>"]
     for rej in review.rejected:
-        src = rej.source or {}
         errs = "<br>".join(escape(str(e)) for e in rej.errors)
-        h.append(f"<tr><td>{escape(str(src.get('file') or ''))}</td><td>{escape(str(src.get('sheet') or ''))}</td>"
-                 f"<td>{escape(str(src.get('page') or ''))}</td><td>{escape(str(src.get('row') or ''))}</td>"
-                 f"<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
+        h.append(f"<tr>{_source_cells(rej.source)}<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
     h.append("</tbody></table></section>")
+    return h
+
+
+def _skipped_rows(review: "Review") -> list[str]:
+    """The rows read but not taken as caps, each with its reason, and the headings not used."""
+    skipped, unused = review.skipped or [], review.unused_headings or []
+    if not (skipped or unused):
+        return []
+    title = "Skipped rows" + (" and headings not used" if unused else "") if skipped else "Headings not used"
+    h = [f'<section class="skipped"><h2>{title}</h2>']
+    if skipped:
+        h.append("<p>These rows were read but not taken as caps, each for the reason given.</p>"
+                 f"<table><thead><tr>{_SOURCE_HEADS}<th>Text</th><th>Reason</th></tr></thead><tbody>")
+        for sk in skipped:
+            h.append(f"<tr>{_source_cells(sk.source)}<td>{escape(sk.text)}</td><td>{escape(sk.reason)}</td></tr>")
+        h.append("</tbody></table>")
+    if unused:
+        h.append('<p class="unused-headings"><strong>Headings not used:</strong> '
+                 + ", ".join(escape(repr(str(u))) for u in unused)
+                 + ". No figure under them was read; a mapping file (--mapping FILE) can map a heading "
+                 "that should have been (see capcheck columns).</p>")
+    h.append("</section>")
     return h
 
 

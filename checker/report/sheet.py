@@ -8,7 +8,11 @@ Sheets, in order:
 * ``Comments``: one numbered row per comment (never per passed check), the designer-response
   column left for the designer and a drop-down checker status;
 * ``All checks``: every result including the passed ones, for the record;
-* ``Rejected rows``: only when the schedule had rows that could not be read;
+* ``Rejected rows``: only when the schedule had rows that could not be read or a table problem (a
+  required field that no column of a table gives): the table problems first, labelled ``Table
+  problem`` in the Mark column and placed at the table's heading row, then the rows with every reason;
+* ``Skipped rows``: only when rows were not read as caps (section labels, repeated headings, notes,
+  hidden or struck-through rows), each with its reason;
 * ``capcheck-data`` (hidden): the tool's own figures per key, read back by the next revision.
 
 Every visible sheet carries the caution: in its first row (repeated on every printed page) and in
@@ -27,7 +31,7 @@ import xlsxwriter
 
 from checker.caution import CAUTION
 from checker.findings import SEVERITY_ORDER, count_by_severity, describe_source, sort_findings
-from checker.records import RejectedRow
+from checker.records import RejectedRow, SkippedRow, TableProblem
 from checker.report.comments import (
     ALL_CHECKS_SHEET,
     CAUTION_FILL,
@@ -46,6 +50,7 @@ from checker.report.comments import (
     SEVERITY_MEANING,
     SEVERITY_TEXT,
     SHORT_CAUTION,
+    SKIPPED_SHEET,
     STATUS_MUTED,
     STATUSES,
     Comment,
@@ -95,6 +100,10 @@ ALL_CHECKS_WIDTHS = (10, 18, 26, 14, 16, 10, 10, 7, 11, 48, 36, 14, 10)
 
 REJECTED_HEADINGS = ("File", "Sheet", "Page", "Row", "Mark", "Reasons")
 REJECTED_WIDTHS = (30, 14, 7, 7, 12, 80)
+TABLE_PROBLEM_LABEL = "Table problem"   # the Mark cell of a table problem's row (Row: its heading row)
+
+SKIPPED_HEADINGS = ("File", "Sheet", "Page", "Row", "Text", "Reason")
+SKIPPED_WIDTHS = (30, 14, 7, 7, 24, 68)
 
 ALL_CHECKS_MAX_ROWS = 100_000   # beyond this the sheet keeps the worst results and says so (XLSX
                                 # holds 1,048,576 rows; a sheet this long is a record, not a read)
@@ -294,34 +303,7 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
                    fmts("plain:wrap:vcenter:italic:size=10:color=5A3E00:fill=" + CAUTION_FILL))
     ws.set_row(1, 64)
 
-    row = 4
-    n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
-        int(review.findings["cap"].nunique()) if len(review.findings) else 0)
-    fields = [
-        ("Project", meta.get("project", "")),
-        ("Submission", meta.get("submission", "")),
-        ("Revision", meta.get("revision", 1)),
-        ("Date", meta.get("date", "")),
-        ("Checker", meta.get("checker", "")),
-        ("Profile", meta.get("profile", "")),
-        ("Rule set", meta.get("rule_set", "")),
-        ("Rows read", review.rows_read),
-        ("Caps checked", n_caps),
-        ("Rows rejected", len(review.rejected or [])),
-    ]
-    if revision is not None:
-        fields.append(("Previous sheet", Path(revision.previous.path).name))
-        fields.append(("Revision summary", revision.summary()))
-    value_fmt = fmts("plain:left:top:wrap")
-    for label, value in fields:
-        _put(ws, row, 1, label, fmts("plain:bold:top"))
-        if isinstance(value, str) and len(value) > 14:
-            text = ILLEGAL_CHARACTERS_RE.sub("", value)
-            ws.merge_range(row - 1, 1, row - 1, 2, text, value_fmt)
-            _fit_row_height(ws, row, [value], [86])
-        else:
-            _put(ws, row, 2, value, value_fmt)
-        row += 1
+    row = _cover_facts(ws, fmts, _cover_fields(review, meta, revision), 4)
 
     row += 1
     _put(ws, row, 1, "Findings by severity", fmts("plain:bold:size=12"))
@@ -364,6 +346,52 @@ def _cover(ws, fmts: _Formats, review: "Review", comments: list[Comment], meta: 
         _fit_row_height(ws, row, [text], [80])
         row += 1
     _print_setup(ws, meta, False, landscape=False)
+
+
+def _cover_fields(review: "Review", meta: dict[str, Any], revision: "RevisionResult | None") -> list[tuple[str, Any]]:
+    """The Cover's facts (label, value): the submission, and where every row read went (checked,
+    rejected, skipped, adding a load case), the table problems and the headings not used."""
+    n_caps = int(review.caps["mark"].nunique()) if "mark" in getattr(review.caps, "columns", ()) else (
+        int(review.findings["cap"].nunique()) if len(review.findings) else 0)
+    fields: list[tuple[str, Any]] = [
+        ("Project", meta.get("project", "")),
+        ("Submission", meta.get("submission", "")),
+        ("Revision", meta.get("revision", 1)),
+        ("Date", meta.get("date", "")),
+        ("Checker", meta.get("checker", "")),
+        ("Profile", meta.get("profile", "")),
+        ("Rule set", meta.get("rule_set", "")),
+        ("Rows read", review.rows_read),
+        ("Caps checked", n_caps),
+        ("Rows rejected", len(review.rejected or [])),
+        ("Rows skipped", len(review.skipped or [])),
+    ]
+    if review.cases is not None:
+        fields.append(("Rows adding a load case", review.case_rows))
+    if review.table_problems:
+        fields.append(("Table problems", f"{len(review.table_problems)}, listed first on the "
+                                         f"'{REJECTED_SHEET}' sheet"))
+    if review.unused_headings:
+        fields.append(("Headings not used", ", ".join(repr(str(h)) for h in review.unused_headings)))
+    if revision is not None:
+        fields.append(("Previous sheet", Path(revision.previous.path).name))
+        fields.append(("Revision summary", revision.summary()))
+    return fields
+
+
+def _cover_facts(ws, fmts: _Formats, fields: list[tuple[str, Any]], row: int) -> int:
+    """Write the Cover's facts from ``row`` (label in A, value in B, a long text over B:C); the next row."""
+    value_fmt = fmts("plain:left:top:wrap")
+    for label, value in fields:
+        _put(ws, row, 1, label, fmts("plain:bold:top"))
+        if isinstance(value, str) and len(value) > 14:
+            text = ILLEGAL_CHARACTERS_RE.sub("", value)
+            ws.merge_range(row - 1, 1, row - 1, 2, text, value_fmt)
+            _fit_row_height(ws, row, [value], [86])
+        else:
+            _put(ws, row, 2, value, value_fmt)
+        row += 1
+    return row
 
 
 def _comments_sheet(ws, fmts: _Formats, comments: list[Comment], meta: dict[str, Any],
@@ -521,21 +549,43 @@ def _all_checks_rows(ws, fmts: _Formats, frame, ncols: int) -> None:
         r += 1
 
 
-def _rejected_sheet(ws, fmts: _Formats, rejected: list[RejectedRow], meta: dict[str, Any]) -> None:
+def _rejected_sheet(ws, fmts: _Formats, rejected: list[RejectedRow], meta: dict[str, Any],
+                    problems: list[TableProblem] | None = None) -> None:
+    """The rows not checked: first each table problem (at its heading row, labelled in the Mark column;
+    the rows of that table say "see the table's problem"), then every rejected row with its reasons."""
     _caution_row(ws, fmts, len(REJECTED_HEADINGS), REJECTED_WIDTHS)
     _table_header(ws, fmts, REJECTED_HEADINGS, REJECTED_WIDTHS)
     row = FIRST_DATA_ROW
     body = fmts("body")
-    for rej in rejected:
-        src = rej.source or {}
-        errors = rej.errors
-        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), rej.mark,
+    label = fmts("body:bold:fill=" + CAUTION_FILL)
+    entries = [(p.source, TABLE_PROBLEM_LABEL, p.errors, label) for p in problems or []]
+    entries += [(rej.source, rej.mark, rej.errors, body) for rej in rejected]
+    for source, mark, errors, mark_fmt in entries:
+        src = source or {}
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), mark,
                   "\n".join(str(e) for e in errors)]
         for col, v in enumerate(values, start=1):
-            _put(ws, row, col, v, body)
+            _put(ws, row, col, v, mark_fmt if col == 5 else body)
         _fit_row_height(ws, row, values, REJECTED_WIDTHS)
         row += 1
     ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, len(REJECTED_HEADINGS) - 1)
+    _print_setup(ws, meta, True)
+
+
+def _skipped_sheet(ws, fmts: _Formats, skipped: list[SkippedRow], meta: dict[str, Any]) -> None:
+    """The rows not read as caps, each with its reason (rows read = caps + rejected + skipped)."""
+    _caution_row(ws, fmts, len(SKIPPED_HEADINGS), SKIPPED_WIDTHS)
+    _table_header(ws, fmts, SKIPPED_HEADINGS, SKIPPED_WIDTHS)
+    row = FIRST_DATA_ROW
+    body = fmts("body")
+    for sk in skipped:
+        src = sk.source or {}
+        values = [src.get("file"), src.get("sheet"), src.get("page"), src.get("row"), sk.text, sk.reason]
+        for col, v in enumerate(values, start=1):
+            _put(ws, row, col, v, body)
+        _fit_row_height(ws, row, values, SKIPPED_WIDTHS)
+        row += 1
+    ws.autofilter(HEADER_ROW - 1, 0, max(row - 1, HEADER_ROW) - 1, len(SKIPPED_HEADINGS) - 1)
     _print_setup(ws, meta, True)
 
 
@@ -607,8 +657,11 @@ def write_workbook(target, review: "Review", comments: list[Comment], meta: dict
     if revision is not None:
         _changes_sheet(wb.add_worksheet(CHANGES_SHEET), fmts, revision, comments, meta)
     _all_checks_sheet(wb.add_worksheet(ALL_CHECKS_SHEET), fmts, review, meta)
-    if review.rejected:
-        _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta)
+    if review.rejected or review.table_problems:
+        _rejected_sheet(wb.add_worksheet(REJECTED_SHEET), fmts, list(review.rejected), meta,
+                        list(review.table_problems))
+    if review.skipped:
+        _skipped_sheet(wb.add_worksheet(SKIPPED_SHEET), fmts, list(review.skipped), meta)
     _data_sheet(wb.add_worksheet(DATA_SHEET), comments, meta)
     _columns_sheet(wb.add_worksheet(COLUMNS_SHEET), layout)
     _inputs_sheet(wb.add_worksheet(INPUTS_SHEET), review)
