@@ -21,6 +21,7 @@ import pandas as pd
 
 from checker.findings import (  # noqa: F401  (severity_rank re-exported for the writers)
     SEVERITY_ORDER,
+    Severity,
     comment_key,
     comment_records,
     describe_source,
@@ -100,14 +101,8 @@ def comment_layout(revision: "RevisionResult | None" = None) -> list[tuple[str, 
             out += [(x, "extra") for x in xs if x not in placed]
     return out
 
-# What each severity means, in the words of this project (cover sheet legend, report legend).
-SEVERITY_MEANING: dict[str, str] = {
-    "unsafe": "a strength check is not met",
-    "non-compliant": "a detailing rule is breached",
-    "query": "cannot be verified from the submission, or the designer's figure disagrees with the re-check",
-    "advisory": "good practice, for the designer's consideration",
-    "ok": "the listed check was met on the figures submitted",
-}
+# What each severity means (cover sheet legend, report legend): the enum's own words.
+SEVERITY_MEANING: dict[str, str] = {s.value: s.meaning for s in Severity}
 
 # Short statement printed beside the caution wherever the results are summarised.
 NOT_A_SAFETY_CLAIM = (
@@ -117,22 +112,9 @@ NOT_A_SAFETY_CLAIM = (
 
 
 # ---- presentation shared by the writers (this project's own palette and short texts) ----
-# Severity colours (fill, text). Chosen for this project: a warm scale from brick red (strength
-# check not met) to pale green (met), readable when printed in greyscale.
-SEVERITY_FILL: dict[str, str] = {
-    "unsafe": "B3261E",
-    "non-compliant": "F4A259",
-    "query": "F6D55C",
-    "advisory": "A8D5E2",
-    "ok": "C5E1A5",
-}
-SEVERITY_TEXT: dict[str, str] = {
-    "unsafe": "FFFFFF",
-    "non-compliant": "1F1F1F",
-    "query": "1F1F1F",
-    "advisory": "1F1F1F",
-    "ok": "1F1F1F",
-}
+# Severity colours (fill, text): the enum's own (this project's palette, see findings.Severity).
+SEVERITY_FILL: dict[str, str] = {s.value: s.fill for s in Severity}
+SEVERITY_TEXT: dict[str, str] = {s.value: s.text_colour for s in Severity}
 STATUS_MUTED = "7F7F7F"     # text colour of closed / superseded comments
 HEADER_FILL = "2F3E46"      # table heading rows
 HEADER_TEXT = "FFFFFF"
