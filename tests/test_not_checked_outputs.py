@@ -145,3 +145,16 @@ def test_every_row_read_is_on_the_sheet_and_in_the_report(tmp_path):
     assert section.count("<tr><td>") == len(rv.skipped)
     for k in rv.skipped:
         assert f"<td>{k.source['row']}</td>" in section
+
+
+def test_a_report_with_no_cap_checked_says_so_instead_of_an_empty_table(tmp_path):
+    import pandas as pd
+
+    from checker.report import write_outputs
+    frame = pd.read_csv(SAMPLE, dtype=str, keep_default_na=False).rename(columns={"Cover (mm)": "Cvr"})
+    src = tmp_path / "nocover.csv"
+    frame.to_csv(src, index=False)
+    rv = checker.review(src)
+    (html,) = write_outputs(rv, [tmp_path / "r.html"])
+    text = html.read_text(encoding="utf-8")
+    assert len(rv.caps) == 0 and "No cap was checked" in text

@@ -491,6 +491,9 @@ def _revision_summary(revision: "RevisionResult") -> list[str]:
 def _caps_table(marks: list[str], detailed: list[str], anchors: "_Anchors", infos: dict[str, dict[str, Any]],
                 rows_by_cap: dict[str, list[dict[str, Any]]], worst: dict[str, str]) -> list[str]:
     """The table of every cap, linking to the caps given a full section."""
+    if not marks:
+        return ['<section class="caps-table"><h2>Caps</h2><p>No cap was checked: every row read is listed '
+                "below as rejected or skipped, with its reasons.</p></section>"]
     h = ['<section class="caps-table"><h2>Caps</h2><nav class="toc"><table><thead><tr><th>Cap</th>'
          "<th>Piles</th><th>L × W × h (mm)</th><th>Worst</th>"
          + "".join(f"<th>{s}</th>" for s in SEVERITY_ORDER if s != "ok")
