@@ -99,7 +99,11 @@ def test_caution_summary_and_caps_table(report):
     rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
     assert rows == [c[0] for c in CAPS]
     assert 'href="#cap-PC5"' in text and 'id="cap-PC5"' in text
-    assert "Working" in text and "As,req = T / (fyk / 1.15)" in text
+    # the engine's working of a check, its verdict line from the findings row
+    tie = [ln.text.strip() for ln in rv.working("PC2") if ln.rule == "tie-steel-x"]
+    assert "Working" in text and any(t.startswith("As,req = T/fyd") for t in tie)
+    assert tie[-1] == "-> unsafe: As,prov 4825 mm² < As,req 5560 mm² for T = 2418 kN"
+    assert all(t in html.unescape(text) for t in tie)
 
 
 def test_print_css(report):

@@ -217,17 +217,20 @@ def test_all_checks_has_every_result(sheet):
 
 
 def test_rejected_rows_sheet(sheet):
-    _, wb = sheet
+    rv, wb = sheet
     ws = wb["Rejected rows"]
     assert _headings(ws) == ["File", "Sheet", "Page", "Row", "Mark", "Reasons"]
     row = next(ws.iter_rows(min_row=3, max_row=3, values_only=True))
     assert row[0] == "ashgrove-caps-rev1.csv" and row[3] == 9
     assert row[4] == "PC9"                                           # the mark, when it was read
-    assert "six hundred" in row[5] and "cap_depth missing" in row[5]
+    # both of the engine's reasons: the pile diameter in words, the cap size without its depth
+    (rejected,) = rv.rejected
+    assert row[5] == "\n".join(rejected.errors)
+    assert "six hundred" in row[5] and "2 figures; expected 3" in row[5]
 
 
 def test_no_rejected_sheet_when_none(tmp_path):
-    rv = make_review(rejected=[])
+    rv = make_review(rejected_row=False)
     (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
     wb = openpyxl.load_workbook(path)
     assert "Rejected rows" not in wb.sheetnames
