@@ -17,7 +17,7 @@ import pytest
 
 sys.path.insert(0, str(Path(__file__).parent))
 
-from conftest_report import CAPS, META, base_findings, make_review  # noqa: E402
+from conftest_report import CAPS, META, base_findings, engine_review, make_review  # noqa: E402
 
 from checker.caution import CAUTION  # noqa: E402
 from checker.report import write_outputs  # noqa: E402
@@ -275,3 +275,20 @@ def test_large_schedules_keep_the_worst_caps_in_detail(tmp_path, monkeypatch):
     assert "for 2 of 5 caps, worst first" in text
     rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
     assert rows == [c[0] for c in CAPS]                # the table still lists every cap
+
+
+def test_engine_review_report_mentions_every_cap(tmp_path):
+    """On the engine's own Review of the invented caps: every cap has its row in the table, its
+    section and its sketch with the piles the engine placed; the rejected row's mark is listed."""
+    rv = engine_review()
+    (path,) = write_outputs(rv, [tmp_path / "r.html"], meta=META)
+    text = path.read_text(encoding="utf-8")
+    tree = _parse(text)
+    marks = rv.caps["mark"].astype(str).tolist()
+    assert marks == [c[0] for c in CAPS]
+    rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
+    assert sorted(rows) == sorted(marks)
+    for m in marks:
+        assert f'id="cap-{m}"' in text and f'href="#cap-{m}"' in text, m
+        assert len(_elements(tree, m, "circle", "pile")) == len(rv.pile_xy[m]) == PILES[m], m
+    assert "PC9" in text

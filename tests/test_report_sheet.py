@@ -10,7 +10,7 @@ import pytest
 
 sys.path.insert(0, str(Path(__file__).parent))
 
-from conftest_report import META, base_findings, make_review  # noqa: E402
+from conftest_report import META, base_findings, engine_review, make_review  # noqa: E402
 
 from checker.caution import CAUTION  # noqa: E402
 from checker.findings import count_by_severity  # noqa: E402
@@ -290,3 +290,24 @@ def test_all_checks_cap_says_what_it_left_out(tmp_path, monkeypatch):
     assert len(rows) == 5 and all(r[3] != "ok" for r in rows)   # worst first
     assert f"first 5 of {len(rv.findings)} results" in ws["A1"].value and CAUTION in ws["A1"].value
     assert len([r for r in wb["Comments"].iter_rows(min_row=3, values_only=True) if r[0]]) == 9
+
+
+def test_engine_review_every_issue_is_one_comment(tmp_path):
+    """On the engine's own Review of the invented caps (its findings, not a controlled list): every
+    result that is not ok becomes exactly one comment, and the sheet's comment rows are exactly those."""
+    rv = engine_review()
+    issues = rv.findings[rv.findings["severity"] != "ok"]
+    assert set(issues["severity"]) == {"unsafe", "non-compliant", "query", "advisory"}
+    comments = build_comments(rv)
+    assert len(comments) == len(issues)
+    assert sorted(c.key for c in comments) == sorted(f"{c}/{r}" for c, r in zip(issues["cap"], issues["rule"]))
+    (path,) = write_outputs(rv, [tmp_path / "comments.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    rows = _comment_rows(wb["Comments"])
+    keys = [r["Key"] for r in rows]
+    assert len(rows) == len(issues) and len(set(keys)) == len(keys)
+    assert keys == [c.key for c in comments]
+    assert [r["No."] for r in rows] == list(range(1, len(issues) + 1))
+    # the engine's remedy beside a comment it can clear
+    assert "cap length 2600 -> 2700 mm" in {r["Key"]: r for r in rows}["PC1/edge-distance"]["Would pass with"]
+    wb.close()
