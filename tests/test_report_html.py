@@ -9,19 +9,15 @@ import os
 import re
 import shutil
 import subprocess
-import sys
 from html.parser import HTMLParser
 from pathlib import Path
 
 import pytest
+from conftest_report import CAPS, META, base_findings, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import CAPS, META, base_findings, engine_review, make_review  # noqa: E402
-
-from checker.caution import CAUTION  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.report.svg import cap_sketch  # noqa: E402
+from checker.caution import CAUTION
+from checker.report import write_outputs
+from checker.report.svg import cap_sketch
 
 PILES = {c[0]: c[1] for c in CAPS}
 

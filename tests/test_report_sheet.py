@@ -2,20 +2,16 @@
 
 from __future__ import annotations
 
-import sys
 from pathlib import Path
 
 import openpyxl
 import pytest
+from conftest_report import META, base_findings, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import META, base_findings, engine_review, make_review  # noqa: E402
-
-from checker.caution import CAUTION  # noqa: E402
-from checker.findings import count_by_severity  # noqa: E402
-from checker.report import load_project_file, resolve_meta, write_outputs  # noqa: E402
-from checker.report.comments import (  # noqa: E402
+from checker.caution import CAUTION
+from checker.findings import count_by_severity
+from checker.report import load_project_file, resolve_meta, write_outputs
+from checker.report.comments import (
     COMMENT_HEADINGS,
     DATA_MARKER,
     NOT_A_SAFETY_CLAIM,

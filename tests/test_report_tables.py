@@ -3,18 +3,13 @@
 from __future__ import annotations
 
 import csv
-import sys
-from pathlib import Path
 
 import pandas as pd
+from conftest_report import META, base_findings, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import META, base_findings, engine_review, make_review  # noqa: E402
-
-from checker.caution import CAUTION  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.report.comments import COMMENT_HEADINGS, build_comments  # noqa: E402
+from checker.caution import CAUTION
+from checker.report import write_outputs
+from checker.report.comments import COMMENT_HEADINGS, build_comments
 
 
 def test_csv(tmp_path):

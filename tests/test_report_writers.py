@@ -6,20 +6,16 @@ from __future__ import annotations
 
 import json
 import math
-import sys
 from pathlib import Path
 
 import pytest
+from bench_engine import synthetic_schedule  # invented caps
+from conftest_report import META, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent / "benchmarks"))
-
-from bench_engine import synthetic_schedule  # noqa: E402  (invented caps)
-from conftest_report import META, engine_review, make_review  # noqa: E402
-
-import checker  # noqa: E402
-from checker.findings import comment_records, records, sort_findings, source_of  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.report.json_out import (  # noqa: E402
+import checker
+from checker.findings import comment_records, records, sort_findings, source_of
+from checker.report import write_outputs
+from checker.report.json_out import (
     dumps,
     to_document,
     variants_record,
