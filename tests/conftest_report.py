@@ -1,42 +1,38 @@
-"""A small synthetic Review for the report and revision tests (invented data, no real project).
+"""The Review the report and revision tests read: the real engine's, on invented caps (no real project).
 
-The real engine is being written at the same time; these tests build the Review by hand so that
-the writers can be checked on their own. Standard layouts follow the brief's table (pile centres
-relative to the column centre, spacing s).
+The invented caps (``CAPS``) are written as a schedule file (a CSV, or a workbook when the submission
+name ends in ``.xlsx``: a title line, the heading row, one row per cap at the row its tuple names, a
+blank row and one row the engine rejects) and checked with :func:`checker.review`. Everything that
+describes the schedule and the rules comes from that run: the canonical caps frame, the pile centres
+(``checker.geometry`` standard layouts), the profile's name, parameters and sources, the rules, the
+rows read, the rejected row, the derived quantities and the working.
+
+- :func:`engine_review` is that Review unmodified (the engine's own findings and remedy).
+- :func:`make_review` puts a controlled list of findings rows (:func:`base_findings`, changed with
+  :func:`set_result`) in place of the engine's findings, so that the writer and revision tests choose
+  the severity of each comment, revision after revision. Each check's verdict line in the working
+  follows those rows; the remedy and the method variants, which are results of the engine's own
+  findings, are left out.
 """
 
 from __future__ import annotations
 
+import contextlib
 import copy
+import csv
+import dataclasses
+import functools
 import math
+import re
+import tempfile
+from pathlib import Path
 from typing import Any
 
-import numpy as np
 import pandas as pd
 
+import checker
 from checker.api import Review, WorkingLine
-from checker.findings import FINDING_COLUMNS, sort_findings
-from checker.records import RejectedRow
-
-
-def layout(n: int, s: float) -> np.ndarray:
-    if n == 1:
-        pts = [(0.0, 0.0)]
-    elif n == 2:
-        pts = [(-s / 2, 0.0), (s / 2, 0.0)]
-    elif n == 3:
-        pts = [(0.0, s / math.sqrt(3)), (-s / 2, -s / (2 * math.sqrt(3))), (s / 2, -s / (2 * math.sqrt(3)))]
-    elif n == 4:
-        pts = [(-s / 2, s / 2), (s / 2, s / 2), (-s / 2, -s / 2), (s / 2, -s / 2)]
-    elif n == 5:
-        a = s / math.sqrt(2)
-        pts = [(-a, a), (a, a), (0.0, 0.0), (-a, -a), (a, -a)]
-    elif n == 6:
-        pts = [(x, y) for y in (s / 2, -s / 2) for x in (-s, 0.0, s)]
-    else:
-        raise ValueError(n)
-    return np.array(pts, dtype=float)
-
+from checker.findings import FINDING_COLUMNS, Severity, sort_findings
 
 # mark, piles, pile_dia, spacing, L, W, h, column (x, y, round), n_ed kN, bars_x, bars_y, row
 CAPS = [
@@ -47,56 +43,102 @@ CAPS = [
     ("PC5", 6, 600, 1800, 4500, 2100, 1400, (900, 500, False), 8600, "18H25", "12H20", 7),
 ]
 
-
-def caps_frame(caps=CAPS, src_file: str = "ashgrove-caps-rev1.csv") -> pd.DataFrame:
-    rows = []
-    for mark, n, d, s, L, W, h, (cx, cy, rnd), ned, bx, by, row in caps:
-        rows.append(dict(
-            mark=mark, piles=float(n), pile_dia=float(d), pile_spacing=float(s),
-            cap_length=float(L), cap_width=float(W), cap_depth=float(h),
-            column_x=float(cx), column_y=float(cy), column_round=rnd, n_ed=ned * 1000.0,
-            concrete="C32/40", fck=32.0, fyk=500.0, cover=75.0, bars_x=bx, bars_y=by,
-            src_file=src_file, src_sheet=None, src_page=None, src_row=row,
-        ))
-    return pd.DataFrame(rows)
+SUBMISSION = "ashgrove-caps-rev1.csv"
+TITLE = "Ashgrove Lane pumping station: pile cap schedule (invented)"
+HEADINGS = ["Cap ref", "No. of piles", "Pile dia (mm)", "Pile centres (mm)", "Cap size L x W x D (mm)",
+            "Column (mm)", "NEd (kN)", "Concrete", "Cover (mm)", "Bottom bars X", "Bottom bars Y"]
+#: a row the engine rejects (a pile diameter in words, a cap size without its depth), after a blank row
+REJECTED_ROW = ("PC9", 4, "six hundred", 1800, "2600 x 2600", "600x600", 5200, "C32/40", 75, "10H25", "10H25")
+REJECTED_AT = 9
 
 
-def _f(cap, rule, severity, value, limit, unit, util, message, *, title=None, clause=None,
-       action="", row=None):
+def _cells(cap) -> list[Any]:
+    mark, n, d, s, L, W, h, (cx, cy, rnd), ned, bx, by, _row = cap
+    column = f"{cx} dia" if rnd else f"{cx}x{cy}"
+    return [mark, n, d, s if n > 1 else "", f"{L} x {W} x {h}", column, ned, "C32/40", 75, bx, by]
+
+
+def schedule_rows(caps=CAPS, *, rejected_row: bool = True) -> list[list[Any]]:
+    """The schedule as a person would type it: row 1 a title, row 2 the headings, each cap in the row
+    its tuple names, then (``rejected_row``) a blank row and a row the engine rejects at row 9."""
+    rows: list[list[Any]] = [[TITLE], list(HEADINGS)]
+    for cap in sorted(caps, key=lambda c: c[-1]):
+        while len(rows) < cap[-1] - 1:
+            rows.append([])
+        rows.append(_cells(cap))
+    if rejected_row:
+        while len(rows) < REJECTED_AT - 1:
+            rows.append([])
+        rows.append(list(REJECTED_ROW))
+    return rows
+
+
+def _write_schedule(path: Path, rows: list[list[Any]]) -> None:
+    if path.suffix.lower() == ".xlsx":
+        import openpyxl
+
+        wb = openpyxl.Workbook()
+        ws = wb.active
+        ws.title = "Caps"
+        for r, vals in enumerate(rows, start=1):
+            for c, v in enumerate(vals, start=1):
+                ws.cell(row=r, column=c).value = v
+        wb.save(path)
+    else:
+        with open(path, "w", encoding="utf-8", newline="") as fh:
+            csv.writer(fh).writerows(rows)
+
+
+@functools.lru_cache(maxsize=64)
+def _engine(caps: tuple, submission: str, rejected_row: bool) -> Review:
+    """``checker.review`` of the invented caps written as the file ``submission`` (read under that bare
+    name, as a user in its folder would give it, so the sources name the file and not a temporary
+    folder). Cached: the tests share one run per schedule and only ever get copies (:func:`_copy`)."""
+    with tempfile.TemporaryDirectory() as folder:
+        _write_schedule(Path(folder) / submission, schedule_rows(list(caps), rejected_row=rejected_row))
+        with contextlib.chdir(folder):
+            rv = checker.review(submission)
+    got = dict(zip(rv.caps["mark"].astype(str), rv.caps["src_row"]))
+    assert got == {str(c[0]): c[-1] for c in caps}, f"the engine read other caps or rows: {got}"
+    return rv
+
+
+def _copy(rv: Review, **changes: Any) -> Review:
+    """A Review a test may change without touching the cached run."""
+    fresh: dict[str, Any] = dict(
+        findings=rv.findings.copy(), caps=rv.caps.copy(), rejected=list(rv.rejected),
+        profile_params=dict(rv.profile_params), profile_sources=dict(rv.profile_sources),
+        rules=list(rv.rules), pile_xy={k: v.copy() for k, v in rv.pile_xy.items()},
+        quantities=dict(rv.quantities), notes=list(rv.notes), skipped=list(rv.skipped),
+        table_problems=list(rv.table_problems), unused_headings=list(rv.unused_headings),
+        variants=dict(rv.variants),
+    )
+    fresh.update(changes)
+    return dataclasses.replace(rv, **fresh)
+
+
+def engine_review(caps=CAPS, *, submission: str = SUBMISSION, rejected_row: bool = True) -> Review:
+    """The engine's own Review of the invented caps, findings and remedy included, unmodified."""
+    return _copy(_engine(tuple(caps), submission, rejected_row))
+
+
+@functools.lru_cache(maxsize=1)
+def _rule_texts() -> dict[str, tuple[str, str]]:
+    """rule id -> (title, clause), from the rules the engine applied."""
+    return {r.id: (r.title, r.clause) for r in _engine(tuple(CAPS), SUBMISSION, True).rules}
+
+
+def _f(cap, rule, severity, value, limit, unit, util, message, *, action="", row=None):
+    title, clause = _rule_texts()[rule]   # a KeyError here: not a rule id of the rule files
     return dict(
-        cap=cap, rule=rule, title=title or RULE_TITLES.get(rule, rule), severity=severity,
-        clause=clause or RULE_CLAUSES.get(rule, ""), value=value, limit=limit, unit=unit,
-        utilisation=util, message=message, action=action,
-        src_file="ashgrove-caps-rev1.csv", src_sheet=None, src_page=None, src_row=row,
+        cap=cap, rule=rule, title=title, severity=severity, clause=clause, value=value, limit=limit,
+        unit=unit, utilisation=util, message=message, action=action,
+        src_file=SUBMISSION, src_sheet=None, src_page=None, src_row=row,
     )
 
 
-RULE_TITLES = {
-    "pile-spacing": "Pile spacing at least 3 pile diameters",
-    "edge-distance": "Cap edge beyond the pile face",
-    "pile-embedment": "Pile head embedded in the cap",
-    "strut-angle": "Strut inclination",
-    "tie-steel-x": "Tie steel along x",
-    "punching-column": "Compression at the column face",
-    "stated-vs-checked": "Designer's figures against the re-check",
-    "bar-spacing": "Clear spacing of the bottom bars",
-    "pile-in-plan": "Pile inside the cap outline",
-}
-RULE_CLAUSES = {
-    "pile-spacing": "common practice",
-    "edge-distance": "common practice",
-    "pile-embedment": "common practice",
-    "strut-angle": "EN 1992-1-1 6.5",
-    "tie-steel-x": "EN 1992-1-1 6.5.3",
-    "punching-column": "EN 1992-1-1 6.4.5 (3)",
-    "stated-vs-checked": "re-check",
-    "bar-spacing": "EN 1992-1-1 8.2",
-    "pile-in-plan": "common practice",
-}
-
-
 def base_findings() -> list[dict[str, Any]]:
-    """Invented results: some ok, some comments of every severity."""
+    """Invented results on real rule ids: some ok, some comments of every severity."""
     F = []
     # PC1: edge distance short on all four corner piles
     F += [
@@ -144,39 +186,48 @@ def base_findings() -> list[dict[str, Any]]:
     return F
 
 
-def working_lines(mark: str) -> list[WorkingLine]:
-    return [
-        WorkingLine("geometry", f"{mark}: pile centres from the standard layout"),
-        WorkingLine("tie-steel-x", "T = N_Ed * l / (n * z)   (invented trace line)"),
-        WorkingLine("tie-steel-x", "As,req = T / (fyk / 1.15)"),
-    ]
+#: the verdict line the engine ends each check's working with (checker.ruleset.evaluate.working_lines)
+_VERDICT = re.compile(r"^\s*-> (?:%s): " % "|".join(re.escape(s.value) for s in Severity))
 
 
-def make_review(findings: list[dict[str, Any]] | None = None, caps=CAPS, *,
-                rejected: list[RejectedRow] | None = None,
-                submission: str = "ashgrove-caps-rev1.csv") -> Review:
+def _with_verdicts(rv: Review, findings: pd.DataFrame) -> tuple[Any, Any]:
+    """The engine's working of each cap with each check's verdict line taken from ``findings``."""
+    verdict = {(str(c), str(r)): f"  -> {s}: {m}" for c, r, s, m in zip(
+        findings["cap"], findings["rule"], findings["severity"], findings["message"])}
+
+    def working(mark: str) -> list[WorkingLine]:
+        by_rule: dict[str, list[WorkingLine]] = {}
+        for line in rv.working(mark):
+            if not _VERDICT.match(line.text):
+                by_rule.setdefault(line.rule, []).append(line)
+        out = []
+        for rule, lines in by_rule.items():
+            out += lines
+            if (str(mark), rule) in verdict:
+                out.append(WorkingLine(rule, verdict[str(mark), rule]))
+        return out
+
+    def working_many(marks: list[str]) -> dict[str, dict[str, list[str]]] | None:
+        many = rv.working_by_rule(marks)
+        if many is None:
+            return None
+        return {m: {rule: [t for t in lines if not _VERDICT.match(t)]
+                    + ([verdict[m, rule].strip()] if (m, rule) in verdict else [])
+                    for rule, lines in per_rule.items()} for m, per_rule in many.items()}
+
+    return working, working_many
+
+
+def make_review(findings: list[dict[str, Any]] | None = None, caps=CAPS, *, rejected_row: bool = True,
+                submission: str = SUBMISSION) -> Review:
+    """The engine's Review of ``caps`` (written as the file ``submission``; ``rejected_row``: with the
+    row it rejects) with ``findings`` (default :func:`base_findings`) in place of its findings."""
+    engine = _engine(tuple(caps), submission, rejected_row)
     rows = copy.deepcopy(findings if findings is not None else base_findings())
     frame = pd.DataFrame(rows, columns=list(FINDING_COLUMNS))
     frame = sort_findings(frame) if len(frame) else frame
-    caps_df = caps_frame(caps, src_file=submission)
-    pile_xy = {c[0]: layout(c[1], c[3]) for c in caps}
-    if rejected is None:
-        rejected = [RejectedRow({"file": submission, "sheet": None, "page": None, "row": 9},
-                                ("pile_dia: 'six hundred' is not a number", "cap_depth missing"), "PC9")]
-    return Review(
-        findings=frame,
-        caps=caps_df,
-        rejected=rejected,
-        rows_read=len(caps) + len(rejected),
-        profile_name="uk-na",
-        profile_params={},
-        profile_sources={},
-        rules=[],
-        submission=submission,
-        rules_dir="rules/",
-        pile_xy=pile_xy,
-        _working=working_lines,
-    )
+    working, working_many = _with_verdicts(engine, frame)
+    return _copy(engine, findings=frame, remedy=None, variants={}, _working=working, _working_many=working_many)
 
 
 def set_result(findings: list[dict[str, Any]], cap: str, rule: str, **changes) -> list[dict[str, Any]]:

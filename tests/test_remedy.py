@@ -164,10 +164,6 @@ def _bad(rv, mark, base):
 
 
 def _random_caps(n, seed):
-    import sys
-    from pathlib import Path
-
-    sys.path.insert(0, str(Path(__file__).parent / "benchmarks"))
     from bench_engine import synthetic_schedule
 
     df = synthetic_schedule(n, seed=seed)

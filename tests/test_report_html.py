@@ -9,19 +9,15 @@ import os
 import re
 import shutil
 import subprocess
-import sys
 from html.parser import HTMLParser
 from pathlib import Path
 
 import pytest
+from conftest_report import CAPS, META, base_findings, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import CAPS, META, base_findings, make_review  # noqa: E402
-
-from checker.caution import CAUTION  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.report.svg import cap_sketch  # noqa: E402
+from checker.caution import CAUTION
+from checker.report import write_outputs
+from checker.report.svg import cap_sketch
 
 PILES = {c[0]: c[1] for c in CAPS}
 
@@ -99,7 +95,11 @@ def test_caution_summary_and_caps_table(report):
     rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
     assert rows == [c[0] for c in CAPS]
     assert 'href="#cap-PC5"' in text and 'id="cap-PC5"' in text
-    assert "Working" in text and "As,req = T / (fyk / 1.15)" in text
+    # the engine's working of a check, its verdict line from the findings row
+    tie = [ln.text.strip() for ln in rv.working("PC2") if ln.rule == "tie-steel-x"]
+    assert "Working" in text and any(t.startswith("As,req = T/fyd") for t in tie)
+    assert tie[-1] == "-> unsafe: As,prov 4825 mm² < As,req 5560 mm² for T = 2418 kN"
+    assert all(t in html.unescape(text) for t in tie)
 
 
 def test_print_css(report):
@@ -271,3 +271,20 @@ def test_large_schedules_keep_the_worst_caps_in_detail(tmp_path, monkeypatch):
     assert "for 2 of 5 caps, worst first" in text
     rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
     assert rows == [c[0] for c in CAPS]                # the table still lists every cap
+
+
+def test_engine_review_report_mentions_every_cap(tmp_path):
+    """On the engine's own Review of the invented caps: every cap has its row in the table, its
+    section and its sketch with the piles the engine placed; the rejected row's mark is listed."""
+    rv = engine_review()
+    (path,) = write_outputs(rv, [tmp_path / "r.html"], meta=META)
+    text = path.read_text(encoding="utf-8")
+    tree = _parse(text)
+    marks = rv.caps["mark"].astype(str).tolist()
+    assert marks == [c[0] for c in CAPS]
+    rows = [a["data-cap"] for t, a in tree.tags if t == "tr" and "data-cap" in a]
+    assert sorted(rows) == sorted(marks)
+    for m in marks:
+        assert f'id="cap-{m}"' in text and f'href="#cap-{m}"' in text, m
+        assert len(_elements(tree, m, "circle", "pile")) == len(rv.pile_xy[m]) == PILES[m], m
+    assert "PC9" in text

@@ -2,20 +2,16 @@
 
 from __future__ import annotations
 
-import sys
 from pathlib import Path
 
 import openpyxl
 import pytest
+from conftest_report import META, base_findings, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import META, base_findings, make_review  # noqa: E402
-
-from checker.caution import CAUTION  # noqa: E402
-from checker.findings import count_by_severity  # noqa: E402
-from checker.report import load_project_file, resolve_meta, write_outputs  # noqa: E402
-from checker.report.comments import (  # noqa: E402
+from checker.caution import CAUTION
+from checker.findings import count_by_severity
+from checker.report import load_project_file, resolve_meta, write_outputs
+from checker.report.comments import (
     COMMENT_HEADINGS,
     DATA_MARKER,
     NOT_A_SAFETY_CLAIM,
@@ -217,17 +213,20 @@ def test_all_checks_has_every_result(sheet):
 
 
 def test_rejected_rows_sheet(sheet):
-    _, wb = sheet
+    rv, wb = sheet
     ws = wb["Rejected rows"]
     assert _headings(ws) == ["File", "Sheet", "Page", "Row", "Mark", "Reasons"]
     row = next(ws.iter_rows(min_row=3, max_row=3, values_only=True))
     assert row[0] == "ashgrove-caps-rev1.csv" and row[3] == 9
     assert row[4] == "PC9"                                           # the mark, when it was read
-    assert "six hundred" in row[5] and "cap_depth missing" in row[5]
+    # both of the engine's reasons: the pile diameter in words, the cap size without its depth
+    (rejected,) = rv.rejected
+    assert row[5] == "\n".join(rejected.errors)
+    assert "six hundred" in row[5] and "2 figures; expected 3" in row[5]
 
 
 def test_no_rejected_sheet_when_none(tmp_path):
-    rv = make_review(rejected=[])
+    rv = make_review(rejected_row=False)
     (path,) = write_outputs(rv, [tmp_path / "c.xlsx"], meta=META)
     wb = openpyxl.load_workbook(path)
     assert "Rejected rows" not in wb.sheetnames
@@ -287,3 +286,24 @@ def test_all_checks_cap_says_what_it_left_out(tmp_path, monkeypatch):
     assert len(rows) == 5 and all(r[3] != "ok" for r in rows)   # worst first
     assert f"first 5 of {len(rv.findings)} results" in ws["A1"].value and CAUTION in ws["A1"].value
     assert len([r for r in wb["Comments"].iter_rows(min_row=3, values_only=True) if r[0]]) == 9
+
+
+def test_engine_review_every_issue_is_one_comment(tmp_path):
+    """On the engine's own Review of the invented caps (its findings, not a controlled list): every
+    result that is not ok becomes exactly one comment, and the sheet's comment rows are exactly those."""
+    rv = engine_review()
+    issues = rv.findings[rv.findings["severity"] != "ok"]
+    assert set(issues["severity"]) == {"unsafe", "non-compliant", "query", "advisory"}
+    comments = build_comments(rv)
+    assert len(comments) == len(issues)
+    assert sorted(c.key for c in comments) == sorted(f"{c}/{r}" for c, r in zip(issues["cap"], issues["rule"]))
+    (path,) = write_outputs(rv, [tmp_path / "comments.xlsx"], meta=META)
+    wb = openpyxl.load_workbook(path)
+    rows = _comment_rows(wb["Comments"])
+    keys = [r["Key"] for r in rows]
+    assert len(rows) == len(issues) and len(set(keys)) == len(keys)
+    assert keys == [c.key for c in comments]
+    assert [r["No."] for r in rows] == list(range(1, len(issues) + 1))
+    # the engine's remedy beside a comment it can clear
+    assert "cap length 2600 -> 2700 mm" in {r["Key"]: r for r in rows}["PC1/edge-distance"]["Would pass with"]
+    wb.close()

@@ -3,18 +3,13 @@
 from __future__ import annotations
 
 import csv
-import sys
-from pathlib import Path
 
 import pandas as pd
+from conftest_report import META, base_findings, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import META, base_findings, make_review  # noqa: E402
-
-from checker.caution import CAUTION  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.report.comments import COMMENT_HEADINGS, build_comments  # noqa: E402
+from checker.caution import CAUTION
+from checker.report import write_outputs
+from checker.report.comments import COMMENT_HEADINGS, build_comments
 
 
 def test_csv(tmp_path):
@@ -36,6 +31,21 @@ def test_csv(tmp_path):
     assert list(frame.columns) == list(COMMENT_HEADINGS)
     assert frame["Key"].is_unique
     assert "mm²" in " ".join(frame["Found"])
+
+
+def test_engine_review_csv_and_markdown_have_one_row_a_comment(tmp_path):
+    """On the engine's own Review of the invented caps: one row per result that is not ok, keyed uniquely."""
+    rv = engine_review()
+    n_issues = int((rv.findings["severity"] != "ok").sum())
+    csv_path, md_path = write_outputs(rv, [tmp_path / "c.csv", tmp_path / "c.md"], meta=META)
+    frame = pd.read_csv(csv_path, skiprows=1, encoding="utf-8-sig")
+    assert len(frame) == n_issues == len(build_comments(rv))
+    assert frame["Key"].is_unique
+    assert set(frame["Key"]) == {f"{c}/{r}" for c, r, s in zip(rv.findings["cap"], rv.findings["rule"],
+                                                               rv.findings["severity"]) if s != "ok"}
+    text = md_path.read_text(encoding="utf-8")
+    table = [ln for ln in text.splitlines() if ln.startswith("| ") and not ln.startswith("| No.")]
+    assert len(table) == n_issues
 
 
 def test_markdown(tmp_path):

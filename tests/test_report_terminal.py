@@ -5,21 +5,16 @@ from __future__ import annotations
 
 import io
 import re
-import sys
-from pathlib import Path
 
 import pytest
+from bench_engine import synthetic_schedule  # invented caps
 from rich.console import Console
 
-sys.path.insert(0, str(Path(__file__).parent / "benchmarks"))
-
-from bench_engine import synthetic_schedule  # noqa: E402  (invented caps)
-
-import checker  # noqa: E402
-from checker.caution import CAUTION  # noqa: E402
-from checker.cli import main  # noqa: E402
-from checker.report.palette import LIST_ALL_UP_TO  # noqa: E402
-from checker.report.terminal import print_findings  # noqa: E402
+import checker
+from checker.caution import CAUTION
+from checker.cli import main
+from checker.report.palette import LIST_ALL_UP_TO
+from checker.report.terminal import print_findings
 
 N_CAPS = LIST_ALL_UP_TO + 20
 

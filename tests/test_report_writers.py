@@ -6,18 +6,16 @@ from __future__ import annotations
 
 import json
 import math
-import sys
 from pathlib import Path
 
 import pytest
+from bench_engine import synthetic_schedule  # invented caps
+from conftest_report import META, engine_review, make_review
 
-sys.path.insert(0, str(Path(__file__).parent / "benchmarks"))
-
-from bench_engine import synthetic_schedule  # noqa: E402  (invented caps)
-
-import checker  # noqa: E402
-from checker.findings import comment_records, records, sort_findings, source_of  # noqa: E402
-from checker.report.json_out import (  # noqa: E402
+import checker
+from checker.findings import comment_records, records, sort_findings, source_of
+from checker.report import write_outputs
+from checker.report.json_out import (
     dumps,
     to_document,
     variants_record,
@@ -26,10 +24,12 @@ from checker.report.json_out import (  # noqa: E402
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_submissions" / "harbourside-rev-A.csv"
 
 
-@pytest.fixture(scope="module", params=["sample", "generated"])
+@pytest.fixture(scope="module", params=["sample", "generated", "controlled"])
 def review(request):
     if request.param == "sample":
         return checker.review(SAMPLE)
+    if request.param == "controlled":   # the report tests' Review: the engine's, with controlled findings
+        return make_review()
     return checker.review(synthetic_schedule(120, seed=11))
 
 
@@ -101,3 +101,18 @@ def test_records_and_comment_records_match_pandas(review):
     assert json.dumps(records(f), default=str) == json.dumps(f.to_dict("records"), default=str)
     expected = [r for r in sort_findings(f).to_dict("records") if r["severity"] != "ok"]
     assert json.dumps(comment_records(f), default=str) == json.dumps(expected, default=str)
+
+
+def test_engine_review_json_conforms_to_the_schema(tmp_path, findings_json):
+    """On the engine's own Review of the invented caps: the JSON written (with the working) conforms
+    to the published schema and carries every result, every cap, the rejected row and the remedies."""
+    rv = engine_review()
+    (path,) = write_outputs(rv, [tmp_path / "findings.json"], meta=META)
+    doc = findings_json(json.loads(path.read_text(encoding="utf-8")))
+    assert len(doc["results"]) == len(rv.findings)
+    assert [r["cap"] for r in doc["results"]] == rv.findings["cap"].astype(str).tolist()
+    assert {r["cap"] for r in doc["results"]} == set(rv.caps["mark"].astype(str))
+    assert all(r["working"] for r in doc["results"])
+    assert [r["mark"] for r in doc["rejected"]] == ["PC9"]
+    assert doc["summary"]["caps_checked"] == len(rv.caps) and doc["summary"]["rows_rejected"] == 1
+    assert doc["remedies"]

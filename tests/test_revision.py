@@ -5,22 +5,18 @@ caps, and never drop a response a person typed."""
 from __future__ import annotations
 
 import copy
-import sys
 import tempfile
 from pathlib import Path
 
 import openpyxl
 import pytest
+from conftest_report import CAPS, META, base_findings, make_review, set_result, without_cap
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import CAPS, META, base_findings, make_review, set_result, without_cap  # noqa: E402
-
-from checker.ingest.errors import IngestError  # noqa: E402
-from checker.report import write_outputs  # noqa: E402
-from checker.revision import (  # noqa: E402
+from checker.ingest.errors import IngestError
+from checker.report import write_outputs
+from checker.revision import (
     PreviousSheetError,
     carry_over,
     next_revision,

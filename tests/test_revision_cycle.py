@@ -8,14 +8,10 @@ from __future__ import annotations
 import datetime
 import json
 import shutil
-import sys
 from pathlib import Path
 
 import openpyxl
 import pytest
-
-sys.path.insert(0, str(Path(__file__).parent))
-
 from conftest_report import (
     CAPS,
     META,

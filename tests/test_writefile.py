@@ -4,17 +4,13 @@ from __future__ import annotations
 
 import os
 import stat
-import sys
 from pathlib import Path
 
 import pytest
+from conftest_report import META, make_review
 
-sys.path.insert(0, str(Path(__file__).parent))
-
-from conftest_report import META, make_review  # noqa: E402
-
-from checker.report import write_outputs  # noqa: E402
-from checker.report.writefile import next_free_name, write_atomic, write_atomic_via_path  # noqa: E402
+from checker.report import write_outputs
+from checker.report.writefile import next_free_name, write_atomic, write_atomic_via_path
 
 
 def _leftovers(folder: Path) -> list[str]:
