@@ -252,3 +252,9 @@ def test_cut_off_completion_is_never_used_to_find_the_heading_row():
     such as 'Pile capac' must not make a row of figures look like headings."""
     assert match_heading("Pile capac")[0] is None
     assert match_heading("Pile capac", cut_off=True)[0] == "pile_capacity"
+
+
+@pytest.mark.parametrize("heading", ["Pile cap'y (kN)", "Pile capcty", "Cap'y"])
+def test_capacity_written_abbreviated_is_read(heading):
+    """'Cap'y' is the usual short form of capacity in a schedule's heading (common practice)."""
+    assert match_heading(heading)[0] == "pile_capacity"

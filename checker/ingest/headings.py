@@ -89,7 +89,7 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
     **dict.fromkeys(("cx",), ("column", "x")),
     **dict.fromkeys(("cy",), ("column", "y")),
     **dict.fromkeys(("ult", "ultimate"), ("uls",)),
-    **dict.fromkeys(("resistance",), ("capacity",)),
+    **dict.fromkeys(("resistance", "capy", "capcty", "cpcty"), ("capacity",)),   # Cap'y, Capcty
     **dict.fromkeys(("reaction", "reactions", "loads"), ("load",)),
     **dict.fromkeys(("sls", "service", "serviceability", "characteristic", "char", "unfactored", "working"),
                     ("sls",)),
