@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import csv
 import os
+from dataclasses import replace
 from pathlib import Path
 
 import pdfgen
@@ -234,6 +235,53 @@ def test_spanned_heading_rules_inside_the_first_row_of_a_continuation_page(case,
     assert_reads_as(tables, exp)
     assert exp.pages[-1] == 2 and exp.row_numbers[-1] == 1
     assert notes == ["page 2: no heading row; read as a continuation of the table from page 1"]
+
+
+# Falsifying examples of test_random_schedules_read_back (run without CI): unruled, a title box,
+# the bar cells wrapped over two lines, 24 rows and no page break asked for. The generator drew
+# every row on page 1, past the page's bottom edge; the reader reads what is printed and dropped
+# the glyphs outside the page without a word, so rows went missing silently: on a landscape page
+# the wrapped second line of the last row ('H20@150' read for 'H20@150 B1'), on a portrait page
+# with a spacer after every row the last four rows (20 read for 24). Now the generator breaks the
+# page when it is full, as a program that prints a table does, and both read back; drawn as found
+# (``overflow``), what lies outside the page is named in a note.
+_OFF_PAGE = {
+    "wrapped_line_of_the_last_row": dict(
+        cols="wide", spacer_every=0, printed=24, cut={"Bars X": "H20@150", "Bars Y": "H20@125"},
+        below="1 line(s) below its bottom edge: 'B1  B2'"),
+    "last_rows": dict(
+        cols="span", spacer_every=1, printed=20, cut={},
+        below="8 line(s) below its bottom edge: 'PC21  1  750  2250  1050  1050  2100  750x600  "
+              "5700  C30/...', 'B1  B2', 'PC22"),
+}
+
+
+@pytest.mark.parametrize("overflow", [False, True], ids=["page_breaks", "drawn_off_the_page"])
+@pytest.mark.parametrize("case", sorted(_OFF_PAGE))
+def test_rows_drawn_past_the_bottom_of_the_page(case, overflow, tmp_path):
+    k = _OFF_PAGE[case]
+    spec = pdfgen.Spec(style="none", cols=k["cols"], n_rows=24, seed=24,
+                       spacer_every=k["spacer_every"], wrap=True, title=False, title_box=True,
+                       notes=False, revision="", head_align="left", head_valign="top",
+                       cell_valign="top", rows_per_page=None, repeat_heading=False, touch=False,
+                       page="landscape" if k["cols"] == "wide" else "portrait", overflow=overflow)
+    exp = pdfgen.reportlab_pdf(tmp_path / "s.pdf", spec)
+    tables, notes = read_pdf_tables(exp.path)
+    if not overflow:
+        assert_reads_as(tables, exp)
+        assert max(exp.pages) == 2
+        assert not any("outside the page" in n for n in notes), notes
+        return
+    n = k["printed"]
+    rows = [list(r) for r in exp.rows[:n]]
+    for heading, value in k["cut"].items():
+        rows[-1][exp.headings.index(heading)] = value
+    assert_reads_as(tables, replace(exp, rows=rows, pages=exp.pages[:n],
+                                    row_numbers=exp.row_numbers[:n]))
+    off = [m for m in notes if "outside the page" in m]
+    assert len(off) == 1 and off[0].startswith(
+        "page 1: text placed outside the page (not printed) was not read: " + k["below"]), notes
+
 
 # --------------------------------------------------------------------------------------------
 # LibreOffice: a spreadsheet exported to PDF by a program that is not ours
@@ -509,3 +557,4 @@ def test_struck_rows_are_skipped_and_struck_cells_noted(tmp_path, rules):
     s = read_schedule(pdf)
     assert {k.text: k.reason for k in s.skipped} == {"PC2": "struck through (read as deleted)"}
     assert [k.source["row"] for k in s.skipped] == [2]
+

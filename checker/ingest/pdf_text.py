@@ -354,6 +354,22 @@ def _median(values: list[float]) -> float:
     return s[n // 2] if n % 2 else (s[n // 2 - 1] + s[n // 2]) / 2.0
 
 
+#: a note naming text that was not read quotes this many lines and this many characters of each:
+#: enough to recognise the rows (a row's mark comes first); the note gives the count of the rest
+QUOTE_LINES = 6
+QUOTE_CHARS = 60
+
+
+def quote_lines(lines: Sequence[Line]) -> str:
+    """Text lines quoted for a note: ``'PC21  1  750 ...', 'PC22  3  600 ...' and 2 more line(s)``."""
+    quoted = []
+    for ln in lines[:QUOTE_LINES]:
+        t = ln.text
+        quoted.append(repr(t if len(t) <= QUOTE_CHARS else t[:QUOTE_CHARS - 3].rstrip() + "..."))
+    rest = len(lines) - len(quoted)
+    return ", ".join(quoted) + (f" and {rest} more line(s)" if rest > 0 else "")
+
+
 def normalise_cell(text: object) -> str:
     """Cell text as one line: runs of whitespace (line breaks of a wrapped cell) -> one blank."""
     if text is None:
