@@ -558,3 +558,63 @@ def test_struck_rows_are_skipped_and_struck_cells_noted(tmp_path, rules):
     assert {k.text: k.reason for k in s.skipped} == {"PC2": "struck through (read as deleted)"}
     assert [k.source["row"] for k in s.skipped] == [2]
 
+
+# --------------------------------------------------------------------------------------------
+# Rows the reader cannot place are named, never dropped silently
+# --------------------------------------------------------------------------------------------
+
+
+def _interrupted_pdf(path: Path, between: str) -> Path:
+    """An unruled schedule of PC1 to PC5 where something after PC2 ends the table as the reader
+    sees it: ``gap``, a blank space of eight rows; ``remark``, PC3 with a remark written across
+    the columns after its mark; ``notes``, a NOTES line and a note before PC3."""
+    from reportlab.pdfgen import canvas
+
+    xs = [50, 110, 170, 240, 310, 380]
+    head = ["Mark", "Piles", "Pile dia (mm)", "Cap L (mm)", "Cap D (mm)", "Concrete"]
+    rows = [[f"PC{k}", "4", "600", "2700", "1200", "C32/40"] for k in range(1, 6)]
+    c = canvas.Canvas(str(path), pagesize=(595, 842))
+    c.setFont("Helvetica", 10.0)
+    y = 780.0
+    for x, h in zip(xs, head):
+        c.drawString(x, y, h)
+    for k, row in enumerate(rows):
+        y -= 16.0
+        if k == 2 and between == "gap":
+            y -= 8 * 16.0
+        if k == 2 and between == "notes":
+            c.drawString(xs[0], y, "NOTES")
+            c.drawString(xs[0], y - 16.0, "1. The caps below are to be confirmed by the engineer.")
+            y -= 32.0
+        if k == 2 and between == "remark":
+            c.drawString(xs[0], y, row[0])
+            c.drawString(xs[1], y, "cap omitted, see revision B and the general arrangement")
+            continue
+        for x, v in zip(xs, row):
+            c.drawString(x, y, v)
+    c.showPage()
+    c.save()
+    return path
+
+
+@pytest.mark.parametrize("between, why, lost", [
+    ("gap", "a gap of more than three rows ('PC3  4  600  2700  1200  C32/40')", 3),
+    ("remark", "text running across the columns ('PC3  cap omitted, see revision B and the "
+               "general arrangement')", 2),
+    ("notes", "notes, revision or title text ('NOTES')", 3),
+])
+def test_rows_below_the_end_of_the_table_are_named_in_a_note(tmp_path, between, why, lost):
+    tables, notes = read_pdf_tables(_interrupted_pdf(tmp_path / "s.pdf", between))
+    assert [r[0] for r in tables[0].rows] == ["PC1", "PC2"]
+    marks = [f"PC{k}" for k in range(6 - lost, 6)]
+    quoted = ", ".join(f"'{m}  4  600  2700  1200  C32/40'" for m in marks)
+    assert notes == [f"page 1: the table ends after 'PC2  4  600  2700  1200  C32/40' at {why}; "
+                     f"{lost} line(s) below that fit its columns were not read: {quoted}"]
+
+
+def test_notes_and_a_revision_box_below_the_table_are_not_taken_for_rows(rl_case):
+    """The note on rows passed over below a table is not given for what usually follows one."""
+    for case in ("title_notes_revision_unruled", "title_notes_ruled_revision_unruled_table",
+                 "title_box_unruled", "title_notes_hrules"):
+        _, notes = read_pdf_tables(rl_case(case).path)
+        assert not any("were not read" in n for n in notes), (case, notes)
