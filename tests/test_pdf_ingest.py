@@ -193,15 +193,46 @@ _settings = settings(max_examples=int(os.environ.get("CAPCHECK_PDF_EXAMPLES", "1
 def test_random_schedules_read_back(tmp_path_factory, style, cols, n_rows, seed, spacer_every,
                                     wrap, title, title_box, notes, revision, head_align, valign,
                                     rows_per_page, repeat):
-    spec = pdfgen.Spec(style=style, cols=cols, n_rows=n_rows, seed=seed,
+    spec = _random_spec(style=style, cols=cols, n_rows=n_rows, seed=seed,
+                        spacer_every=spacer_every, wrap=wrap, title=title, title_box=title_box,
+                        notes=notes, revision=revision, head_align=head_align, valign=valign,
+                        rows_per_page=rows_per_page, repeat=repeat)
+    path = tmp_path_factory.mktemp("hyp") / "s.pdf"
+    exp = pdfgen.reportlab_pdf(path, spec)
+    tables, _ = read_pdf_tables(path)
+    assert_reads_as(tables, exp)
+
+
+def _random_spec(*, style, cols, n_rows, seed, spacer_every, wrap, title, title_box, notes,
+                 revision, head_align, valign, rows_per_page, repeat) -> pdfgen.Spec:
+    """The Spec of one example of test_random_schedules_read_back, from its arguments."""
+    return pdfgen.Spec(style=style, cols=cols, n_rows=n_rows, seed=seed,
                        spacer_every=spacer_every, wrap=wrap, title=title, title_box=title_box,
                        notes=notes, revision=revision, head_align=head_align,
                        head_valign=valign, cell_valign=valign, rows_per_page=rows_per_page,
                        repeat_heading=repeat, touch=cols == "touch",
                        page="landscape" if cols == "wide" else "portrait")
-    path = tmp_path_factory.mktemp("hyp") / "s.pdf"
-    exp = pdfgen.reportlab_pdf(path, spec)
-    tables, _ = read_pdf_tables(path)
+
+
+# Falsifying examples of test_random_schedules_read_back, kept as fixed cases (the arguments as
+# hypothesis printed them). What went wrong is said beside each.
+_PLAIN = dict(style="none", cols="standard", spacer_every=0, wrap=False, title=False,
+              title_box=False, notes=False, revision="", head_align="left", valign="top",
+              rows_per_page=None, repeat=False)
+_FOUND = {
+    # --hypothesis-seed=2: 9 rows at 7 a page, the heading not repeated. Page 2's two rows sit at
+    # the heights of page 1's heading and first row (a heading line is as tall as a row), so page 2
+    # was read as columns printed to the right of page 1 (a sheet printed in strips), headed 'PC8',
+    # '4', '600' ...; a strip's heading holds no values.
+    "continuation_at_the_heights_of_the_heading_and_first_row": dict(
+        _PLAIN, n_rows=9, seed=0, rows_per_page=7),
+}
+
+
+@pytest.mark.parametrize("case", sorted(_FOUND))
+def test_fixed_examples_of_the_random_schedules(case, tmp_path):
+    exp = pdfgen.reportlab_pdf(tmp_path / "s.pdf", _random_spec(**_FOUND[case]))
+    tables, _ = read_pdf_tables(exp.path)
     assert_reads_as(tables, exp)
 
 

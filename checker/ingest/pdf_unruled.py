@@ -861,7 +861,9 @@ def side_table(lines: Sequence[Line], page_no: int, left: PageTable, *,
 
     Every line of the page must sit at the height of a heading line or of a row line of ``left``, at
     least one on the heading's lines and one on the rows'; the lines on the heading's are this strip's
-    headings (as few as one: ``Remarks``); none of them may be a mark column (that is a new table).
+    headings (as few as one: ``Remarks``); none of them may be a mark column (that is a new table)
+    or hold a value (the rows of a page without a heading row that happen to sit at the heights
+    of the heading and rows of the page before are a continuation).
     Returns a PageTable whose rows correspond one to one with ``left.rows`` (blank where the strip has
     nothing on that row)."""
     if not lines or not left.head_tops or not left.row_tops:
@@ -875,6 +877,8 @@ def side_table(lines: Sequence[Line], page_no: int, left: PageTable, *,
         return None
     if max(ln.top for ln in head) > min(ln.top for ln in body):
         return None
+    if any(looks_like_value(w.text) for ln in head for w in ln.words):
+        return None             # values at the heading's height: rows, not a strip's heading
     cells = heading_cells(head)
     if not cells or any(is_mark(c.full_text) for c in cells):
         return None
