@@ -210,9 +210,8 @@ def _paginate(spec: Spec, heights: list[float], room: float, above: float, head_
               spacer_h: float, trailer: float) -> list[list[int]]:
     """Row indices per page, as a program that prints a table breaks it: a page takes rows while
     they fit in ``room`` (the page's height inside its margins) below the title block (``above``)
-    and the heading, at most ``spec.rows_per_page``; the last row also leaves room for the notes and
-    revision box (``trailer``) or goes to a page of its own. Spacer rows (``spacer_h``) sit between
-    the rows of a page only.
+    and the heading and above the notes and revision box (``trailer``, drawn on every page), at most
+    ``spec.rows_per_page``. Spacer rows (``spacer_h``) sit between the rows of a page only.
 
     With ``spec.overflow`` pages break at ``rows_per_page`` alone, so a long table is drawn past the
     page's bottom edge: the text is in the file but a viewer or printer does not show it (a drawing
@@ -227,7 +226,7 @@ def _paginate(spec: Spec, heights: list[float], room: float, above: float, head_
     used = 0.0
     for i, h in enumerate(heights):
         spacer = spacer_h if cur and spec.spacer_every and len(cur) % spec.spacer_every == 0 else 0.0
-        need = used + spacer + h + (trailer if i == n - 1 else 0.0)
+        need = used + spacer + h + trailer
         if cur and (len(cur) >= cap or need > room):
             pages.append(cur)
             cur, spacer = [], 0.0
