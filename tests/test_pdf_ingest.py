@@ -649,3 +649,44 @@ def test_notes_and_a_revision_box_below_the_table_are_not_taken_for_rows(rl_case
                  "title_box_unruled", "title_notes_hrules"):
         _, notes = read_pdf_tables(rl_case(case).path)
         assert not any("were not read" in n for n in notes), (case, notes)
+
+
+def test_rows_with_few_cells_at_the_top_of_a_continuation_page_are_read(tmp_path):
+    """A page without a heading row starts its table at the first line that looks like a row by
+    itself (half the columns filled, so that a title block's line is not taken); PC4 and PC5 above
+    it, with one or two cells filled, were passed over silently. They sit at the row pitch above
+    it (PC5 after a blank spacer row) and are read; the title above them is not."""
+    from reportlab.pdfgen import canvas
+
+    xs = [50, 110, 170, 240, 310, 380]
+    head = ["Mark", "Piles", "Pile dia (mm)", "Cap L (mm)", "Cap D (mm)", "Concrete"]
+
+    def full(k):
+        return [f"PC{k}", "4", "600", "2700", "1200", "C32/40"]
+
+    path = tmp_path / "sparse.pdf"
+    c = canvas.Canvas(str(path), pagesize=(595, 842))
+    c.setFont("Helvetica", 10.0)
+    for x, h in zip(xs, head):
+        c.drawString(x, 780.0, h)
+    for k in range(1, 4):
+        for x, v in zip(xs, full(k)):
+            c.drawString(x, 780.0 - 16.0 * k, v)
+    c.showPage()
+    c.setFont("Helvetica", 10.0)
+    c.drawString(50, 800.0, "PILE CAP SCHEDULE (continued)")
+    page2 = [(780.0, ["PC4", "", "", "", "", "C32/40"]), (748.0, ["PC5", "2", "", "", "", ""]),
+             (732.0, full(6)), (716.0, full(7))]
+    for y, row in page2:
+        for x, v in zip(xs, row):
+            if v:
+                c.drawString(x, y, v)
+    c.showPage()
+    c.save()
+    tables, notes = read_pdf_tables(path)
+    t = tables[0]
+    assert [r[0] for r in t.rows] == [f"PC{k}" for k in range(1, 8)]
+    assert t.rows[3] == ["PC4", "", "", "", "", "C32/40"]
+    assert t.rows[4] == ["PC5", "2", "", "", "", ""]
+    assert t.pages == [1, 1, 1, 2, 2, 2, 2] and t.row_numbers == [1, 2, 3, 1, 2, 3, 4]
+    assert notes == ["page 2: no heading row; read as a continuation of the table from page 1"]

@@ -301,6 +301,33 @@ def _lead_lines(lines: Sequence[Line], idx: int, geo: _Geometry) -> list[Line]:
     return lead
 
 
+#: the body ends at a vertical gap of more than this many row pitches below the last line taken
+#: (one or two blank spacer rows are kept in the table; a wider space separates it from what follows)
+GAP_ROWS = 3.4
+
+
+def _rows_above(lines: Sequence[Line], idx: int, geo: _Geometry, pitch: float) -> list[Line]:
+    """The lines above ``lines[idx]``, the first line on a continuation page that looks like a row
+    by itself (``_row_like``), that belong to the table too: rows with few cells filled (a mark and
+    a value or two) sitting at the table's row pitch above it, each within ``GAP_ROWS`` pitches of
+    the line below, inside the columns and not across two of them, with the wrapped text tight
+    above the topmost mark. A title, notes or revision text ends them (``_stops``)."""
+    chain: list[Line] = []
+    below = lines[idx]
+    for k in range(idx - 1, -1, -1):
+        up = lines[k]
+        if (below.top - up.top > GAP_ROWS * pitch or _stops(up, geo) is not None
+                or not all(geo.inside(w) for w in up.words)):
+            break
+        chain.insert(0, up)
+        below = up
+    marks = [j for j, ln in enumerate(chain) if ln.words[0].x0 < geo.col0_lim]
+    if not marks:
+        return _lead_lines(lines, idx, geo)
+    top = idx - len(chain) + marks[0]          # index in ``lines`` of the topmost mark line
+    return _lead_lines(lines, top, geo) + chain[marks[0]:]
+
+
 def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: list[float], *,
              heading_top: float | None, continuation: bool,
              pitch: float | None = None) -> tuple[list[Line], int, str | None]:
@@ -318,7 +345,7 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
             # the row pitch: steps between rows, not the tight steps of wrapped lines in a row
             steps = [d for d in diffs if d > 1.3 * ln.size]
             est = _median(steps) if steps else 1.8 * max(ln.size, 1.0)
-            limit = (3.4 if accepted else 4.5) * max(est, 1.0 * ln.size)
+            limit = (GAP_ROWS if accepted else 4.5) * max(est, 1.0 * ln.size)
             if ln.top - ref_top > limit:
                 return accepted, idx, "a gap of more than three rows"
         if (table_rules and accepted and ln.top > table_rules[-1]
@@ -327,7 +354,8 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
         if continuation and not accepted:
             # on a page without a heading: skip what is above the first line that fits
             if _row_like(ln, geo):
-                accepted.extend(_lead_lines(lines, idx, geo) + [ln])
+                est = pitch or 1.8 * max(ln.size, 1.0)
+                accepted.extend(_rows_above(lines, idx, geo, est) + [ln])
             idx += 1
             continue
         why = _stops(ln, geo)
