@@ -690,3 +690,34 @@ def test_rows_with_few_cells_at_the_top_of_a_continuation_page_are_read(tmp_path
     assert t.rows[4] == ["PC5", "2", "", "", "", ""]
     assert t.pages == [1, 1, 1, 2, 2, 2, 2] and t.row_numbers == [1, 2, 3, 1, 2, 3, 4]
     assert notes == ["page 2: no heading row; read as a continuation of the table from page 1"]
+
+
+def test_grid_rows_below_a_notes_row_inside_the_grid_are_named_in_a_note(tmp_path):
+    """A ruled grid ends at a row starting with notes or revision text; the rows below it that
+    fit the table's columns are named in a note (they were dropped without one)."""
+    from reportlab.pdfgen import canvas
+
+    xs = [45, 105, 165, 235, 305, 375, 450]
+    head = ["Mark", "Piles", "Pile dia (mm)", "Cap L (mm)", "Cap D (mm)", "Concrete"]
+    lines = [head, ["PC1", "4", "600", "2700", "1200", "C32/40"],
+             ["NOTES", "", "", "", "", ""], ["PC2", "2", "900", "3900", "1500", "C32/40"],
+             ["PC3", "4", "600", "2700", "1200", "C40/50"]]
+    path = tmp_path / "grid.pdf"
+    c = canvas.Canvas(str(path), pagesize=(595, 842))
+    c.setFont("Helvetica", 9.0)
+    top = 790.0
+    for k, row in enumerate(lines):
+        for x, v in zip(xs, row):
+            c.drawString(x + 4, top - 16.0 * k - 12.0, v)
+    c.setLineWidth(0.5)
+    for k in range(len(lines) + 1):
+        c.line(xs[0], top - 16.0 * k, xs[-1], top - 16.0 * k)
+    for x in xs:
+        c.line(x, top, x, top - 16.0 * len(lines))
+    c.showPage()
+    c.save()
+    tables, notes = read_pdf_tables(path)
+    assert [r[0] for r in tables[0].rows] == ["PC1"]
+    assert notes == ["page 1: the table ends at 'NOTES' (notes or revision text inside the grid); "
+                     "2 row(s) below it that fit its columns were not read: "
+                     "'PC2  2  900  3900  1500  C32/40', 'PC3  4  600  2700  1200  C40/50'"]

@@ -362,12 +362,15 @@ QUOTE_CHARS = 60
 
 def quote_lines(lines: Sequence[Line]) -> str:
     """Text lines quoted for a note: ``'PC21  1  750 ...', 'PC22  3  600 ...' and 2 more line(s)``."""
-    quoted = []
-    for ln in lines[:QUOTE_LINES]:
-        t = ln.text
-        quoted.append(repr(t if len(t) <= QUOTE_CHARS else t[:QUOTE_CHARS - 3].rstrip() + "..."))
-    rest = len(lines) - len(quoted)
-    return ", ".join(quoted) + (f" and {rest} more line(s)" if rest > 0 else "")
+    return quote_texts([ln.text for ln in lines], "line")
+
+
+def quote_texts(texts: Sequence[str], what: str = "line") -> str:
+    """Texts quoted for a note, at most ``QUOTE_LINES`` of them, each cut at ``QUOTE_CHARS``."""
+    quoted = [repr(t if len(t) <= QUOTE_CHARS else t[:QUOTE_CHARS - 3].rstrip() + "...")
+              for t in texts[:QUOTE_LINES]]
+    rest = len(texts) - len(quoted)
+    return ", ".join(quoted) + (f" and {rest} more {what}(s)" if rest > 0 else "")
 
 
 def normalise_cell(text: object) -> str:
