@@ -216,7 +216,10 @@ def _paginate(spec: Spec, heights: list[float], room: float, above: float, head_
     With ``spec.overflow`` pages break at ``rows_per_page`` alone, so a long table is drawn past the
     page's bottom edge: the text is in the file but a viewer or printer does not show it (a drawing
     whose table runs off the sheet). The reader reads what is printed and names the rest in a note;
-    ``Expected`` still lists every row (the tests of that case say what is printed)."""
+    ``Expected`` still lists every row (the tests of that case say what is printed). Before pages
+    were broken here, that was what every long table without ``rows_per_page`` got: a limitation
+    of this generator, which the property test of tests/test_pdf_ingest.py took for rows lost by
+    the reader (it was the reader's fault only that it said nothing about them)."""
     n = len(heights)
     cap = spec.rows_per_page or max(n, 1)
     if spec.overflow:
