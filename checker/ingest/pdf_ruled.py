@@ -13,7 +13,13 @@ from __future__ import annotations
 from typing import Callable
 
 from checker.ingest.pdf_model import Layout, PageTable
-from checker.ingest.pdf_text import is_stop_text, looks_like_value, normalise_cell, quote_texts
+from checker.ingest.pdf_text import (
+    is_stop_text,
+    looks_like_value,
+    min_cells,
+    normalise_cell,
+    quote_texts,
+)
 
 _MAX_HEADING_SEARCH = 6     # a heading row is looked for among a grid's first rows only
 
@@ -152,9 +158,9 @@ def _divided_row(table, rows, data, r: int, cols) -> tuple[list[str | None], lis
 
 def _passed_over(texts: list[list[str]], r: int, page_no: int, notes: list[str]) -> None:
     """A note for the grid rows below row ``r`` (a notes or revision text inside the grid, where
-    the table ends) that still look like rows of the table: at least half their cells filled."""
+    the table ends) that still look like rows of the table (``min_cells`` of them filled)."""
     ncols = len(texts[r])
-    below = [row for row in texts[r + 1:] if sum(1 for x in row if x) >= max(2, ncols / 2.0)]
+    below = [row for row in texts[r + 1:] if sum(1 for x in row if x) >= min_cells(ncols)]
     if below:
         quoted = quote_texts(["  ".join(x for x in row if x) for row in below], "row")
         notes.append(f"page {page_no}: the table ends at {next(x for x in texts[r] if x)!r} (notes "

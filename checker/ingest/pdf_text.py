@@ -8,6 +8,7 @@ pdfplumber is only used by the callers (``pdf.py``, ``pdf_ruled.py``, ``pdf_unru
 from __future__ import annotations
 
 import bisect
+import math
 import re
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Sequence, cast
@@ -352,6 +353,18 @@ def _median(values: list[float]) -> float:
     s = sorted(values)
     n = len(s)
     return s[n // 2] if n % 2 else (s[n // 2 - 1] + s[n // 2]) / 2.0
+
+
+#: a line (or grid row) is taken for a row of a table by itself, without the table's heading or body
+#: around it (the first row on a page without a heading, a row passed over below the table), when at
+#: least this share of the columns is filled: a schedule row fills most of its cells, a line of a
+#: title block or revision box fewer
+ROW_FILL = 0.5
+
+
+def min_cells(ncols: int) -> int:
+    """Filled cells a line needs to be taken for a row of an ``ncols``-column table by itself."""
+    return max(2, math.ceil(ROW_FILL * ncols))
 
 
 #: a note naming text that was not read quotes this many lines and this many characters of each:

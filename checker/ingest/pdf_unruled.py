@@ -42,6 +42,7 @@ from checker.ingest.pdf_text import (
     _median,
     is_stop_text,
     looks_like_value,
+    min_cells,
     quote_lines,
 )
 
@@ -254,13 +255,6 @@ class _Geometry:
         return w.x1 > self.out_lo and w.x0 < self.out_hi
 
 
-def _min_cells(geo: _Geometry) -> int:
-    """Filled cells a line needs to be taken for a row without the table's heading or body above it
-    (the first row on a continuation page, a row passed over below the table): half the columns,
-    so that a title block's or revision box's line is not."""
-    return max(2, math.ceil(0.5 * len(geo.cells)))
-
-
 def _stops(ln: Line, geo: _Geometry) -> str | None:
     """Why ``ln`` cannot be a row of the table (None when it can): no text inside the columns, a
     notes, revision or title text, or text running across two or more column gaps."""
@@ -276,12 +270,12 @@ def _stops(ln: Line, geo: _Geometry) -> str | None:
 
 def _row_like(ln: Line, geo: _Geometry) -> bool:
     """``ln`` looks like a row of the table by itself: text in the mark column, at least
-    ``_min_cells`` words inside the columns (and not many more than the columns), none across
+    ``min_cells`` words inside the columns (and not many more than the columns), none across
     two column gaps."""
     if _stops(ln, geo) is not None:
         return False
     inside = [w for w in ln.words if geo.inside(w)]
-    return inside[0].x0 < geo.col0_lim and _min_cells(geo) <= len(inside) <= len(geo.cells) + 2
+    return inside[0].x0 < geo.col0_lim and min_cells(len(geo.cells)) <= len(inside) <= len(geo.cells) + 2
 
 
 def _lead_lines(lines: Sequence[Line], idx: int, geo: _Geometry) -> list[Line]:
@@ -300,6 +294,10 @@ def _lead_lines(lines: Sequence[Line], idx: int, geo: _Geometry) -> list[Line]:
         k -= 1
     return lead
 
+
+#: the row pitch, in text sizes, assumed until the table shows its own: one line of text with the
+#: padding a spreadsheet or drawing program puts above and below it
+DEFAULT_PITCH = 1.8
 
 #: the body ends at a vertical gap of more than this many row pitches below the last line taken
 #: (one or two blank spacer rows are kept in the table; a wider space separates it from what follows)
@@ -344,7 +342,7 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
         if ref_top is not None:
             # the row pitch: steps between rows, not the tight steps of wrapped lines in a row
             steps = [d for d in diffs if d > 1.3 * ln.size]
-            est = _median(steps) if steps else 1.8 * max(ln.size, 1.0)
+            est = _median(steps) if steps else DEFAULT_PITCH * max(ln.size, 1.0)
             limit = (GAP_ROWS if accepted else 4.5) * max(est, 1.0 * ln.size)
             if ln.top - ref_top > limit:
                 return accepted, idx, "a gap of more than three rows"
@@ -354,7 +352,7 @@ def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: lis
         if continuation and not accepted:
             # on a page without a heading: skip what is above the first line that fits
             if _row_like(ln, geo):
-                est = pitch or 1.8 * max(ln.size, 1.0)
+                est = pitch or DEFAULT_PITCH * max(ln.size, 1.0)
                 accepted.extend(_rows_above(lines, idx, geo, est) + [ln])
             idx += 1
             continue
