@@ -44,6 +44,7 @@ from checker.ingest.pdf_text import (
     heading_matcher,
     mark_struck,
     page_content,
+    quote_lines,
     text_direction,
 )
 from checker.ingest.raw import RawTable
@@ -350,18 +351,17 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
     if strategy in ("auto", "lines") and rotation == 0 and ruled:
         from checker.ingest.pdf_ruled import find_ruled_tables
 
-        found = find_ruled_tables(page, page_no, is_heading, prev)
-        if found or strategy == "lines":
-            return found, True, None
+        grids = find_ruled_tables(page, page_no, is_heading, prev)
+        if grids or strategy == "lines":
+            return grids, True, None
     if strategy == "lines":
         return [], True, f"page {page_no}: no ruled schedule table (strategy 'lines'), skipped"
 
     from checker.ingest.pdf_unruled import find_text_tables
 
     w, h = content.width, content.height
-    # text placed off the page is not printed (a spreadsheet program puts the text of a cell merged
-    # across a page break there); it is not read
-    chars = [c for c in content.chars if c[2] > 0.0 and c[1] < w and c[4] > 0.0 and c[3] < h]
+    chars, off_page = _printed(content.chars, w, h)
+    off_note = _off_page_note(off_page, page_no, rotation, w, h)
     glyphs = glyphs_from_chars(chars, rotation, w, h)
     lines, _ = build_lines(glyphs)
     # strike-through lines (a row or cell struck through: read as deleted) are no table rules
@@ -369,17 +369,52 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
     hrules = mark_struck(lines, hrules)
     if strategy != "auto":
         hrules, vrules = [], []
+    found: list[PageTable] = []
     if left is not None and rotation == 0 and strategy != "lines":
         from checker.ingest.pdf_unruled import side_table
 
         side = side_table(lines, page_no, left, is_mark=_is_mark)
         if side is not None:
-            return [side], True, None
-    if prev is not None and prev.rotation != rotation:
-        prev = None
-    found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules, prev=prev,
-                             rotation=rotation)
+            found = [side]
+    if not found:
+        if prev is not None and prev.rotation != rotation:
+            prev = None
+        found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules,
+                                 prev=prev, rotation=rotation)
+    if off_note is None:
+        return found, True, None
+    if not found:
+        return found, True, f"page {page_no}: no schedule table, skipped; {off_note}"
+    found[0].notes.insert(0, f"page {page_no}: {off_note}")
     return found, True, None
+
+
+def _printed(chars: list[tuple], w: float, h: float) -> tuple[list[tuple], list[tuple]]:
+    """The page's glyphs (``PageContent.chars``) split into those on the page and those placed
+    wholly outside its edges, which a viewer or printer does not show: a spreadsheet program puts
+    there the text of a cell merged across a page break, and a table drawn longer than its sheet
+    has its last rows there. Only what is printed is read; the rest is named in a note."""
+    on: list[tuple] = []
+    off: list[tuple] = []
+    for c in chars:
+        (on if c[2] > 0.0 and c[1] < w and c[4] > 0.0 and c[3] < h else off).append(c)
+    return on, off
+
+
+def _off_page_note(off: list[tuple], page_no: int, rotation: int, w: float, h: float) -> str | None:
+    """What lies outside the page's edges, by edge, for a note (None when nothing does)."""
+    if not off:
+        return None
+    sides: dict[str, list[tuple]] = {}
+    for c in off:
+        side = ("below its bottom edge" if c[3] >= h else "above its top edge" if c[4] <= 0.0
+                else "left of its left edge" if c[2] <= 0.0 else "right of its right edge")
+        sides.setdefault(side, []).append(c)
+    parts = []
+    for side, cs in sides.items():
+        lines, _ = build_lines(glyphs_from_chars(cs, rotation, w, h))
+        parts.append(f"{len(lines)} line(s) {side}: {quote_lines(lines)}")
+    return "text placed outside the page (not printed) was not read: " + "; ".join(parts)
 
 
 def _is_mark(text: str) -> bool:

@@ -13,7 +13,13 @@ from __future__ import annotations
 from typing import Callable
 
 from checker.ingest.pdf_model import Layout, PageTable
-from checker.ingest.pdf_text import is_stop_text, looks_like_value, normalise_cell
+from checker.ingest.pdf_text import (
+    is_stop_text,
+    looks_like_value,
+    min_cells,
+    normalise_cell,
+    quote_texts,
+)
 
 _MAX_HEADING_SEARCH = 6     # a heading row is looked for among a grid's first rows only
 
@@ -150,6 +156,18 @@ def _divided_row(table, rows, data, r: int, cols) -> tuple[list[str | None], lis
     return raw, subs
 
 
+def _passed_over(texts: list[list[str]], r: int, page_no: int, notes: list[str]) -> None:
+    """A note for the grid rows below row ``r`` (a notes or revision text inside the grid, where
+    the table ends) that still look like rows of the table (``min_cells`` of them filled)."""
+    ncols = len(texts[r])
+    below = [row for row in texts[r + 1:] if sum(1 for x in row if x) >= min_cells(ncols)]
+    if below:
+        quoted = quote_texts(["  ".join(x for x in row if x) for row in below], "row")
+        notes.append(f"page {page_no}: the table ends at {next(x for x in texts[r] if x)!r} (notes "
+                     f"or revision text inside the grid); {len(below)} row(s) below it that fit its "
+                     f"columns were not read: {quoted}")
+
+
 def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
                       prev: Layout | None) -> list[PageTable]:
     """Every schedule table among the page's ruled grids (and grids continuing ``prev``)."""
@@ -238,8 +256,9 @@ def _grid_rows(t, data: list[list], texts: list[list[str]], first: int, hr: int 
         filled = [x for x in cells if x]
         if not filled:
             continue                                    # spacer row
-        if is_stop_text(filled[0]):
-            break                                       # notes inside the grid
+        if is_stop_text(filled[0]):                     # notes inside the grid
+            _passed_over(texts, r, page_no, notes)
+            break
         if hr is not None and _is_heading_row(cells, is_heading) and \
                 [h.lower() for h in cells] == [h.lower() for h in texts[hr]]:
             continue                                    # heading repeated inside the grid

@@ -8,6 +8,7 @@ pdfplumber is only used by the callers (``pdf.py``, ``pdf_ruled.py``, ``pdf_unru
 from __future__ import annotations
 
 import bisect
+import math
 import re
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Sequence, cast
@@ -352,6 +353,37 @@ def _median(values: list[float]) -> float:
     s = sorted(values)
     n = len(s)
     return s[n // 2] if n % 2 else (s[n // 2 - 1] + s[n // 2]) / 2.0
+
+
+#: a line (or grid row) is taken for a row of a table by itself, without the table's heading or body
+#: around it (the first row on a page without a heading, a row passed over below the table), when at
+#: least this share of the columns is filled: a schedule row fills most of its cells, a line of a
+#: title block or revision box fewer
+ROW_FILL = 0.5
+
+
+def min_cells(ncols: int) -> int:
+    """Filled cells a line needs to be taken for a row of an ``ncols``-column table by itself."""
+    return max(2, math.ceil(ROW_FILL * ncols))
+
+
+#: a note naming text that was not read quotes this many lines and this many characters of each:
+#: enough to recognise the rows (a row's mark comes first); the note gives the count of the rest
+QUOTE_LINES = 6
+QUOTE_CHARS = 60
+
+
+def quote_lines(lines: Sequence[Line]) -> str:
+    """Text lines quoted for a note: ``'PC21  1  750 ...', 'PC22  3  600 ...' and 2 more line(s)``."""
+    return quote_texts([ln.text for ln in lines], "line")
+
+
+def quote_texts(texts: Sequence[str], what: str = "line") -> str:
+    """Texts quoted for a note, at most ``QUOTE_LINES`` of them, each cut at ``QUOTE_CHARS``."""
+    quoted = [repr(t if len(t) <= QUOTE_CHARS else t[:QUOTE_CHARS - 3].rstrip() + "...")
+              for t in texts[:QUOTE_LINES]]
+    rest = len(texts) - len(quoted)
+    return ", ".join(quoted) + (f" and {rest} more {what}(s)" if rest > 0 else "")
 
 
 def normalise_cell(text: object) -> str:

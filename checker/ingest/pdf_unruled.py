@@ -22,7 +22,9 @@ How a table is found on a page:
    row below when it sits tight on that row's mark line.
 
 Every row has one cell per heading column; text that runs across a column edge, or lies outside
-the columns, is reported in the notes rather than dropped silently.
+the columns, is reported in the notes rather than dropped silently. So are the lines below the end
+of the body, up to the next heading row, that still look like rows of the table (``_passed_over``):
+the reader names what it stopped at and the rows it did not read.
 """
 
 from __future__ import annotations
@@ -34,7 +36,15 @@ from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
 from checker.ingest.pdf_model import Layout, PageTable
-from checker.ingest.pdf_text import Line, Word, _median, is_stop_text, looks_like_value
+from checker.ingest.pdf_text import (
+    Line,
+    Word,
+    _median,
+    is_stop_text,
+    looks_like_value,
+    min_cells,
+    quote_lines,
+)
 
 HRule = tuple[float, float, float]      # x0, x1, y   (in the reading frame)
 VRule = tuple[float, float, float]      # x, top, bottom
@@ -245,70 +255,139 @@ class _Geometry:
         return w.x1 > self.out_lo and w.x0 < self.out_hi
 
 
+def _stops(ln: Line, geo: _Geometry) -> str | None:
+    """Why ``ln`` cannot be a row of the table (None when it can): no text inside the columns, a
+    notes, revision or title text, or text running across two or more column gaps."""
+    inside = [w for w in ln.words if geo.inside(w)]
+    if not inside:
+        return "text outside the table's columns"
+    if is_stop_text(ln.words[0].text):
+        return "notes, revision or title text"
+    if any(_crossings(w, geo.regs) >= 2 for w in inside):
+        return "text running across the columns"
+    return None
+
+
+def _row_like(ln: Line, geo: _Geometry) -> bool:
+    """``ln`` looks like a row of the table by itself: text in the mark column, at least
+    ``min_cells`` words inside the columns (and not many more than the columns), none across
+    two column gaps."""
+    if _stops(ln, geo) is not None:
+        return False
+    inside = [w for w in ln.words if geo.inside(w)]
+    return inside[0].x0 < geo.col0_lim and min_cells(len(geo.cells)) <= len(inside) <= len(geo.cells) + 2
+
+
+def _lead_lines(lines: Sequence[Line], idx: int, geo: _Geometry) -> list[Line]:
+    """Wrapped text of the row at ``lines[idx]`` sitting tight above its mark line (at most three
+    lines, none with a mark or across a column gap)."""
+    lead: list[Line] = []
+    k = idx - 1
+    while k >= 0 and len(lead) < 3:
+        up, below = lines[k], (lead[0] if lead else lines[idx])
+        fits = [w for w in up.words if geo.inside(w)]
+        if (below.top - up.top > 1.3 * up.size or not fits
+                or fits[0].x0 < geo.col0_lim or is_stop_text(up.words[0].text)
+                or any(_crossings(w, geo.regs) >= 1 for w in fits)):
+            break
+        lead.insert(0, up)
+        k -= 1
+    return lead
+
+
+#: the row pitch, in text sizes, assumed until the table shows its own: one line of text with the
+#: padding a spreadsheet or drawing program puts above and below it
+DEFAULT_PITCH = 1.8
+
+#: the body ends at a vertical gap of more than this many row pitches below the last line taken
+#: (one or two blank spacer rows are kept in the table; a wider space separates it from what follows)
+GAP_ROWS = 3.4
+
+
+def _rows_above(lines: Sequence[Line], idx: int, geo: _Geometry, pitch: float) -> list[Line]:
+    """The lines above ``lines[idx]``, the first line on a continuation page that looks like a row
+    by itself (``_row_like``), that belong to the table too: rows with few cells filled (a mark and
+    a value or two) sitting at the table's row pitch above it, each within ``GAP_ROWS`` pitches of
+    the line below, inside the columns and not across two of them, with the wrapped text tight
+    above the topmost mark. A title, notes or revision text ends them (``_stops``)."""
+    chain: list[Line] = []
+    below = lines[idx]
+    for k in range(idx - 1, -1, -1):
+        up = lines[k]
+        if (below.top - up.top > GAP_ROWS * pitch or _stops(up, geo) is not None
+                or not all(geo.inside(w) for w in up.words)):
+            break
+        chain.insert(0, up)
+        below = up
+    marks = [j for j, ln in enumerate(chain) if ln.words[0].x0 < geo.col0_lim]
+    if not marks:
+        return _lead_lines(lines, idx, geo)
+    top = idx - len(chain) + marks[0]          # index in ``lines`` of the topmost mark line
+    return _lead_lines(lines, top, geo) + chain[marks[0]:]
+
+
 def _collect(lines: Sequence[Line], start: int, geo: _Geometry, table_rules: list[float], *,
              heading_top: float | None, continuation: bool,
-             pitch: float | None = None) -> tuple[list[Line], int]:
-    """The body lines of a table, from ``lines[start]``; returns (lines, index after the body).
+             pitch: float | None = None) -> tuple[list[Line], int, str | None]:
+    """The body lines of a table, from ``lines[start]``; returns (lines, index after the body, why
+    the body ended there: None at the end of the lines).
     ``pitch``: the line pitch of the same table on the page before, if known."""
-    ncols = len(geo.cells)
-    need = max(2, math.ceil(0.5 * ncols))
     accepted: list[Line] = []
     diffs: list[float] = [pitch] if pitch else []
     idx = start
     n = len(lines)
     while idx < n:
         ln = lines[idx]
-        words = ln.words
         ref_top = accepted[-1].top if accepted else heading_top
         if ref_top is not None:
             # the row pitch: steps between rows, not the tight steps of wrapped lines in a row
             steps = [d for d in diffs if d > 1.3 * ln.size]
-            est = _median(steps) if steps else 1.8 * max(ln.size, 1.0)
-            limit = (3.4 if accepted else 4.5) * max(est, 1.0 * ln.size)
+            est = _median(steps) if steps else DEFAULT_PITCH * max(ln.size, 1.0)
+            limit = (GAP_ROWS if accepted else 4.5) * max(est, 1.0 * ln.size)
             if ln.top - ref_top > limit:
-                break
+                return accepted, idx, "a gap of more than three rows"
         if (table_rules and accepted and ln.top > table_rules[-1]
                 and accepted[0].top < table_rules[-1]):
-            break                       # below the table's bottom rule
-        inside = [w for w in words if geo.inside(w)]
-        stop = (not inside or is_stop_text(words[0].text)
-                or any(_crossings(w, geo.regs) >= 2 for w in inside))
+            return accepted, idx, "the table's bottom rule"
         if continuation and not accepted:
             # on a page without a heading: skip what is above the first line that fits
-            if (not stop and inside[0].x0 < geo.col0_lim and len(inside) >= need
-                    and len(inside) <= ncols + 2):
-                # wrapped text of the first row sitting tight above its mark line
-                lead: list[Line] = []
-                k = idx - 1
-                while k >= 0 and len(lead) < 3:
-                    up, below = lines[k], (lead[0] if lead else ln)
-                    fits = [w for w in up.words if geo.inside(w)]
-                    if (below.top - up.top > 1.3 * up.size or not fits
-                            or fits[0].x0 < geo.col0_lim or is_stop_text(up.words[0].text)
-                            or any(_crossings(w, geo.regs) >= 1 for w in fits)):
-                        break
-                    lead.insert(0, up)
-                    k -= 1
-                accepted.extend(lead + [ln])
+            if _row_like(ln, geo):
+                est = pitch or DEFAULT_PITCH * max(ln.size, 1.0)
+                accepted.extend(_rows_above(lines, idx, geo, est) + [ln])
             idx += 1
             continue
-        if stop:
-            break
-        has_mark = inside[0].x0 < geo.col0_lim
-        if not has_mark and len(inside) < 2:
+        why = _stops(ln, geo)
+        if why is not None:
+            return accepted, idx, why
+        inside = [w for w in ln.words if geo.inside(w)]
+        if inside[0].x0 >= geo.col0_lim and len(inside) < 2:    # no mark, one word
             tight_prev = bool(accepted) and ln.top - accepted[-1].top <= 1.3 * ln.size
             nxt = lines[idx + 1] if idx + 1 < n else None
             tight_next = (nxt is not None and nxt.top - ln.top <= 1.3 * ln.size
                           and nxt.words[0].x0 < geo.col0_lim)
             if not (tight_prev or tight_next):
-                break
+                return accepted, idx, "a line that is not a row"
         if accepted:
             diffs.append(ln.top - accepted[-1].top)
         elif heading_top is not None:
             diffs.append(ln.top - heading_top)     # the first row's pitch below the heading
         accepted.append(ln)
         idx += 1
-    return accepted, idx
+    return accepted, idx, None
+
+
+def _passed_over(lines: Sequence[Line], geo: _Geometry, page_no: int, why: str | None,
+                 body: Sequence[Line]) -> str | None:
+    """A note for the lines below the end of a table (``lines``: from where its body ended to the
+    next heading row or the end of the page) when some of them still look like rows of it: the
+    reader stopped at ``why`` and did not read them. None when none of them does."""
+    rows = [ln for ln in lines if _row_like(ln, geo)]
+    if not rows or why is None:
+        return None
+    last = body[-1].text if body else None
+    after = f"after {last!r}" if last is not None else "below the heading"
+    return (f"page {page_no}: the table ends {after} at {why} ({lines[0].text!r}); "
+            f"{len(rows)} line(s) below that fit its columns were not read: {quote_lines(rows)}")
 
 
 def _group_rows(body: list[Line], geo: _Geometry, table_rules: list[float]) -> list[list[Line]]:
@@ -752,8 +831,11 @@ def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[
         geo = _Geometry.of(cells)
         head = lines[i:i + k]
         trules = _table_rules(hrules, geo, head[-1].bottom)
-        body, end = _collect(lines, i + k, geo, trules, heading_top=head[-1].top,
-                             continuation=False)
+        body, end, why = _collect(lines, i + k, geo, trules, heading_top=head[-1].top,
+                                  continuation=False)
+        nxt = end                   # the next heading row, or the end of the page
+        while nxt < n and heading_block(lines, nxt, is_heading) is None:
+            nxt += 1
         headings = [c.full_text for c in cells]
         layout = Layout(cells=[(c.x0, c.x1) for c in cells], headings=headings, ruled=False,
                         rotation=rotation)
@@ -761,7 +843,10 @@ def find_text_tables(lines: Sequence[Line], page_no: int, is_heading: Callable[[
         tables.append(_build(body, geo, headings, layout, page_no, hrules, vrules, trules,
                              band, "text"))
         tables[-1].head_tops = [ln.top for ln in head]
-        i = max(end, i + k)
+        passed = _passed_over(lines[end:nxt], geo, page_no, why, body)
+        if passed is not None:
+            tables[-1].notes.append(passed)
+        i = max(nxt, i + k)
     if prev is not None and prev.ncols >= 3:
         limit = first_heading if first_heading is not None else n
         cont = continue_table(lines[:limit], page_no, prev, hrules=hrules, vrules=vrules)
@@ -778,12 +863,15 @@ def continue_table(lines: Sequence[Line], page_no: int, prev: Layout, *,
     cells = [HCell(x0, x1, h) for (x0, x1), h in zip(prev.cells, prev.headings)]
     geo = _Geometry.of(cells)
     trules = _table_rules(hrules, geo, -math.inf)
-    body, _ = _collect(lines, 0, geo, trules, heading_top=None, continuation=True,
-                       pitch=prev.pitch)
+    body, end, why = _collect(lines, 0, geo, trules, heading_top=None, continuation=True,
+                              pitch=prev.pitch)
     if not body:
-        return None
+        return None             # no line fits the columns: nothing passed over either
     band = (body[0].top, body[0].bottom)
     t = _build(body, geo, None, prev, page_no, hrules, vrules, trules, band, "text")
+    passed = _passed_over(lines[end:], geo, page_no, why, body)
+    if passed is not None:
+        t.notes.append(passed)
     return t if t.rows else None
 
 
@@ -799,7 +887,9 @@ def side_table(lines: Sequence[Line], page_no: int, left: PageTable, *,
 
     Every line of the page must sit at the height of a heading line or of a row line of ``left``, at
     least one on the heading's lines and one on the rows'; the lines on the heading's are this strip's
-    headings (as few as one: ``Remarks``); none of them may be a mark column (that is a new table).
+    headings (as few as one: ``Remarks``); none of them may be a mark column (that is a new table)
+    or hold a value (the rows of a page without a heading row that happen to sit at the heights
+    of the heading and rows of the page before are a continuation).
     Returns a PageTable whose rows correspond one to one with ``left.rows`` (blank where the strip has
     nothing on that row)."""
     if not lines or not left.head_tops or not left.row_tops:
@@ -813,6 +903,8 @@ def side_table(lines: Sequence[Line], page_no: int, left: PageTable, *,
         return None
     if max(ln.top for ln in head) > min(ln.top for ln in body):
         return None
+    if any(looks_like_value(w.text) for ln in head for w in ln.words):
+        return None             # values at the heading's height: rows, not a strip's heading
     cells = heading_cells(head)
     if not cells or any(is_mark(c.full_text) for c in cells):
         return None
