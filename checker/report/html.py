@@ -15,7 +15,7 @@ from __future__ import annotations
 import re
 from html import escape
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, Sequence
 
 from checker.caution import CAUTION
 from checker.findings import (
@@ -555,6 +555,16 @@ def _source_cells(source: dict[str, Any] | None) -> str:
 _SOURCE_HEADS = "<th>File</th><th>Sheet</th><th>Page</th><th>Row</th>"
 
 
+def _source_table(section: str, title: str, intro: str, heads: str, rows: list[str]) -> list[str]:
+    """A section of rows that were not checked: each row's source cells, then ``heads``' cells."""
+    return [f'<section class="{section}"><h2>{title}</h2><p>{escape(intro)}</p>'
+            f"<table><thead><tr>{_SOURCE_HEADS}{heads}</tr></thead><tbody>", *rows, "</tbody></table></section>"]
+
+
+def _errors_cell(errors: Sequence[str]) -> str:
+    return "<td>" + "<br>".join(escape(str(e)) for e in errors) + "</td>"
+
+
 def _table_problems(review: "Review") -> list[str]:
     """Problems of a whole table (a required field that no column gives), at the table's heading row."""
     if not review.table_problems:
@@ -562,27 +572,19 @@ def _table_problems(review: "Review") -> list[str]:
     intro = ("No row of a table named here can be checked until its problem is put right: its rows are "
              "listed under Rejected rows, each saying \"see the table's problem\". The row given is the "
              "table's heading row.")
-    h = [f'<section class="table-problems"><h2>Table problems</h2><p>{escape(intro)}</p>'
-         f"<table><thead><tr>{_SOURCE_HEADS}<th>Problem</th></tr></thead><tbody>"]
-    for p in review.table_problems:
-        errs = "<br>".join(escape(str(e)) for e in p.errors)
-        h.append(f'<tr class="table-problem">{_source_cells(p.source)}<td>{errs}</td></tr>')
-    h.append("</tbody></table></section>")
-    return h
+    rows = [f'<tr class="table-problem">{_source_cells(p.source)}{_errors_cell(p.errors)}</tr>'
+            for p in review.table_problems]
+    return _source_table("table-problems", "Table problems", intro, "<th>Problem</th>", rows)
 
 
 def _rejected_rows(review: "Review") -> list[str]:
     """The rows of the schedule that could not be read."""
     if not review.rejected:
         return []
-    h = ['<section class="rejected"><h2>Rejected rows</h2><p>These rows of the schedule '
-         f"could not be read and were not checked.</p><table><thead><tr>{_SOURCE_HEADS}<th>Mark</th>"
-         "<th>Reasons</th></tr></thead><tbody>"]
-    for rej in review.rejected:
-        errs = "<br>".join(escape(str(e)) for e in rej.errors)
-        h.append(f"<tr>{_source_cells(rej.source)}<td>{escape(rej.mark)}</td><td>{errs}</td></tr>")
-    h.append("</tbody></table></section>")
-    return h
+    rows = [f"<tr>{_source_cells(rej.source)}<td>{escape(rej.mark)}</td>{_errors_cell(rej.errors)}</tr>"
+            for rej in review.rejected]
+    return _source_table("rejected", "Rejected rows", "These rows of the schedule could not be read and were "
+                         "not checked.", "<th>Mark</th><th>Reasons</th>", rows)
 
 
 def _skipped_rows(review: "Review") -> list[str]:
