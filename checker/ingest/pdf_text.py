@@ -302,49 +302,79 @@ def _words_of(grp: list[Glyph], explicit_blanks: bool) -> list[Word]:
 STRIKE_BAND = (0.30, 0.85)
 
 
+#: a cell (or a line of text the strike crosses, see ``strike_lines``) is struck through when strike
+#: lines cross at least this share of its glyphs: a spreadsheet program strikes every word of a struck
+#: cell, so nearly all its glyphs are crossed; a stray segment crossing a glyph or two is no strike
+STRUCK_SHARE = 0.6
+
+
 def mark_struck(lines: Sequence[Line], hrules: Sequence[tuple[float, float, float]]
                 ) -> list[tuple[float, float, float]]:
     """Mark the glyphs that a strike-through line crosses (``Glyph.struck``) and return the
-    horizontal rules that are not strike lines (the table's rules).
+    horizontal rules that are not strike lines (the table's rules); see ``strike_lines``."""
+    strikes, kept = strike_lines(lines, hrules)
+    for _, hit in strikes:
+        for g in hit:
+            g.struck = True
+    return kept
+
+
+def strike_lines(lines: Sequence[Line], hrules: Sequence[tuple[float, float, float]], *,
+                 across: bool = False
+                 ) -> tuple[list[tuple[tuple[float, float, float], list[Glyph]]],
+                            list[tuple[float, float, float]]]:
+    """(strike lines with the glyphs each crosses, the other horizontal rules), marking nothing.
 
     A horizontal segment (x0, x1, y) is a strike line when it crosses the glyphs of one text line
     inside :data:`STRIKE_BAND` of their height and runs mostly through text: the glyphs it crosses
     cover at least half its length (a spreadsheet program draws one short segment per word or cell
-    text; a rule runs the width of the table, between the rows). ``lines`` sorted by top, as
-    ``build_lines`` returns them."""
+    text; a rule runs the width of the table, between the rows). With ``across`` (a ruled grid,
+    where one line may be drawn through a whole row, over the gaps between its cells) a segment
+    that crosses at least :data:`STRUCK_SHARE` of the glyphs of the text line under it is one too.
+    ``lines`` sorted by top, as ``build_lines`` returns them."""
     if not hrules or not lines:
-        return list(hrules)
+        return [], list(hrules)
     tops = [ln.top for ln in lines]
     tallest = max(ln.bottom - ln.top for ln in lines)
-    lo_f, hi_f = STRIKE_BAND
+    strikes: list[tuple[tuple[float, float, float], list[Glyph]]] = []
     kept: list[tuple[float, float, float]] = []
     for seg in hrules:
         x0, x1, y = seg
-        length = x1 - x0
         hit: list[Glyph] = []
-        if length > 0.5:
+        under = 0                       # glyphs of the lines crossed, within the segment's extent
+        if x1 - x0 > 0.5:
             k = bisect.bisect_left(tops, y - tallest)
             while k < len(lines) and lines[k].top <= y:
                 ln = lines[k]
                 k += 1
-                if not (ln.top < y < ln.bottom) or ln.x1 < x0 or ln.x0 > x1:
-                    continue
-                for w in ln.words:
-                    if w.x1 < x0 or w.x0 > x1:
-                        continue
-                    for g in w.glyphs:
-                        h = g.bottom - g.top
-                        mid = (g.x0 + g.x1) / 2.0
-                        if (x0 - 0.5 <= mid <= x1 + 0.5 and h > 0
-                                and g.top + lo_f * h <= y <= g.top + hi_f * h):
-                            hit.append(g)
+                if ln.top < y < ln.bottom and ln.x1 >= x0 and ln.x0 <= x1:
+                    under += _crossed(ln, seg, hit)
         covered = sum(min(g.x1, x1) - max(g.x0, x0) for g in hit)
-        if hit and covered >= 0.5 * length:
-            for g in hit:
-                g.struck = True
+        if hit and (covered >= 0.5 * (x1 - x0)
+                    or (across and len(hit) >= 2 and len(hit) >= STRUCK_SHARE * under)):
+            strikes.append((seg, hit))
         else:
             kept.append(seg)
-    return kept
+    return strikes, kept
+
+
+def _crossed(ln: Line, seg: tuple[float, float, float], hit: list[Glyph]) -> int:
+    """Add to ``hit`` the glyphs of ``ln`` that the segment crosses inside :data:`STRIKE_BAND`;
+    return how many of the line's glyphs lie within the segment's extent."""
+    x0, x1, y = seg
+    lo_f, hi_f = STRIKE_BAND
+    under = 0
+    for w in ln.words:
+        if w.x1 < x0 or w.x0 > x1:
+            continue
+        for g in w.glyphs:
+            h = g.bottom - g.top
+            mid = (g.x0 + g.x1) / 2.0
+            if x0 - 0.5 <= mid <= x1 + 0.5:
+                under += 1
+                if h > 0 and g.top + lo_f * h <= y <= g.top + hi_f * h:
+                    hit.append(g)
+    return under
 
 
 def _median(values: list[float]) -> float:

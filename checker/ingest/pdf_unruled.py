@@ -37,6 +37,7 @@ from typing import Callable, Sequence
 
 from checker.ingest.pdf_model import Layout, PageTable
 from checker.ingest.pdf_text import (
+    STRUCK_SHARE,
     Line,
     Word,
     _median,
@@ -764,7 +765,7 @@ def _cells_of(body: list[Line], rows: list[list[Line]], geo: _Geometry, vrule_xs
                     n_struck[col] += sum(1 for g in p.glyphs if g.struck)
         out_rows.append([" ".join(x) for x in parts])
         filled = [c for c in range(ncols) if n_glyphs[c]]
-        struck.append((sum(1 for c in filled if n_struck[c] >= 0.6 * n_glyphs[c]), len(filled)))
+        struck.append((sum(1 for c in filled if n_struck[c] >= STRUCK_SHARE * n_glyphs[c]), len(filled)))
     return out_rows, notes, struck
 
 
