@@ -184,6 +184,12 @@ class Spec:
     seed: int = 7
     overflow: bool = False          # draw the rows that do not fit past the page's bottom edge
                                     # (see _paginate) instead of breaking the page
+    # struck rows: (row index, column indices or None for every cell); each cell's text gets a line
+    # through the middle of its figures, as a spreadsheet program prints a struck-through font
+    # (``Expected`` still lists every row: what the reader should skip is for the test to say)
+    strike: tuple[tuple[int, tuple[int, ...] | None], ...] = ()
+    strike_across: bool = False     # one line through the whole row instead (drawn by hand)
+    underline: tuple[int, ...] = () # rows whose cells are underlined (no strike)
 
 
 def _fit_font(spec: Spec, cols: list[Column], rows: list[dict], avail: float):
@@ -383,20 +389,44 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
                     text(xs[k2] + pad, y, s)
         return top - head_h
 
-    def draw_row(top, values, nl):
+    struck = dict(spec.strike)
+
+    def mark_line(x0, x1, y, row_no, k2):
+        """A strike line through the figures, or an underline, under the text drawn at y."""
+        if row_no in struck and not spec.strike_across and \
+                (struck[row_no] is None or k2 in (struck[row_no] or ())):
+            c.setLineWidth(0.5)
+            c.line(x0, y + 0.28 * fs, x1, y + 0.28 * fs)
+        if row_no in spec.underline:
+            c.setLineWidth(0.5)
+            c.line(x0, y - 0.12 * fs, x1, y - 0.12 * fs)
+
+    def draw_row(top, values, nl, row_no=-1):
+        from reportlab.pdfbase.pdfmetrics import stringWidth
+
         for k2, col in enumerate(cols):
             parts = cell_lines(col, values[col.key])
             off = shift(len(parts), nl, spec.cell_valign)
             for li, s in enumerate(parts):
                 y = top - pad - 0.8 * fs - li * lead - off
+                w = stringWidth(s, "Helvetica", fs)
                 if spec.touch and k2 == k:
                     text(xs[k2 + 1], y, s, "r")
+                    x0 = xs[k2 + 1] - w
                 elif spec.touch and k2 == k + 1:
                     text(xs[k2], y, s)
+                    x0 = xs[k2]
                 elif col.align == "r":
                     text(xs[k2 + 1] - pad, y, s, "r")
+                    x0 = xs[k2 + 1] - pad - w
                 else:
                     text(xs[k2] + pad, y, s)
+                    x0 = xs[k2] + pad
+                mark_line(x0, x0 + w, y, row_no, k2)
+        if row_no in struck and spec.strike_across:
+            c.setLineWidth(0.5)
+            y = top - pad - 0.8 * fs + 0.28 * fs
+            c.line(xs[0], y, xs[-1], y)         # from border to border
         return top - (nl * lead + 2 * pad)
 
     def rules(top, bottoms, head_bottom, table_bottom):
@@ -454,7 +484,7 @@ def reportlab_pdf(path, spec: Spec = Spec(), **canvas_kw) -> Expected:
         bottoms = [y]
         for i, row in enumerate(chunk):
             nl = max(len(cell_lines(cc, row[cc.key])) for cc in cols)
-            y = draw_row(y, row, nl)
+            y = draw_row(y, row, nl, len(exp_rows))
             bottoms.append(y)
             exp_rows.append([row[cc.key] for cc in cols])
             exp_pages.append(pno)
@@ -493,6 +523,7 @@ class XlsxSpec:
     two_line_heading: bool = False    # heading cells wrapped over two lines (Alt+Enter)
     repeat_heading: bool = True       # print titles: heading row repeated on every page
     seed: int = 11
+    strike_rows: tuple[int, ...] = () # rows (indices into the caps) whose font is struck through
 
 
 def write_xlsx(path, spec: XlsxSpec) -> Expected:
@@ -525,12 +556,14 @@ def write_xlsx(path, spec: XlsxSpec) -> Expected:
     if spec.two_line_heading:
         ws.row_dimensions[r].height = 30
     r += 1
-    for row in data:
+    for i, row in enumerate(data):
         for k, col in enumerate(cols, start=1):
             v = row[col.key]
             cell = ws.cell(r, k, int(v) if col.align == "r" else v)
             if spec.borders:
                 cell.border = border
+            if i in spec.strike_rows:
+                cell.font = Font(strike=True)
         r += 1
     if spec.notes:
         r += 1

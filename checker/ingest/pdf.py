@@ -351,7 +351,7 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
     if strategy in ("auto", "lines") and rotation == 0 and ruled:
         from checker.ingest.pdf_ruled import find_ruled_tables
 
-        grids = find_ruled_tables(page, page_no, is_heading, prev)
+        grids = find_ruled_tables(page, page_no, is_heading, prev, content)
         if grids or strategy == "lines":
             return grids, True, None
     if strategy == "lines":

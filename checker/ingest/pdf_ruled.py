@@ -6,22 +6,145 @@ heading over two or three grid rows (spanned cells come back as ``None``), dropp
 notes rows, reading a grid without a heading row as the continuation of the table before it, and
 reading a row whose cells under a group of columns are drawn as one cell over divided ones (grid
 rows inside the band of one row) as one row (see ``_divided_row``).
+
+A row or cell struck through (a line through the middle of its text) is found as the unruled reader
+finds it (``pdf_text.strike_lines``), and one line drawn through a whole row too. The strike lines are
+taken out of the page before pdfplumber looks for the grid, so that a strike is never a grid rule
+splitting its row; each row says how many of its filled cells are struck (``PageTable.struck``), and
+``pdf._sort_rows`` skips a row struck in every filled cell as deleted.
 """
 
 from __future__ import annotations
 
+import bisect
+from dataclasses import dataclass, field
 from typing import Callable
 
 from checker.ingest.pdf_model import Layout, PageTable
 from checker.ingest.pdf_text import (
+    STRUCK_SHARE,
+    Glyph,
+    PageContent,
+    build_lines,
+    glyphs_from_chars,
     is_stop_text,
     looks_like_value,
     min_cells,
     normalise_cell,
     quote_texts,
+    strike_lines,
 )
 
 _MAX_HEADING_SEARCH = 6     # a heading row is looked for among a grid's first rows only
+
+#: a strike line lies inside a grid row, away from its top and bottom rules: a horizontal segment
+#: closer than this to another rule over the same columns is part of that rule (a doubled or thick
+#: border; pdfplumber's table finder joins segments this close, its snap tolerance), not a strike
+STRIKE_BORDER_GAP = 3.0
+#: a horizontal segment whose end meets another at the same height (within this distance) continues
+#: it: a rule drawn cell by cell (a spreadsheet program draws each cell's border), not a strike, which
+#: runs through a cell's text and stops short of the next cell's (the cells' padding lies between)
+STRIKE_JOIN = 1.0
+#: segments of the page and of pdfplumber's objects are the same line when their ends and heights
+#: agree this closely (both come from the same pdfminer object; this absorbs rounding only)
+_SAME_SEG = 0.5
+
+
+@dataclass
+class _Strikes:
+    """The strike lines of a page and its glyphs (struck ones marked), sorted by their middles."""
+    segs: list[tuple[float, float, float]] = field(default_factory=list)
+    glyphs: list[Glyph] = field(default_factory=list)
+    mids: list[float] = field(default_factory=list)
+
+
+def _page_strikes(content: PageContent | None) -> _Strikes | None:
+    """The strike lines through the page's text (None when there are none): found as in unruled
+    tables, plus one line through a whole row; never a rule within ``STRIKE_BORDER_GAP`` of another
+    rule (a border drawn twice) or continuing another segment (``STRIKE_JOIN``: a cell border)."""
+    if content is None or not _may_strike(content):
+        return None
+    glyphs = glyphs_from_chars(content.chars)
+    lines, _ = build_lines(glyphs)
+    strikes, kept = strike_lines(lines, content.hsegs, across=True)
+    out = _Strikes()
+    for seg, hit in strikes:
+        x0, x1, y = seg
+        if any(abs(k[2] - y) < STRIKE_BORDER_GAP and k[0] < x1 and k[1] > x0 for k in kept) \
+                or _continued(seg, content.hsegs):
+            continue
+        out.segs.append(seg)
+        for g in hit:
+            g.struck = True
+    if not out.segs:
+        return None
+    out.glyphs = sorted((g for g in glyphs if g.text.strip()), key=lambda g: g.mid_y)
+    out.mids = [g.mid_y for g in out.glyphs]
+    return out
+
+
+def _continued(seg: tuple[float, float, float], hsegs: list[tuple[float, float, float]]) -> bool:
+    """Whether another horizontal segment at the same height meets an end of ``seg``."""
+    x0, x1, y = seg
+    return any(abs(o[2] - y) < _SAME_SEG and o is not seg
+               and (abs(o[1] - x0) <= STRIKE_JOIN or abs(o[0] - x1) <= STRIKE_JOIN) for o in hsegs)
+
+
+def _may_strike(content: PageContent) -> bool:
+    """Whether a horizontal rule of the page passes through a glyph's box at all (a grid's rules run
+    between the rows): a cheap test before the page's text lines are built to look for strikes."""
+    if not content.hsegs or not content.ltchars:
+        return False
+    off, mb_x0 = content.off, content.mb_x0
+    boxes = sorted((off - c.y1, off - c.y0, c.x0 + mb_x0, c.x1 + mb_x0) for c in content.ltchars)
+    tops = [b[0] for b in boxes]
+    tallest = max(b[1] - b[0] for b in boxes)
+    for x0, x1, y in content.hsegs:
+        k = bisect.bisect_left(tops, y - tallest)
+        while k < len(boxes) and boxes[k][0] < y:
+            top, bottom, gx0, gx1 = boxes[k]
+            k += 1
+            if y < bottom and gx1 > x0 and gx0 < x1:
+                return True
+    return False
+
+
+def _without_strikes(page, strikes: _Strikes):
+    """The page without its strike lines (a pdfplumber FilteredPage), for the table finder."""
+    segs = strikes.segs
+
+    def keep(obj) -> bool:
+        if obj.get("object_type") not in ("line", "rect", "curve"):
+            return True
+        mid = (obj["top"] + obj["bottom"]) / 2.0
+        return not any(abs(obj["x0"] - x0) < _SAME_SEG and abs(obj["x1"] - x1) < _SAME_SEG
+                       and abs(mid - y) < _SAME_SEG for x0, x1, y in segs)
+
+    return page.filter(keep)
+
+
+def _row_struck(grid_rows, r: int, subs: list[int], raw: list, cols: list[tuple[float, float]],
+                strikes: _Strikes) -> tuple[int, int]:
+    """(cells struck through, cells filled) of the row read from grid row ``r`` (and the grid rows
+    ``subs`` taken into it). A filled cell is one with text of its own in this row (a cell merged
+    down from the row above is not); it is struck when strike lines cross ``STRUCK_SHARE`` of its
+    glyphs, as in unruled tables."""
+    top = grid_rows[r].bbox[1]
+    bottom = max(grid_rows[k].bbox[3] for k in [r, *subs])
+    cells = grid_rows[r].cells
+    lo, hi = bisect.bisect_left(strikes.mids, top), bisect.bisect_right(strikes.mids, bottom)
+    band = strikes.glyphs[lo:hi]
+    n_struck = n_filled = 0
+    for c, value in enumerate(raw):
+        if value is None or not normalise_cell(value):
+            continue
+        n_filled += 1
+        bb = cells[c] if c < len(cells) and not subs else None
+        x0, x1 = (bb[0], bb[2]) if bb is not None else cols[c]
+        inside = [g for g in band if x0 <= (g.x0 + g.x1) / 2.0 < x1]
+        if inside and sum(1 for g in inside if g.struck) >= STRUCK_SHARE * len(inside):
+            n_struck += 1
+    return n_struck, n_filled
 
 
 def _columns(table) -> list[tuple[float, float]]:
@@ -169,8 +292,12 @@ def _passed_over(texts: list[list[str]], r: int, page_no: int, notes: list[str])
 
 
 def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
-                      prev: Layout | None) -> list[PageTable]:
-    """Every schedule table among the page's ruled grids (and grids continuing ``prev``)."""
+                      prev: Layout | None, content: PageContent | None = None) -> list[PageTable]:
+    """Every schedule table among the page's ruled grids (and grids continuing ``prev``).
+    ``content``: the page's ``pdf_text.page_content``, to find strike lines (none looked for without)."""
+    strikes = _page_strikes(content)
+    if strikes is not None:
+        page = _without_strikes(page, strikes)
     found = sorted(page.find_tables(), key=lambda t: (round(t.bbox[1]), t.bbox[0]))
     out: list[PageTable] = []
     for t in found:
@@ -197,10 +324,10 @@ def find_ruled_tables(page, page_no: int, is_heading: Callable[[str], bool],
         else:
             headings, first = _grid_headings(t, data, texts, hr, cols)
             layout.headings = headings
-        rows, numbers = _grid_rows(t, data, texts, first, hr if headings is not None else None, layout,
-                                   page_no, is_heading, notes)
+        rows, numbers, struck = _grid_rows(t, data, texts, first, hr if headings is not None else None,
+                                           layout, page_no, is_heading, notes, strikes)
         out.append(PageTable(page=page_no, headings=headings, layout=layout, rows=rows,
-                             row_numbers=numbers, method="lines", notes=notes))
+                             row_numbers=numbers, method="lines", notes=notes, struck=struck))
         prev = layout
     return out
 
@@ -232,15 +359,18 @@ def _grid_headings(t, data: list[list], texts: list[list[str]], hr: int, cols: l
 
 
 def _grid_rows(t, data: list[list], texts: list[list[str]], first: int, hr: int | None, layout: Layout,
-               page_no: int, is_heading: Callable[[str], bool], notes: list[str]
-               ) -> tuple[list[list[str]], list[int]]:
+               page_no: int, is_heading: Callable[[str], bool], notes: list[str],
+               strikes: _Strikes | None = None
+               ) -> tuple[list[list[str]], list[int], list[tuple[int, int]]]:
     """The data rows of a grid from ``first``: spacer rows, repeated headings and rows running across
     the table are left out; cells merged down are read in every row, cells merged across as empty.
-    ``hr``: the heading row when the grid has one."""
+    ``hr``: the heading row when the grid has one. Also per row (cells struck, cells filled) when
+    the page has ``strikes`` (else empty)."""
     cols = layout.cells
     ncols = len(cols)
     rows: list[list[str]] = []
     numbers: list[int] = []
+    struck: list[tuple[int, int]] = []
     taken: set[int] = set()          # grid rows read as part of the row above them
     grid_rows = t.rows
     for r in range(first, len(data)):
@@ -248,6 +378,7 @@ def _grid_rows(t, data: list[list], texts: list[list[str]], first: int, hr: int 
             continue
         raw = data[r]
         cells = texts[r]
+        subs: list[int] = []
         divided = _divided_row(t, grid_rows, data, r, cols)
         if divided is not None:
             raw, subs = divided
@@ -285,4 +416,6 @@ def _grid_rows(t, data: list[list], texts: list[list[str]], first: int, hr: int 
                     + " (read as empty)")
         rows.append(cells)
         numbers.append(len(rows))
-    return rows, numbers
+        if strikes is not None:
+            struck.append(_row_struck(grid_rows, r, subs, raw, cols, strikes))
+    return rows, numbers, struck
