@@ -493,6 +493,8 @@ def test_regression_workbook_as_pdf(tmp_path):
     assert not any("TOTAL" in t for t in skipped) and "TOTAL PILE" not in rejected
     assert any("the table ends at 'TOTAL PILE'" in n for n in s.notes)
     assert any("printed to the right of page 1" in n for n in s.notes)
+    # 'GRID A', merged across the page break, is placed again left of the strips' edges: no note
+    assert not any("outside the page" in n for n in s.notes), s.notes
     # rejected rows carry their marks and reasons
     by = {r.mark: r for r in s.rejected}
     assert by["PC7"].errors == ("cap_depth (column 'CAP D (mm)'): 1.2 mm is outside the plausible range "
@@ -724,3 +726,58 @@ def test_grid_rows_below_a_notes_row_inside_the_grid_are_named_in_a_note(tmp_pat
     assert notes == ["page 1: the table ends at 'NOTES' (notes or revision text inside the grid); "
                      "2 row(s) below it that fit its columns were not read: "
                      "'PC2  2  900  3900  1500  C32/40', 'PC3  4  600  2700  1200  C40/50'"]
+
+
+# --------------------------------------------------------------------------------------------
+# Text outside the page that repeats what was read: no note (a merged label over a strip's edge)
+# --------------------------------------------------------------------------------------------
+
+
+def _strip_pdf(path: Path, *, extra: str = "") -> Path:
+    """A schedule wider than the paper printed in two strips, as a spreadsheet program prints it:
+    page 1 the columns Mark to Spacing, page 2 the columns L to Concrete at the same heights. The
+    section label 'GRID A' (a cell merged across the page break) is printed on page 1 and placed
+    again left of page 2's left edge; on page 2 the mark 'PC2' is also repeated left of the edge
+    at its row's height (a cell merged across the break), and ``extra`` (other text) is placed there too when given."""
+    from reportlab.pdfgen import canvas
+
+    strips = [(["Mark", "Piles", "Pile dia", "Spacing"], [["PC1", "4", "600", "1800"], ["GRID A"],
+                                                           ["PC2", "2", "750", "2250"]]),
+              (["L", "W", "Depth", "Concrete"], [["2700", "2700", "1200", "C32/40"], [],
+                                                  ["3450", "1050", "1050", "C40/50"]])]
+    xs = [50, 130, 210, 290]
+    c = canvas.Canvas(str(path), pagesize=(595, 842))
+    for page, (head, rows) in enumerate(strips):
+        c.setFont("Helvetica", 10.0)
+        y = 780.0
+        for x, h in zip(xs, head):
+            c.drawString(x, y, h)
+        for row in rows:
+            y -= 16.0
+            for x, v in zip(xs, row):
+                c.drawString(x, y, v)
+            if page == 1 and not row:
+                c.drawString(-60, y, "GRID A")           # the merged label, off the page
+        if page == 1:
+            c.drawString(-40, 780.0 - 3 * 16.0, "PC2")   # a cell repeated at its row's height
+            if extra:
+                c.drawString(-200, 700.0, extra)
+        c.showPage()
+    c.save()
+    return path
+
+
+def test_label_repeated_outside_a_strip_page_is_no_note(tmp_path):
+    tables, notes = read_pdf_tables(_strip_pdf(tmp_path / "strips.pdf"))
+    assert len(tables) == 1 and tables[0].headings[4:] == ["L", "W", "Depth", "Concrete"]
+    assert [r[0] for r in tables[0].rows] == ["PC1", "PC2"]
+    assert [k.text for k in tables[0].skipped] == ["GRID A"]
+    assert any("printed to the right of page 1" in n for n in notes), notes
+    assert not any("outside the page" in n for n in notes), notes
+
+
+def test_other_text_outside_a_strip_page_is_still_noted(tmp_path):
+    tables, notes = read_pdf_tables(_strip_pdf(tmp_path / "strips.pdf", extra="PC9 deleted by rev C"))
+    off = [n for n in notes if "outside the page" in n]
+    assert off == ["page 2: text placed outside the page (not printed) was not read: 1 line(s) left of "
+                   "its left edge: 'PC9 deleted by rev C'"], notes

@@ -43,6 +43,7 @@ from checker.ingest.pdf_text import (
     glyphs_from_chars,
     heading_matcher,
     mark_struck,
+    normalise_cell,
     page_content,
     quote_lines,
     text_direction,
@@ -361,7 +362,6 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
 
     w, h = content.width, content.height
     chars, off_page = _printed(content.chars, w, h)
-    off_note = _off_page_note(off_page, page_no, rotation, w, h)
     glyphs = glyphs_from_chars(chars, rotation, w, h)
     lines, _ = build_lines(glyphs)
     # strike-through lines (a row or cell struck through: read as deleted) are no table rules
@@ -381,6 +381,8 @@ def _read_page(page, page_no: int, strategy: str, is_heading: Callable[[str], bo
             prev = None
         found = find_text_tables(lines, page_no, is_heading, hrules=hrules, vrules=vrules,
                                  prev=prev, rotation=rotation)
+    off_note = _off_page_note(off_page, rotation, w, h,
+                              _texts_read(found, left if found and found[0].side else None))
     if off_note is None:
         return found, True, None
     if not found:
@@ -401,8 +403,9 @@ def _printed(chars: list[tuple], w: float, h: float) -> tuple[list[tuple], list[
     return on, off
 
 
-def _off_page_note(off: list[tuple], page_no: int, rotation: int, w: float, h: float) -> str | None:
-    """What lies outside the page's edges, by edge, for a note (None when nothing does)."""
+def _off_page_note(off: list[tuple], rotation: int, w: float, h: float, known: set[str]) -> str | None:
+    """What lies outside the page's edges, by edge, for a note (None when nothing does). A line
+    whose text is in ``known`` (see ``_texts_read``) is left out: it repeats what was read."""
     if not off:
         return None
     sides: dict[str, list[tuple]] = {}
@@ -413,8 +416,25 @@ def _off_page_note(off: list[tuple], page_no: int, rotation: int, w: float, h: f
     parts = []
     for side, cs in sides.items():
         lines, _ = build_lines(glyphs_from_chars(cs, rotation, w, h))
-        parts.append(f"{len(lines)} line(s) {side}: {quote_lines(lines)}")
+        lines = [ln for ln in lines if normalise_cell(ln.text) not in known]
+        if lines:
+            parts.append(f"{len(lines)} line(s) {side}: {quote_lines(lines)}")
+    if not parts:
+        return None
     return "text placed outside the page (not printed) was not read: " + "; ".join(parts)
+
+
+def _texts_read(found: list[PageTable], left: PageTable | None) -> set[str]:
+    """Texts that a line outside the page may repeat without a note: the cells of the rows read on
+    the page and, on a page holding further columns of the table before (a sheet printed in strips),
+    the cells of that table's rows, its section labels (reported as skipped) among them. A
+    spreadsheet program prints a cell merged across the columns of a page break on each page of the
+    strip, the part that belongs to the other page placed outside this one ('GRID A' left of a
+    strip's left edge)."""
+    tables = [*found, left] if left is not None else found
+    known = {normalise_cell(x) for t in tables for r in t.rows for x in r}
+    known.discard("")
+    return known
 
 
 def _is_mark(text: str) -> bool:
