@@ -3,9 +3,10 @@
 * reportlab (always available in the test environment): ruled grid, unruled, horizontal rules
   only, several pages with or without the heading repeated, headings on two lines or spanning,
   a combined ``L x W x D`` cell, touching cells, blank spacer rows, title block / notes /
-  revision box, landscape (wide media box, /Rotate, and a table drawn sideways);
+  revision box, landscape (wide media box, /Rotate, and a table drawn sideways), rows or cells
+  struck through (a line through each cell's text, or one line through the row) and underlined;
 * LibreOffice headless: an XLSX written with openpyxl and converted with
-  ``soffice --headless --convert-to pdf``, with and without cell borders.
+  ``soffice --headless --convert-to pdf``, with and without cell borders, rows struck through.
 
 Every generator returns an :class:`Expected`: the headings as the reader should join them and
 the rows as strings, with the page and the row number within that page's table of each row, so
