@@ -1,16 +1,21 @@
 """Severity is the one ordered enum: rank, label, colours and meaning live on it (issue 12)."""
 
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 import pytest
 
+from checker.api import review
 from checker.findings import (
     COMMENT_SEVERITIES,
+    FINDING_COLUMNS,
     SEVERITY_DTYPE,
     SEVERITY_ORDER,
     SEVERITY_RANK,
     Severity,
     as_severity,
+    empty_findings,
     severity_from_ranks,
     severity_rank,
     severity_ranks,
@@ -18,6 +23,8 @@ from checker.findings import (
     worst_by_cap,
 )
 from checker.report import comments, palette
+
+SAMPLES = Path(__file__).resolve().parent.parent / "sample_submissions"
 
 
 def test_order_rank_and_parse_come_from_the_enum():
@@ -71,3 +78,16 @@ def test_sort_and_worst_per_cap_use_the_categorical_order():
     assert worst.to_dict() == {"B": "unsafe", "A": "advisory", "C": "ok"}
     assert list(worst.index) == ["B", "A", "C"]                      # caps in the order first seen
 
+
+def test_the_engine_builds_the_one_dtype_and_concat_keeps_it():
+    empty = empty_findings()
+    assert list(empty.columns) == list(FINDING_COLUMNS) and empty["severity"].dtype == SEVERITY_DTYPE
+    rv = review(pd.read_csv(SAMPLES / "harbourside-rev-A.csv"), remedy=False)
+    f = rv.findings
+    assert f["severity"].dtype == SEVERITY_DTYPE
+    assert pd.concat([f, empty], ignore_index=True)["severity"].dtype == SEVERITY_DTYPE
+    ranks = severity_ranks(f["severity"])
+    assert (np.diff(ranks) >= 0).all()                               # sorted worst first
+    assert f["severity"].min() == SEVERITY_ORDER[int(ranks.min())]
+    cases = review(SAMPLES / "harbourside-rev-C-cases.csv", remedy=False).findings
+    assert cases["severity"].dtype == SEVERITY_DTYPE
