@@ -10,7 +10,7 @@ from pathlib import Path
 from rich.console import Console
 from rich.text import Text
 
-from checker.findings import SEVERITY_ORDER
+from checker.findings import SEVERITY_ORDER, as_severity
 from checker.ingest.limits import MAX_PDF_PAGES, MAX_ROWS
 from checker.report.palette import LIST_ALL_UP_TO, WORST_CAPS
 
@@ -182,9 +182,8 @@ def _review(args, console_err: Console, messages: str = "all"):
 def _exit_for(review, fail_on: str) -> int:
     if len(review.caps) == 0:
         return EXIT_UNREADABLE
-    blocking = set(SEVERITY_ORDER[: SEVERITY_ORDER.index(fail_on) + 1])
-    present = set(review.findings["severity"].astype(str).unique().tolist())
-    return EXIT_FINDINGS if present & blocking else EXIT_OK
+    at_or_above = as_severity(review.findings["severity"]) <= fail_on    # worst first: "at or worse than"
+    return EXIT_FINDINGS if at_or_above.any() else EXIT_OK
 
 
 def _project(args) -> dict:

@@ -2,21 +2,33 @@
 
 A finding is one rule evaluated for one cap. The engine produces them as a columnar pandas frame
 (fast over 100,000 caps); writers read its columns (:func:`records`).
+
+The frame's ``severity`` column is an ordered categorical of :data:`SEVERITY_DTYPE`: its categories
+are :class:`Severity` in order, worst first, so ``unsafe`` is the *minimum* and ``ok`` the maximum.
+Its codes are the ranks of :data:`SEVERITY_RANK` (0 = worst); ``column.min()`` is the worst severity,
+an ascending sort puts the worst first, and ``column <= "query"`` reads "query or worse". ``==``
+against a string works as on text, and ``tolist()`` gives the plain strings the writers put out.
+Every builder of a findings frame makes the column through :func:`as_severity` (from text) or
+:func:`severity_from_ranks` (from the engine's ranks), or starts from :func:`empty_findings`;
+:func:`severity_ranks` gives a column's ranks as integers. A single string is ranked with
+:func:`severity_rank` or :data:`SEVERITY_RANK`.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 from enum import Enum
-from typing import Any
+from typing import Any, Sequence
 
+import numpy as np
 import pandas as pd
 
 
 class Severity(str, Enum):
     """The ordered severities of the brief, worst first: the one definition of their order, rank,
-    label, colours and meaning. The findings frame keeps the plain strings (``Severity.X.value``) for
-    the JSON and the sheet; every rank map is :data:`SEVERITY_RANK`, built from this enum."""
+    label, colours and meaning. The findings frame holds them as the ordered categorical
+    :data:`SEVERITY_DTYPE` (categories ``Severity.X.value``, worst first); the rank of a single
+    string is :data:`SEVERITY_RANK`, built from this enum, and the rank of a column its codes."""
 
     label: str          # the terminal badge text
     style: str          # the terminal (rich) style
@@ -60,6 +72,37 @@ SEVERITY_ORDER: tuple[str, ...] = tuple(s.value for s in Severity)
 #: severity text -> rank (0 = worst); the one rank map
 SEVERITY_RANK: dict[str, int] = {s: i for i, s in enumerate(SEVERITY_ORDER)}
 COMMENT_SEVERITIES: tuple[str, ...] = tuple(s.value for s in Severity if s is not Severity.OK)
+#: the dtype of the findings frame's ``severity`` column: ordered, worst first (``unsafe`` is the
+#: minimum), so its codes are the ranks of SEVERITY_RANK
+SEVERITY_DTYPE = pd.CategoricalDtype(list(SEVERITY_ORDER), ordered=True)
+
+
+def as_severity(values: pd.Series | Sequence[str | None]) -> pd.Series:
+    """``values`` as a findings ``severity`` column (:data:`SEVERITY_DTYPE`); a column that already
+    is one comes back as it is. Missing values stay missing; any other text raises ValueError."""
+    s = values if isinstance(values, pd.Series) else pd.Series(values, dtype=object)
+    if s.dtype == SEVERITY_DTYPE:
+        return s
+    unknown = s.notna() & ~s.isin(SEVERITY_ORDER)
+    if unknown.any():
+        raise ValueError(
+            f"unknown severity {s[unknown].iloc[0]!r}; expected one of {', '.join(SEVERITY_ORDER)}"
+        )
+    return s.astype(SEVERITY_DTYPE)
+
+
+def severity_from_ranks(ranks: np.ndarray) -> pd.Categorical:
+    """A findings ``severity`` column (:data:`SEVERITY_DTYPE`) from ranks (0 = worst): the ranks are
+    its codes, so nothing is looked up."""
+    return pd.Categorical.from_codes(ranks, dtype=SEVERITY_DTYPE)
+
+
+def severity_ranks(values: pd.Series | Sequence[str | None]) -> np.ndarray:
+    """The ranks of a severity column (0 = worst; int64), from its categorical codes; a missing
+    severity ranks after ``ok``, as in :func:`severity_rank`."""
+    codes = as_severity(values).cat.codes.to_numpy(dtype=np.int64)
+    return np.where(codes < 0, len(SEVERITY_ORDER), codes)
+
 
 FINDING_COLUMNS: tuple[str, ...] = (
     "cap",
@@ -88,6 +131,12 @@ FINDING_COLUMNS: tuple[str, ...] = (
     # does not depend on the loads
     "case",
 )
+
+
+def empty_findings() -> pd.DataFrame:
+    """A findings frame of no rows: FINDING_COLUMNS, ``severity`` of SEVERITY_DTYPE."""
+    return pd.DataFrame({c: pd.Series(dtype=SEVERITY_DTYPE if c == "severity" else object)
+                         for c in FINDING_COLUMNS})
 
 
 @dataclass(frozen=True)
@@ -147,10 +196,10 @@ def describe_source(src: dict[str, Any]) -> str:
 
 
 def sort_findings(frame: pd.DataFrame) -> pd.DataFrame:
-    """The one sort order used everywhere: severity (worst first), cap, rule."""
-    rank = frame["severity"].map(SEVERITY_RANK)
-    out = frame.assign(_rank=rank).sort_values(["_rank", "cap", "rule"], kind="stable")
-    return out.drop(columns="_rank").reset_index(drop=True)
+    """The one sort order used everywhere: severity (worst first), cap, rule. The ``severity``
+    column comes back as :data:`SEVERITY_DTYPE`, whose order is the sort's."""
+    out = frame.assign(severity=as_severity(frame["severity"]))
+    return out.sort_values(["severity", "cap", "rule"], kind="stable").reset_index(drop=True)
 
 
 def severity_rank(severity: str) -> int:
@@ -182,7 +231,6 @@ def count_by_severity(frame: pd.DataFrame) -> dict[str, int]:
 
 
 def worst_by_cap(frame: pd.DataFrame) -> pd.Series:
-    """Worst severity per cap (index: cap mark)."""
-    rank = frame["severity"].map(SEVERITY_RANK)
-    worst = rank.groupby(frame["cap"], sort=False).min()
-    return worst.map(lambda i: SEVERITY_ORDER[int(i)])
+    """Worst severity per cap (index: cap mark, in the order first seen; values of SEVERITY_DTYPE):
+    the minimum of the ordered categorical."""
+    return as_severity(frame["severity"]).groupby(frame["cap"], sort=False, observed=True).min()

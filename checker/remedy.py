@@ -42,7 +42,7 @@ from typing import Any, cast
 import numpy as np
 import pandas as pd
 
-from checker.findings import SEVERITY_ORDER, SEVERITY_RANK
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK, severity_ranks
 
 STANDARD_BARS: tuple[int, ...] = (8, 10, 12, 16, 20, 25, 32, 40)
 #: strength classes of EN 1992-1-1:2004 Table 3.1 (fck, name)
@@ -209,7 +209,7 @@ class _Engine:
         f, _gov = evaluate_cases(self.ruleset, env, ex, frame, render=False)
         r = pd.Index(self.ids).get_indexer(f["rule"].astype(str))
         c = f["cap"].astype(int).to_numpy()
-        code[c, r] = f["severity"].map(_RANK).to_numpy(np.int8)
+        code[c, r] = severity_ranks(f["severity"])
         util[c, r] = f["utilisation"].to_numpy(float)
         return code, util
 
@@ -259,8 +259,8 @@ def search(caps: pd.DataFrame, findings: pd.DataFrame, ruleset, params: dict, *,
     t0 = time.perf_counter()
     settings = {k: float(params.get(k, v)) for k, v in SETTINGS.items()}
     caps = caps.reset_index(drop=True)
-    sev = findings["severity"].astype(str)
-    failing_marks = set(findings.loc[sev.isin(["unsafe", "non-compliant"]), "cap"].astype(str))
+    failing = severity_ranks(findings["severity"]) <= _NC      # unsafe or non-compliant
+    failing_marks = set(findings.loc[failing, "cap"].astype(str))
     marks = caps["mark"].astype(str).to_numpy()
     fail_idx = np.flatnonzero(np.isin(marks, list(failing_marks)))
     limit = int(settings["remedy_max_caps"])

@@ -24,7 +24,14 @@ from rich.table import Table
 from rich.text import Text
 
 from checker.caution import CAUTION
-from checker.findings import COMMENT_SEVERITIES, SEVERITY_ORDER, SEVERITY_RANK, count_by_severity, describe_source
+from checker.findings import (
+    COMMENT_SEVERITIES,
+    SEVERITY_ORDER,
+    Severity,
+    count_by_severity,
+    describe_source,
+    severity_ranks,
+)
 from checker.report.palette import LABEL, LIST_ALL_UP_TO, STYLE, WORST_CAPS, severity_text  # noqa: F401
 
 REJECTED_SHOWN = 20      # rejected rows listed under the summary view
@@ -197,8 +204,7 @@ class _CapTable:
     rows of its findings, its worst severity and its count of met checks, by array arithmetic."""
 
     def __init__(self, f: pd.DataFrame) -> None:
-        rank = SEVERITY_RANK
-        self.sev_rank = f["severity"].map(rank).to_numpy(dtype=np.int64)
+        self.sev_rank = severity_ranks(f["severity"])            # the categorical's codes
         codes, marks = pd.factorize(f["cap"].astype(str))      # caps in the order first seen
         n_caps = len(marks)
         self.codes = np.asarray(codes, dtype=np.int64)
@@ -208,7 +214,7 @@ class _CapTable:
         self.rows = np.argsort(self.codes, kind="stable")       # rows grouped by cap, order kept
         self.starts = np.searchsorted(self.codes[self.rows], np.arange(n_caps + 1))
         self.order = np.argsort(self.worst, kind="stable").tolist()
-        self.n_ok = np.bincount(self.codes[self.sev_rank == rank["ok"]], minlength=n_caps)
+        self.n_ok = np.bincount(self.codes[self.sev_rank == Severity.OK.rank], minlength=n_caps)
         self.util = f["utilisation"].to_numpy(dtype=float, na_value=np.nan)
 
     def cap_rows(self, k: int) -> list[int]:

@@ -28,7 +28,7 @@ from typing import Any, cast
 import numpy as np
 import pandas as pd
 
-from checker.findings import SEVERITY_ORDER, SEVERITY_RANK, WorkingLine
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK, WorkingLine, empty_findings
 from checker.ruleset.catalogue import LOAD_INDEPENDENT, QUANTITIES
 from checker.ruleset.evaluate import (
     SLS_MISSING_ACTION,
@@ -187,7 +187,7 @@ def evaluate_cases(ruleset: RuleSet, env: Env, ex: Expanded, caps: pd.DataFrame,
     n = len(caps)
     N = ex.cap.size
     if n == 0:
-        return evaluate_empty(), {}
+        return empty_findings(), {}
     methods_ex = ex.frame["method"].to_numpy(dtype=object) if "method" in ex.frame else None
     methods = caps["method"].to_numpy(dtype=object) if "method" in caps else None
     first = _Rows(env, ex.starts, N)
@@ -241,12 +241,6 @@ def evaluate_cases(ruleset: RuleSet, env: Env, ex: Expanded, caps: pd.DataFrame,
         if outcomes is not None and res.outcome is not None:
             outcomes[rule.id] = res.outcome
     return assemble(results, caps), governing
-
-
-def evaluate_empty() -> pd.DataFrame:
-    from checker.findings import FINDING_COLUMNS
-
-    return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
 
 
 def _no_case(rule: Rule, mode: str, res: RuleResult, none: Bools, ex: Expanded, env: Env,

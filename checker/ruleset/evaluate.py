@@ -19,7 +19,7 @@ import pandas as pd
 from numpy.typing import NDArray
 
 from checker.calcs._typing import Floats, Real
-from checker.findings import FINDING_COLUMNS, SEVERITY_ORDER, SEVERITY_RANK, WorkingLine
+from checker.findings import SEVERITY_ORDER, SEVERITY_RANK, WorkingLine, empty_findings, severity_from_ranks
 from checker.ruleset.catalogue import OUTPUT_SCALE, plain_words
 from checker.ruleset.expr import Env
 from checker.ruleset.loader import CompiledVariant, Rule, RuleSet
@@ -558,7 +558,7 @@ def evaluate(ruleset: RuleSet, env: Env, caps: pd.DataFrame, *, render: bool | s
     given, receives each rule with variants' :class:`VariantOutcome` (rendered runs only)."""
     n = len(caps)
     if n == 0:
-        return pd.DataFrame({c: pd.Series(dtype=object) for c in FINDING_COLUMNS})
+        return empty_findings()
     methods = caps["method"].to_numpy(dtype=object) if "method" in caps else None
     results: list[RuleResult] = []
     for r in ruleset.rules:
@@ -646,7 +646,7 @@ def assemble(results: list[RuleResult], caps: pd.DataFrame) -> pd.DataFrame:
         "cap": np.tile(marks, k)[order],
         "rule": per_rule(ids),
         "title": per_rule([r.rule.title for r in results]),
-        "severity": _SEV_OBJ[sev_rank[order]],
+        "severity": severity_from_ranks(sev_rank[order]),
         "clause": per_rule([r.rule.clause for r in results]),
         "value": np.concatenate([r.value for r in results])[order],
         "limit": np.concatenate([r.limit for r in results])[order],
