@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import csv
 import io
-import re
 from pathlib import Path
 from typing import Any
 
@@ -50,16 +49,19 @@ def comments_csv(comments: list[Comment]) -> str:
     return buf.getvalue()
 
 
-_MD_SPECIAL = re.compile(r"[\\|&<>\r\n]")
+#: Markdown escapes, in the order applied (the backslash first: the others add backslashes)
+_MD_ESCAPES: tuple[tuple[str, str], ...] = (
+    ("\\", "\\\\"), ("|", "\\|"), ("&", "&amp;"), ("<", "&lt;"), (">", "&gt;"), ("\r\n", "\n"), ("\n", "<br>"),
+)
 
 
 def _md_escape(v: Any) -> str:
+    """A cell's text for a Markdown table: backslash and pipe escaped, ``& < >`` as entities, line breaks as
+    ``<br>``. Each character is looked for before it is replaced (a scan is cheap; most are absent)."""
     text = _cell_text(v)
-    if not _MD_SPECIAL.search(text):   # most cells: nothing to escape
-        return text
-    text = text.replace("\\", "\\\\").replace("|", "\\|")
-    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    text = text.replace("\r\n", "\n").replace("\n", "<br>")
+    for old, new in _MD_ESCAPES:
+        if old in text:
+            text = text.replace(old, new)
     return text
 
 
@@ -102,11 +104,10 @@ def _md_table_body(rows: list[list[Any]]) -> str:
     the cells are joined with NUL and the rows with SOH, the body escaped with a handful of
     ``str.replace`` calls, then the separators become ``" | "`` and line breaks (a cell's own line
     breaks are ``<br>`` by then). A cell that itself holds NUL or SOH loses them (they are not text)."""
-    texts = [[_cell_text(v) for v in cells] for cells in rows]
-    body = _ROW.join(_CELL.join(cells) for cells in texts)
-    expected = sum(len(cells) - 1 for cells in texts) + max(len(texts) - 1, 0)
+    body = _ROW.join(_CELL.join(map(_cell_text, cells)) for cells in rows)
+    expected = sum(len(cells) - 1 for cells in rows) + max(len(rows) - 1, 0)
     if body.count(_CELL) + body.count(_ROW) != expected:   # a control character typed in a cell
-        body = _ROW.join(_CELL.join(t.translate(_NO_SEPARATORS) for t in cells) for cells in texts)
+        body = _ROW.join(_CELL.join(_cell_text(v).translate(_NO_SEPARATORS) for v in cells) for cells in rows)
     return "| " + _md_escape(body).replace(_CELL, " | ").replace(_ROW, " |\n| ") + " |"
 
 
